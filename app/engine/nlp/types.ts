@@ -1,0 +1,114 @@
+/**
+ * The NLP that every transcription hands to the interior-point solver.
+ *
+ *   minimise   f(x)                 x ∈ ℝⁿ
+ *   subject to gL ≤ g(x) ≤ gU        g: ℝⁿ → ℝᵐ   (gL[j] = gU[j] is an equality)
+ *              xL ≤ x ≤ xU           (±Infinity where a side is absent)
+ *
+ * Lagrangian convention (as in Wächter and Biegler, Math. Programming 106, 2006, eq. (3)):
+ *   L(x, λ, zL, zU) = f(x) + λᵀ g(x) − zLᵀ (x − xL) − zUᵀ (xU − x)
+ * so at a solution ∇f + J(x)ᵀ λ − zL + zU = 0. A multiplier λ[j] of an inequality row is
+ * ≥ 0 when the upper side is active and ≤ 0 when the lower side is active.
+ *
+ * Sparsity is fixed for the life of the problem: the Jacobian of g is given as triplets
+ * (jacRows[k], jacCols[k]), the Hessian of the Lagrangian as triplets of its LOWER triangle
+ * (hessRows[k] ≥ hessCols[k]). Duplicated triplets are allowed and are summed.
+ * Callbacks write into caller-owned buffers and must not keep references to them.
+ */
+export interface NlpProblem {
+  n: number;
+  m: number;
+  xL: Float64Array;
+  xU: Float64Array;
+  gL: Float64Array;
+  gU: Float64Array;
+  /** Starting point (length n). */
+  x0: Float64Array;
+  jacRows: Int32Array;
+  jacCols: Int32Array;
+  hessRows: Int32Array;
+  hessCols: Int32Array;
+  f(x: Float64Array): number;
+  gradF(x: Float64Array, out: Float64Array): void;
+  g(x: Float64Array, out: Float64Array): void;
+  /** Values of the Jacobian in the order of (jacRows, jacCols). */
+  jacValues(x: Float64Array, out: Float64Array): void;
+  /** Values of ∇²(σ f + Σ λ_j g_j) in the order of (hessRows, hessCols). */
+  hessValues(x: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array): void;
+  /** Optional names for messages ("x[12] = h at node 3", "g[40] = defect v, interval 7"). */
+  variableName?(i: number): string;
+  constraintName?(j: number): string;
+}
+
+export type NlpStatus =
+  | "optimal"
+  | "acceptable"
+  | "infeasible"
+  | "unbounded"
+  | "iteration_limit"
+  | "time_limit"
+  | "diverging"
+  | "numerical_trouble"
+  | "invalid_model";
+
+export interface IterationRecord {
+  iter: number;
+  /** Unscaled objective. */
+  f: number;
+  /** Primal infeasibility (max norm of constraint violation, unscaled). */
+  infPr: number;
+  /** Dual infeasibility (max norm of the scaled Lagrangian gradient). */
+  infDu: number;
+  /** log10 of barrier parameter is shown by callers; this is μ itself. */
+  mu: number;
+  /** Max norm of the primal step. */
+  normD: number;
+  /** Hessian regularisation δw used for this iteration (0 when none). */
+  deltaW: number;
+  alphaPr: number;
+  alphaDu: number;
+  /** Number of backtracking trials in the line search. */
+  lsTrials: number;
+  phase: "regular" | "restoration";
+  /** Short tags: "s" second-order correction, "h" hessian perturbed, "r" restoration entered. */
+  info: string;
+}
+
+export interface NlpOptions {
+  /** Desired convergence tolerance on the scaled KKT error (tol). Default 1e-8. */
+  tol?: number;
+  /** Acceptable tolerance and number of consecutive acceptable iterates. Default 1e-6, 15. */
+  acceptableTol?: number;
+  acceptableIter?: number;
+  maxIter?: number;
+  /** Wall-clock limit in seconds. Default Infinity. */
+  maxSeconds?: number;
+  /** Initial barrier parameter. Default 0.1. */
+  muInit?: number;
+  hessian?: "exact" | "limited-memory";
+  /** Warm start from a previous primal–dual point. */
+  warmStart?: { lambda?: Float64Array; zL?: Float64Array; zU?: Float64Array; mu?: number };
+  /** Called after every iteration (progress display). */
+  onIteration?: (rec: IterationRecord) => void;
+  /** 0 silent (default). */
+  printLevel?: number;
+}
+
+export interface NlpResult {
+  status: NlpStatus;
+  message: string;
+  x: Float64Array;
+  f: number;
+  /** Constraint values g(x). */
+  g: Float64Array;
+  /** Constraint multipliers (sign convention above). */
+  lambda: Float64Array;
+  zL: Float64Array;
+  zU: Float64Array;
+  iterations: number;
+  seconds: number;
+  log: IterationRecord[];
+  /** Final unscaled primal infeasibility and scaled dual infeasibility. */
+  infPr: number;
+  infDu: number;
+}

@@ -1,0 +1,15 @@
+import { defineConfig } from "vitest/config";
+import { fileURLToPath } from "node:url";
+
+// Unit and integration tests run in Node; browser tests (tests/browser) start the built
+// server themselves and drive Debian's chromium through playwright-core.
+export default defineConfig({
+  resolve: { alias: { "~": fileURLToPath(new URL("./app", import.meta.url)) } },
+  test: {
+    include: ["tests/**/*.test.ts"],
+    environment: "node",
+    testTimeout: 60_000,
+    hookTimeout: 180_000,
+    pool: "forks",
+  },
+});
