@@ -53,6 +53,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
 
   // Costate sign convention: decided on the first bounded affine control's bang points.
   if (sigma) {
+    const sigma0 = sigma;
     for (let j = 0; j < problem.nu; j++) {
       if (!affine[j]) continue;
       const c = problem.controls[j];
@@ -60,7 +61,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
         lower: c.lower, upper: c.upper, u: sol.controls[j], affine: false, sigma: null,
         constraints: [], boundTol: opt.boundTol, switchTol: opt.switchTol,
       });
-      const s = costateSign(plain, sigma[j], opt.switchTol);
+      const s = costateSign(plain, sigma0[j], opt.switchTol);
       if (s === -1) {
         notes.push("costate estimates have the opposite sign convention; negated");
         sigma = switchingFunctions(problem, sol, -1);
