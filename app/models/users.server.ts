@@ -1,0 +1,106 @@
+/** Typed queries on users. Role checks belong to the callers' guards (app/services/auth.server.ts). */
+import { asc, count, eq, sql } from "drizzle-orm";
+import type { Db } from "~/db/client.server";
+import { ROLES, users, type Role, type UserRow } from "~/db/schema";
+import { hashPassword } from "~/services/password.server";
+
+/** The fields safe to hand to the UI or the API (never the password hash). */
+export type PublicUser = Pick<UserRow, "id" | "email" | "name" | "role" | "createdAt" | "lastSignInAt" | "disabledAt">;
+
+export function normaliseEmail(email: string): string {
+  return email.trim().toLowerCase();
+}
+
+export function isRole(value: unknown): value is Role {
+  return typeof value === "string" && (ROLES as readonly string[]).includes(value);
+}
+
+const publicColumns = {
+  id: users.id,
+  email: users.email,
+  name: users.name,
+  role: users.role,
+  createdAt: users.createdAt,
+  lastSignInAt: users.lastSignInAt,
+  disabledAt: users.disabledAt,
+};
+
+export function findUserByEmail(db: Db, email: string): UserRow | undefined {
+  return db.select().from(users).where(eq(users.email, normaliseEmail(email))).get();
+}
+
+export function getUserById(db: Db, id: number): UserRow | undefined {
+  return db.select().from(users).where(eq(users.id, id)).get();
+}
+
+export function listUsers(db: Db): PublicUser[] {
+  return db.select(publicColumns).from(users).orderBy(asc(users.email)).all();
+}
+
+export function countUsers(db: Db): number {
+  return db.select({ n: count() }).from(users).get()?.n ?? 0;
+}
+
+export function countAdmins(db: Db): number {
+  return db.select({ n: count() }).from(users).where(eq(users.role, "admin")).get()?.n ?? 0;
+}
+
+export async function createUser(
+  db: Db,
+  input: { email: string; name: string; role: Role; password: string },
+): Promise<PublicUser> {
+  const passwordHash = await hashPassword(input.password);
+  return db
+    .insert(users)
+    .values({ email: normaliseEmail(input.email), name: input.name.trim(), role: input.role, passwordHash })
+    .returning(publicColumns)
+    .get();
+}
+
+export class LastAdminError extends Error {
+  constructor() {
+    super("At least one admin must remain.");
+  }
+}
+
+/** Changes a role; refuses to demote the last admin (checked inside one transaction). */
+export function changeRole(db: Db, id: number, role: Role): PublicUser | undefined {
+  return db.transaction((tx) => {
+    const current = tx.select().from(users).where(eq(users.id, id)).get();
+    if (!current) return undefined;
+    if (current.role === "admin" && role !== "admin") {
+      const admins = tx.select({ n: count() }).from(users).where(eq(users.role, "admin")).get()?.n ?? 0;
+      if (admins <= 1) throw new LastAdminError();
+    }
+    return tx
+      .update(users)
+      .set({ role, updatedAt: new Date() })
+      .where(eq(users.id, id))
+      .returning(publicColumns)
+      .get();
+  });
+}
+
+/** Sets a new password and bumps the session version (signs the user out elsewhere). Returns the new version. */
+export async function setPassword(db: Db, id: number, password: string): Promise<number> {
+  const passwordHash = await hashPassword(password);
+  const row = db
+    .update(users)
+    .set({ passwordHash, sessionVersion: sql`${users.sessionVersion} + 1`, updatedAt: new Date() })
+    .where(eq(users.id, id))
+    .returning({ v: users.sessionVersion })
+    .get();
+  if (!row) throw new Error(`User ${id} not found`);
+  return row.v;
+}
+
+export function updateName(db: Db, id: number, name: string): void {
+  db.update(users).set({ name: name.trim(), updatedAt: new Date() }).where(eq(users.id, id)).run();
+}
+
+export function markSignedIn(db: Db, id: number, newHash?: string): void {
+  db.update(users)
+    .set(newHash ? { lastSignInAt: new Date(), passwordHash: newHash } : { lastSignInAt: new Date() })
+    .where(eq(users.id, id))
+    .run();
+}

@@ -1,0 +1,194 @@
+/**
+ * Sign-in (remix-auth + remix-auth-form) and the guards every loader, action and API route
+ * calls: `getOptionalUser`, `requireUser`, `requireRole`. Guards throw:
+ * - pages: a redirect to /signin?redirectTo=... (no user) or a 403 response (wrong role);
+ * - API (`/api/...`): 401 / 403 JSON `{ error }`.
+ * The API also accepts `Authorization: Bearer <token>` (app/services/tokens.server.ts).
+ */
+import { data, redirect } from "react-router";
+import { Authenticator } from "remix-auth";
+import { FormStrategy } from "remix-auth-form";
+import { z } from "zod";
+import { getDb } from "~/db/client.server";
+import type { Role } from "~/db/schema";
+import { findUserByEmail, getUserById, markSignedIn, normaliseEmail } from "~/models/users.server";
+import { clientAddress } from "./client-address.server";
+import { decoyPasswordHash, hashPassword, needsRehash, verifyPassword } from "./password.server";
+import { ROLE_RANK } from "./roles";
+import { getSession, sessionStorage } from "./session.server";
+import {
+  accountKey,
+  addressKey,
+  clearKey,
+  describeWait,
+  lockedFor,
+  recordFailure,
+} from "./throttle.server";
+import { authenticateToken, bearerToken } from "./tokens.server";
+
+export interface AuthUser {
+  id: number;
+  email: string;
+  name: string;
+  role: Role;
+  via: "session" | "token";
+  tokenId?: number;
+}
+
+/** The one message for an unknown e-mail and a wrong password alike. */
+export const GENERIC_SIGNIN_ERROR = "That e-mail and password do not match an account.";
+
+class InvalidCredentials extends Error {}
+
+let authenticator: Authenticator<AuthUser> | undefined;
+function getAuthenticator(): Authenticator<AuthUser> {
+  if (authenticator) return authenticator;
+  authenticator = new Authenticator<AuthUser>();
+  authenticator.use(
+    new FormStrategy<AuthUser>(async ({ form }) => {
+      const email = normaliseEmail(String(form.get("email") ?? ""));
+      const password = String(form.get("password") ?? "");
+      const db = getDb();
+      const user = findUserByEmail(db, email);
+      // Verify against a decoy hash when the account does not exist, so both paths take
+      // the same argon2 time and the answer gives no hint.
+      const ok = await verifyPassword(user?.passwordHash ?? (await decoyPasswordHash()), password);
+      if (!user || !ok || user.disabledAt) throw new InvalidCredentials();
+      markSignedIn(db, user.id, needsRehash(user.passwordHash) ? await hashPassword(password) : undefined);
+      return { id: user.id, email: user.email, name: user.name, role: user.role, via: "session" };
+    }),
+    "form",
+  );
+  return authenticator;
+}
+
+export const signInSchema = z.object({
+  email: z.string().trim().min(1, "Enter your e-mail address.").max(254, "That e-mail address is too long.").pipe(z.email("Enter a valid e-mail address.")),
+  password: z.string().min(1, "Enter your password.").max(256, "That password is too long."),
+});
+
+export type SignInFields = "email" | "password";
+export type SignInOutcome =
+  | { ok: true; user: AuthUser; headers: Headers }
+  | { ok: false; status: number; errors: Partial<Record<SignInFields | "form", string>>; values: { email: string } };
+
+/**
+ * Validates the form, applies the throttle, checks the password and, on success, returns
+ * the Set-Cookie header of a fresh session.
+ */
+export async function signIn(request: Request): Promise<SignInOutcome> {
+  const form = await request.clone().formData();
+  const values = { email: String(form.get("email") ?? "") };
+  const parsed = signInSchema.safeParse({ email: form.get("email") ?? "", password: form.get("password") ?? "" });
+  if (!parsed.success) {
+    const flat = z.flattenError(parsed.error).fieldErrors;
+    return { ok: false, status: 400, values, errors: { email: flat.email?.[0], password: flat.password?.[0] } };
+  }
+  const db = getDb();
+  const keys = [accountKey(parsed.data.email), addressKey(clientAddress(request))];
+  const wait = lockedFor(db, keys);
+  if (wait > 0) {
+    return {
+      ok: false,
+      status: 429,
+      values,
+      errors: { form: `Too many failed sign-in attempts. Try again in ${describeWait(wait)}.` },
+    };
+  }
+  let user: AuthUser;
+  try {
+    user = await getAuthenticator().authenticate("form", request);
+  } catch (err) {
+    if (!(err instanceof InvalidCredentials)) throw err;
+    recordFailure(db, keys);
+    return { ok: false, status: 401, values, errors: { form: GENERIC_SIGNIN_ERROR } };
+  }
+  clearKey(db, keys[0]!);
+  const row = getUserById(db, user.id)!;
+  const session = await getSession(request);
+  session.set("userId", user.id);
+  session.set("sessionVersion", row.sessionVersion);
+  session.set("signedInAt", Date.now());
+  const headers = new Headers({ "Set-Cookie": await sessionStorage().commitSession(session) });
+  return { ok: true, user, headers };
+}
+
+/** Set-Cookie header that ends the session. */
+export async function signOutHeaders(request: Request): Promise<Headers> {
+  const session = await getSession(request);
+  return new Headers({ "Set-Cookie": await sessionStorage().destroySession(session) });
+}
+
+export function isApiRequest(request: Request): boolean {
+  return new URL(request.url).pathname.startsWith("/api/");
+}
+
+class BadToken extends Error {}
+
+async function resolveUser(request: Request): Promise<AuthUser | null> {
+  const db = getDb();
+  const token = bearerToken(request);
+  if (token !== null) {
+    const t = authenticateToken(db, token);
+    if (!t) throw new BadToken();
+    return t;
+  }
+  const session = await getSession(request);
+  const userId = session.get("userId");
+  if (typeof userId !== "number") return null;
+  const row = getUserById(db, userId);
+  if (!row || row.disabledAt || row.sessionVersion !== session.get("sessionVersion")) return null;
+  return { id: row.id, email: row.email, name: row.name, role: row.role, via: "session" };
+}
+
+/** The signed-in user, or null. A bad bearer token on the API throws 401. */
+export async function getOptionalUser(request: Request): Promise<AuthUser | null> {
+  try {
+    return await resolveUser(request);
+  } catch (err) {
+    if (err instanceof BadToken) throw unauthorized(request, "Invalid or revoked API token.");
+    throw err;
+  }
+}
+
+/** A safe in-app path to return to after signing in (never another origin). */
+export function safeRedirectTo(value: unknown, fallback = "/"): string {
+  if (typeof value !== "string" || !value.startsWith("/") || value.startsWith("//") || value.startsWith("/\\")) return fallback;
+  if (value.startsWith("/signin") || value.startsWith("/signout")) return fallback;
+  return value;
+}
+
+/** The page a request is for, without React Router's `.data` suffix of client navigations. */
+function pagePath(request: Request): string {
+  const url = new URL(request.url);
+  let path = url.pathname;
+  if (path === "/_root.data") path = "/";
+  else if (path.endsWith(".data")) path = path.slice(0, -".data".length);
+  url.searchParams.delete("_routes");
+  const search = url.searchParams.toString();
+  return path + (search ? `?${search}` : "");
+}
+
+function unauthorized(request: Request, message = "Sign in first, or send an API token."): Response {
+  if (isApiRequest(request)) return Response.json({ error: message }, { status: 401 });
+  const to = pagePath(request);
+  return redirect(to === "/" ? "/signin" : `/signin?redirectTo=${encodeURIComponent(to)}`);
+}
+
+function forbidden(request: Request, role: Role) {
+  const message = `This needs the ${role} role.`;
+  if (isApiRequest(request)) return Response.json({ error: message }, { status: 403 });
+  return data({ message }, { status: 403, statusText: "Forbidden" });
+}
+
+export async function requireUser(request: Request): Promise<AuthUser> {
+  const user = await getOptionalUser(request);
+  if (!user) throw unauthorized(request);
+  return user;
+}
+
+export async function requireRole(request: Request, role: Role): Promise<AuthUser> {
+  const user = await requireUser(request);
+  if (ROLE_RANK[user.role] < ROLE_RANK[role]) throw forbidden(request, role);
+  return user;
+}

@@ -1,0 +1,29 @@
+/** Validation of the user-management and account forms. */
+import { z } from "zod";
+import { ROLES } from "~/db/schema";
+import { PASSWORD_MAX_LENGTH, PASSWORD_MIN_LENGTH } from "./password.server";
+
+const email = z
+  .string()
+  .trim()
+  .toLowerCase()
+  .min(1, "Enter an e-mail address.")
+  .max(254, "That e-mail address is too long.")
+  .pipe(z.email("Enter a valid e-mail address."));
+const name = z.string().trim().min(1, "Enter a name.").max(100, "Use at most 100 characters.");
+const newPassword = z
+  .string()
+  .min(PASSWORD_MIN_LENGTH, `Use at least ${PASSWORD_MIN_LENGTH} characters.`)
+  .max(PASSWORD_MAX_LENGTH, `Use at most ${PASSWORD_MAX_LENGTH} characters.`);
+const role = z.enum(ROLES, "Choose viewer, engineer or admin.");
+
+export const createUserSchema = z.object({ email, name, role, password: newPassword });
+export const changeRoleSchema = z.object({ userId: z.coerce.number().int().positive(), role });
+export const changeNameSchema = z.object({ name });
+export const changePasswordSchema = z
+  .object({
+    currentPassword: z.string().min(1, "Enter your current password."),
+    newPassword,
+    confirmPassword: z.string(),
+  })
+  .refine((v) => v.newPassword === v.confirmPassword, { path: ["confirmPassword"], message: "The two new passwords differ." });
