@@ -53,8 +53,8 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
   const perm = new Int32Array(n);
   if (n === 0) return perm;
   const alpha = options.dense ?? 10;
-  let denseThreshold = alpha < 0 ? n : Math.max(16, Math.floor(alpha * Math.sqrt(n)));
-  denseThreshold = Math.min(n - 2, denseThreshold);
+  // a row adjacent to all others (degree n − 1) counts as dense too, unless removal is disabled
+  const denseThreshold = alpha < 0 ? n : Math.min(n - 2, Math.max(16, Math.floor(alpha * Math.sqrt(n))));
 
   // --- quotient graph storage: iw holds every list, with elbow room for new elements ---------
   const Gp = G.colPtr;

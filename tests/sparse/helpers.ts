@@ -1,0 +1,153 @@
+/**
+ * Test helpers for app/engine/sparse: a seeded generator, symmetric test matrices as lower
+ * triplets together with their dense ml-matrix copies (the independent reference), and a dense
+ * structural elimination used to check symbolic counts.
+ */
+import { EigenvalueDecomposition, Matrix } from "ml-matrix";
+
+/** mulberry32 pseudo-random generator in [0, 1) (common practice, no source). */
+export function rng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+export interface SymTriplets {
+  n: number;
+  rows: Int32Array;
+  cols: Int32Array;
+  values: Float64Array;
+  dense: Matrix;
+}
+
+/** Builds triplets from (i, j, v) entries of one triangle (duplicates allowed) and the dense matrix. */
+export function fromEntries(n: number, entries: Array<[number, number, number]>): SymTriplets {
+  const dense = Matrix.zeros(n, n);
+  for (const [i, j, v] of entries) {
+    dense.set(i, j, dense.get(i, j) + v);
+    if (i !== j) dense.set(j, i, dense.get(j, i) + v);
+  }
+  return {
+    n,
+    rows: Int32Array.from(entries.map((e) => e[0])),
+    cols: Int32Array.from(entries.map((e) => e[1])),
+    values: Float64Array.from(entries.map((e) => e[2])),
+    dense,
+  };
+}
+
+/**
+ * Random sparse symmetric indefinite matrix, strictly diagonally dominant with diagonal signs
+ * chosen at random, so that elimination without pivoting in ANY order stays stable (every Schur
+ * complement of a diagonally dominant matrix is diagonally dominant: Golub and Van Loan, "Matrix
+ * Computations", 4th ed., 2013, §3.4.3 / §4.1.1). Entries are given in a random mix of lower and
+ * upper triangle, some split into duplicate triplets.
+ */
+export function randomDominant(n: number, offDiagPerRow: number, seed: number): SymTriplets {
+  const r = rng(seed);
+  const entries: Array<[number, number, number]> = [];
+  const rowSum = new Float64Array(n);
+  const seen = new Set<number>();
+  for (let t = 0; t < offDiagPerRow * n; t++) {
+    const i = Math.floor(r() * n);
+    const j = Math.floor(r() * n);
+    if (i === j) continue;
+    const lo = Math.min(i, j);
+    const hi = Math.max(i, j);
+    const key = lo * n + hi;
+    if (seen.has(key)) continue;
+    seen.add(key);
+    const v = 2 * r() - 1;
+    rowSum[lo] += Math.abs(v);
+    rowSum[hi] += Math.abs(v);
+    const [a, b] = r() < 0.5 ? [hi, lo] : [lo, hi];
+    if (r() < 0.2) {
+      entries.push([a, b, 0.3 * v], [a, b, 0.7 * v]); // duplicates are summed
+    } else {
+      entries.push([a, b, v]);
+    }
+  }
+  for (let i = 0; i < n; i++) {
+    const sign = r() < 0.5 ? -1 : 1;
+    entries.push([i, i, sign * (rowSum[i] + 0.5 + r())]);
+  }
+  return fromEntries(n, entries);
+}
+
+/**
+ * Random symmetric quasi-definite matrix [[H, Bᵀ], [B, −G]] with H, G sparse strictly diagonally
+ * dominant with positive diagonals: inertia (n1, n2, 0) for every symmetric ordering
+ * (Vanderbei, "Symmetric quasidefinite matrices", SIAM J. Optim. 5(1), 1995, Theorem 2.1).
+ */
+export function randomQuasiDefinite(n1: number, n2: number, seed: number): SymTriplets {
+  const r = rng(seed);
+  const n = n1 + n2;
+  const entries: Array<[number, number, number]> = [];
+  const rowSum = new Float64Array(n);
+  const add = (i: number, j: number, v: number) => {
+    entries.push([Math.max(i, j), Math.min(i, j), v]);
+    rowSum[i] += Math.abs(v);
+    rowSum[j] += Math.abs(v);
+  };
+  for (let i = 1; i < n1; i++) if (r() < 0.5) add(i, Math.floor(r() * i), r() - 0.5);
+  for (let i = 1; i < n2; i++) if (r() < 0.3) add(n1 + i, n1 + Math.floor(r() * i), r() - 0.5);
+  for (let k = 0; k < n2; k++) {
+    for (let c = 0; c < 3; c++) {
+      const j = Math.floor(r() * n1);
+      entries.push([n1 + k, j, 4 * r() - 2]); // B block: no dominance needed
+    }
+  }
+  for (let i = 0; i < n1; i++) entries.push([i, i, rowSum[i] + 0.1 + r()]);
+  for (let i = n1; i < n; i++) entries.push([i, i, -(rowSum[i] + 0.1 + r())]);
+  return fromEntries(n, entries);
+}
+
+/** Counts of positive, negative and (|λ| ≤ zeroTol) zero eigenvalues of a symmetric dense matrix. */
+export function eigenInertia(A: Matrix, zeroTol: number): { positive: number; negative: number; zero: number } {
+  const ev = new EigenvalueDecomposition(A, { assumeSymmetric: true }).realEigenvalues;
+  let positive = 0;
+  let negative = 0;
+  let zero = 0;
+  for (const l of ev) {
+    if (l > zeroTol) positive++;
+    else if (l < -zeroTol) negative++;
+    else zero++;
+  }
+  return { positive, negative, zero };
+}
+
+/**
+ * Structural nonzero count of the strictly lower factor of P A Pᵀ by dense symbolic elimination
+ * (eliminating k connects all its later neighbours: Parter's rule, Rose, "A graph-theoretic study of
+ * the numerical solution of sparse positive definite systems", 1972). O(n³): small n only.
+ */
+export function denseSymbolicNnzL(n: number, rows: Int32Array, cols: Int32Array, perm: Int32Array): number {
+  const pinv = new Int32Array(n);
+  for (let k = 0; k < n; k++) pinv[perm[k]] = k;
+  const S: Uint8Array[] = Array.from({ length: n }, () => new Uint8Array(n));
+  for (let t = 0; t < rows.length; t++) {
+    const i = pinv[rows[t]];
+    const j = pinv[cols[t]];
+    S[i][j] = 1;
+    S[j][i] = 1;
+  }
+  let count = 0;
+  for (let k = 0; k < n; k++) {
+    const below: number[] = [];
+    for (let i = k + 1; i < n; i++) if (S[i][k]) below.push(i);
+    count += below.length;
+    for (const a of below) for (const b of below) S[a][b] = 1;
+  }
+  return count;
+}
+
+export function maxAbs(v: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < v.length; i++) m = Math.max(m, Math.abs(v[i]));
+  return m;
+}
