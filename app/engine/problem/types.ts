@@ -136,5 +136,11 @@ export interface CompiledProblem {
     terminalCost: MathNode | null;
     /** TeX of every expression, keyed by JSON path ("dynamics.v", "path[0].expr", ...). */
     tex: Record<string, string>;
+    /** Names of the endpoint inputs in order: ["t0", "initial(x1)"..., "tf", "final(x1)"...]. */
+    endpointInputs?: string[];
+    /** Endpoint rows in the order of endpointInfo (initial(x), final(x) rows, then the general ones). */
+    endpoint?: MathNode[];
   };
+  /** Solver hints from the file ("defaults"), when given. */
+  defaults?: { intervals?: number; degree?: number };
 }

@@ -1,0 +1,58 @@
+/**
+ * TeX rendering of validated expressions for the web pages (rendered there with KaTeX).
+ * Uses mathjs' toTex with a handler for names:
+ *   rho0 → \rho_{0},  lambda_h → \lambda_{h},  CdA → \mathrm{CdA},  v → v,
+ *   t0 → t_{0},  tf → t_{f},  initial(h) → h(t_{0}),  final(h) → h(t_{f}),  pi → \pi.
+ */
+import type { MathNode } from "mathjs";
+
+const GREEK = new Set([
+  "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu", "nu", "xi",
+  "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega",
+  "Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi", "Omega",
+]);
+
+function base(s: string): string {
+  if (GREEK.has(s)) return `\\${s}`;
+  if (s.length === 1) return s;
+  return `\\mathrm{${s}}`;
+}
+
+/** TeX for a declared name (ASCII letters, digits, '_'). */
+export function nameToTex(name: string): string {
+  if (name === "t0") return "t_{0}";
+  if (name === "tf") return "t_{f}";
+  const us = name.indexOf("_");
+  if (us > 0 && us < name.length - 1) {
+    const sub = name.slice(us + 1).replace(/_/g, ",");
+    return `${base(name.slice(0, us))}_{${/^[A-Za-z0-9,]+$/.test(sub) ? sub.split(",").map((p) => (p.length > 1 && !/^\d+$/.test(p) ? base(p) : p)).join(",") : sub}}`;
+  }
+  const m = /^([A-Za-z]+?)(\d+)$/.exec(name);
+  if (m) return `${base(m[1])}_{${m[2]}}`;
+  return base(name.replace(/_/g, "\\_"));
+}
+
+/** TeX of a validated tree. */
+export function toTex(node: MathNode): string {
+  return node.toTex({
+    parenthesis: "auto",
+    implicit: "show",
+    handler: (n: MathNode, options: object) => {
+      if (n.type === "SymbolNode") return nameToTex((n as unknown as { name: string }).name);
+      if (n.type === "FunctionNode") {
+        const { fn, args } = n as unknown as { fn: { name: string }; args: MathNode[] };
+        if ((fn.name === "initial" || fn.name === "final") && args.length === 1 && args[0].type === "SymbolNode") {
+          const x = nameToTex((args[0] as unknown as { name: string }).name);
+          return `${x}(t_{${fn.name === "initial" ? "0" : "f"}})`;
+        }
+        if (fn.name === "min" || fn.name === "max") {
+          return `\\${fn.name}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;
+        }
+        if (fn.name === "atan2") {
+          return `\\operatorname{atan2}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;
+        }
+      }
+      return undefined;
+    },
+  } as never);
+}

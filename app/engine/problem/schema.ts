@@ -1,0 +1,199 @@
+/**
+ * Structure of problem.json (format "arcwatch-problem/1", see DEVELOPERS.md "Problem files"),
+ * checked with zod. Semantic checks (names, scopes, bounds, files) are in compile.ts.
+ *
+ * Objects are strict: an unknown key (a typo such as "lowr") is an error with a suggestion.
+ */
+import { z } from "zod";
+
+export const PROBLEM_FORMAT = "arcwatch-problem/1";
+
+/** Declared names: a letter, then letters, digits or underscores; at most 64 characters. */
+export const NAME_PATTERN = /^[A-Za-z][A-Za-z0-9_]*$/;
+const Name = z
+  .string({ error: "a name must be a string" })
+  .max(64, { error: "a name has at most 64 characters" })
+  .regex(NAME_PATTERN, { error: "a name starts with a letter and has only letters, digits and '_'" });
+
+/** A CSV file next to problem.json (no directories). */
+const FileName = z
+  .string()
+  .regex(/^[A-Za-z0-9_-][A-Za-z0-9_.-]*\.csv$/, { error: "a file name like 'reference.csv' in the problem's folder" });
+
+/** An expression: mathjs text, or a plain number. */
+const Expr = z.union([z.string(), z.number()], { error: "an expression must be a string or a number" });
+/** A bound: a number, null (no bound) or an expression of constants. Omitted = no bound. */
+const Bound = z.union([z.number(), z.string(), z.null()], { error: "a bound is a number, null or an expression of constants" }).optional();
+/** A required number or an expression of constants. */
+const NumberOrExpr = z.union([z.number(), z.string()], { error: "a number or an expression of constants" });
+
+const Text = z.string().optional();
+
+export const VariableSchema = z.strictObject({
+  name: Name,
+  unit: Text,
+  lower: Bound,
+  upper: Bound,
+  scale: z.number().positive({ error: "scale must be a positive number" }).optional(),
+  description: Text,
+});
+
+export const ConstantSchema = z.union(
+  [z.number(), z.string(), z.strictObject({ value: NumberOrExpr, unit: Text, description: Text })],
+  { error: "a constant is a number, an expression of earlier constants, or { \"value\": ..., \"unit\": ... }" },
+);
+
+export const IntermediateSchema = z.strictObject({ name: Name, expr: Expr, unit: Text, description: Text });
+
+export const RangeSchema = z.strictObject({ lower: Bound, upper: Bound });
+/** An initial/final condition: a fixed value (number or expression of constants) or a range. */
+export const ConditionSchema = z.union([z.number(), z.string(), RangeSchema], {
+  error: "a condition is a number (fixed value), an expression of constants, or { \"lower\", \"upper\" }",
+});
+
+export const ConstraintSchema = z.strictObject({
+  name: Name.optional(),
+  expr: Expr,
+  lower: Bound,
+  upper: Bound,
+  unit: Text,
+  description: Text,
+});
+
+export const HorizonSchema = z.strictObject({
+  initialTime: z.number().optional(),
+  finalTime: z.union(
+    [
+      z.strictObject({ fixed: NumberOrExpr }),
+      z.strictObject({
+        free: z.strictObject({ lower: NumberOrExpr, upper: NumberOrExpr, guess: NumberOrExpr.optional() }),
+      }),
+    ],
+    { error: "finalTime is { \"fixed\": tf } or { \"free\": { \"lower\", \"upper\", \"guess\" } }" },
+  ),
+});
+
+export const ObjectiveSchema = z.strictObject({
+  sense: z.enum(["min", "max"], { error: "sense is \"min\" or \"max\"" }),
+  terminal: Expr.optional(),
+  running: Expr.optional(),
+});
+
+/** Guess values per name: a constant, or [start, end] for a straight line. */
+const GuessValues = z.record(
+  z.string(),
+  z.union([z.number(), z.tuple([z.number(), z.number()])], { error: "a guess value is a number or [start, end]" }),
+).optional();
+
+export const GuessSchema = z.discriminatedUnion(
+  "kind",
+  [
+    z.strictObject({ kind: z.literal("linear"), states: GuessValues, controls: GuessValues, finalTime: z.number().optional() }),
+    z.strictObject({ kind: z.literal("constant"), states: GuessValues, controls: GuessValues, finalTime: z.number().optional() }),
+    z.strictObject({ kind: z.literal("trajectory"), file: FileName, finalTime: z.number().optional() }),
+  ],
+  { error: "guess.kind is \"linear\", \"constant\" or \"trajectory\"" },
+);
+
+export const ProvenanceSchema = z.discriminatedUnion(
+  "kind",
+  [
+    z.strictObject({ kind: z.literal("analytic"), citation: Text, detail: Text }),
+    z.strictObject({ kind: z.literal("published"), citation: z.string().min(1), detail: Text }),
+    z.strictObject({ kind: z.literal("fine-mesh"), detail: z.string().min(1) }),
+    z.strictObject({ kind: z.literal("shooting"), detail: z.string().min(1), residual: z.number().optional() }),
+  ],
+  { error: "provenance.kind is \"analytic\", \"published\", \"fine-mesh\" or \"shooting\"" },
+);
+
+const Tolerance = z.number().positive({ error: "tolerance must be a positive number" });
+
+export const ReferenceValueSchema = z.strictObject({ value: z.number(), tolerance: Tolerance, provenance: ProvenanceSchema });
+
+export const ReferenceSchema = z.strictObject({
+  objective: ReferenceValueSchema.optional(),
+  finalTime: ReferenceValueSchema.optional(),
+  switchingTimes: z.strictObject({ values: z.array(z.number()), tolerance: Tolerance, provenance: ProvenanceSchema }).optional(),
+  arcs: z.array(z.string().min(1)).optional(),
+  trajectory: z.strictObject({ file: FileName, provenance: ProvenanceSchema }).optional(),
+});
+
+export const DefaultsSchema = z.strictObject({
+  intervals: z.number().int().positive().optional(),
+  degree: z.number().int().positive().optional(),
+});
+
+export const ProblemFileSchema = z.strictObject({
+  $schema: z.string().optional(),
+  format: z.literal(PROBLEM_FORMAT, { error: `format must be "${PROBLEM_FORMAT}"` }),
+  title: z.string().min(1, { error: "title must not be empty" }),
+  description: z.string(),
+  tags: z.array(z.string()).optional(),
+  constants: z.record(z.string(), ConstantSchema).optional(),
+  states: z.array(VariableSchema).min(1, { error: "at least one state is needed" }),
+  controls: z.array(VariableSchema).optional(),
+  intermediates: z.array(IntermediateSchema).optional(),
+  dynamics: z.record(z.string(), Expr),
+  horizon: HorizonSchema,
+  initial: z.record(z.string(), ConditionSchema).optional(),
+  final: z.record(z.string(), ConditionSchema).optional(),
+  endpointConstraints: z.array(ConstraintSchema).optional(),
+  path: z.array(ConstraintSchema).optional(),
+  objective: ObjectiveSchema,
+  guess: GuessSchema.optional(),
+  reference: ReferenceSchema.optional(),
+  defaults: DefaultsSchema.optional(),
+});
+
+export type ProblemFile = z.infer<typeof ProblemFileSchema>;
+export type VariableSpec = z.infer<typeof VariableSchema>;
+export type ConstraintSpec = z.infer<typeof ConstraintSchema>;
+export type ProvenanceSpec = z.infer<typeof ProvenanceSchema>;
+
+/**
+ * Valid keys of the object at a JSON path (for "did you mean" on unrecognised keys), found by
+ * walking the schema along the path.
+ */
+export function keysAtPath(path: readonly PropertyKey[]): string[] {
+  let s: z.ZodType | undefined = ProblemFileSchema;
+  for (const seg of path) {
+    s = s && step(s, seg);
+    if (!s) return [];
+  }
+  return s ? objectKeys(s) : [];
+}
+
+function unwrap(s: z.ZodType): z.ZodType[] {
+  const def = (s as unknown as { _zod: { def: Record<string, unknown> } })._zod.def;
+  switch (def.type) {
+    case "optional":
+    case "nullable":
+    case "default":
+      return unwrap(def.innerType as z.ZodType);
+    case "union":
+      return (def.options as z.ZodType[]).flatMap(unwrap);
+    default:
+      return [s];
+  }
+}
+
+function step(s: z.ZodType, seg: PropertyKey): z.ZodType | undefined {
+  for (const u of unwrap(s)) {
+    const def = (u as unknown as { _zod: { def: Record<string, unknown> } })._zod.def;
+    if (def.type === "object" && typeof seg === "string") {
+      const shape = def.shape as Record<string, z.ZodType>;
+      if (Object.hasOwn(shape, seg)) return shape[seg];
+    } else if (def.type === "array" && typeof seg === "number") return def.element as z.ZodType;
+    else if (def.type === "record") return def.valueType as z.ZodType;
+  }
+  return undefined;
+}
+
+function objectKeys(s: z.ZodType): string[] {
+  const keys: string[] = [];
+  for (const u of unwrap(s)) {
+    const def = (u as unknown as { _zod: { def: Record<string, unknown> } })._zod.def;
+    if (def.type === "object") keys.push(...Object.keys(def.shape as object));
+  }
+  return [...new Set(keys)];
+}
