@@ -50,7 +50,7 @@ export const MAX_PROBLEM_JSON_LENGTH = 2_000_000;
 /** Names with a fixed meaning that declared names may not take. */
 export const RESERVED_NAMES: readonly string[] = ["t", "t0", "tf", "initial", "final", "pi", "sign", ...Object.keys(FUNCTION_ARITY)];
 
-/** Known tags (others are accepted with a warning, to catch typos). */
+/** Known tags (others are accepted; a near miss of one of these gets a warning, to catch typos). */
 export const KNOWN_TAGS: readonly string[] = [
   "smooth", "bang-bang", "singular-arc", "state-constrained", "path-constrained", "free-final-time", "fixed-final-time",
   "minimum-time", "unconstrained", "control-constrained", "non-smooth", "stiff", "aerospace", "classic", "demo",
@@ -485,10 +485,9 @@ class ProblemCompiler {
     // ---- tags
     const tags = p.tags ?? [];
     tags.forEach((tag, k) => {
-      if (!KNOWN_TAGS.includes(tag)) {
-        const near = nearestName(tag, KNOWN_TAGS);
-        this.warn(["tags", k], `unknown tag '${tag}'${near ? `; did you mean '${near}'?` : ""}`);
-      }
+      // tags are free-form; only a near miss of a known tag (a likely typo) is worth a warning
+      const near = KNOWN_TAGS.includes(tag) ? undefined : nearestName(tag, KNOWN_TAGS);
+      if (near) this.warn(["tags", k], `unknown tag '${tag}'; did you mean '${near}'?`);
     });
     if (tags.includes("free-final-time") && horizon.kind === "fixed") this.warn(["tags"], "tag 'free-final-time' but the final time is fixed");
     if (tags.includes("fixed-final-time") && horizon.kind === "free") this.warn(["tags"], "tag 'fixed-final-time' but the final time is free");
