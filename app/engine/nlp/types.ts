@@ -1,3 +1,5 @@
+import type { SymmetricSolverLike } from "../sparse/types";
+
 /**
  * The NLP that every transcription hands to the interior-point solver.
  *
@@ -92,6 +94,22 @@ export interface NlpOptions {
   onIteration?: (rec: IterationRecord) => void;
   /** 0 silent (default). */
   printLevel?: number;
+  /** Unscaled tolerances also required at "optimal" (defaults 1e-4, 1, 1e-4). */
+  constrViolTol?: number;
+  dualInfTol?: number;
+  complInfTol?: number;
+  /** Bounds relaxed by this × max(1, |bound|). Default 1e-8. */
+  boundRelaxFactor?: number;
+  /** Gradient-based scaling target (W&B §3.8). Default 100. */
+  nlpScalingMaxGradient?: number;
+  /** Stored pairs of the limited-memory Hessian. Default 6. */
+  lbfgsMemory?: number;
+  /** "diverging" when max|x| exceeds this. Default 1e20. */
+  divergingIterates?: number;
+  /** "unbounded" when the objective falls below this at a feasible iterate. Default -1e20. */
+  unboundedObjective?: number;
+  /** Factory of the symmetric indefinite solver (default: sparse LDLᵀ of app/engine/sparse). */
+  linearSolver?: (n: number, rows: Int32Array, cols: Int32Array) => SymmetricSolverLike;
 }
 
 export interface NlpResult {
@@ -111,4 +129,6 @@ export interface NlpResult {
   /** Final unscaled primal infeasibility and scaled dual infeasibility. */
   infPr: number;
   infDu: number;
+  /** Work statistics: numeric factorisations, seconds spent in them, nonzeros of L. */
+  stats?: { factorizations: number; factorSeconds: number; nnzL: number };
 }

@@ -1,0 +1,345 @@
+/**
+ * The primal–dual interior-point filter line-search iteration, Algorithm A of Wächter and
+ * Biegler, Math. Programming 106(1):25–57, 2006, on an InternalProblem (internal.ts). Each
+ * strategy lives in its own module and is called from one loop whose steps carry the
+ * paper's names:
+ *
+ *   A-2 convergence (convergence.ts)   A-3 barrier update (barrier.ts)
+ *   A-4 search direction (kkt.ts, inertia-correction.ts, lbfgs.ts, bound-multipliers.ts)
+ *   A-5 backtracking line search (line-search.ts, filter.ts)   A-6/7 accept, z reset (16)
+ *   A-9 feasibility restoration (restoration.ts)
+ *
+ * All vectors are allocated once per call (sizes N, m, N + m, nnz); an iteration is O(nnz)
+ * plus one sparse factorisation (more with inertia correction) and its solves.
+ */
+import type { IterationRecord, NlpStatus } from "./types";
+import type { ResolvedOptions } from "./options";
+import { CONSTANTS as C } from "./options";
+import { ModelError, type InternalProblem } from "./internal";
+import { KktSystem, type SolverFactory } from "./kkt";
+import { InertiaCorrection } from "./inertia-correction";
+import { kktError } from "./convergence";
+import { nextMu, tauOf, muMin } from "./barrier";
+import { barrierValue, barrierGradient } from "./barrier-function";
+import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers";
+import { Filter } from "./filter";
+import { backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
+import { leastSquaresMultipliers } from "./initial-point";
+import { LimitedMemoryHessian } from "./lbfgs";
+import { runRestoration } from "./restoration";
+
+export interface IpmContext {
+  opts: ResolvedOptions;
+  factory: SolverFactory;
+  log: IterationRecord[];
+  /** Iterations taken so far (both phases). */
+  iter: number;
+  /** performance.now() at the start of the solve. */
+  t0: number;
+  onIteration?: (r: IterationRecord) => void;
+  /** Time spent in numeric factorisations (ms) and their number. */
+  factorMs: number;
+  factorizations: number;
+}
+
+export interface IpmState {
+  w: Float64Array;
+  lambda: Float64Array;
+  zL: Float64Array;
+  zU: Float64Array;
+  mu: number;
+}
+
+export interface IpmHooks {
+  phase: "regular" | "restoration";
+  allowRestoration: boolean;
+  /** Restoration only: after each accepted step, true ends the phase ("returned"). */
+  stopCheck?: (w: Float64Array) => boolean;
+  /** Estimate λ by least squares, eq. (36), before the first iteration. */
+  initLambda?: boolean;
+  /** Filled with the nonzeros of L of this phase's KKT factor (statistics). */
+  stats?: { nnzL: number };
+}
+
+export interface IpmOutcome {
+  status: NlpStatus | "returned";
+  message: string;
+  infPr: number;
+  infDu: number;
+}
+
+const EPS = 2.220446049250313e-16;
+
+export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks: IpmHooks): IpmOutcome {
+  const o = ctx.opts;
+  const { N, m } = P;
+  const K = N + m;
+  const exact = o.hessian === "exact";
+  const hasL = new Uint8Array(N), hasU = new Uint8Array(N);
+  for (let i = 0; i < N; i++) { hasL[i] = Number.isFinite(P.wL[i]) ? 1 : 0; hasU[i] = Number.isFinite(P.wU[i]) ? 1 : 0; }
+  const nnzJ = P.jRows.length, nnzH = P.hRows.length;
+  let w: Float64Array = st.w;
+  let wT: Float64Array = new Float64Array(N);
+  const lambda = st.lambda, zL = st.zL, zU = st.zU;
+  const sL = new Float64Array(N), sU = new Float64Array(N);
+  const grad = new Float64Array(N), gradPhi = new Float64Array(N), gradL = new Float64Array(N), JtL = new Float64Array(N);
+  const diag = new Float64Array(N), ones = new Float64Array(N).fill(1);
+  const dw = new Float64Array(N), dzL = new Float64Array(N), dzU = new Float64Array(N), dwSoc = new Float64Array(N);
+  let cv: Float64Array = new Float64Array(m);
+  let cT: Float64Array = new Float64Array(m);
+  const dlam = new Float64Array(m), dlamSoc = new Float64Array(m), cSoc = new Float64Array(m);
+  const jv = new Float64Array(nnzJ), hv = new Float64Array(exact ? nnzH : 0);
+  const rhs = new Float64Array(K), sol = new Float64Array(K), rhs2 = new Float64Array(K);
+  const empty = new Int32Array(0);
+  const kkt = new KktSystem(N, m, exact ? P.hRows : empty, exact ? P.hCols : empty, P.jRows, P.jCols, ctx.factory);
+  const qn = exact ? null : new LimitedMemoryHessian(P.nX, o.lbfgsMemory, K);
+  const qnS = qn ? new Float64Array(P.nX) : null, qnY = qn ? new Float64Array(P.nX) : null, qnG = qn ? new Float64Array(P.nX) : null;
+  const ic = new InertiaCorrection();
+  const filter = new Filter();
+  let mu = st.mu;
+  let tau = tauOf(mu);
+  let fval = 0;
+  const phase = hooks.phase;
+  const solve0 = (b: Float64Array, x: Float64Array) => kkt.solve(b, x);
+  const solveKkt = (b: Float64Array, x: Float64Array) => {
+    if (qn) qn.solve(solve0, b, x);
+    else kkt.solve(b, x);
+  };
+
+  const slacks = (v: Float64Array) => {
+    for (let i = 0; i < N; i++) {
+      sL[i] = hasL[i] ? v[i] - P.wL[i] : 1;
+      sU[i] = hasU[i] ? P.wU[i] - v[i] : 1;
+    }
+  };
+  const theta1 = (c: Float64Array) => { let s = 0; for (let j = 0; j < m; j++) s += Math.abs(c[j]); return s; };
+  const jacTransposeTimes = (lam: Float64Array, out: Float64Array) => {
+    out.fill(0);
+    for (let k = 0; k < nnzJ; k++) out[P.jCols[k]] += jv[k] * lam[P.jRows[k]];
+  };
+  const evalPoint = (): string | null => {
+    try {
+      fval = P.f(w);
+      P.gradF(w, grad);
+      P.c(w, cv);
+      P.jac(w, jv);
+      return null;
+    } catch (e) {
+      if (e instanceof ModelError) return e.message;
+      throw e;
+    }
+  };
+  const fail = (status: NlpStatus, message: string, infPr = NaN, infDu = NaN): IpmOutcome => ({ status, message, infPr, infDu });
+
+  // ---- A-1: initialisation (the caller supplies w inside the bounds, λ, z, μ).
+  {
+    const err = evalPoint();
+    if (err) return fail(phase === "regular" && ctx.iter === 0 ? "invalid_model" : "numerical_trouble", `at the starting point: ${err}`);
+  }
+  if (hooks.initLambda) leastSquaresMultipliers(kkt, grad, zL, zU, jv, lambda, ones, rhs, sol);
+  slacks(w);
+  const theta0 = theta1(cv);
+  const thetaMax = C.thetaMaxFact * Math.max(1, theta0); // §3.2 after eq. (21)
+  const thetaMin = C.thetaMinFact * Math.max(1, theta0);
+  filter.reset(thetaMax);
+
+  let rec: Omit<IterationRecord, "iter" | "f" | "infPr" | "infDu" | "mu" | "phase"> = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, info: "" };
+  let acceptableCount = 0;
+  let forceMuUpdate = false;
+  let tinyCount = 0;
+  let infPr = NaN, infDu = NaN;
+  const firstIter = ctx.iter;
+
+  for (;;) {
+    // ---- A-2: optimality error of the original problem (μ = 0) and log line.
+    slacks(w);
+    jacTransposeTimes(lambda, JtL);
+    for (let i = 0; i < N; i++) gradL[i] = grad[i] + JtL[i] - zL[i] + zU[i];
+    const E0 = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, 0);
+    infPr = P.reportInfPr(w, cv);
+    infDu = E0.dual;
+    const fUser = P.reportF(w, fval);
+    const record: IterationRecord = { iter: ctx.iter, f: fUser, infPr, infDu, mu, phase, ...rec };
+    ctx.log.push(record);
+    ctx.onIteration?.(record);
+    if (o.printLevel > 0)
+      console.log(`${String(ctx.iter).padStart(4)}${phase === "restoration" ? "r" : " "} ${fUser.toExponential(7)} ${infPr.toExponential(2)} ${infDu.toExponential(2)} ${Math.log10(mu).toFixed(1)} ${rec.normD.toExponential(2)} ${rec.deltaW ? Math.log10(rec.deltaW).toFixed(1) : "-"} ${rec.alphaDu.toExponential(2)} ${rec.alphaPr.toExponential(2)}${rec.info} ${rec.lsTrials}`);
+
+    if (hooks.stopCheck && ctx.iter > firstIter && hooks.stopCheck(w)) return { status: "returned", message: "restoration phase succeeded", infPr, infDu };
+    const unscaledOk = infPr <= o.constrViolTol && E0.dual * P.dualUnscale <= o.dualInfTol && E0.compl * P.dualUnscale <= o.complInfTol;
+    if (E0.E <= o.tol && unscaledOk) return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}`, infPr, infDu };
+    if (E0.E <= o.acceptableTol && infPr <= 1e2 * o.constrViolTol) acceptableCount++;
+    else acceptableCount = 0;
+    if (o.acceptableIter > 0 && acceptableCount >= o.acceptableIter)
+      return { status: "acceptable", message: `acceptable: scaled KKT error ≤ ${o.acceptableTol} for ${acceptableCount} iterations`, infPr, infDu };
+    if (ctx.iter >= o.maxIter) return { status: "iteration_limit", message: `iteration limit ${o.maxIter} reached`, infPr, infDu };
+    if ((performance.now() - ctx.t0) / 1000 > o.maxSeconds) return { status: "time_limit", message: `time limit ${o.maxSeconds} s reached`, infPr, infDu };
+    let wMax = 0;
+    for (let i = 0; i < P.nX; i++) wMax = Math.max(wMax, Math.abs(w[i]));
+    if (wMax > o.divergingIterates) return { status: "diverging", message: `iterates diverge: max|x| = ${wMax.toExponential(2)} > ${o.divergingIterates}`, infPr, infDu };
+    if (phase === "regular" && fUser < o.unboundedObjective && infPr <= o.constrViolTol)
+      return { status: "unbounded", message: `objective ${fUser.toExponential(2)} below ${o.unboundedObjective} at a feasible point`, infPr, infDu };
+
+    // ---- A-3: barrier parameter update, eq. (7)-(8); repeated while the subproblem is solved.
+    const mMin = muMin(o.tol);
+    for (;;) {
+      const Emu = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, mu).E;
+      if (!(mu > mMin && (Emu <= C.kappaEpsilon * mu || forceMuUpdate))) break;
+      forceMuUpdate = false;
+      mu = nextMu(mu, o.tol);
+      tau = tauOf(mu);
+      filter.reset(thetaMax);
+    }
+    forceMuUpdate = false;
+
+    // ---- A-4: search direction from the primal-dual system (13) with inertia correction.
+    if (exact) {
+      try {
+        P.hess(w, 1, lambda, hv);
+      } catch (e) {
+        if (e instanceof ModelError) return fail("numerical_trouble", `Hessian at iteration ${ctx.iter}: ${e.message}`, infPr, infDu);
+        throw e;
+      }
+    }
+    for (let i = 0; i < N; i++) diag[i] = (hasL[i] ? zL[i] / sL[i] : 0) + (hasU[i] ? zU[i] / sU[i] : 0); // Σ
+    if (qn) qn.addDiagonal(diag);
+    const tf = performance.now();
+    const corr = ic.factorize(kkt, exact ? hv : null, diag, jv, mu);
+    ctx.factorMs += performance.now() - tf;
+    ctx.factorizations += corr.factorizations;
+    if (hooks.stats) hooks.stats.nnzL = kkt.solver.nnzL;
+    let info = corr.deltaW > 0 ? "h" : "";
+    const phi = barrierValue(fval, w, P.wL, P.wU, hasL, hasU, mu);
+    const theta = theta1(cv);
+    barrierGradient(grad, sL, sU, hasL, hasU, mu, gradPhi);
+
+    let lsAccepted = false;
+    let lsAlpha = 0, lsTrials = 0, lsSoc = false, lsAugment = true;
+    if (corr.ok) {
+      if (qn) qn.prepare(solve0, rhs2);
+      for (let i = 0; i < N; i++) rhs[i] = -(gradPhi[i] + JtL[i]);
+      for (let j = 0; j < m; j++) rhs[N + j] = -cv[j];
+      solveKkt(rhs, sol);
+      let finite = true;
+      for (let i = 0; i < K; i++) if (!Number.isFinite(sol[i])) { finite = false; break; }
+      if (finite) {
+        for (let i = 0; i < N; i++) dw[i] = sol[i];
+        for (let j = 0; j < m; j++) dlam[j] = sol[N + j];
+        // eq. (15) for the primal step
+        let alphaMax = fractionToBoundary(tau, sL, dw, 1, hasL, 1);
+        alphaMax = fractionToBoundary(tau, sU, dw, -1, hasU, alphaMax);
+        let gradPhiD = 0;
+        for (let i = 0; i < N; i++) gradPhiD += gradPhi[i] * dw[i];
+        // Tiny step (common practice, no source): the direction is below rounding of w.
+        let rel = 0;
+        for (let i = 0; i < N; i++) rel = Math.max(rel, Math.abs(dw[i]) / (1 + Math.abs(w[i])));
+        let alphaSocUsed = 0;
+        const trialAt = (alpha: number, d: Float64Array): TrialValues | null => {
+          for (let i = 0; i < N; i++) wT[i] = w[i] + alpha * d[i];
+          try {
+            const fT = P.f(wT);
+            P.c(wT, cT);
+            return { theta: theta1(cT), phi: barrierValue(fT, wT, P.wL, P.wU, hasL, hasU, mu) };
+          } catch (e) {
+            if (e instanceof ModelError) return null;
+            throw e;
+          }
+        };
+        const host: LineSearchHost = {
+          trial: (alpha) => trialAt(alpha, dw),
+          secondOrderCorrection: (alpha, first) => {
+            // c_soc ← α c(w) + c(w + α d) on the first correction, then α_soc c_soc + c(w_soc) (§2.4)
+            if (first) for (let j = 0; j < m; j++) cSoc[j] = alpha * cv[j] + cT[j];
+            else for (let j = 0; j < m; j++) cSoc[j] = alphaSocUsed * cSoc[j] + cT[j];
+            for (let i = 0; i < N; i++) rhs2[i] = rhs[i];
+            for (let j = 0; j < m; j++) rhs2[N + j] = -cSoc[j];
+            solveKkt(rhs2, sol);
+            for (let i = 0; i < N; i++) dwSoc[i] = sol[i];
+            for (let j = 0; j < m; j++) dlamSoc[j] = sol[N + j];
+            let a = fractionToBoundary(tau, sL, dwSoc, 1, hasL, 1);
+            a = fractionToBoundary(tau, sU, dwSoc, -1, hasU, a);
+            alphaSocUsed = a;
+            const t = trialAt(a, dwSoc);
+            return t ? { ...t, alpha: a } : null;
+          },
+        };
+        if (rel < 10 * EPS) {
+          const t = host.trial(alphaMax);
+          if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "t"; }
+          forceMuUpdate = true;
+          tinyCount++;
+        } else {
+          tinyCount = 0;
+          const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0);
+          lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = ls.soc; lsAugment = ls.augment;
+        }
+        if (tinyCount >= 3 && mu <= mMin) {
+          return E0.E <= o.acceptableTol
+            ? { status: "acceptable", message: "search direction below rounding at the smallest μ", infPr, infDu }
+            : fail("numerical_trouble", "search direction below rounding at the smallest μ", infPr, infDu);
+        }
+      }
+    }
+
+    if (!lsAccepted) {
+      // ---- A-9: feasibility restoration (filter augmented with the current iterate first).
+      const why = !corr.ok ? "inertia correction failed" : "step size below α_min";
+      if (!hooks.allowRestoration) return fail("numerical_trouble", `restoration phase: ${why}`, infPr, infDu);
+      filter.add((1 - C.gammaTheta) * theta, phi - C.gammaPhi * theta);
+      st.mu = mu;
+      const r = runRestoration(P, st, ctx, filter, hasL, hasU);
+      if (r.status !== "returned") return r;
+      // Back in the regular phase: new point, multipliers re-estimated, eq. (36).
+      const err = evalPoint();
+      if (err) return fail("numerical_trouble", `after restoration: ${err}`, infPr, infDu);
+      leastSquaresMultipliers(kkt, grad, zL, zU, jv, lambda, ones, rhs, sol);
+      rec = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, info: "r" };
+      acceptableCount = 0;
+      continue;
+    }
+
+    // ---- A-6: accept the trial point.
+    const dW = lsSoc ? dwSoc : dw;
+    const dL = lsSoc ? dlamSoc : dlam;
+    if (lsSoc) info += "s";
+    boundMultiplierStep(mu, dW, sL, sU, hasL, hasU, zL, zU, dzL, dzU);
+    let alphaZ = fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
+    alphaZ = fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
+    if (lsAugment) filter.add((1 - C.gammaTheta) * theta, phi - C.gammaPhi * theta); // (22)
+    let normD = 0;
+    for (let i = 0; i < N; i++) normD = Math.max(normD, Math.abs(lsAlpha * dW[i]));
+    if (qn) {
+      // ∇_x L(w_k, λ_{k+1}) before the new Jacobian replaces the old one.
+      for (let j = 0; j < m; j++) lambda[j] += lsAlpha * dL[j];
+      jacTransposeTimes(lambda, JtL);
+      for (let i = 0; i < P.nX; i++) { qnG![i] = grad[i] + JtL[i]; qnS![i] = wT[i] - w[i]; }
+    } else {
+      for (let j = 0; j < m; j++) lambda[j] += lsAlpha * dL[j];
+    }
+    for (let i = 0; i < N; i++) { zL[i] += alphaZ * dzL[i]; zU[i] += alphaZ * dzU[i]; }
+    const wOld = w; w = wT; wT = wOld;
+    const cOld = cv; cv = cT; cT = cOld;
+    st.w = w;
+    const err = evalPoint();
+    if (err) {
+      // Accepted trial was evaluated (f, c) but its derivatives are not finite.
+      return fail("numerical_trouble", `at iteration ${ctx.iter + 1}: ${err}`, infPr, infDu);
+    }
+    if (qn) {
+      jacTransposeTimes(lambda, JtL);
+      for (let i = 0; i < P.nX; i++) qnY![i] = grad[i] + JtL[i] - qnG![i];
+      qn.update(qnS!, qnY!);
+    }
+    // ---- A-7: bound multiplier safeguard, eq. (16).
+    slacks(w);
+    resetBoundMultipliers(mu, sL, sU, hasL, hasU, zL, zU);
+    ctx.iter++;
+    rec = { normD, deltaW: corr.deltaW, alphaPr: lsAlpha, alphaDu: alphaZ, lsTrials, info };
+    st.mu = mu;
+  }
+}
+
+/** Copy helper used by callers that keep the state's w in their own buffer. */
+export function copyState(st: IpmState, w: Float64Array): void {
+  if (st.w !== w) w.set(st.w);
+}

@@ -1,0 +1,70 @@
+/**
+ * The primal–dual system of W&B 2006 eq. (13), for the internal problem (internal.ts):
+ *
+ *   [ W + Σ + δ_w I    Jᵀ    ] [ d_w ]     [ ∇φ_μ(w) + Jᵀλ ]
+ *   [ J              −δ_c I  ] [ d_λ ] = − [ c(w)          ]
+ *
+ * of dimension K = N + m. The pattern (lower triangle) is fixed once per solve, in four
+ * consecutive triplet blocks whose values are written in place each iteration, so the
+ * triplet → value map is positional and nothing is searched or allocated per iteration:
+ *
+ *   [0, nnzH)            W (Hessian of the Lagrangian, lower triangle)    rows/cols in [0, N)
+ *   [hEnd, hEnd+N)       diagonal Σ + δ_w (+ σ I of the limited-memory Hessian)
+ *   [dEnd, dEnd+nnzJ)    J at (N + row, col)
+ *   [jEnd, jEnd+m)       −δ_c at (N + j, N + j)
+ *
+ * Duplicated triplets are summed by the symmetric solver.
+ */
+import type { Inertia, SymmetricSolverLike } from "../sparse/types";
+
+export type SolverFactory = (n: number, rows: Int32Array, cols: Int32Array) => SymmetricSolverLike;
+
+export class KktSystem {
+  readonly N: number;
+  readonly m: number;
+  readonly dim: number;
+  readonly values: Float64Array;
+  readonly solver: SymmetricSolverLike;
+  private readonly hEnd: number;
+  private readonly dEnd: number;
+  private readonly jEnd: number;
+
+  constructor(N: number, m: number, hRows: Int32Array, hCols: Int32Array, jRows: Int32Array, jCols: Int32Array, factory: SolverFactory) {
+    this.N = N;
+    this.m = m;
+    this.dim = N + m;
+    const nnzH = hRows.length, nnzJ = jRows.length;
+    this.hEnd = nnzH;
+    this.dEnd = nnzH + N;
+    this.jEnd = this.dEnd + nnzJ;
+    const total = this.jEnd + m;
+    const rows = new Int32Array(total);
+    const cols = new Int32Array(total);
+    rows.set(hRows, 0);
+    cols.set(hCols, 0);
+    for (let i = 0; i < N; i++) { rows[this.hEnd + i] = i; cols[this.hEnd + i] = i; }
+    for (let k = 0; k < nnzJ; k++) { rows[this.dEnd + k] = N + jRows[k]; cols[this.dEnd + k] = jCols[k]; }
+    for (let j = 0; j < m; j++) { rows[this.jEnd + j] = N + j; cols[this.jEnd + j] = N + j; }
+    this.values = new Float64Array(total);
+    this.solver = factory(this.dim, rows, cols);
+  }
+
+  /**
+   * Write the values: hVals (nnzH, or null for W = 0), diag (N: Σ plus any fixed diagonal),
+   * δ_w, jVals (nnzJ), δ_c; then factorise and return the inertia.
+   */
+  factor(hVals: Float64Array | null, diag: Float64Array, deltaW: number, jVals: Float64Array, deltaC: number): Inertia {
+    const v = this.values;
+    if (hVals) v.set(hVals, 0);
+    else v.fill(0, 0, this.hEnd);
+    for (let i = 0; i < this.N; i++) v[this.hEnd + i] = diag[i] + deltaW;
+    v.set(jVals, this.dEnd);
+    v.fill(-deltaC, this.jEnd, this.jEnd + this.m);
+    return this.solver.factor(v);
+  }
+
+  /** x = K⁻¹ b with the last factorisation (b, x of length N + m). */
+  solve(b: Float64Array, x: Float64Array): void {
+    this.solver.solve(b, x);
+  }
+}

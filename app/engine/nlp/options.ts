@@ -1,0 +1,130 @@
+/**
+ * Every option of the interior-point solver, declared once with its default and one line of help.
+ * Constants are those of Wächter and Biegler, "On the implementation of an interior-point filter
+ * line-search algorithm for large-scale nonlinear programming", Math. Programming 106(1):25–57,
+ * 2006 (cited below as "W&B"), with the equation each one belongs to.
+ */
+import type { NlpOptions } from "./types";
+
+export interface OptionSpec<T> {
+  default: T;
+  help: string;
+}
+
+/** The user-visible options (NlpOptions) with defaults; DEVELOPERS.md lists the same table. */
+export const OPTION_SPECS = {
+  tol: { default: 1e-8, help: "Desired tolerance on the scaled KKT error E_0, W&B eq. (5)-(6)." },
+  acceptableTol: { default: 1e-6, help: "E_0 below this for acceptableIter consecutive iterates ends with 'acceptable'." },
+  acceptableIter: { default: 15, help: "Consecutive acceptable iterates needed for status 'acceptable'." },
+  maxIter: { default: 3000, help: "Iteration limit (regular and restoration iterations together)." },
+  maxSeconds: { default: Infinity, help: "Wall-clock limit in seconds; status 'time_limit' when exceeded." },
+  muInit: { default: 0.1, help: "Initial barrier parameter μ_0." },
+  hessian: { default: "exact" as "exact" | "limited-memory", help: "'exact' Hessian of the Lagrangian or 'limited-memory' damped BFGS (compact form, SMW on the KKT system)." },
+  printLevel: { default: 0, help: "0 silent; 1 one line per iteration on stdout." },
+  constrViolTol: { default: 1e-4, help: "Also required at 'optimal': unscaled max constraint violation." },
+  dualInfTol: { default: 1, help: "Also required at 'optimal': unscaled max dual infeasibility." },
+  complInfTol: { default: 1e-4, help: "Also required at 'optimal': unscaled max complementarity." },
+  boundRelaxFactor: { default: 1e-8, help: "Bounds are relaxed by this factor × max(1,|bound|) before solving." },
+  nlpScalingMaxGradient: { default: 100, help: "Gradient-based scaling target g_max, W&B §3.8." },
+  lbfgsMemory: { default: 6, help: "Number of stored pairs for the limited-memory Hessian." },
+  divergingIterates: { default: 1e20, help: "Status 'diverging' when max|x| exceeds this." },
+  unboundedObjective: { default: -1e20, help: "Status 'unbounded' when the unscaled objective falls below this at a feasible iterate." },
+} as const;
+
+/**
+ * Algorithmic constants (not user options). Each cites its equation in W&B.
+ */
+export const CONSTANTS = {
+  /** κ_ε: barrier subproblem solved when E_μ ≤ κ_ε μ, eq. (7) text. */
+  kappaEpsilon: 10,
+  /** κ_μ: linear decrease factor of μ, eq. (7). */
+  kappaMu: 0.2,
+  /** θ_μ: superlinear decrease exponent of μ, eq. (7). */
+  thetaMu: 1.5,
+  /** τ_min: fraction-to-the-boundary lower limit, eq. (8). */
+  tauMin: 0.99,
+  /** s_max: scaling threshold of the optimality error, eq. (5). */
+  sMax: 100,
+  /** κ_Σ: bound-multiplier safeguard, eq. (16). */
+  kappaSigma: 1e10,
+  /** γ_θ, γ_φ: filter margins, eq. (18). */
+  gammaTheta: 1e-5,
+  gammaPhi: 1e-8,
+  /** δ, s_θ, s_φ: switching condition, eq. (19). */
+  delta: 1,
+  sTheta: 1.1,
+  sPhi: 2.3,
+  /** η_φ: Armijo constant, eq. (20). */
+  etaPhi: 1e-8,
+  /** γ_α: safety factor of the minimum step α_min, eq. (23). */
+  gammaAlpha: 0.05,
+  /** θ_max = 1e4 max(1, θ(x_0)), θ_min = 1e-4 max(1, θ(x_0)), §3.2 (after eq. (21)). */
+  thetaMaxFact: 1e4,
+  thetaMinFact: 1e-4,
+  /** p_max and κ_soc: second-order correction, §2.4 (A-5.9). */
+  maxSoc: 4,
+  kappaSoc: 0.99,
+  /** Backtracking factor 1/2 of α, Algorithm A step A-5.10. */
+  alphaReduction: 0.5,
+  /** κ_1, κ_2: bound push and fraction, §3.6 eq. (30)-(31). */
+  kappa1: 1e-2,
+  kappa2: 1e-2,
+  /** λ_max: least-squares multiplier estimate discarded above this, §3.6 text after eq. (36). */
+  lambdaMax: 1e3,
+  /** κ_d: damping of one-sided bounded variables in φ_μ, §3.7. */
+  kappaD: 1e-5,
+  /** Inertia correction, Algorithm IC §3.1: δ̄_w^0, δ̄_w^min, δ̄_w^max, κ_w^-, κ_w^+, κ̄_w^+, δ̄_c, κ_c. */
+  deltaW0: 1e-4,
+  deltaWMin: 1e-20,
+  deltaWMax: 1e40,
+  kappaWMinus: 1 / 3,
+  kappaWPlus: 8,
+  kappaWPlusBar: 100,
+  deltaCBar: 1e-8,
+  kappaC: 0.25,
+  /** Restoration phase §3.3: ρ (penalty, eq. (30) of the restoration problem), κ_resto (required θ reduction). */
+  rho: 1000,
+  kappaResto: 0.9,
+  /** Bound multipliers larger than this after restoration are reset to 1 (common practice, no source). */
+  boundMultResetThreshold: 1e3,
+} as const;
+
+export interface ResolvedOptions {
+  tol: number;
+  acceptableTol: number;
+  acceptableIter: number;
+  maxIter: number;
+  maxSeconds: number;
+  muInit: number;
+  hessian: "exact" | "limited-memory";
+  printLevel: number;
+  constrViolTol: number;
+  dualInfTol: number;
+  complInfTol: number;
+  boundRelaxFactor: number;
+  nlpScalingMaxGradient: number;
+  lbfgsMemory: number;
+  divergingIterates: number;
+  unboundedObjective: number;
+}
+
+/** Fill defaults; throws a plain Error naming the field for a bad value (caught by solveNlp). */
+export function resolveOptions(o: NlpOptions | undefined): ResolvedOptions {
+  const r = {} as Record<string, unknown>;
+  const given = (o ?? {}) as Record<string, unknown>;
+  for (const [k, spec] of Object.entries(OPTION_SPECS)) {
+    const v = given[k];
+    r[k] = v === undefined ? spec.default : v;
+  }
+  const res = r as unknown as ResolvedOptions;
+  const positive: (keyof ResolvedOptions)[] = ["tol", "acceptableTol", "muInit", "nlpScalingMaxGradient", "maxSeconds"];
+  for (const k of positive) {
+    const v = res[k] as number;
+    if (typeof v !== "number" || !(v > 0)) throw new Error(`options.${k}: must be a positive number, got ${String(v)}`);
+  }
+  if (!Number.isInteger(res.maxIter) || res.maxIter < 0) throw new Error(`options.maxIter: must be a non-negative integer, got ${res.maxIter}`);
+  if (!Number.isInteger(res.acceptableIter) || res.acceptableIter < 0) throw new Error(`options.acceptableIter: must be a non-negative integer`);
+  if (!Number.isInteger(res.lbfgsMemory) || res.lbfgsMemory < 1) throw new Error(`options.lbfgsMemory: must be a positive integer`);
+  if (res.hessian !== "exact" && res.hessian !== "limited-memory") throw new Error(`options.hessian: must be "exact" or "limited-memory", got ${String(res.hessian)}`);
+  return res;
+}
