@@ -6,6 +6,7 @@ export default [
   ...prefix("api", [
     route("me", "routes/api/me.ts"),
     route("health", "routes/api/health.ts"),
+    route("jobs", "routes/api/jobs.ts"),
     route("*", "routes/api/not-found.ts"),
   ]),
   layout("routes/_app.tsx", [

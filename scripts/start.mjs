@@ -4,25 +4,13 @@
  * the URL. The server runs in this process, so stopping `npm start` stops it.
  */
 import { spawnSync } from "node:child_process";
-import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
+import { buildState } from "./build-state.mjs";
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
 process.chdir(root);
 process.env.NODE_ENV = process.env.NODE_ENV ?? "production";
-
-const SOURCES = ["app", "public", "package.json", "package-lock.json", "react-router.config.ts", "vite.config.ts", "tsconfig.json"];
-
-/** Newest modification time (ms) below `p`. */
-function newestMtime(p) {
-  if (!fs.existsSync(p)) return 0;
-  const st = fs.statSync(p);
-  if (!st.isDirectory()) return st.mtimeMs;
-  let newest = st.mtimeMs;
-  for (const entry of fs.readdirSync(p)) newest = Math.max(newest, newestMtime(path.join(p, entry)));
-  return newest;
-}
 
 function run(label, args) {
   const started = Date.now();
@@ -35,10 +23,9 @@ function run(label, args) {
 }
 
 const serverBuild = path.join(root, "build", "server", "index.js");
-const builtAt = fs.existsSync(serverBuild) ? fs.statSync(serverBuild).mtimeMs : 0;
-const sourcesAt = Math.max(...SOURCES.map((s) => newestMtime(path.join(root, s))));
-if (builtAt === 0 || builtAt < sourcesAt) {
-  console.log(builtAt === 0 ? "[arcwatch] no build yet: building" : "[arcwatch] sources changed since the last build: rebuilding");
+const state = buildState(root);
+if (state !== "fresh") {
+  console.log(state === "missing" ? "[arcwatch] no build yet: building" : "[arcwatch] sources changed since the last build: rebuilding");
   run("build", [path.join(root, "node_modules", "@react-router", "dev", "bin.js"), "build"]);
 }
 

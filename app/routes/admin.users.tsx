@@ -126,7 +126,13 @@ export default function AdminUsers({ loaderData, actionData }: Route.ComponentPr
       </section>
       <section className="card max-w-xl space-y-4 p-6">
         <h2 className="text-lg font-semibold">Add a user</h2>
-        <Form method="post" className="space-y-4" noValidate aria-label="Add a user">
+        <Form
+          method="post"
+          className="space-y-4"
+          noValidate
+          aria-label="Add a user"
+          key={actionData?.intent === "done" ? actionData.notice : "create-user"}
+        >
           <input type="hidden" name="intent" value="create" />
           <FormError message={create?.errors.form} />
           <Field label="Name" name="name" defaultValue={create?.values.name} error={create?.errors.name} autoComplete="off" />

@@ -1,16 +1,39 @@
+import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/overview";
 import { RoleBadge } from "~/components/AppShell";
 import { RouteErrorBoundary } from "~/components/ErrorView";
+import { Field, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
+import { benchJobPayload, enqueueJob, listJobs } from "~/models/jobs.server";
 import { overviewCounts } from "~/models/overview.server";
-import { requireUser } from "~/services/auth.server";
-import { ROLE_DESCRIPTIONS } from "~/services/roles";
+import { requireRole, requireUser } from "~/services/auth.server";
+import { fieldErrors, type FieldErrors } from "~/services/forms.server";
+import { roleAtLeast, ROLE_DESCRIPTIONS } from "~/services/roles";
 
 export const meta: Route.MetaFunction = () => [{ title: "Overview · Arcwatch" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireUser(request);
-  return { role: user.role, counts: overviewCounts(getDb()) };
+  const db = getDb();
+  const jobs = listJobs(db, 10).map((j) => ({
+    id: j.id,
+    kind: j.kind,
+    suite: String((j.payloadJson as { suite?: unknown } | null)?.suite ?? ""),
+    status: j.status,
+    createdAt: j.createdAt,
+  }));
+  return { role: user.role, counts: overviewCounts(db), jobs };
+}
+
+/** Engineers queue a benchmark job for a suite (the job worker runs it). */
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, "engineer");
+  const form = await request.formData();
+  const values = { suite: String(form.get("suite") ?? "") };
+  const parsed = benchJobPayload.safeParse(values);
+  if (!parsed.success) return data({ errors: fieldErrors<"suite">(parsed.error) as FieldErrors<"suite">, values, notice: null }, { status: 400 });
+  const job = enqueueJob(getDb(), { kind: "bench", payload: parsed.data }, user.id);
+  return data({ errors: {} as FieldErrors<"suite">, values, notice: `Queued job ${job.id}: bench suite ${parsed.data.suite}.` });
 }
 
 function Stat({ label, value, testId }: { label: string; value: number; testId: string }) {
@@ -24,8 +47,9 @@ function Stat({ label, value, testId }: { label: string; value: number; testId: 
   );
 }
 
-export default function Overview({ loaderData }: Route.ComponentProps) {
-  const { counts, role } = loaderData;
+export default function Overview({ loaderData, actionData }: Route.ComponentProps) {
+  const { counts, role, jobs } = loaderData;
+  const busy = useNavigation().state === "submitting";
   return (
     <div className="space-y-8">
       <div className="flex flex-wrap items-end justify-between gap-4">
@@ -68,6 +92,51 @@ export default function Overview({ loaderData }: Route.ComponentProps) {
           </p>
         </section>
       )}
+      <section className="card space-y-4 p-6" data-testid="jobs">
+        <div className="flex flex-wrap items-end justify-between gap-4">
+          <div>
+            <h2 className="text-lg font-semibold">Benchmark jobs</h2>
+            <p className="text-sm text-muted">Runs started from here are queued and picked up by the job worker.</p>
+          </div>
+          {roleAtLeast(role, "engineer") ? (
+            <Form method="post" className="flex items-end gap-2" noValidate aria-label="Queue a benchmark job">
+              <Field label="Suite" name="suite" defaultValue={actionData?.values.suite ?? "quick"} error={actionData?.errors.suite} className="input w-48" />
+              <button type="submit" className="btn" disabled={busy}>
+                Queue run
+              </button>
+            </Form>
+          ) : (
+            <p className="text-sm text-muted">Engineers and admins can queue runs.</p>
+          )}
+        </div>
+        <Notice message={actionData?.notice} />
+        {jobs.length === 0 ? (
+          <p className="text-sm text-muted">No jobs yet.</p>
+        ) : (
+          <table className="w-full text-left text-sm">
+            <thead className="text-muted">
+              <tr>
+                <th className="py-2 font-medium">Job</th>
+                <th className="py-2 font-medium">Kind</th>
+                <th className="py-2 font-medium">Suite</th>
+                <th className="py-2 font-medium">Status</th>
+                <th className="py-2 font-medium">Queued (UTC)</th>
+              </tr>
+            </thead>
+            <tbody>
+              {jobs.map((j) => (
+                <tr key={j.id} className="border-t border-line" data-job-row={j.id}>
+                  <td className="num py-2">{j.id}</td>
+                  <td className="py-2">{j.kind}</td>
+                  <td className="py-2">{j.suite}</td>
+                  <td className="py-2">{j.status}</td>
+                  <td className="num py-2">{new Date(j.createdAt).toISOString().replace("T", " ").slice(0, 19)}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        )}
+      </section>
     </div>
   );
 }

@@ -1,5 +1,6 @@
 import { eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
+import type { JobStatus, RegressionDirection, RegressionKind, RegressionStatus, Role, RunStatus } from "~/db/schema";
 import { useTempDatabase } from "../helpers/temp-db";
 
 const file = useTempDatabase("schema");
@@ -48,7 +49,7 @@ describe("constraints", () => {
     expect(() => db.insert(S.users).values({ email: "Ada@Arcwatch.test", name: "A", passwordHash: "x" }).run()).toThrow(/users_email_check/);
     expect(() => db.insert(S.users).values({ email: "no-at-sign", name: "A", passwordHash: "x" }).run()).toThrow(/users_email_check/);
     expect(() =>
-      db.insert(S.users).values({ email: "b@arcwatch.test", name: "B", passwordHash: "x", role: "owner" as S.Role }).run(),
+      db.insert(S.users).values({ email: "b@arcwatch.test", name: "B", passwordHash: "x", role: "owner" as Role }).run(),
     ).toThrow(/users_role_check/);
     const row = db.select().from(S.users).where(eq(S.users.email, "ada@arcwatch.test")).get()!;
     expect(row.role).toBe("viewer");
@@ -59,7 +60,7 @@ describe("constraints", () => {
     const run = seedRun("11111111-1111-4111-8111-111111111111");
     expect(run.status).toBe("running");
     expect(() =>
-      db.insert(S.runs).values({ ...run, id: "r-bad", status: "exploded" as S.RunStatus }).run(),
+      db.insert(S.runs).values({ ...run, id: "r-bad", status: "exploded" as RunStatus }).run(),
     ).toThrow(/runs_status_check/);
     const base = { problemId: "p1", problemVersionHash: "v1", scheme: "trapezoidal", intervals: 20, status: "optimal" };
     expect(() => db.insert(S.caseResults).values({ ...base, runId: "no-such-run", caseKey: "k" }).run()).toThrow(/FOREIGN KEY/);
@@ -76,13 +77,13 @@ describe("constraints", () => {
   it("regressions: kind, direction, status and p value are checked; events cascade", () => {
     const run = seedRun("22222222-2222-4222-8222-222222222222");
     const base = { runId: run.id, caseKey: "p1/lgr/10x4", kind: "speed" as const, direction: "regression" as const, metric: "median_seconds" };
-    expect(() => db.insert(S.regressions).values({ ...base, kind: "vibes" as S.RegressionKind }).run()).toThrow(/regressions_kind_check/);
-    expect(() => db.insert(S.regressions).values({ ...base, direction: "sideways" as S.RegressionDirection }).run()).toThrow(/direction_check/);
+    expect(() => db.insert(S.regressions).values({ ...base, kind: "vibes" as RegressionKind }).run()).toThrow(/regressions_kind_check/);
+    expect(() => db.insert(S.regressions).values({ ...base, direction: "sideways" as RegressionDirection }).run()).toThrow(/direction_check/);
     expect(() => db.insert(S.regressions).values({ ...base, pValue: 1.5 }).run()).toThrow(/p_value_check/);
     const r = db.insert(S.regressions).values({ ...base, pValue: 0.003, before: 0.1, after: 0.14, ratio: 1.4 }).returning().get();
     expect(r.status).toBe("open");
     db.insert(S.regressionEvents).values({ regressionId: r.id, fromStatus: "open", toStatus: "acknowledged", note: "looking" }).run();
-    expect(() => db.insert(S.regressionEvents).values({ regressionId: r.id, toStatus: "done" as S.RegressionStatus }).run()).toThrow(/CHECK/);
+    expect(() => db.insert(S.regressionEvents).values({ regressionId: r.id, toStatus: "done" as RegressionStatus }).run()).toThrow(/CHECK/);
     db.delete(S.regressions).where(eq(S.regressions.id, r.id)).run();
     expect(db.select().from(S.regressionEvents).all()).toHaveLength(0);
   });
@@ -101,7 +102,7 @@ describe("constraints", () => {
     const j = db.insert(S.jobs).values({ kind: "bench", payloadJson: { suite: "quick" } }).returning().get();
     expect(j.status).toBe("queued");
     expect(j.log).toBe("");
-    expect(() => db.insert(S.jobs).values({ kind: "bench", payloadJson: {}, status: "paused" as S.JobStatus }).run()).toThrow(/jobs_status_check/);
+    expect(() => db.insert(S.jobs).values({ kind: "bench", payloadJson: {}, status: "paused" as JobStatus }).run()).toThrow(/jobs_status_check/);
     const u = db.select().from(S.users).get()!;
     expect(() => db.insert(S.comments).values({ userId: u.id, targetType: "run", targetId: "x", body: "   " }).run()).toThrow(/body_check/);
   });

@@ -1,0 +1,32 @@
+import { z } from "zod";
+import type { Route } from "./+types/jobs";
+import { getDb } from "~/db/client.server";
+import { enqueueJob, enqueueJobInput, listJobs } from "~/models/jobs.server";
+import { requireRole, requireUser } from "~/services/auth.server";
+
+/** GET /api/jobs (viewer): the latest 50 jobs, newest first. */
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireUser(request);
+  return Response.json({ jobs: listJobs(getDb()) });
+}
+
+/**
+ * POST /api/jobs (engineer): queue a job. Body JSON `{ "kind": "bench", "payload": { "suite": "quick" } }`.
+ * 201 with the job; 400 with `{ error, fields }` for bad input.
+ */
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, "engineer");
+  if (request.method !== "POST") return Response.json({ error: "Use POST." }, { status: 405, headers: { Allow: "GET, POST" } });
+  let body: unknown;
+  try {
+    body = await request.json();
+  } catch {
+    return Response.json({ error: "The body must be JSON." }, { status: 400 });
+  }
+  const parsed = enqueueJobInput.safeParse(body);
+  if (!parsed.success) {
+    return Response.json({ error: "Invalid job.", fields: z.flattenError(parsed.error).fieldErrors, issues: parsed.error.issues.map((i) => ({ path: i.path.join("."), message: i.message })) }, { status: 400 });
+  }
+  const job = enqueueJob(getDb(), parsed.data, user.id > 0 ? user.id : null);
+  return Response.json({ job }, { status: 201 });
+}

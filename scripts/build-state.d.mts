@@ -1,0 +1,3 @@
+export declare const BUILD_SOURCES: string[];
+export declare function newestMtime(p: string): number;
+export declare function buildState(root: string): "missing" | "stale" | "fresh";
