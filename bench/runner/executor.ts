@@ -1,0 +1,26 @@
+/**
+ * The swappable part of a case: how to load and solve it. A worker imports an executor module
+ * (the built-in engine, an external command, or a module named by the suite) and calls
+ * `createExecutor(context)` once; for each case it calls `prepare(spec)` outside the timed region
+ * and then times `solve()` (tinybench). Whatever solves, the answer is a `CaseReport`.
+ */
+import type { CaseReport, CaseSpec } from "./types";
+
+export interface ExecutorContext {
+  /** Root of the checkout being measured (its problems/ and bench/). */
+  root: string;
+  problemsDir: string;
+  /** Executor-specific settings from the suite (e.g. the external command). */
+  options: Record<string, unknown>;
+}
+
+export interface PreparedCase {
+  /** One solve; timed by the worker. Must not throw for a solver failure (return a status). */
+  solve(): CaseReport | Promise<CaseReport>;
+}
+
+export interface CaseExecutor {
+  prepare(spec: CaseSpec): PreparedCase | Promise<PreparedCase>;
+}
+
+export type CreateExecutor = (context: ExecutorContext) => CaseExecutor | Promise<CaseExecutor>;

@@ -1,0 +1,212 @@
+/**
+ * The benchmark run, as a library: the command line (bench/run.ts), the server's job worker and
+ * tests all call `runSuite`. It reads the suite, records the commit and the machine, calibrates,
+ * runs every case in worker threads (bench/runner/pool.ts), writes each finished case in its own
+ * transaction, calibrates again, marks the run complete (or interrupted when `signal` aborts),
+ * detects regressions against the baseline and sends the alerts.
+ */
+import fs from "node:fs";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+import type { Db } from "../../app/db/client.server";
+import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
+import { commitMeta, resolveCommit, type CommitMeta } from "./git-meta";
+import { detectRegressions, type Detection } from "./detect";
+import { runCases } from "./pool";
+import { Progress } from "./progress";
+import { createRun, ensureSuite, finishRun, recordCase } from "./record";
+import { expandCases, loadSuite, suitePath, type LoadedSuite } from "./suite";
+import { isSolved, type CaseOutcome } from "./types";
+import { sendRegressionAlerts, type AlertResult } from "./alerts";
+
+export interface RunSuiteOptions {
+  /** Suite name (bench/suites/<name>.json under root) or a path to a suite file. */
+  suite: string;
+  db: Db;
+  /** Checkout being measured (problems/, bench/suites/); default the working directory. */
+  root?: string;
+  /** `--baseline <commit|branch>`; default: latest complete run on "main". */
+  baseline?: string;
+  /** Overrides the suite's `jobs`. */
+  jobs?: number;
+  signal?: AbortSignal;
+  /** Progress bar stream (default stderr); null for none. */
+  progress?: NodeJS.WriteStream | null;
+  /** Send e-mail alerts for new regressions (default true). */
+  alerts?: boolean;
+  /** Base URL used in alert links. */
+  baseUrl?: string;
+  jobId?: number | null;
+  onCase?: (outcome: CaseOutcome) => void;
+}
+
+export interface RunSummary {
+  runId: string;
+  status: "complete" | "interrupted" | "failed";
+  suite: { name: string; file: string; contentHash: string; cases: number };
+  commit: CommitMeta;
+  machineKey: string;
+  calibration: { before: number; after: number | null };
+  solver: { kind: string; label: string | null; repository: string | null };
+  outcomes: CaseOutcome[];
+  detection: Detection | null;
+  alerts: AlertResult | null;
+  elapsedSeconds: number;
+  /** 0 ok, 3 new regression(s), 130 interrupted. */
+  exitCode: number;
+}
+
+export const EXIT_REGRESSION = 3;
+export const EXIT_INTERRUPTED = 130;
+
+interface SolverPlan {
+  executorModule: string;
+  options: Record<string, unknown>;
+  kind: string;
+  label: string | null;
+  repository: string | null;
+}
+
+function planSolver(suite: LoadedSuite, budgetSeconds: number): SolverPlan {
+  const s = suite.definition.solver;
+  const here = (f: string) => fileURLToPath(new URL(f, import.meta.url));
+  const suiteDir = path.dirname(suite.file);
+  if (s.kind === "external") {
+    const repository = path.resolve(suiteDir, s.repository);
+    return { executorModule: here("./external-executor.ts"), options: { command: s.command, repository, timeoutSeconds: budgetSeconds }, kind: "external", label: s.label, repository };
+  }
+  if (s.kind === "module") {
+    return { executorModule: path.resolve(suiteDir, s.module), options: s.options, kind: "module", label: s.label ?? null, repository: null };
+  }
+  return { executorModule: here("./builtin-executor.ts"), options: {}, kind: "builtin", label: null, repository: null };
+}
+
+/** Expected arc signatures from the problem files' reference.arcs ("upper|singular|lower"). */
+function referenceArcs(problemsDir: string, ids: string[]): Map<string, string> {
+  const out = new Map<string, string>();
+  for (const id of ids) {
+    try {
+      const j = JSON.parse(fs.readFileSync(path.join(problemsDir, id, "problem.json"), "utf8")) as { reference?: { arcs?: unknown } };
+      const arcs = j.reference?.arcs;
+      if (Array.isArray(arcs) && arcs.every((a) => typeof a === "string")) out.set(id, arcs.join("|"));
+    } catch {
+      /* unreadable files are reported by the loader in the case itself */
+    }
+  }
+  return out;
+}
+
+export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
+  const t0 = Date.now();
+  const root = path.resolve(opts.root ?? process.cwd());
+  const problemsDir = path.join(root, "problems");
+  const suite = loadSuite(suitePath(opts.suite, root));
+  const def = suite.definition;
+  const cases = expandCases(def, problemsDir);
+  const plan = planSolver(suite, def.timeBudgetSeconds);
+  const measuredRepo = plan.repository ?? root;
+  const commit = await commitMeta(measuredRepo);
+
+  let baseline: { commit?: string | null; branch?: string | null } = { branch: "main" };
+  if (opts.baseline) {
+    const full = await resolveCommit(measuredRepo, opts.baseline);
+    // A ref that is a branch name stays a branch query (its latest run, not one commit's run).
+    const isBranch = await resolveCommit(measuredRepo, `refs/heads/${opts.baseline}`);
+    baseline = isBranch || !full ? { branch: opts.baseline } : { commit: full };
+  }
+
+  const machine = machineInfo();
+  const key = machineKey(machine);
+  const calBefore: Calibration = calibrate();
+  const db = opts.db;
+  const suiteId = ensureSuite(db, suite);
+  const runId = createRun(db, {
+    suiteId,
+    commit,
+    machine,
+    machineKey: key,
+    calibrationSeconds: calBefore.seconds,
+    extraMachine: { calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind },
+    solverLabel: plan.label,
+    externalRepo: plan.repository,
+    jobId: opts.jobId ?? null,
+  });
+
+  const progress = new Progress(cases.length, opts.progress === undefined ? process.stderr : opts.progress);
+  let recordError: Error | null = null;
+  const outcomes = await runCases(cases, {
+    jobs: opts.jobs ?? def.jobs,
+    budgetSeconds: def.timeBudgetSeconds,
+    repeats: def.repeats,
+    warmup: def.warmup,
+    executorModule: plan.executorModule,
+    context: { root, problemsDir, options: plan.options },
+    signal: opts.signal,
+    onStart: (spec) => progress.start(spec.key),
+    onDone: (outcome) => {
+      try {
+        recordCase(db, runId, outcome, problemsDir);
+      } catch (err) {
+        recordError ??= err as Error;
+      }
+      progress.finish(outcome.spec.key, outcome.status);
+      opts.onCase?.(outcome);
+    },
+  });
+  progress.end();
+  if (recordError) {
+    finishRun(db, runId, "failed");
+    throw recordError;
+  }
+
+  const interrupted = !!opts.signal?.aborted;
+  const calAfter = interrupted ? null : calibrate();
+  const allFailed = outcomes.length > 0 && outcomes.every((o) => o.status === "error" && o.message?.startsWith("executor failed to load"));
+  const status = interrupted ? "interrupted" : allFailed ? "failed" : "complete";
+  finishRun(db, runId, status, { calibration: { before: calBefore.seconds, after: calAfter?.seconds ?? null, kernel: calBefore.kernel } });
+
+  let detection: Detection | null = null;
+  let alerts: AlertResult | null = null;
+  if (status === "complete") {
+    detection = detectRegressions(db, runId, { thresholds: suite.thresholds, baseline, referenceArcs: referenceArcs(problemsDir, [...new Set(cases.map((c) => c.problemId))]) });
+    if (opts.alerts !== false && detection.newRegressions > 0) {
+      alerts = await sendRegressionAlerts(db, {
+        runId,
+        suiteName: def.name,
+        commit,
+        regressions: detection.inserted.filter((i) => i.finding.direction === "regression"),
+        baseUrl: opts.baseUrl,
+      });
+    }
+  }
+  const exitCode = interrupted ? EXIT_INTERRUPTED : detection && detection.newRegressions > 0 ? EXIT_REGRESSION : 0;
+  return {
+    runId,
+    status,
+    suite: { name: def.name, file: suite.file, contentHash: suite.contentHash, cases: cases.length },
+    commit,
+    machineKey: key,
+    calibration: { before: calBefore.seconds, after: calAfter?.seconds ?? null },
+    solver: { kind: plan.kind, label: plan.label, repository: plan.repository },
+    outcomes,
+    detection,
+    alerts,
+    elapsedSeconds: (Date.now() - t0) / 1000,
+    exitCode,
+  };
+}
+
+/** Counts for a one-line verdict. */
+export function tally(outcomes: CaseOutcome[]): { solved: number; failed: number; timeouts: number; errors: number } {
+  let solved = 0;
+  let failed = 0;
+  let timeouts = 0;
+  let errors = 0;
+  for (const o of outcomes) {
+    if (isSolved(o.status)) solved++;
+    else if (o.status === "timeout") timeouts++;
+    else if (o.status === "error") errors++;
+    else failed++;
+  }
+  return { solved, failed, timeouts, errors };
+}

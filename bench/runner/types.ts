@@ -1,0 +1,96 @@
+/**
+ * Shapes shared by the runner, its workers, the recorder and the regression detector.
+ *
+ * `CaseReport` is the part of the engine's `SolveReport` (app/engine/solve.ts) the runner stores;
+ * an external solver's answer is mapped onto the same shape (bench/runner/external.ts), so the
+ * recording and the regression rules do not care who solved the case.
+ */
+import type { SchemeId } from "../../app/engine/schemes/types";
+
+/** One case of a suite: a problem, a scheme and a mesh. */
+export interface CaseSpec {
+  /** Stable key across runs: `<problemId>/<scheme>/<intervals>[x<degree>]` (as case_results.case_key). */
+  key: string;
+  problemId: string;
+  scheme: SchemeId;
+  intervals: number;
+  degree?: number;
+  variant?: string;
+}
+
+export interface CaseErrors {
+  objectiveAbs: number | null;
+  objectiveRel: number | null;
+  finalTimeAbs: number | null;
+  stateMax: number | null;
+  controlMax: number | null;
+  costateMax?: number | null;
+  switchingTimes?: number | null;
+}
+
+/** SolveReport-shaped result of one solve (fields the runner uses; extra fields are kept). */
+export interface CaseReport {
+  problemId: string;
+  versionHash: string;
+  scheme: string;
+  intervals: number;
+  degree?: number | null;
+  variant?: string | null;
+  status: string;
+  message?: string | null;
+  objective: number | null;
+  finalTime: number | null;
+  iterations: number | null;
+  solveSeconds?: number | null;
+  transcribeSeconds?: number | null;
+  nlpSize?: unknown;
+  resim?: { finalMiss: number | null; maxPathViolation?: number | null } | null;
+  constraintViolation: number | null;
+  errors: CaseErrors;
+  arcs?: unknown;
+  trajectory?: unknown;
+  log?: unknown;
+}
+
+/** What a worker hands back for one case. */
+export interface CaseOutcome {
+  spec: CaseSpec;
+  /** The report's status, or a runner status: "timeout", "error". */
+  status: string;
+  message: string | null;
+  report: CaseReport | null;
+  /** Wall-clock seconds of each timed repeat (tinybench samples), in sorted order. */
+  samples: number[];
+  /** Seconds from the case's start to its end, loading included. */
+  wallSeconds: number;
+}
+
+/** Regression thresholds of a suite (defaults in bench/runner/suite.ts). */
+export interface Thresholds {
+  /** Accuracy: flag when an error grows by more than this factor... */
+  accuracyFactor: number;
+  /** ...and the new error is above this absolute floor. */
+  accuracyFloor: number;
+  /** Robustness: flag when iterations grow by more than this share (0.25 = 25 %)... */
+  iterationShare: number;
+  /** ...and by at least this many iterations. */
+  iterationMin: number;
+  /** Speed: flag when the (calibrated) median time ratio exceeds this... */
+  speedRatio: number;
+  /** ...and Mann–Whitney p < alpha (one-sided) or the bootstrap interval excludes 1. */
+  alpha: number;
+  /** Two-sided level of the bootstrap interval of the median ratio. */
+  confidence: number;
+  bootstrapReplicates: number;
+  /** Drift: minimum |shift| of ln(time ratio) between the last two PELT segments. */
+  driftMinShift: number;
+  /** Drift: minimum number of runs in a case's history before PELT is tried. */
+  driftMinHistory: number;
+  /** Divide times by the calibration workload's time so that machines' load states compare. */
+  calibrate: boolean;
+}
+
+/** Statuses that count as "solved" for the robustness rule. */
+export const SOLVED_STATUSES = new Set(["optimal", "acceptable", "solved", "success", "converged"]);
+
+export const isSolved = (status: string | null | undefined) => !!status && SOLVED_STATUSES.has(status);

@@ -1,0 +1,34 @@
+/**
+ * Upload client: posts a recorded run (bench/runner/payload.ts) to an Arcwatch server's ingestion
+ * endpoint with a bearer token. `url` is either the endpoint itself or the server's base URL,
+ * in which case `/api/runs` is appended.
+ */
+import type { Db } from "../../app/db/client.server";
+import { buildRunPayload } from "./payload";
+
+export const INGEST_PATH = "/api/runs";
+
+export function ingestUrl(url: string): string {
+  const u = new URL(url);
+  if (u.pathname === "/" || u.pathname === "") u.pathname = INGEST_PATH;
+  return u.toString();
+}
+
+export async function uploadRun(db: Db, runId: string, url: string, token: string): Promise<{ url: string; status: number; body: unknown }> {
+  const target = ingestUrl(url);
+  const payload = buildRunPayload(db, runId);
+  const res = await fetch(target, {
+    method: "POST",
+    headers: { "content-type": "application/json", authorization: `Bearer ${token}` },
+    body: JSON.stringify(payload),
+  });
+  const text = await res.text();
+  let body: unknown = text;
+  try {
+    body = JSON.parse(text);
+  } catch {
+    /* keep text */
+  }
+  if (!res.ok) throw new Error(`upload to ${target} failed: HTTP ${res.status} ${typeof body === "string" ? body.slice(0, 300) : JSON.stringify(body).slice(0, 300)}`);
+  return { url: target, status: res.status, body };
+}
