@@ -10,16 +10,22 @@
  * (m = 3N + 3). KKT matrix of the interior-point step (Wächter and Biegler, Math. Program. 106,
  * 2006, eq. (13)):
  *   K = [[W + Σ + δw I, Jᵀ], [J, −δc I]],
- * W the Hessian of the Lagrangian (diagonal here: ∂²/∂θ² and ∂²/∂u²), Σ a barrier term on u
- * (bounds −2 ≤ u ≤ 2), δw = 1e-8, δc = 1e-8 (the quasi-definite form used with our LDLᵀ without
- * pivoting, see DEVELOPERS.md). Expected inertia (n, m, 0): W + Σ is positive definite on the
- * null space of J, since a null-space direction is fixed by its control part and W_uu + Σ_uu > 0.
+ * W the Hessian of the Lagrangian (diagonal here: ∂²/∂θ² and ∂²/∂u²; the ω and c rows of W are
+ * zero), Σ a barrier term on u (bounds −2 ≤ u ≤ 2). Two configurations are timed:
+ *   A. δw = δc = 1e-8, no signs: a quasi-definite matrix, factorisable in any order;
+ *   B. δw = δc = 0 with expected signs: the matrix the interior-point method factors first
+ *      (zero (2,2) block, zero W rows), handled by the constrained AMD ordering and the signed
+ *      dynamic regularisation with refinement (DEVELOPERS.md, Decisions).
+ * Expected inertia (n, m, 0) in both: W + Σ is positive semidefinite and positive definite on the
+ * null space of J (a null-space direction is fixed by its control part, and W_uu + Σ_uu > 0).
  *
- * Prints, per size: symbolic time (ordering + elimination tree), numeric factorisation time,
- * solve time (with one refinement step), nnz(L), fill ratio nnz(L)/nnz(A), relative residual;
- * then the least-squares slope of log(factor time) against log(n): the target is < 1.2.
+ * Prints, per size (times: best of repeated runs, the least disturbed on a shared machine):
+ * symbolic time (ordering + elimination tree), numeric factorisation time, solve time (with
+ * refinement), nnz(L), fill ratio nnz(L)/nnz(A), inertia, regularised pivots, refinement steps
+ * and the normwise backward error; then the least-squares slope of log(factor time) against
+ * log(KKT dimension): the target is < 1.2.
  */
-import { SymmetricSolver } from "../app/engine/sparse/index";
+import { SymmetricSolver, kktSigns } from "../app/engine/sparse/index";
 
 interface Kkt {
   dim: number;
@@ -31,7 +37,7 @@ interface Kkt {
 }
 
 /** Lower-triangle triplets and values of K for N intervals (deterministic values). */
-function trolleyKkt(N: number): Kkt {
+function trolleyKkt(N: number, deltaW: number, deltaC: number): Kkt {
   const T = 5;
   const h = T / N;
   const nVar = 4 * (N + 1);
@@ -44,8 +50,6 @@ function trolleyKkt(N: number): Kkt {
     cols.push(j);
     vals.push(v);
   };
-  const deltaW = 1e-8;
-  const deltaC = 1e-8;
   // a smooth trajectory and multiplier estimate to evaluate W at
   const theta = (k: number) => 0.8 * Math.sin((2 * Math.PI * k) / N);
   const u = (k: number) => 1.5 * Math.cos((3 * Math.PI * k) / N);
@@ -97,9 +101,9 @@ function trolleyKkt(N: number): Kkt {
   };
 }
 
-function median(xs: number[]): number {
-  const s = [...xs].sort((a, b) => a - b);
-  return s[Math.floor(s.length / 2)];
+/** Minimum of repeated timings: the least disturbed by other processes on a shared machine. */
+function best(xs: number[]): number {
+  return Math.min(...xs);
 }
 
 function slope(xs: number[], ys: number[]): number {
@@ -119,88 +123,106 @@ function slope(xs: number[], ys: number[]): number {
 const quick = process.argv.includes("--quick");
 const targets = quick ? [1000, 4000, 16000] : [1000, 2000, 4000, 8000, 16000, 32000, 64000];
 const pad = (s: string | number, w: number) => String(s).padStart(w);
-console.log("LDLᵀ on trapezoidal KKT matrices (swing trolley, 3 states + 1 control), δw = δc = 1e-8");
-console.log(
-  [pad("vars", 7), pad("KKT dim", 8), pad("nnz(A)", 9), pad("nnz(L)", 10), pad("fill", 6), pad("order ms", 9), pad("symb ms", 8), pad("factor ms", 10), pad("solve ms", 9), pad("inertia", 14), pad("rel. resid", 11)].join(" "),
-);
-const sizes: number[] = [];
-const factorMs: number[] = [];
-const solveMs: number[] = [];
-for (const target of targets) {
-  const N = Math.round(target / 4) - 1;
-  const K = trolleyKkt(N);
-  // symbolic: median of 3 constructions
-  const symb: number[] = [];
-  const ord: number[] = [];
-  let solver!: SymmetricSolver;
-  for (let rep = 0; rep < 3; rep++) {
-    const t0 = performance.now();
-    solver = new SymmetricSolver(K.dim, K.rows, K.cols);
-    symb.push(performance.now() - t0);
-    ord.push(solver.symbolicStats.orderingMs);
-  }
-  const reps = Math.max(5, Math.round(400000 / K.dim));
-  const fac: number[] = [];
-  let inertia = solver.factor(K.values);
-  for (let rep = 0; rep < reps; rep++) {
-    const t0 = performance.now();
-    inertia = solver.factor(K.values);
-    fac.push(performance.now() - t0);
-  }
-  const b = new Float64Array(K.dim);
-  for (let i = 0; i < K.dim; i++) b[i] = Math.sin(0.37 * i) + 0.5;
-  const x = new Float64Array(K.dim);
-  const sol: number[] = [];
-  for (let rep = 0; rep < reps; rep++) {
-    const t0 = performance.now();
-    solver.solve(b, x, 1);
-    sol.push(performance.now() - t0);
-  }
-  // relative residual ‖b − K x‖∞ / (‖K‖∞‖x‖∞ + ‖b‖∞) from the solver's own refinement residual
-  let xn = 0;
-  let bn = 0;
-  for (let i = 0; i < K.dim; i++) {
-    xn = Math.max(xn, Math.abs(x[i]));
-    bn = Math.max(bn, Math.abs(b[i]));
-  }
-  const rel = solver.lastResidual / (bn + xn);
-  const ok = inertia.positive === K.nVar && inertia.negative === K.nCon && inertia.zero === 0;
-  sizes.push(K.dim);
-  factorMs.push(median(fac));
-  solveMs.push(median(sol));
-  console.log(
-    [
-      pad(K.nVar, 7),
-      pad(K.dim, 8),
-      pad(solver.symbolicStats.nnzA, 9),
-      pad(solver.nnzL, 10),
-      pad((solver.nnzL / solver.symbolicStats.nnzA).toFixed(2), 6),
-      pad(median(ord).toFixed(2), 9),
-      pad(median(symb).toFixed(2), 8),
-      pad(median(fac).toFixed(3), 10),
-      pad(median(sol).toFixed(3), 9),
-      pad(`${inertia.positive}/${inertia.negative}/${inertia.zero}${ok ? "" : "!"}`, 14),
-      pad(rel.toExponential(1), 11),
-    ].join(" "),
-  );
+
+interface Config {
+  label: string;
+  deltaW: number;
+  deltaC: number;
+  /** pass expected pivot signs (constrained AMD + signed dynamic regularisation) */
+  signs: boolean;
+  refinementSteps: number;
 }
-const p = slope(sizes, factorMs);
-const q = slope(sizes, solveMs);
-console.log(`fitted exponent, factor time ∝ dim^p: p = ${p.toFixed(3)} (target < 1.2) ${p < 1.2 ? "PASS" : "FAIL"}`);
-console.log(`fitted exponent, solve time  ∝ dim^q: q = ${q.toFixed(3)}`);
+
+function runTable(cfg: Config): number {
+  console.log(`\n${cfg.label}`);
+  console.log(
+    [pad("vars", 7), pad("KKT dim", 8), pad("nnz(A)", 9), pad("nnz(L)", 10), pad("fill", 6), pad("order ms", 9), pad("symb ms", 8),
+      pad("factor ms", 10), pad("solve ms", 9), pad("inertia", 14), pad("reg", 5), pad("refine", 6), pad("backward err", 13)].join(" "),
+  );
+  const sizes: number[] = [];
+  const factorMs: number[] = [];
+  for (const target of targets) {
+    const N = Math.round(target / 4) - 1;
+    const K = trolleyKkt(N, cfg.deltaW, cfg.deltaC);
+    const options = cfg.signs ? { signs: kktSigns(K.nVar, K.nCon) } : {};
+    // warm-up construction (JIT), then the best of 5 timed symbolic analyses
+    let solver = new SymmetricSolver(K.dim, K.rows, K.cols, options);
+    const symb: number[] = [];
+    const ord: number[] = [];
+    for (let rep = 0; rep < 5; rep++) {
+      const t0 = performance.now();
+      solver = new SymmetricSolver(K.dim, K.rows, K.cols, options);
+      symb.push(performance.now() - t0);
+      ord.push(solver.symbolicStats.orderingMs);
+    }
+    const reps = Math.max(10, Math.round(1000000 / K.dim));
+    const fac: number[] = [];
+    let inertia = solver.factor(K.values);
+    for (let rep = 0; rep < reps; rep++) {
+      const t0 = performance.now();
+      inertia = solver.factor(K.values);
+      fac.push(performance.now() - t0);
+    }
+    const b = new Float64Array(K.dim);
+    for (let i = 0; i < K.dim; i++) b[i] = Math.sin(0.37 * i) + 0.5;
+    const x = new Float64Array(K.dim);
+    const sol: number[] = [];
+    for (let rep = 0; rep < reps; rep++) {
+      const t0 = performance.now();
+      solver.solve(b, x, cfg.refinementSteps);
+      sol.push(performance.now() - t0);
+    }
+    const ok = inertia.positive === K.nVar && inertia.negative === K.nCon && inertia.zero === 0;
+    sizes.push(K.dim);
+    factorMs.push(best(fac));
+    console.log(
+      [
+        pad(K.nVar, 7),
+        pad(K.dim, 8),
+        pad(solver.symbolicStats.nnzA, 9),
+        pad(solver.nnzL, 10),
+        pad((solver.nnzL / solver.symbolicStats.nnzA).toFixed(2), 6),
+        pad(best(ord).toFixed(2), 9),
+        pad(best(symb).toFixed(2), 8),
+        pad(best(fac).toFixed(3), 10),
+        pad(best(sol).toFixed(3), 9),
+        pad(`${inertia.positive}/${inertia.negative}/${inertia.zero}${ok ? "" : "!"}`, 14),
+        pad(inertia.regularized ?? "-", 5),
+        pad(solver.lastRefinementSteps, 6),
+        pad(solver.lastRelativeResidual.toExponential(1), 13),
+      ].join(" "),
+    );
+  }
+  const p = slope(sizes, factorMs);
+  console.log(`fitted exponent, factor time ∝ dim^p: p = ${p.toFixed(3)} (target < 1.2) ${p < 1.2 ? "PASS" : "FAIL"}`);
+  return p;
+}
+
+console.log("LDLᵀ on trapezoidal KKT matrices (swing trolley, 3 states + 1 control); times in ms, best of repeated runs;");
+console.log("inertia = positive/negative/zero pivots (expected n/m/0, ! otherwise); reg = regularised pivots;");
+console.log("backward err = ‖b − Kx‖∞ / (‖K‖∞‖x‖∞ + ‖b‖∞) after the accepted refinement steps");
+const exponents = [
+  runTable({ label: "A. quasi-definite: δw = δc = 1e-8, no signs, 1 refinement step", deltaW: 1e-8, deltaC: 1e-8, signs: false, refinementSteps: 1 }),
+  runTable({ label: "B. unregularised: δw = δc = 0, signs given (constrained AMD + dynamic regularisation), up to 5 refinement steps", deltaW: 0, deltaC: 0, signs: true, refinementSteps: 5 }),
+];
 
 // AMD on a KKT matrix of about 200,000 rows
 {
   const N = quick ? 14284 : 28571;
-  const K = trolleyKkt(N);
-  const times: number[] = [];
-  let s!: SymmetricSolver;
-  for (let rep = 0; rep < 3; rep++) {
-    s = new SymmetricSolver(K.dim, K.rows, K.cols);
-    times.push(s.symbolicStats.orderingMs);
+  const K = trolleyKkt(N, 0, 0);
+  for (const signs of [false, true]) {
+    const options = signs ? { signs: kktSigns(K.nVar, K.nCon) } : {};
+    const times: number[] = [];
+    let s = new SymmetricSolver(K.dim, K.rows, K.cols, options);
+    for (let rep = 0; rep < 3; rep++) {
+      s = new SymmetricSolver(K.dim, K.rows, K.cols, options);
+      times.push(s.symbolicStats.orderingMs);
+    }
+    const nat = new SymmetricSolver(K.dim, K.rows, K.cols, { ordering: "natural" });
+    console.log(
+      `\nAMD${signs ? " (constrained)" : ""} on KKT dim ${K.dim}: ordering ${best(times).toFixed(1)} ms (best of 3), whole symbolic ${s.symbolicStats.totalMs.toFixed(1)} ms; ` +
+        `nnz(L) AMD ${s.nnzL} vs natural ${nat.nnzL} (ratio ${(nat.nnzL / s.nnzL).toFixed(2)})`,
+    );
   }
-  const nat = new SymmetricSolver(K.dim, K.rows, K.cols, { ordering: "natural" });
-  console.log(
-    `AMD on KKT dim ${K.dim}: ${median(times).toFixed(1)} ms (median of 3); nnz(L) AMD ${s.nnzL} vs natural ${nat.nnzL} (ratio ${(nat.nnzL / s.nnzL).toFixed(2)})`,
-  );
 }
+console.log(`\nsummary: factor-time exponents ${exponents.map((e) => e.toFixed(3)).join(", ")} (target < 1.2)`);

@@ -33,6 +33,17 @@ import type { CscPattern } from "./csc";
 export interface AmdOptions {
   /** α in the dense-row threshold max(16, α√n); a negative value disables dense-row removal. Default 10. */
   dense?: number;
+  /**
+   * Constrained nodes (Uint8Array(n), 1 = constrained), e.g. the constraint rows of a KKT matrix
+   * whose diagonal is (near) zero. A constrained node becomes eligible as a pivot only once it is
+   * adjacent to an element, i.e. after one of its neighbours in the filled graph has been eliminated,
+   * and within an elimination group it is ordered after the unconstrained nodes (the constrained
+   * minimum degree of Bridson, "An ordering method for the direct solution of saddle-point
+   * matrices", preprint, 2007: for a saddle-point matrix with a positive definite (1,1) block it
+   * gives an order in which LDLᵀ without pivoting meets no zero pivot). If only constrained nodes
+   * without elements remain, they are released and ordered as usual.
+   */
+  constrained?: Uint8Array;
 }
 
 export interface AmdInfo {
@@ -40,6 +51,8 @@ export interface AmdInfo {
   denseRows: number;
   /** Garbage collections of the quotient-graph array. */
   compressions: number;
+  /** Times the deferred constrained nodes had to be released because nothing else was left. */
+  releases?: number;
 }
 
 /** Encodes "absorbed into / child of j" in a pointer slot; flip(flip(j)) = j and flip(−1) = −1. */
@@ -53,6 +66,13 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
   const perm = new Int32Array(n);
   if (n === 0) return perm;
   const alpha = options.dense ?? 10;
+  const constrained = options.constrained ?? null;
+  if (constrained !== null && constrained.length !== n) {
+    throw new Error(`sparse/amd: options.constrained has length ${constrained.length}, expected ${n}`);
+  }
+  // deferred[i] = 1 while constrained node i waits, outside the degree lists, for its first element
+  const deferred = constrained === null ? null : Uint8Array.from(constrained);
+  let releases = 0;
   // a row adjacent to all others (degree n − 1) counts as dense too, unless removal is disabled
   const denseThreshold = alpha < 0 ? n : Math.min(n - 2, Math.max(16, Math.floor(alpha * Math.sqrt(n))));
 
@@ -118,6 +138,9 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
       pe[i] = flip(n);
       nv[n]++;
       denseRows++;
+      if (deferred !== null) deferred[i] = 0;
+    } else if (deferred !== null && deferred[i] === 1) {
+      // constrained: kept out of the degree lists until it joins some L_p
     } else {
       if (head[d] !== -1) last[head[d]] = i;
       next[i] = head[d];
@@ -134,6 +157,27 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
       p = head[mindeg];
       if (p !== -1) break;
     }
+    if (p === -1 && deferred !== null) {
+      // only constrained nodes without elements are left: release them
+      releases++;
+      mindeg = n;
+      for (let i = 0; i < n; i++) {
+        if (deferred[i] === 0) continue;
+        deferred[i] = 0;
+        if (nv[i] <= 0 || elen[i] < 0) continue;
+        const d = degree[i];
+        if (head[d] !== -1) last[head[d]] = i;
+        next[i] = head[d];
+        last[i] = -1;
+        head[d] = i;
+        if (d < mindeg) mindeg = d;
+      }
+      for (; mindeg < n; mindeg++) {
+        p = head[mindeg];
+        if (p !== -1) break;
+      }
+    }
+    if (p === -1) throw new Error(`sparse/amd: internal error, no pivot left with ${n - nel} nodes to order`);
     if (next[p] !== -1) last[next[p]] = -1;
     head[mindeg] = next[p];
     const elenp = elen[p];
@@ -189,10 +233,14 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
         dp += nvi;
         nv[i] = -nvi;
         iw[pk2++] = i;
-        // remove i from its degree list
-        if (next[i] !== -1) last[next[i]] = last[i];
-        if (last[i] !== -1) next[last[i]] = next[i];
-        else head[degree[i]] = next[i];
+        // remove i from its degree list (a deferred constrained node is in none)
+        if (deferred !== null && deferred[i] === 1) {
+          deferred[i] = 0;
+        } else {
+          if (next[i] !== -1) last[next[i]] = last[i];
+          if (last[i] !== -1) next[last[i]] = next[i];
+          else head[degree[i]] = next[i];
+        }
       }
       if (e !== p) {
         pe[e] = flip(p); // e absorbed into p
@@ -337,24 +385,49 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
   }
 
   // --- postorder of the assembly tree ---------------------------------------------------
-  for (let i = 0; i < n; i++) pe[i] = flip(pe[i]); // pe[i] = parent (−1 for roots)
-  for (let j = 0; j <= n; j++) head[j] = -1;
-  for (let j = n; j >= 0; j--) {
-    if (nv[j] > 0) continue; // variables absorbed into a supervariable or element
-    next[j] = head[pe[j]];
-    head[pe[j]] = j;
-  }
-  for (let e = n; e >= 0; e--) {
-    if (nv[e] <= 0) continue; // elements
-    if (pe[e] !== -1) {
-      next[e] = head[pe[e]];
-      head[pe[e]] = e;
+  // Parent links: flip back, so pe[i] is the parent (−1 for a root; the pseudo-element n is a root).
+  for (let i = 0; i < n; i++) pe[i] = flip(pe[i]);
+  // Elimination groups: an absorbed variable (nv = 0) is eliminated together with the element it
+  // ends in (supervariable members, mass-eliminated and dense rows); follow the links up to that
+  // element, compressing paths. Within a group any order gives the same fill.
+  const group = new Int32Array(n + 1);
+  for (let j = 0; j <= n; j++) group[j] = j === n || nv[j] > 0 ? j : -1;
+  for (let j = 0; j < n; j++) {
+    if (group[j] !== -1) continue;
+    let r = j;
+    while (group[r] === -1) r = pe[r];
+    const g = group[r];
+    for (let s = j; group[s] === -1; ) {
+      const up = pe[s];
+      group[s] = g;
+      s = up;
     }
   }
-  // depth-first postorder from every root (the dense pseudo-element n last); `last` is the stack
+  const memberHead = new Int32Array(n + 1).fill(-1);
+  const memberNext = new Int32Array(n + 1);
+  for (let j = n - 1; j >= 0; j--) {
+    if (group[j] === j) continue;
+    memberNext[j] = memberHead[group[j]];
+    memberHead[group[j]] = j;
+  }
+  // children lists of the elements (head/next reused)
+  for (let j = 0; j <= n; j++) head[j] = -1;
+  for (let e = n - 1; e >= 0; e--) {
+    if (group[e] !== e || pe[e] === -1) continue;
+    next[e] = head[pe[e]];
+    head[pe[e]] = e;
+  }
+  // depth-first postorder from every root, the pseudo-element n last; `last` is the stack.
+  // A finished element emits its group: unconstrained nodes first, then constrained ones.
   let k = 0;
+  const emitGroup = (e: number, wantConstrained: number) => {
+    if (e < n && (constrained === null ? 0 : constrained[e]) === wantConstrained) perm[k++] = e;
+    for (let j = memberHead[e]; j !== -1; j = memberNext[j]) {
+      if ((constrained === null ? 0 : constrained[j]) === wantConstrained) perm[k++] = j;
+    }
+  };
   for (let r = 0; r <= n; r++) {
-    if (pe[r] !== -1) continue;
+    if (group[r] !== r || pe[r] !== -1) continue;
     let top = 0;
     last[0] = r;
     while (top >= 0) {
@@ -362,7 +435,8 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
       const child = head[node];
       if (child === -1) {
         top--;
-        if (node < n) perm[k++] = node;
+        emitGroup(node, 0);
+        if (constrained !== null) emitGroup(node, 1);
       } else {
         head[node] = next[child];
         last[++top] = child;
@@ -373,6 +447,7 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
   if (info) {
     info.denseRows = denseRows;
     info.compressions = compressions;
+    info.releases = releases;
   }
   return perm;
 }

@@ -15,7 +15,7 @@
  * factor and solve allocate nothing except the small Inertia object returned by factor.
  */
 import { amdOrder, type AmdInfo } from "./amd";
-import { symmetricAdjacency, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
+import { symmetricAdjacency, symmetricNormInf, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
 import { eliminationTree } from "./etree";
 import {
   allocateLdlFactor,
@@ -41,6 +41,25 @@ export interface SymmetricSolverOptions {
   pivotTolerance?: number;
   /** Fill-reducing ordering. Default "amd". */
   ordering?: "amd" | "natural";
+  /**
+   * Expected pivot signs (Int8Array(n) of +1/−1), e.g. kktSigns(N, m) for [[W, Jᵀ], [J, −δc I]].
+   * When given: (1) the AMD ordering is constrained so that a −1 node is eliminated only after one
+   * of its neighbours (amd.ts, `constrained`); (2) a pivot with |d| ≤ pivotTolerance is replaced by
+   * sign·regularization instead of being a zero pivot (ldl.ts); refinement in solve() is done
+   * against the unregularised matrix. Then `zero` counts only NaN pivots, and `regularized` the
+   * replaced ones.
+   */
+  signs?: Int8Array;
+  /** δ of the signed dynamic regularisation. Default 1e-8 (common practice, no source). */
+  regularization?: number;
+}
+
+/** Expected signs of the pivots of a KKT matrix with N primal rows first and m constraint rows after. */
+export function kktSigns(N: number, m: number): Int8Array {
+  const s = new Int8Array(N + m);
+  s.fill(1, 0, N);
+  s.fill(-1, N, N + m);
+  return s;
 }
 
 /** Timings (milliseconds) and sizes of the symbolic analysis, for statistics and benchmarks. */
@@ -53,6 +72,10 @@ export interface SymbolicStats {
 
 /** Default pivot tolerance: common practice, no source (about 1e3·ε for a matrix scaled to O(1) entries). */
 const DEFAULT_PIVOT_TOLERANCE = 1e-13;
+/** Default δ of the signed dynamic regularisation (common practice, no source). */
+const DEFAULT_REGULARIZATION = 1e-8;
+/** Refinement stops once the backward error is below this multiple of ε = 2⁻⁵² (common practice, no source). */
+const REFINEMENT_STOP = 4 * Number.EPSILON;
 
 export class SymmetricSolver implements SymmetricSolverLike {
   readonly n: number;
@@ -63,6 +86,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
   readonly pinv: Int32Array;
   /** ‖b − A x‖∞ after the last solve (NaN before any solve). */
   lastResidual = NaN;
+  /** ‖b − A x‖∞ / (‖A‖∞ ‖x‖∞ + ‖b‖∞) after the last solve: the normwise backward error. */
+  lastRelativeResidual = NaN;
   /** Refinement steps accepted in the last solve. */
   lastRefinementSteps = 0;
 
@@ -74,6 +99,10 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private readonly fac: LdlFactor;
   private readonly ws: LdlWorkspace;
   private readonly pivotTolerance: number;
+  private readonly signsPermuted: Int8Array | null;
+  private readonly regularization: number;
+  /** ‖A‖∞ of the last factored matrix. */
+  private normA = 0;
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
   private factored = false;
   // solve() workspaces, length n
@@ -91,13 +120,25 @@ export class SymmetricSolver implements SymmetricSolverLike {
     this.pivotTolerance = options.pivotTolerance ?? DEFAULT_PIVOT_TOLERANCE;
     if (!(this.pivotTolerance >= 0)) throw new Error(`${where}: options.pivotTolerance must be ≥ 0, got ${options.pivotTolerance}`);
 
+    const signs = options.signs ?? null;
+    if (signs !== null) {
+      if (signs.length !== n) throw new Error(`${where}: options.signs has length ${signs.length}, expected ${n}`);
+      for (let i = 0; i < n; i++) {
+        if (signs[i] !== 1 && signs[i] !== -1) throw new Error(`${where}: options.signs[${i}] = ${signs[i]}, expected +1 or −1`);
+      }
+    }
+    this.regularization = options.regularization ?? DEFAULT_REGULARIZATION;
+    if (signs !== null && !(this.regularization > this.pivotTolerance)) {
+      throw new Error(`${where}: options.regularization (${this.regularization}) must exceed the pivot tolerance (${this.pivotTolerance})`);
+    }
     const ordering = options.ordering ?? "amd";
     if (ordering !== "amd" && ordering !== "natural") throw new Error(`${where}: options.ordering must be "amd" or "natural", got ${String(ordering)}`);
     const tOrder = performance.now();
     const info: AmdInfo = { denseRows: 0, compressions: 0 };
     let perm: Int32Array;
     if (ordering === "amd") {
-      perm = amdOrder(symmetricAdjacency(A), {}, info);
+      const constrained = signs === null ? undefined : Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
+      perm = amdOrder(symmetricAdjacency(A), { constrained }, info);
     } else {
       perm = new Int32Array(n);
       for (let k = 0; k < n; k++) perm[k] = k;
@@ -107,6 +148,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     for (let k = 0; k < n; k++) pinv[perm[k]] = k;
     this.perm = perm;
     this.pinv = pinv;
+    this.signsPermuted = signs === null ? null : Int8Array.from(perm, (old) => signs[old]);
 
     const { C, slotMap } = symmetricPermute(A, pinv);
     this.C = C;
@@ -142,10 +184,11 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const slot = this.slot;
     Cx.fill(0);
     for (let t = 0; t < this.nT; t++) Cx[slot[t]] += values[t];
-    ldlNumeric(this.C, Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork);
+    ldlNumeric(this.C, Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork, this.signsPermuted, this.regularization);
+    this.normA = symmetricNormInf(this.C, Cx, this.xt);
     this.factored = true;
-    const { ok, positive, negative, zero } = this.inertiaWork;
-    return { ok, positive, negative, zero };
+    const { ok, positive, negative, zero, regularized } = this.inertiaWork;
+    return this.signsPermuted === null ? { ok, positive, negative, zero } : { ok, positive, negative, zero, regularized };
   }
 
   /**
@@ -164,8 +207,15 @@ export class SymmetricSolver implements SymmetricSolverLike {
     xp.set(bp);
     ldlSolveInPlace(sym, fac, xp);
     let res = symmetricResidual(C, Cx, xp, bp, r);
+    let normB = 0;
+    for (let k = 0; k < n; k++) normB = Math.max(normB, Math.abs(bp[k]));
+    const scale = (v: Float64Array) => {
+      let m = 0;
+      for (let k = 0; k < n; k++) m = Math.max(m, Math.abs(v[k]));
+      return this.normA * m + normB;
+    };
     let accepted = 0;
-    for (let step = 0; step < refinementSteps && res > 0; step++) {
+    for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * scale(xp); step++) {
       ldlSolveInPlace(sym, fac, r); // r ← correction
       for (let k = 0; k < n; k++) xt[k] = xp[k] + r[k];
       const resTrial = symmetricResidual(C, Cx, xt, bp, r);
@@ -178,6 +228,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     }
     for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
     this.lastResidual = res;
+    const denom = scale(xp);
+    this.lastRelativeResidual = denom > 0 ? res / denom : res;
     this.lastRefinementSteps = accepted;
   }
 }

@@ -17,6 +17,14 @@
  * symmetric quasi-definite matrix [[H, Jᵀ], [J, −C]] with H ≻ 0, C ≻ 0, in any symmetric order
  * (Vanderbei, "Symmetric quasidefinite matrices", SIAM J. Optim. 5(1), 1995, Theorem 2.1).
  *
+ * Signed dynamic regularisation (optional, `signs` given, s_k = ±1 the expected sign of pivot k):
+ * a pivot with |d_k| ≤ pivotTolerance is replaced by s_k·δ (δ = `regularization`). Changing d_k
+ * by Δ is the exact factorisation of A + Δ e_k e_kᵀ, so the factor is that of A + E with E diagonal
+ * and |E_kk| ≤ δ + pivotTolerance; iterative refinement against A then removes E's effect
+ * (Altman and Gondzio, "Regularized symmetric indefinite systems in interior point methods for
+ * linear and quadratic optimization", Optim. Methods Softw. 11, 1999; Goulart and Chen, "Clarabel:
+ * an interior-point solver for conic programs with quadratic objectives", arXiv:2405.12762, 2024).
+ *
  * Sizes: A upper-stored CSC (n, colPtr n+1, rowIdx/values nnz(A)); L strictly lower, column-stored:
  * Lp Int32Array(n+1), Li Int32Array(nnz(L)), Lx Float64Array(nnz(L)); D, Dinv Float64Array(n).
  */
@@ -89,6 +97,8 @@ export function ldlNumeric(
   ws: LdlWorkspace,
   pivotTolerance: number,
   inertia: Inertia,
+  signs: Int8Array | null = null,
+  regularization = 0,
 ): Inertia {
   const { n, colPtr: Ap, rowIdx: Ai } = A;
   const { parent: etree, Lp } = sym;
@@ -97,6 +107,7 @@ export function ldlNumeric(
   let positive = 0;
   let negative = 0;
   let zero = 0;
+  let regularized = 0;
 
   for (let i = 0; i < n; i++) {
     yMarkers[i] = 0;
@@ -147,6 +158,11 @@ export function ldlNumeric(
       yVals[c] = 0;
       yMarkers[c] = 0;
     }
+    if (signs !== null && Math.abs(dk) <= pivotTolerance) {
+      // signed dynamic regularisation: a tiny pivot takes its expected sign (NaN stays a zero pivot)
+      dk = signs[k] * regularization;
+      regularized++;
+    }
     D[k] = dk;
 
     if (dk > pivotTolerance) {
@@ -164,6 +180,7 @@ export function ldlNumeric(
   inertia.positive = positive;
   inertia.negative = negative;
   inertia.zero = zero;
+  inertia.regularized = regularized;
   return inertia;
 }
 

@@ -1,6 +1,9 @@
 /**
  * Contract of the sparse symmetric indefinite solver used by the interior-point method.
- * Implemented in sparse/ldl.ts (LDLᵀ, no pivoting, AMD ordering) — see that file.
+ * Implemented by SymmetricSolver in sparse/index.ts (LDLᵀ without pivoting, AMD ordering) — see
+ * sparse/ldl.ts. For a KKT matrix pass `signs` (+1 for the primal rows, −1 for the constraint rows,
+ * see kktSigns) so that zero pivots caused by the zero (2,2) block are avoided by the ordering and,
+ * where still tiny, regularised and corrected by refinement (DEVELOPERS.md, Decisions).
  *
  *   const s = new SymmetricSolver(n, rows, cols)   // symbolic analysis once per pattern
  *   const inertia = s.factor(values)               // numeric factorisation, values in triplet order
@@ -15,6 +18,11 @@ export interface Inertia {
   positive: number;
   negative: number;
   zero: number;
+  /**
+   * Pivots replaced by signed dynamic regularisation (only when the solver was given expected
+   * signs); they are counted in positive/negative by their expected sign. Absent or 0 otherwise.
+   */
+  regularized?: number;
 }
 
 export interface SymmetricSolverLike {
