@@ -18,7 +18,7 @@ import type { SolverFactory } from "./kkt";
 export type { NlpOptions, NlpProblem, NlpResult, NlpStatus, IterationRecord } from "./types";
 export { OPTION_SPECS } from "./options";
 
-const defaultFactory: SolverFactory = (n, rows, cols) => new SymmetricSolver(n, rows, cols);
+const defaultFactory: SolverFactory = (n, rows, cols) => new SymmetricSolver(n, rows, cols, { pivotTolerance: 1e-20 });
 
 /** Structural checks of the problem; returns a message naming the field and position, or null. */
 function validate(p: NlpProblem): { status: NlpStatus; message: string } | null {
