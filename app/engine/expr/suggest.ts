@@ -5,7 +5,8 @@
  * deletions, substitutions and transpositions of adjacent characters each cost 1
  * (Damerau, "A technique for computer detection and correction of spelling errors",
  * CACM 7(3), 1964). A candidate is suggested when its distance is at most
- * max(1, ⌊len/3⌋) (common practice, no source), ties broken by list order.
+ * max(1, ⌊len/3⌋) and smaller than the longer name's length (so 'm' does not suggest 't')
+ * (common practice, no source), ties broken by list order; a case-insensitive match wins.
  */
 export function osaDistance(a: string, b: string): number {
   const n = a.length;
@@ -60,5 +61,7 @@ export function nearestName(name: string, candidates: Iterable<string>): string 
       best = c;
     }
   }
-  return bestD <= limit ? best : undefined;
+  // a single-letter name is one edit from every other single letter: require that fewer
+  // characters change than the longer of the two names has
+  return best !== undefined && bestD <= limit && bestD < Math.max(folded.length, best.length) ? best : undefined;
 }

@@ -197,12 +197,12 @@ class ProblemCompiler {
       }
     }
     const value = valueAt(raw, path);
-    if (value === undefined && issue.code === "invalid_type") {
+    if (value === undefined && (issue.code === "invalid_type" || issue.code === "invalid_union")) {
       const last = path[path.length - 1];
       this.err(path.slice(0, -1), `missing required field '${String(last)}'`);
       return;
     }
-    this.err(path, issue.message);
+    this.err(path, issue.message.replace(/^Invalid input: /, ""));
   }
 
   // ---------------------------------------------------------------- semantic checks and build
@@ -385,8 +385,9 @@ class ProblemCompiler {
         }
         if (lower > upper) this.err(path, `contradictory bounds: lower ${lower} > upper ${upper}`);
         const sb = stateInfo[i];
-        if (upper < sb.lower || lower > sb.upper) {
-          this.err(path, `${which} value of '${name}' [${lower}, ${upper}] lies outside the state's bounds [${sb.lower}, ${sb.upper}]`);
+        if (sb.lower <= sb.upper && (upper < sb.lower || lower > sb.upper)) {
+          const what = lower === upper ? `${which} value ${lower}` : `${which} range [${lower}, ${upper}]`;
+          this.err(path, `${what} of '${name}' lies outside the state's bounds [${sb.lower}, ${sb.upper}]`);
         }
         endRanges[which][i] = { lower, upper };
         stateUsedByCondition.add(name);
@@ -506,9 +507,8 @@ class ProblemCompiler {
     });
     let guessTf = horizon.kind === "fixed" ? horizon.tf : horizon.guess;
     if (guessSpec.kind === "trajectory") {
-      const table = this.csvFile(this.files.guessCsv, guessSpec.file, ["guess", "file"]);
+      const table = this.csvChecked(this.files.guessCsv, guessSpec.file, ["guess", "file"], stateNames, controlNames, false);
       if (table) {
-        this.checkColumns(table, guessSpec.file, stateNames, controlNames, false);
         const t = table.columns[0];
         const span = t[t.length - 1] - t[0];
         const tau = t.map((x) => (x - t[0]) / span);
@@ -579,9 +579,8 @@ class ProblemCompiler {
       reference.arcs = [...ref.arcs];
     }
     if (ref.trajectory) {
-      const table = this.csvFile(this.files.referenceCsv, ref.trajectory.file, ["reference", "trajectory", "file"]);
+      const table = this.csvChecked(this.files.referenceCsv, ref.trajectory.file, ["reference", "trajectory", "file"], stateNames, controlNames, true);
       if (table) {
-        this.checkColumns(table, ref.trajectory.file, stateNames, controlNames, true);
         const columns: Record<string, Float64Array> = {};
         table.header.forEach((h, k) => {
           if (k > 0) columns[h] = table.columns[k];
@@ -714,6 +713,14 @@ class ProblemCompiler {
     const table = parseTrajectoryCsv(text, label, errs);
     this.errors.push(...errs);
     return table;
+  }
+
+  /** A CSV table whose header and rows are valid, after the column check. */
+  private csvChecked(text: string | undefined, name: string, path: Seg[], states: string[], controls: string[], reference: boolean): CsvTable | null {
+    const table = this.csvFile(text, name, path);
+    if (!table) return null;
+    this.checkColumns(table, name, states, controls, reference);
+    return table.valid ? table : null;
   }
 
   /** Header check: t, every state (reference) or any states (guess), optional controls and costates. */

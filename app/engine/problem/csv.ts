@@ -12,6 +12,8 @@ export interface CsvTable {
   headerLine: number;
   /** Column of each header entry, 1-based character position (for messages). */
   headerColumns: number[];
+  /** False when a row had errors (reported): then only the header may be used. */
+  valid: boolean;
   /** columns[k] holds the values of header[k]. */
   columns: Float64Array[];
 }
@@ -19,6 +21,7 @@ export interface CsvTable {
 /** At most this many rows (a bound on hostile input; 10⁶ rows ≈ a 4th-order fine mesh many times over). */
 export const MAX_CSV_ROWS = 1_000_000;
 
+/** Parses the table; null only when there is no header. Check `valid` before using the values. */
 export function parseTrajectoryCsv(text: string, file: string, errors: ProblemError[]): CsvTable | null {
   const before = errors.length;
   const lines = text.split(/\r?\n/);
@@ -81,8 +84,13 @@ export function parseTrajectoryCsv(text: string, file: string, errors: ProblemEr
   if (rows < 2 && errors.length === before) {
     errors.push({ file, path: `line ${headerLine + 1}`, message: "at least two rows of values are needed" });
   }
-  if (errors.length > before) return null;
-  return { header, headerLine: headerLine + 1, headerColumns, columns: values.map((v) => Float64Array.from(v)) };
+  return {
+    header,
+    headerLine: headerLine + 1,
+    headerColumns,
+    valid: errors.length === before,
+    columns: values.map((v) => Float64Array.from(v)),
+  };
 }
 
 function splitCells(line: string): { text: string; column: number }[] {
