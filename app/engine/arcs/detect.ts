@@ -49,6 +49,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
   const affine = controlAffine(problem, samplePoints(problem, sol));
   const constraints = constraintDistances(problem, sol, opt.activeTol);
   let sigma = switchingFunctions(problem, sol);
+  let lambdaSign: 1 | -1 | 0 = 0;
   const minDuration = opt.minFraction * (sol.tf - sol.t0);
 
   // Costate sign convention: decided on the first bounded affine control's bang points.
@@ -62,6 +63,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
         constraints: [], boundTol: opt.boundTol, switchTol: opt.switchTol,
       });
       const s = costateSign(plain, sigma0[j], opt.switchTol);
+      lambdaSign = s;
       if (s === -1) {
         notes.push("costate estimates have the opposite sign convention; negated");
         sigma = switchingFunctions(problem, sol, -1);
@@ -103,5 +105,5 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
     controls.push({ control: c.name, arcs, junctions });
   }
   if (!affine.every((a) => !a) && !sigma) notes.push("no costate estimates: singular arcs recognised from control values only");
-  return { controls, signature: structureSignature(controls), usedSwitchingFunction: sigma !== null, notes };
+  return { controls, signature: structureSignature(controls), usedSwitchingFunction: sigma !== null, costateSign: lambdaSign, notes };
 }

@@ -36,6 +36,11 @@ export interface ArcStructure {
   signature: string;
   /** Whether a switching function from costate estimates was used. */
   usedSwitchingFunction: boolean;
+  /**
+   * Sign that makes the scheme's costate estimates follow H = s·L + λᵀf (−1 when the bang
+   * points disagreed with the switching function's sign), 0 when it could not be decided.
+   */
+  costateSign: 1 | -1 | 0;
   /** Short notes about choices made (e.g. costate sign flipped, control treated as affine). */
   notes: string[];
 }

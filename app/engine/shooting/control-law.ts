@@ -1,0 +1,177 @@
+/**
+ * The control on one arc as a function of (t, x, λ), by arc kind per control
+ * (Bryson and Ho 1975, §3.8–3.11, §8.3):
+ *   lower / upper:  the bound value;
+ *   interior:       the stationary point ∂H̃/∂u_j = 0 (pointwise Newton);
+ *   singular:       σ_j⁽²ᵖ⁾(t, x, λ, u) = 0 (affine in u_j: Newton converges in one step);
+ *   boundary:       S⁽ᵖ⁾(t, x, u) = 0 together with ∂H̃/∂u_j = 0, which gives the multiplier η.
+ * The unknowns q = (non-bang controls, η on a boundary arc) solve the square system above by
+ * Newton's method with a forward-difference Jacobian (tolerance 1e-14 relative on q), started from
+ * the direct solution's control at t clamped to the bounds, so that the law is a deterministic
+ * function of (t, x, λ).
+ */
+import type { ArcKind } from "../arcs/types";
+import type { ConstraintDerivatives, OptimalityConditions, SingularDerivatives } from "./conditions";
+
+export interface ArcControlSpec {
+  kinds: ArcKind[];
+  /** On a boundary arc: the constraint's derivatives. */
+  constraint: ConstraintDerivatives | null;
+  /** Singular derivatives of each control marked singular (null elsewhere). */
+  singular: (SingularDerivatives | null)[];
+}
+
+/** Guess of the controls at time t (writes nu values). */
+export type ControlGuess = (t: number, out: Float64Array) => void;
+
+const MAX_NEWTON = 40;
+
+export class ArcControlLaw {
+  private readonly oc: OptimalityConditions;
+  private readonly spec: ArcControlSpec;
+  private readonly guess: ControlGuess;
+  private readonly free: number[];
+  private readonly nq: number;
+  private readonly q: Float64Array;
+  private readonly r: Float64Array;
+  private readonly rp: Float64Array;
+  private readonly J: Float64Array;
+  private readonly dq: Float64Array;
+  private readonly ug: Float64Array;
+  private readonly huBuf: Float64Array;
+  private readonly spBuf: Float64Array;
+  private readonly sgBuf: Float64Array[];
+
+  constructor(oc: OptimalityConditions, spec: ArcControlSpec, guess: ControlGuess) {
+    this.oc = oc;
+    this.spec = spec;
+    this.guess = guess;
+    this.free = [];
+    spec.kinds.forEach((k, j) => {
+      if (k !== "lower" && k !== "upper") this.free.push(j);
+    });
+    this.nq = this.free.length + (spec.constraint ? 1 : 0);
+    this.q = new Float64Array(this.nq);
+    this.r = new Float64Array(this.nq);
+    this.rp = new Float64Array(this.nq);
+    this.J = new Float64Array(this.nq * this.nq);
+    this.dq = new Float64Array(this.nq);
+    this.ug = new Float64Array(oc.nu);
+    this.huBuf = new Float64Array(oc.nu);
+    this.spBuf = new Float64Array(spec.constraint ? spec.constraint.order + 1 : 0);
+    this.sgBuf = spec.singular.map((s) => new Float64Array(s ? 2 * s.order + 1 : 0));
+  }
+
+  /** Whether the arc has any control to solve for. */
+  get trivial(): boolean {
+    return this.nq === 0;
+  }
+
+  private residual(w: Float64Array, out: Float64Array): void {
+    const { oc, spec, free } = this;
+    const hu = spec.constraint ? spec.constraint.hu : oc.hu;
+    hu.eval(w, this.huBuf);
+    for (let a = 0; a < free.length; a++) {
+      const j = free[a];
+      const s = spec.singular[j];
+      if (spec.kinds[j] === "singular" && s) {
+        const buf = this.sgBuf[j];
+        s.fn.eval(w, buf);
+        out[a] = buf[buf.length - 1];
+      } else {
+        out[a] = this.huBuf[j];
+      }
+    }
+    if (spec.constraint) {
+      spec.constraint.fn.eval(w, this.spBuf);
+      out[free.length] = this.spBuf[this.spBuf.length - 1];
+    }
+  }
+
+  private load(w: Float64Array, q: Float64Array): void {
+    const { oc, free } = this;
+    for (let a = 0; a < free.length; a++) w[oc.iU + free[a]] = q[a];
+    w[oc.iEta] = this.spec.constraint ? q[free.length] : 0;
+  }
+
+  /**
+   * Fills w = [t, x, u, λ, η] given w's t, x and λ entries; returns false when Newton fails.
+   */
+  solve(w: Float64Array): boolean {
+    const { oc, spec, free, nq, q, r, rp, J, dq } = this;
+    const controls = oc.problem.controls;
+    this.guess(w[0], this.ug);
+    for (let j = 0; j < oc.nu; j++) {
+      const k = spec.kinds[j];
+      if (k === "lower") w[oc.iU + j] = controls[j].lower;
+      else if (k === "upper") w[oc.iU + j] = controls[j].upper;
+      else w[oc.iU + j] = Math.min(controls[j].upper, Math.max(controls[j].lower, this.ug[j]));
+    }
+    w[oc.iEta] = 0;
+    if (nq === 0) return true;
+    for (let a = 0; a < free.length; a++) q[a] = w[oc.iU + free[a]];
+    if (spec.constraint) q[free.length] = 0;
+    for (let it = 0; it < MAX_NEWTON; it++) {
+      this.load(w, q);
+      this.residual(w, r);
+      if (!r.every(Number.isFinite)) return false;
+      for (let b = 0; b < nq; b++) {
+        const h = 1e-7 * (1 + Math.abs(q[b]));
+        const keep = q[b];
+        q[b] = keep + h;
+        this.load(w, q);
+        this.residual(w, rp);
+        q[b] = keep;
+        for (let a = 0; a < nq; a++) J[a * nq + b] = (rp[a] - r[a]) / h;
+      }
+      for (let a = 0; a < nq; a++) dq[a] = -r[a];
+      if (!solveDense(J, dq, nq)) return false;
+      let big = 0;
+      for (let a = 0; a < nq; a++) {
+        q[a] += dq[a];
+        big = Math.max(big, Math.abs(dq[a]) / (1 + Math.abs(q[a])));
+      }
+      if (big <= 1e-14) {
+        this.load(w, q);
+        return true;
+      }
+    }
+    this.load(w, q);
+    // Accept a stalled iteration whose residual is at rounding level.
+    this.residual(w, r);
+    let rn = 0;
+    for (const v of r) rn = Math.max(rn, Math.abs(v));
+    return rn <= 1e-12;
+  }
+}
+
+/** In-place Gaussian elimination with partial pivoting: A (n×n, row-major) x = b; b ← x. */
+export function solveDense(A: Float64Array, b: Float64Array, n: number): boolean {
+  for (let c = 0; c < n; c++) {
+    let p = c;
+    for (let r = c + 1; r < n; r++) if (Math.abs(A[r * n + c]) > Math.abs(A[p * n + c])) p = r;
+    if (!(Math.abs(A[p * n + c]) > 0)) return false;
+    if (p !== c) {
+      for (let k = 0; k < n; k++) {
+        const t = A[c * n + k];
+        A[c * n + k] = A[p * n + k];
+        A[p * n + k] = t;
+      }
+      const t = b[c];
+      b[c] = b[p];
+      b[p] = t;
+    }
+    for (let r = c + 1; r < n; r++) {
+      const m = A[r * n + c] / A[c * n + c];
+      if (m === 0) continue;
+      for (let k = c; k < n; k++) A[r * n + k] -= m * A[c * n + k];
+      b[r] -= m * b[c];
+    }
+  }
+  for (let c = n - 1; c >= 0; c--) {
+    let s = b[c];
+    for (let k = c + 1; k < n; k++) s -= A[c * n + k] * b[k];
+    b[c] = s / A[c * n + c];
+  }
+  return true;
+}

@@ -1,0 +1,97 @@
+/**
+ * From the detected per-control arc sequences (app/engine/arcs) to one combined sequence for
+ * shooting: junctions of all controls are pooled, junctions closer than `mergeGap` are taken as one
+ * (their mean), and each combined arc records the kind of every control at its midpoint. On a
+ * boundary arc the first control labelled "boundary" carries the constraint; others labelled
+ * "boundary" become "interior" (they solve ∂H̃/∂u = 0 with the same H̃).
+ */
+import type { ArcKind, ArcStructure } from "../arcs/types";
+import type { CompiledProblem } from "../problem/types";
+import type { Solution } from "../schemes/types";
+import type { ConstraintSide } from "./conditions";
+import type { ShootingArc } from "./multiple-shooting";
+
+export interface CombinedStructure {
+  arcs: ShootingArc[];
+  junctions: number[];
+}
+
+/** Which side of the named constraint is active at time t of the direct solution. */
+export function constraintSide(problem: CompiledProblem, sol: Solution, name: string, t: number): ConstraintSide {
+  const { nx, nu } = problem;
+  const x = new Float64Array(nx);
+  const u = new Float64Array(nu);
+  sol.stateAt(t, x);
+  sol.controlAt(t, u);
+  const pick = (value: number, lower: number, upper: number, source: number): ConstraintSide => {
+    const dl = Number.isFinite(lower) ? Math.abs(value - lower) : Infinity;
+    const du = Number.isFinite(upper) ? Math.abs(value - upper) : Infinity;
+    return du <= dl ? { name, side: 1, bound: upper, source } : { name, side: -1, bound: lower, source };
+  };
+  const m = problem.pathInfo.findIndex((c) => c.name === name);
+  if (m >= 0) {
+    const z = new Float64Array(1 + nx + nu);
+    z[0] = t;
+    z.set(x, 1);
+    z.set(u, 1 + nx);
+    const c = new Float64Array(problem.pathInfo.length);
+    problem.path.eval(z, c);
+    return pick(c[m], problem.pathInfo[m].lower, problem.pathInfo[m].upper, m);
+  }
+  const i = problem.states.findIndex((s) => s.name === name);
+  if (i < 0) throw new Error(`shooting (${problem.id}): arc constraint '${name}' is neither a path constraint nor a state`);
+  return pick(x[i], problem.states[i].lower, problem.states[i].upper, -1 - i);
+}
+
+export function combineStructure(problem: CompiledProblem, sol: Solution, s: ArcStructure, mergeGap: number): CombinedStructure {
+  const all = s.controls.flatMap((c) => c.junctions).sort((a, b) => a - b);
+  const junctions: number[] = [];
+  let cluster: number[] = [];
+  for (const t of all) {
+    if (cluster.length && t - cluster[cluster.length - 1] > mergeGap) {
+      junctions.push(cluster.reduce((a, b) => a + b, 0) / cluster.length);
+      cluster = [];
+    }
+    cluster.push(t);
+  }
+  if (cluster.length) junctions.push(cluster.reduce((a, b) => a + b, 0) / cluster.length);
+  const T = [sol.t0, ...junctions, sol.tf];
+  const arcs: ShootingArc[] = [];
+  const times: number[] = [];
+  for (let a = 0; a + 1 < T.length; a++) {
+    const mid = 0.5 * (T[a] + T[a + 1]);
+    let constraintName: string | null = null;
+    const kinds: ArcKind[] = s.controls.map((c) => {
+      const arc = c.arcs.find((q) => q.t0 <= mid && mid <= q.t1) ?? c.arcs[c.arcs.length - 1];
+      if (arc.kind === "boundary") {
+        if (constraintName === null) {
+          constraintName = arc.constraint ?? null;
+          return "boundary";
+        }
+        return "interior";
+      }
+      return arc.kind;
+    });
+    const constraint = constraintName !== null ? constraintSide(problem, sol, constraintName, mid) : null;
+    const prev = arcs[arcs.length - 1];
+    if (prev && prev.kinds.every((k, j) => k === kinds[j]) && (prev.constraint?.name ?? null) === (constraint?.name ?? null)) continue;
+    if (arcs.length > 0) times.push(T[a]);
+    arcs.push({ kinds, constraint });
+  }
+  return { arcs, junctions: times };
+}
+
+/** Signature of a combined sequence, in the form of app/engine/arcs signatures. */
+export function combinedSignature(problem: CompiledProblem, arcs: ShootingArc[]): string {
+  const label = (arc: ShootingArc, j: number) =>
+    arc.kinds[j] === "boundary" && arc.constraint ? `boundary:${arc.constraint.name}` : arc.kinds[j];
+  const perControl = problem.controls.map((_, j) => {
+    const seq: string[] = [];
+    for (const arc of arcs) {
+      const l = label(arc, j);
+      if (seq[seq.length - 1] !== l) seq.push(l);
+    }
+    return seq.join("|");
+  });
+  return problem.nu === 1 ? perControl[0] : problem.controls.map((c, j) => `${c.name}=${perControl[j]}`).join(";");
+}
