@@ -1,0 +1,624 @@
+/**
+ * Sparse NLP assembly shared by every transcription (schemes/<id>.ts describe WHAT is collocated,
+ * this module computes values, Jacobians and Lagrangian Hessians of it).
+ *
+ * Every scheme in Arcwatch writes its NLP in one form. With physical decision vector X ∈ ℝⁿ and
+ * the time span T = tf − t0 (a constant, or X[tfVar] − t0 when the final time is free):
+ *
+ *   site s:      z_s = c_s + A_s X                  (an affine input map of a PointFunction F_s;
+ *                                                   z = [t, x, u] or e = [t0, x0, tf, xf])
+ *   row r:       g_r(X) = Σ_j a_rj X_j + Σ_(s,i,w)∈terms(r) w · T^{σ_s} · F_s,i(z_s)
+ *   objective:   f(X)   =                 Σ_(s,i,w)∈terms(obj) w · T^{σ_s} · F_s,i(z_s)
+ *
+ * where σ_s = 1 for sites whose outputs are time-scaled (dynamics and running cost, because
+ * dx/dτ = T f on the normalised time τ ∈ [0, 1]) and 0 otherwise (path and endpoint functions).
+ * Collocation defects, quadratures, path and endpoint constraints are all of this form; so is RK4
+ * multiple shooting in its lifted form (stage states as variables, see rk4-shooting.ts).
+ *
+ * Derivatives (A_s is constant, so the only second-order terms besides ∇²F are the T·F products):
+ *   ∂g_r/∂X_j  = a_rj + Σ w T^σ (∇F_s,i A_s)_j + [σ=1, j = tfVar] Σ w F_s,i
+ *   ∇²(Σ_r λ_r g_r + σ_f f) = Σ_s A_sᵀ (Σ_i T^σ ω_s,i ∇²F_s,i) A_s
+ *                           + Σ_(σ_s = 1) (e_tf ⊗ (Σ_i ω_s,i ∇F_s,i A_s) + transpose)
+ *   with ω_s,i = Σ_(terms (s,i,r,w)) w · λ_r  (objective terms use σ_f).
+ * All index maps (triplet → slot) are computed once in the constructor; evaluation is a few flat
+ * loops over Float64Array workspaces.
+ *
+ * Scaling: the NLP variable is y = X / d (d = variable scale hints) and row r is divided by
+ * ρ_r, so the NLP sees g̃ = g/ρ, J̃_rj = J_rj d_j / ρ_r, H̃_pq = H_pq d_p d_q with λ_r = λ̃_r / ρ_r.
+ */
+import type { PointFunction } from "../problem/types";
+import type { NlpProblem } from "../nlp/types";
+
+/** One affine input z_k = c + Σ coefs[q] · X[vars[q]]. */
+export interface AffineInput {
+  c: number;
+  vars: number[];
+  coefs: number[];
+}
+
+export interface SiteSpec {
+  fn: PointFunction;
+  /** Length fn.nIn. */
+  inputs: AffineInput[];
+  /** Outputs multiplied by T = tf − t0. */
+  timeScaled: boolean;
+}
+
+/** Contribution w · T^σ · F_site,comp(z) to a row (row ≥ 0) or to the objective (row = −1). */
+export interface SiteTerm {
+  site: number;
+  comp: number;
+  row: number;
+  weight: number;
+}
+
+export interface LinearEntry {
+  row: number;
+  var: number;
+  coef: number;
+}
+
+export interface AssemblySpec {
+  n: number;
+  xL: Float64Array;
+  xU: Float64Array;
+  /** Variable scale hints d (X = d ⊙ y). */
+  varScale: Float64Array;
+  /** Starting point, physical units. */
+  x0: Float64Array;
+  m: number;
+  gL: Float64Array;
+  gU: Float64Array;
+  /** Row scale ρ; 0 means "choose from the Jacobian at x0" (max_j |J_rj d_j|, clamped to [1e-6, 1e6]). */
+  rowScale: Float64Array;
+  sites: SiteSpec[];
+  terms: SiteTerm[];
+  linear: LinearEntry[];
+  t0: number;
+  /** Index of the final-time variable, or −1 when the horizon is fixed (then T = fixedSpan). */
+  tfVar: number;
+  fixedSpan: number;
+  variableName?: (i: number) => string;
+  constraintName?: (j: number) => string;
+}
+
+/** Growable typed arrays for the precomputed contribution lists. */
+class IntList {
+  a = new Int32Array(64);
+  n = 0;
+  push(v: number): void {
+    if (this.n === this.a.length) {
+      const b = new Int32Array(this.a.length * 2);
+      b.set(this.a);
+      this.a = b;
+    }
+    this.a[this.n++] = v;
+  }
+  done(): Int32Array {
+    return this.a.slice(0, this.n);
+  }
+}
+class NumList {
+  a = new Float64Array(64);
+  n = 0;
+  push(v: number): void {
+    if (this.n === this.a.length) {
+      const b = new Float64Array(this.a.length * 2);
+      b.set(this.a);
+      this.a = b;
+    }
+    this.a[this.n++] = v;
+  }
+  done(): Float64Array {
+    return this.a.slice(0, this.n);
+  }
+}
+
+/** Contributions value[slot[k]] += coef[k] · src[idx[k]] (· T when scaled). */
+interface Contrib {
+  slot: Int32Array;
+  src: Int32Array;
+  coef: Float64Array;
+}
+function contribOf(slot: IntList, src: IntList, coef: NumList): Contrib {
+  return { slot: slot.done(), src: src.done(), coef: coef.done() };
+}
+
+export class Assembly {
+  readonly spec: AssemblySpec;
+  readonly n: number;
+  readonly m: number;
+  /** Final row scales ρ. */
+  readonly rowScale: Float64Array;
+  readonly jacRows: Int32Array;
+  readonly jacCols: Int32Array;
+  readonly hessRows: Int32Array;
+  readonly hessCols: Int32Array;
+
+  // site layout
+  private readonly nSite: number;
+  private readonly zOff: Int32Array;
+  private readonly fOff: Int32Array;
+  private readonly jOff: Int32Array;
+  private readonly hOff: Int32Array;
+  private readonly Z: Float64Array;
+  private readonly F: Float64Array;
+  private readonly J: Float64Array;
+  private readonly H: Float64Array;
+  /** ω per site output (length = total outputs). */
+  private readonly omega: Float64Array;
+  private readonly wBuf: Float64Array;
+  private readonly siteScaled: Uint8Array;
+
+  // input maps, flattened per site input
+  private readonly inStart: Int32Array; // per global input index (zOff + k), start into inVar
+  private readonly inVar: Int32Array;
+  private readonly inCoef: Float64Array;
+  private readonly inConst: Float64Array;
+
+  // term tables for ω
+  private readonly termOut: Int32Array; // fOff + comp
+  private readonly termRow: Int32Array;
+  private readonly termW: Float64Array;
+  // row and objective value terms
+  private readonly gTerms: { out: Int32Array; row: Int32Array; w: Float64Array; scaled: Uint8Array };
+  private readonly fTerms: { out: Int32Array; w: Float64Array; scaled: Uint8Array };
+
+  // Jacobian contributions
+  private readonly jacConst: Float64Array; // per slot, from linear entries
+  private readonly jacFromJ: Contrib; // · T when scaled: separate arrays
+  private readonly jacFromJScaled: Contrib;
+  private readonly jacFromF: Contrib; // tf product terms
+  private readonly gradFromJ: Contrib;
+  private readonly gradFromJScaled: Contrib;
+  private readonly gradFromF: Contrib;
+  private readonly linRow: Int32Array;
+  private readonly linVar: Int32Array;
+  private readonly linCoef: Float64Array;
+  private readonly jacSlotScale: Float64Array;
+  // Hessian contributions
+  private readonly hessFromH: Contrib;
+  /** Cross terms: value[slot] += coef · ω[srcOut] · J[src]. */
+  private readonly hessCross: { slot: Int32Array; src: Int32Array; out: Int32Array; coef: Float64Array };
+  private readonly hessSlotScale: Float64Array;
+
+  // workspaces
+  private readonly X: Float64Array;
+  private readonly lastX: Float64Array;
+  private haveF = false;
+  private haveJ = false;
+  private readonly gPhys: Float64Array;
+  private readonly lamPhys: Float64Array;
+  private readonly jacPhys: Float64Array;
+  private readonly hessPhys: Float64Array;
+  private readonly gradPhys: Float64Array;
+
+  constructor(spec: AssemblySpec) {
+    this.spec = spec;
+    const n = (this.n = spec.n);
+    const m = (this.m = spec.m);
+    const sites = spec.sites;
+    const nSite = (this.nSite = sites.length);
+    this.zOff = new Int32Array(nSite + 1);
+    this.fOff = new Int32Array(nSite + 1);
+    this.jOff = new Int32Array(nSite + 1);
+    this.hOff = new Int32Array(nSite + 1);
+    this.siteScaled = new Uint8Array(nSite);
+    for (let s = 0; s < nSite; s++) {
+      const fn = sites[s].fn;
+      if (sites[s].inputs.length !== fn.nIn) throw new Error(`assembly: site ${s} has ${sites[s].inputs.length} inputs, function needs ${fn.nIn}`);
+      this.zOff[s + 1] = this.zOff[s] + fn.nIn;
+      this.fOff[s + 1] = this.fOff[s] + fn.nOut;
+      this.jOff[s + 1] = this.jOff[s] + fn.jacRows.length;
+      this.hOff[s + 1] = this.hOff[s] + fn.hessRows.length;
+      this.siteScaled[s] = sites[s].timeScaled ? 1 : 0;
+    }
+    this.Z = new Float64Array(this.zOff[nSite]);
+    this.F = new Float64Array(this.fOff[nSite]);
+    this.J = new Float64Array(this.jOff[nSite]);
+    this.H = new Float64Array(this.hOff[nSite]);
+    this.omega = new Float64Array(this.fOff[nSite]);
+    let maxOut = 1;
+    for (const s of sites) maxOut = Math.max(maxOut, s.fn.nOut);
+    this.wBuf = new Float64Array(maxOut);
+
+    // flattened input maps
+    const nInTot = this.zOff[nSite];
+    this.inStart = new Int32Array(nInTot + 1);
+    this.inConst = new Float64Array(nInTot);
+    let nTermIn = 0;
+    for (const s of sites) for (const inp of s.inputs) nTermIn += inp.vars.length;
+    this.inVar = new Int32Array(nTermIn);
+    this.inCoef = new Float64Array(nTermIn);
+    {
+      let k = 0;
+      let q = 0;
+      for (const s of sites)
+        for (const inp of s.inputs) {
+          this.inStart[k] = q;
+          this.inConst[k] = inp.c;
+          for (let a = 0; a < inp.vars.length; a++) {
+            const v = inp.vars[a];
+            if (!(v >= 0 && v < n)) throw new Error(`assembly: input refers to variable ${v} outside 0..${n - 1}`);
+            this.inVar[q] = v;
+            this.inCoef[q] = inp.coefs[a];
+            q++;
+          }
+          k++;
+        }
+      this.inStart[k] = q;
+    }
+
+    const tfVar = spec.tfVar;
+    // terms
+    const nT = spec.terms.length;
+    this.termOut = new Int32Array(nT);
+    this.termRow = new Int32Array(nT);
+    this.termW = new Float64Array(nT);
+    const gOut = new IntList(), gRow = new IntList(), gW = new NumList(), gSc = new IntList();
+    const fOut = new IntList(), fW = new NumList(), fSc = new IntList();
+    for (let k = 0; k < nT; k++) {
+      const t = spec.terms[k];
+      if (t.comp < 0 || t.comp >= sites[t.site].fn.nOut) throw new Error(`assembly: term ${k} refers to output ${t.comp} of site ${t.site}`);
+      const out = this.fOff[t.site] + t.comp;
+      this.termOut[k] = out;
+      this.termRow[k] = t.row;
+      this.termW[k] = t.weight;
+      if (t.row >= 0) {
+        gOut.push(out); gRow.push(t.row); gW.push(t.weight); gSc.push(this.siteScaled[t.site]);
+      } else {
+        fOut.push(out); fW.push(t.weight); fSc.push(this.siteScaled[t.site]);
+      }
+    }
+    this.gTerms = { out: gOut.done(), row: gRow.done(), w: gW.done(), scaled: Uint8Array.from(gSc.done()) };
+    this.fTerms = { out: fOut.done(), w: fW.done(), scaled: Uint8Array.from(fSc.done()) };
+
+    // per-site lists of terms, and per function the Jacobian entries of each output row
+    const termsOfSite: number[][] = Array.from({ length: nSite }, () => []);
+    for (let k = 0; k < nT; k++) termsOfSite[spec.terms[k].site].push(k);
+    const rowEntriesCache = new Map<PointFunction, number[][]>();
+    const rowEntries = (fn: PointFunction): number[][] => {
+      let r = rowEntriesCache.get(fn);
+      if (!r) {
+        r = Array.from({ length: fn.nOut }, () => []);
+        for (let e = 0; e < fn.jacRows.length; e++) r[fn.jacRows[e]].push(e);
+        rowEntriesCache.set(fn, r);
+      }
+      return r;
+    };
+
+    // ---- Jacobian pattern
+    const jacMap = new Map<number, number>();
+    const jr = new IntList(), jc = new IntList();
+    const jslot = (row: number, v: number): number => {
+      const key = row * n + v;
+      let s = jacMap.get(key);
+      if (s === undefined) {
+        s = jr.n;
+        jacMap.set(key, s);
+        jr.push(row);
+        jc.push(v);
+      }
+      return s;
+    };
+    const lr = new IntList(), lv = new IntList(), lc = new NumList();
+    for (const e of spec.linear) {
+      if (e.row < 0 || e.row >= m) throw new Error(`assembly: linear entry row ${e.row} outside 0..${m - 1}`);
+      jslot(e.row, e.var);
+      lr.push(e.row); lv.push(e.var); lc.push(e.coef);
+    }
+    this.linRow = lr.done(); this.linVar = lv.done(); this.linCoef = lc.done();
+    const aS = new IntList(), aSrc = new IntList(), aC = new NumList();
+    const bS = new IntList(), bSrc = new IntList(), bC = new NumList();
+    const cS = new IntList(), cSrc = new IntList(), cC = new NumList();
+    const gaS = new IntList(), gaSrc = new IntList(), gaC = new NumList();
+    const gbS = new IntList(), gbSrc = new IntList(), gbC = new NumList();
+    const gcS = new IntList(), gcSrc = new IntList(), gcC = new NumList();
+    for (let s = 0; s < nSite; s++) {
+      const fn = sites[s].fn;
+      const re = rowEntries(fn);
+      const scaled = this.siteScaled[s] === 1;
+      for (const k of termsOfSite[s]) {
+        const t = spec.terms[k];
+        for (const e of re[t.comp]) {
+          const col = fn.jacCols[e];
+          const gin = this.zOff[s] + col;
+          for (let q = this.inStart[gin]; q < this.inStart[gin + 1]; q++) {
+            const v = this.inVar[q];
+            const coef = t.weight * this.inCoef[q];
+            if (t.row >= 0) {
+              const sl = jslot(t.row, v);
+              if (scaled) { bS.push(sl); bSrc.push(this.jOff[s] + e); bC.push(coef); }
+              else { aS.push(sl); aSrc.push(this.jOff[s] + e); aC.push(coef); }
+            } else if (scaled) { gbS.push(v); gbSrc.push(this.jOff[s] + e); gbC.push(coef); }
+            else { gaS.push(v); gaSrc.push(this.jOff[s] + e); gaC.push(coef); }
+          }
+        }
+        if (scaled && tfVar >= 0) {
+          if (t.row >= 0) { cS.push(jslot(t.row, tfVar)); cSrc.push(this.fOff[s] + t.comp); cC.push(t.weight); }
+          else { gcS.push(tfVar); gcSrc.push(this.fOff[s] + t.comp); gcC.push(t.weight); }
+        }
+      }
+    }
+    this.jacFromJ = contribOf(aS, aSrc, aC);
+    this.jacFromJScaled = contribOf(bS, bSrc, bC);
+    this.jacFromF = contribOf(cS, cSrc, cC);
+    this.gradFromJ = contribOf(gaS, gaSrc, gaC);
+    this.gradFromJScaled = contribOf(gbS, gbSrc, gbC);
+    this.gradFromF = contribOf(gcS, gcSrc, gcC);
+    this.jacRows = jr.done();
+    this.jacCols = jc.done();
+    const nnzJ = this.jacRows.length;
+    this.jacConst = new Float64Array(nnzJ);
+    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jacMap.get(this.linRow[k] * n + this.linVar[k])!] += this.linCoef[k];
+
+    // ---- Hessian pattern
+    const hessMap = new Map<number, number>();
+    const hr = new IntList(), hc = new IntList();
+    const hslot = (p: number, q: number): number => {
+      if (p < q) { const t = p; p = q; q = t; }
+      const key = p * n + q;
+      let s = hessMap.get(key);
+      if (s === undefined) {
+        s = hr.n;
+        hessMap.set(key, s);
+        hr.push(p);
+        hc.push(q);
+      }
+      return s;
+    };
+    const sitesUsed = new Uint8Array(nSite);
+    for (const t of spec.terms) sitesUsed[t.site] = 1;
+    const hS = new IntList(), hSrc = new IntList(), hC = new NumList();
+    const xS = new IntList(), xSrc = new IntList(), xOut = new IntList(), xC = new NumList();
+    for (let s = 0; s < nSite; s++) {
+      if (!sitesUsed[s]) continue;
+      const fn = sites[s].fn;
+      for (let e = 0; e < fn.hessRows.length; e++) {
+        const r = fn.hessRows[e], c = fn.hessCols[e];
+        const gr = this.zOff[s] + r, gc = this.zOff[s] + c;
+        for (let q1 = this.inStart[gr]; q1 < this.inStart[gr + 1]; q1++)
+          for (let q2 = this.inStart[gc]; q2 < this.inStart[gc + 1]; q2++) {
+            const j1 = this.inVar[q1], j2 = this.inVar[q2];
+            let coef = this.inCoef[q1] * this.inCoef[q2];
+            if (r === c) {
+              if (j1 < j2) continue;
+            } else if (j1 === j2) coef *= 2;
+            hS.push(hslot(j1, j2)); hSrc.push(this.hOff[s] + e); hC.push(coef);
+          }
+      }
+      if (this.siteScaled[s] && tfVar >= 0) {
+        for (let e = 0; e < fn.jacRows.length; e++) {
+          const gin = this.zOff[s] + fn.jacCols[e];
+          for (let q = this.inStart[gin]; q < this.inStart[gin + 1]; q++) {
+            const v = this.inVar[q];
+            xS.push(hslot(tfVar, v)); xSrc.push(this.jOff[s] + e); xOut.push(this.fOff[s] + fn.jacRows[e]);
+            xC.push(this.inCoef[q] * (v === tfVar ? 2 : 1));
+          }
+        }
+      }
+    }
+    this.hessFromH = contribOf(hS, hSrc, hC);
+    this.hessCross = { slot: xS.done(), src: xSrc.done(), out: xOut.done(), coef: xC.done() };
+    this.hessRows = hr.done();
+    this.hessCols = hc.done();
+
+    // workspaces
+    this.X = new Float64Array(n);
+    this.lastX = new Float64Array(n);
+    this.gPhys = new Float64Array(m);
+    this.lamPhys = new Float64Array(m);
+    this.jacPhys = new Float64Array(nnzJ);
+    this.hessPhys = new Float64Array(this.hessRows.length);
+    this.gradPhys = new Float64Array(n);
+
+    // ---- scaling
+    const d = spec.varScale;
+    this.rowScale = new Float64Array(m);
+    const needAuto = spec.rowScale.some((v) => !(v > 0));
+    let autoScale: Float64Array | null = null;
+    if (needAuto) {
+      this.jacobianPhys(spec.x0, this.jacPhys);
+      autoScale = new Float64Array(m);
+      for (let k = 0; k < nnzJ; k++) {
+        const v = Math.abs(this.jacPhys[k] * d[this.jacCols[k]]);
+        if (v > autoScale[this.jacRows[k]]) autoScale[this.jacRows[k]] = v;
+      }
+    }
+    for (let r = 0; r < m; r++) {
+      const given = spec.rowScale[r];
+      if (given > 0) this.rowScale[r] = given;
+      else {
+        const a = autoScale![r];
+        this.rowScale[r] = a > 0 && Number.isFinite(a) ? Math.min(1e6, Math.max(1e-6, a)) : 1;
+      }
+    }
+    this.jacSlotScale = new Float64Array(nnzJ);
+    for (let k = 0; k < nnzJ; k++) this.jacSlotScale[k] = d[this.jacCols[k]] / this.rowScale[this.jacRows[k]];
+    this.hessSlotScale = new Float64Array(this.hessRows.length);
+    for (let k = 0; k < this.hessRows.length; k++) this.hessSlotScale[k] = d[this.hessRows[k]] * d[this.hessCols[k]];
+  }
+
+  /** T = tf − t0 at X. */
+  span(X: Float64Array): number {
+    return this.spec.tfVar >= 0 ? X[this.spec.tfVar] - this.spec.t0 : this.spec.fixedSpan;
+  }
+
+  /** Evaluate site inputs, outputs (and Jacobians when needJ) at physical X; cached on X. */
+  private evalSites(X: Float64Array, needJ: boolean): void {
+    let same = this.haveF;
+    if (same) {
+      for (let i = 0; i < this.n; i++)
+        if (X[i] !== this.lastX[i]) { same = false; break; }
+    }
+    if (!same) {
+      this.lastX.set(X);
+      this.haveF = false;
+      this.haveJ = false;
+    }
+    if (this.haveF && (!needJ || this.haveJ)) return;
+    const sites = this.spec.sites;
+    const { Z, F, J, inStart, inVar, inCoef, inConst } = this;
+    if (!this.haveF) {
+      for (let g = 0; g < Z.length; g++) {
+        let v = inConst[g];
+        for (let q = inStart[g]; q < inStart[g + 1]; q++) v += inCoef[q] * X[inVar[q]];
+        Z[g] = v;
+      }
+    }
+    for (let s = 0; s < this.nSite; s++) {
+      const fn = sites[s].fn;
+      const z = Z.subarray(this.zOff[s], this.zOff[s + 1]);
+      if (!this.haveF) fn.eval(z, F.subarray(this.fOff[s], this.fOff[s + 1]));
+      if (needJ && !this.haveJ) fn.jac(z, J.subarray(this.jOff[s], this.jOff[s + 1]));
+    }
+    this.haveF = true;
+    if (needJ) this.haveJ = true;
+  }
+
+  /** Physical objective f(X). */
+  objectivePhys(X: Float64Array): number {
+    this.evalSites(X, false);
+    const T = this.span(X);
+    const { out, w, scaled } = this.fTerms;
+    let f = 0;
+    for (let k = 0; k < out.length; k++) f += w[k] * (scaled[k] ? T : 1) * this.F[out[k]];
+    return f;
+  }
+
+  /** Physical constraints g(X) (unscaled rows). */
+  constraintsPhys(X: Float64Array, out: Float64Array): void {
+    this.evalSites(X, false);
+    const T = this.span(X);
+    out.fill(0);
+    for (let k = 0; k < this.linRow.length; k++) out[this.linRow[k]] += this.linCoef[k] * X[this.linVar[k]];
+    const { out: o, row, w, scaled } = this.gTerms;
+    for (let k = 0; k < o.length; k++) out[row[k]] += w[k] * (scaled[k] ? T : 1) * this.F[o[k]];
+  }
+
+  gradientPhys(X: Float64Array, out: Float64Array): void {
+    this.evalSites(X, true);
+    const T = this.span(X);
+    out.fill(0);
+    addContrib(out, this.gradFromJ, this.J, 1);
+    addContrib(out, this.gradFromJScaled, this.J, T);
+    addContrib(out, this.gradFromF, this.F, 1);
+  }
+
+  jacobianPhys(X: Float64Array, out: Float64Array): void {
+    this.evalSites(X, true);
+    const T = this.span(X);
+    out.set(this.jacConst);
+    addContrib(out, this.jacFromJ, this.J, 1);
+    addContrib(out, this.jacFromJScaled, this.J, T);
+    addContrib(out, this.jacFromF, this.F, 1);
+  }
+
+  /** ∇²(σ f + Σ λ g) in physical variables, λ physical (per unscaled row). */
+  hessianPhys(X: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array): void {
+    const needCross = this.spec.tfVar >= 0 && this.hessCross.slot.length > 0;
+    this.evalSites(X, needCross);
+    const T = this.span(X);
+    const om = this.omega;
+    om.fill(0);
+    for (let k = 0; k < this.termOut.length; k++) {
+      const r = this.termRow[k];
+      om[this.termOut[k]] += this.termW[k] * (r >= 0 ? lambda[r] : sigma);
+    }
+    const sites = this.spec.sites;
+    for (let s = 0; s < this.nSite; s++) {
+      const fn = sites[s].fn;
+      if (fn.hessRows.length === 0) continue;
+      const f0 = this.fOff[s];
+      const w = this.wBuf.subarray(0, fn.nOut);
+      const fac = this.siteScaled[s] ? T : 1;
+      let any = false;
+      for (let i = 0; i < fn.nOut; i++) {
+        w[i] = fac * om[f0 + i];
+        if (w[i] !== 0) any = true;
+      }
+      const h = this.H.subarray(this.hOff[s], this.hOff[s + 1]);
+      if (any) fn.hess(this.Z.subarray(this.zOff[s], this.zOff[s + 1]), w, h);
+      else h.fill(0);
+    }
+    out.fill(0);
+    addContrib(out, this.hessFromH, this.H, 1);
+    if (needCross) {
+      const { slot, src, out: o, coef } = this.hessCross;
+      const J = this.J;
+      for (let k = 0; k < slot.length; k++) out[slot[k]] += coef[k] * om[o[k]] * J[src[k]];
+    }
+  }
+
+  /** Physical X from NLP y. */
+  toPhysical(y: Float64Array, X: Float64Array): void {
+    const d = this.spec.varScale;
+    for (let i = 0; i < this.n; i++) X[i] = y[i] * d[i];
+  }
+
+  /** Physical multipliers λ = λ̃ / ρ. */
+  multipliersPhys(lambdaScaled: Float64Array, out: Float64Array): void {
+    for (let r = 0; r < this.m; r++) out[r] = lambdaScaled[r] / this.rowScale[r];
+  }
+
+  /** The scaled NLP handed to the interior-point solver. */
+  nlp(): NlpProblem {
+    const spec = this.spec;
+    const n = this.n, m = this.m;
+    const d = spec.varScale;
+    const rs = this.rowScale;
+    const xL = new Float64Array(n), xU = new Float64Array(n), x0 = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      xL[i] = spec.xL[i] / d[i];
+      xU[i] = spec.xU[i] / d[i];
+      x0[i] = spec.x0[i] / d[i];
+    }
+    const gL = new Float64Array(m), gU = new Float64Array(m);
+    for (let r = 0; r < m; r++) {
+      gL[r] = spec.gL[r] / rs[r];
+      gU[r] = spec.gU[r] / rs[r];
+    }
+    const X = this.X;
+    const self = this;
+    const problem: NlpProblem = {
+      n, m, xL, xU, gL, gU, x0,
+      jacRows: this.jacRows, jacCols: this.jacCols, hessRows: this.hessRows, hessCols: this.hessCols,
+      f(y) {
+        self.toPhysical(y, X);
+        return self.objectivePhys(X);
+      },
+      gradF(y, out) {
+        self.toPhysical(y, X);
+        self.gradientPhys(X, out);
+        for (let i = 0; i < n; i++) out[i] *= d[i];
+      },
+      g(y, out) {
+        self.toPhysical(y, X);
+        self.constraintsPhys(X, out);
+        for (let r = 0; r < m; r++) out[r] /= rs[r];
+      },
+      jacValues(y, out) {
+        self.toPhysical(y, X);
+        self.jacobianPhys(X, out);
+        const sc = self.jacSlotScale;
+        for (let k = 0; k < out.length; k++) out[k] *= sc[k];
+      },
+      hessValues(y, sigma, lambda, out) {
+        self.toPhysical(y, X);
+        self.multipliersPhys(lambda, self.lamPhys);
+        self.hessianPhys(X, sigma, self.lamPhys, out);
+        const sc = self.hessSlotScale;
+        for (let k = 0; k < out.length; k++) out[k] *= sc[k];
+      },
+    };
+    if (spec.variableName) problem.variableName = spec.variableName;
+    if (spec.constraintName) problem.constraintName = spec.constraintName;
+    return problem;
+  }
+}
+
+function addContrib(out: Float64Array, c: Contrib, src: Float64Array, factor: number): void {
+  const { slot, src: idx, coef } = c;
+  if (factor === 1) for (let k = 0; k < slot.length; k++) out[slot[k]] += coef[k] * src[idx[k]];
+  else for (let k = 0; k < slot.length; k++) out[slot[k]] += factor * coef[k] * src[idx[k]];
+}

@@ -1,0 +1,131 @@
+/**
+ * Direct multiple shooting with one classical fourth-order Runge–Kutta step per mesh interval,
+ * in lifted form.
+ *
+ * Origin: multiple shooting for optimal control, Bock and Plitt, Proc. 9th IFAC World Congress,
+ * 1984; lifted form (intermediate values of the integrator as NLP variables, which gives the same
+ * solution as condensed shooting) as in Albersmeyer and Diehl, "The lifted Newton method and its
+ * application in optimization", SIAM J. Optim. 20(3), 2010. Convergence of Runge–Kutta
+ * discretisations of optimal control: Hager, Numer. Math. 87, 2000 (order 4 for the classical
+ * method, whose weights b_i are all positive).
+ *
+ * Assumptions: node states x_k (k = 0..N) are shooting variables; on interval k the RK4 stages
+ * (tableau RK4_CLASSICAL in butcher.ts, data with its source) use the control values u_k at stage
+ * c = 0, u_{k+½} at the two stages with c = ½ and u_{k+1} at stage c = 1: the control is the
+ * continuous piecewise-quadratic function through node and midpoint values (interpolated so in
+ * re-simulation). Stage states y_i (i ≥ 2) are variables:
+ *   stage rows   y_i − x_k − h_k T Σ_{j<i} a_ij f(t_k + c_j h_k T, y_j, u(c_j)) = 0,   y_1 = x_k
+ *   step rows    x_{k+1} − x_k − h_k T Σ_i b_i f(t_k + c_i h_k T, y_i, u(c_i)) = 0
+ *   cost         ∫L ≈ Σ_k h_k T Σ_i b_i L(stage i)  (the RK4 quadrature of the cost integral)
+ *   path         at the nodes (k = 0..N), where the shooting states and the controls are.
+ * Between nodes the state is reported by the cubic Hermite interpolant of (x_k, f_k, x_{k+1}, f_{k+1}).
+ *
+ * Costates: Hager 2000 shows the multiplier of the step equation of interval k approximates the
+ * costate at t_{k+1}; with our sign, λ(t_{k+1}) ≈ −λ^step_k.
+ */
+import type { CompiledProblem } from "../problem/types";
+import type { NlpResult } from "../nlp/types";
+import type { Mesh, Scheme, Solution, Transcription } from "./types";
+import { TranscriptionBuilder, meshBreakpoints, type PointRef } from "./builder";
+import { allocSeries, pathMultipliers, recoverCommon } from "./recover";
+import { hermiteCubic, locate, quadratic3 } from "./interpolation";
+import { RK4_CLASSICAL, type ButcherTableau } from "./butcher";
+
+export const rk4Shooting: Scheme = {
+  id: "rk4-shooting",
+  label: "RK4 multiple shooting",
+  order: 4,
+  transcribe(problem: CompiledProblem, mesh: Mesh): Transcription {
+    const tab: ButcherTableau = RK4_CLASSICAL;
+    const tau = meshBreakpoints(mesh);
+    const N = mesh.intervals;
+    const S = tab.b.length;
+    const { nx, nu } = problem;
+    const b = new TranscriptionBuilder(problem);
+    const xs: number[] = [], us: number[] = [], um: number[] = [];
+    const nodes: PointRef[] = [];
+    for (let k = 0; k <= N; k++) {
+      xs.push(b.addStates(tau[k], `node ${k}`));
+      us.push(b.addControls(tau[k], `node ${k}`));
+      nodes.push(b.point(tau[k], { start: xs[k] }, nu > 0 ? { start: us[k] } : null));
+      if (k < N) um.push(b.addControls(0.5 * (tau[k] + tau[k + 1]), `midpoint ${k}`));
+    }
+    const controlFor = (k: number, c: number) => {
+      if (c === 0) return us[k];
+      if (c === 1) return us[k + 1];
+      if (c === 0.5) return um[k];
+      throw new Error(`rk4-shooting: stage abscissa ${c} has no control value (supported: 0, 1/2, 1)`);
+    };
+    const steps: number[] = [];
+    for (let k = 0; k < N; k++) {
+      const h = tau[k + 1] - tau[k];
+      const stagePts: PointRef[] = [];
+      for (let i = 0; i < S; i++) {
+        const ti = tau[k] + tab.c[i] * h;
+        const ui = nu > 0 ? { start: controlFor(k, tab.c[i]) } : null;
+        if (i === 0) {
+          stagePts.push(b.point(ti, { start: xs[k] }, ui));
+          continue;
+        }
+        const yi = b.addStates(ti, `interval ${k} stage ${i + 1}`);
+        stagePts.push(b.point(ti, { start: yi }, ui));
+        const dyn = [];
+        for (let j = 0; j < i; j++) if (tab.a[i][j] !== 0) dyn.push({ point: stagePts[j], weight: -h * tab.a[i][j] });
+        b.addDefect([{ start: yi, coef: 1 }, { start: xs[k], coef: -1 }], dyn, `interval ${k} stage ${i + 1}`);
+      }
+      steps.push(
+        b.addDefect(
+          [{ start: xs[k + 1], coef: 1 }, { start: xs[k], coef: -1 }],
+          stagePts.map((p, i) => ({ point: p, weight: -h * tab.b[i] })),
+          `interval ${k} step`,
+        ),
+      );
+      stagePts.forEach((p, i) => b.addRunningCost(p, h * tab.b[i]));
+    }
+    for (let k = 0; k <= N; k++) b.addPath(nodes[k], `node ${k}`);
+    b.setEndpoints(xs[0], xs[N]);
+    const asm = b.build();
+    return {
+      nlp: asm.nlp(),
+      recover(result: NlpResult): Solution {
+        const r = recoverCommon(problem, asm, b, result);
+        const t = new Float64Array(N + 1);
+        const states = allocSeries(nx, N + 1);
+        const fNode = allocSeries(nx, N + 1);
+        const fk = new Float64Array(nx);
+        const tu = new Float64Array(2 * N + 1);
+        const controls = allocSeries(nu, 2 * N + 1);
+        for (let k = 0; k <= N; k++) {
+          t[k] = r.time(tau[k]);
+          for (let i = 0; i < nx; i++) states[i][k] = r.X[xs[k] + i];
+          r.dynamics(t[k], r.X.subarray(xs[k], xs[k] + nx), r.X.subarray(us[k], us[k] + nu), fk);
+          for (let i = 0; i < nx; i++) fNode[i][k] = fk[i];
+          tu[2 * k] = t[k];
+          for (let i = 0; i < nu; i++) controls[i][2 * k] = r.X[us[k] + i];
+          if (k < N) {
+            tu[2 * k + 1] = r.time(0.5 * (tau[k] + tau[k + 1]));
+            for (let i = 0; i < nu; i++) controls[i][2 * k + 1] = r.X[um[k] + i];
+          }
+        }
+        const tLambda = t.slice(1);
+        const costates = allocSeries(nx, N);
+        for (let k = 0; k < N; k++) for (let i = 0; i < nx; i++) costates[i][k] = -r.lambda[steps[k] + i];
+        return {
+          scheme: "rk4-shooting", t, states, tu, controls, tLambda, costates,
+          pathMultipliers: pathMultipliers(problem, b.pathRows, r.lambda),
+          t0: r.t0, tf: r.tf, objective: r.objective,
+          stateAt(s, out) {
+            const k = locate(t, s);
+            const sc = Math.min(Math.max(s, t[k]), t[k + 1]);
+            for (let i = 0; i < nx; i++) out[i] = hermiteCubic(t[k], t[k + 1], states[i][k], states[i][k + 1], fNode[i][k], fNode[i][k + 1], sc);
+          },
+          controlAt(s, out) {
+            const k = locate(t, s);
+            const sc = Math.min(Math.max(s, t[k]), t[k + 1]);
+            for (let i = 0; i < nu; i++) out[i] = quadratic3(t[k], t[k + 1], controls[i][2 * k], controls[i][2 * k + 1], controls[i][2 * k + 2], sc);
+          },
+        };
+      },
+    };
+  },
+};

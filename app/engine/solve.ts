@@ -1,0 +1,163 @@
+/**
+ * One solve of one problem with one scheme and mesh: transcribe, run the interior-point solver,
+ * map back, re-simulate and compare with the reference. Used by the solve command (bench/solve.ts),
+ * the benchmark runner and the server. Never throws for a solver or mesh failure: a failure is a
+ * report with a status and a message.
+ */
+import type { CompiledProblem } from "./problem/types";
+import type { IterationRecord, NlpOptions, NlpResult, NlpStatus } from "./nlp/types";
+import type { Mesh, SchemeId, Solution } from "./schemes/types";
+import { solveNlp } from "./nlp/index";
+import { getScheme } from "./schemes/index";
+import { DEFAULT_LGR_DEGREE } from "./schemes/lgr";
+import { resimulate } from "./analysis/resimulate";
+import { solutionErrors, type SolutionErrors } from "./analysis/errors";
+
+export interface SolveTrajectory {
+  t: number[];
+  states: Record<string, number[]>;
+  tu: number[];
+  controls: Record<string, number[]>;
+  tLambda: number[] | null;
+  costates: Record<string, number[]> | null;
+}
+
+export interface SolveReport {
+  problemId: string;
+  versionHash: string;
+  scheme: SchemeId;
+  intervals: number;
+  degree: number | null;
+  variant: string | null;
+  status: NlpStatus;
+  message: string;
+  objective: number | null;
+  finalTime: number | null;
+  iterations: number;
+  solveSeconds: number;
+  transcribeSeconds: number;
+  nlpSize: { n: number; m: number; jacNnz: number; hessNnz: number };
+  resim: { finalMiss: number; maxPathViolation: number } | null;
+  /** Largest violation of the NLP's (row-scaled) constraints and variable bounds at the returned point. */
+  constraintViolation: number | null;
+  errors: SolutionErrors;
+  trajectory: SolveTrajectory | null;
+  log: IterationRecord[];
+}
+
+export interface SolveOptions {
+  nlp?: NlpOptions;
+  /** Re-simulate converged solutions with odex (default true). */
+  resimulate?: boolean;
+  /** Include the trajectory in the report (default true). */
+  keepTrajectory?: boolean;
+}
+
+const NO_ERRORS: SolutionErrors = {
+  objectiveAbs: null, objectiveRel: null, finalTimeAbs: null, stateMax: null, controlMax: null, costateMax: null, switchingTimes: null,
+};
+
+export function isConverged(status: NlpStatus): boolean {
+  return status === "optimal" || status === "acceptable";
+}
+
+export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: Mesh, options: SolveOptions = {}): SolveReport {
+  const report: SolveReport = {
+    problemId: problem.id,
+    versionHash: problem.versionHash,
+    scheme,
+    intervals: mesh.intervals,
+    degree: scheme === "lgr" ? (mesh.degree ?? DEFAULT_LGR_DEGREE) : null,
+    variant: mesh.variant ?? null,
+    status: "invalid_model",
+    message: "",
+    objective: null,
+    finalTime: null,
+    iterations: 0,
+    solveSeconds: 0,
+    transcribeSeconds: 0,
+    nlpSize: { n: 0, m: 0, jacNnz: 0, hessNnz: 0 },
+    resim: null,
+    constraintViolation: null,
+    errors: { ...NO_ERRORS },
+    trajectory: null,
+    log: [],
+  };
+  const tA = performance.now();
+  let tr;
+  try {
+    tr = getScheme(scheme).transcribe(problem, mesh);
+  } catch (e) {
+    report.message = `transcription failed: ${(e as Error).message}`;
+    return report;
+  }
+  report.transcribeSeconds = (performance.now() - tA) / 1000;
+  const nlp = tr.nlp;
+  report.nlpSize = { n: nlp.n, m: nlp.m, jacNnz: nlp.jacRows.length, hessNnz: nlp.hessRows.length };
+  const tB = performance.now();
+  let result: NlpResult;
+  try {
+    result = solveNlp(nlp, options.nlp);
+  } catch (e) {
+    report.status = "numerical_trouble";
+    report.message = `solver raised an error: ${(e as Error).message}`;
+    report.solveSeconds = (performance.now() - tB) / 1000;
+    return report;
+  }
+  report.solveSeconds = (performance.now() - tB) / 1000;
+  report.status = result.status;
+  report.message = result.message;
+  report.iterations = result.iterations;
+  report.log = result.log;
+  report.constraintViolation = violation(nlp, result);
+  let sol: Solution;
+  try {
+    sol = tr.recover(result);
+  } catch (e) {
+    report.message += `; recovery failed: ${(e as Error).message}`;
+    return report;
+  }
+  report.objective = Number.isFinite(sol.objective) ? sol.objective : null;
+  report.finalTime = Number.isFinite(sol.tf) ? sol.tf : null;
+  if (isConverged(result.status)) {
+    report.errors = solutionErrors(problem, sol);
+    if (options.resimulate !== false) {
+      const r = resimulate(problem, sol);
+      report.resim = { finalMiss: r.finalMiss, maxPathViolation: r.maxPathViolation };
+    }
+  }
+  if (options.keepTrajectory !== false) report.trajectory = trajectoryOf(problem, sol);
+  return report;
+}
+
+function violation(nlp: { n: number; m: number; xL: Float64Array; xU: Float64Array; gL: Float64Array; gU: Float64Array; g(x: Float64Array, out: Float64Array): void }, result: NlpResult): number | null {
+  const x = result.x;
+  if (!x || x.length !== nlp.n) return null;
+  let v = 0;
+  for (let i = 0; i < nlp.n; i++) v = Math.max(v, nlp.xL[i] - x[i], x[i] - nlp.xU[i]);
+  const g = new Float64Array(nlp.m);
+  try {
+    nlp.g(x, g);
+  } catch {
+    return null;
+  }
+  for (let j = 0; j < nlp.m; j++) v = Math.max(v, nlp.gL[j] - g[j], g[j] - nlp.gU[j]);
+  return Number.isFinite(v) ? v : null;
+}
+
+function trajectoryOf(problem: CompiledProblem, sol: Solution): SolveTrajectory {
+  const named = (names: string[], series: Float64Array[]) => {
+    const o: Record<string, number[]> = {};
+    names.forEach((n, i) => (o[n] = Array.from(series[i])));
+    return o;
+  };
+  const sn = problem.states.map((s) => s.name);
+  return {
+    t: Array.from(sol.t),
+    states: named(sn, sol.states),
+    tu: Array.from(sol.tu),
+    controls: named(problem.controls.map((c) => c.name), sol.controls),
+    tLambda: sol.tLambda ? Array.from(sol.tLambda) : null,
+    costates: sol.costates ? named(sn, sol.costates) : null,
+  };
+}
