@@ -13,6 +13,7 @@ export default [
     index("routes/overview.tsx"),
     route("account", "routes/account.tsx"),
     route("admin/users", "routes/admin.users.tsx"),
+    route("admin/tokens", "routes/admin.tokens.tsx"),
     route("*", "routes/not-found.tsx"),
   ]),
 ] satisfies RouteConfig;

@@ -47,6 +47,7 @@ export function AppShell({ user, children }: { user: ShellUser; children: ReactN
               Overview
             </NavItem>
             {roleAtLeast(user.role, "admin") ? <NavItem to="/admin/users">Users</NavItem> : null}
+            {roleAtLeast(user.role, "admin") ? <NavItem to="/admin/tokens">API tokens</NavItem> : null}
             <NavItem to="/account">Account</NavItem>
           </nav>
           <div className="flex items-center gap-3">

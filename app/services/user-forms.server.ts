@@ -27,3 +27,9 @@ export const changePasswordSchema = z
     confirmPassword: z.string(),
   })
   .refine((v) => v.newPassword === v.confirmPassword, { path: ["confirmPassword"], message: "The two new passwords differ." });
+
+export const createTokenSchema = z.object({
+  name: z.string().trim().min(1, "Name the token after its user, e.g. “ci runner”.").max(80, "Use at most 80 characters."),
+  role,
+});
+export const revokeTokenSchema = z.object({ tokenId: z.coerce.number().int().positive() });

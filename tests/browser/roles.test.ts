@@ -122,6 +122,11 @@ describe.runIf(run)("roles in the browser", () => {
     await hydrated(page);
     expect(await page.getAttribute("[data-error-status]", "data-error-status")).toBe("403");
     await screenshot(page, "admin-users-forbidden-viewer");
+    await page.goto(url("/admin/tokens"));
+    await hydrated(page);
+    expect(await page.getAttribute("[data-error-status]", "data-error-status")).toBe("403");
+    const mint = await pageFetch("/admin/tokens", { method: "POST", form: { intent: "create", name: "mine", role: "admin" } });
+    expect(mint.status).toBe(403);
 
     // Forged requests beyond the viewer role, sent from the viewer's own signed-in page.
     const promote = await pageFetch("/admin/users", { method: "POST", form: { intent: "role", userId: "1", role: "admin" } });
@@ -203,10 +208,62 @@ describe.runIf(run)("roles in the browser", () => {
     await screenshot(page, "admin-users");
   });
 
+  it("admin: creates an API token shown once, which authenticates until revoked", async () => {
+    await page.click("nav >> text=API tokens");
+    await page.waitForURL(url("/admin/tokens"));
+    await hydrated(page);
+    const form = page.locator("form[aria-label='Create a token']");
+    await form.locator("button[type=submit]").click();
+    await expect.poll(() => form.locator("[data-field-error=name]").textContent()).toMatch(/Name the token/);
+    await form.locator("input[name=name]").fill("ci runner");
+    await form.locator("select[name=role]").selectOption("engineer");
+    await form.locator("button[type=submit]").click();
+    await expect.poll(() => page.locator("[data-token]").count()).toBe(1);
+    const token = (await page.textContent("[data-token]"))!.trim();
+    expect(token).toMatch(/^aw_[A-Za-z0-9_-]{43}$/);
+    await screenshot(page, "admin-tokens");
+
+    const bearer = { Authorization: `Bearer ${token}` };
+    const me = await fetch(url("/api/me"), { headers: bearer });
+    expect(await me.json()).toMatchObject({ role: "engineer", via: "token" });
+    const queued = await fetch(url("/api/jobs"), {
+      method: "POST",
+      headers: { ...bearer, "Content-Type": "application/json" },
+      body: JSON.stringify({ kind: "bench", payload: { suite: "nightly" } }),
+    });
+    expect(queued.status).toBe(201);
+
+    await page.reload();
+    await hydrated(page);
+    const row = page.locator("[data-token-row='ci runner']");
+    expect(await row.textContent()).not.toContain(token.slice(12));
+    await row.locator("button[type=submit]").click();
+    await expect.poll(() => page.textContent("[data-notice]")).toBe("Token revoked.");
+    expect((await fetch(url("/api/me"), { headers: bearer })).status).toBe(401);
+    expect((await fetch(url("/api/me"), { headers: { Authorization: "Bearer aw_made-up" } })).status).toBe(401);
+  });
+
   it("account page, theme persisted without flash, sign-out", async () => {
     await page.goto(url("/account"));
     await hydrated(page);
     expect(await page.textContent("main h1")).toBe("Account");
+    const pw = page.locator("form[aria-label='Change password']");
+    await pw.locator("input[name=currentPassword]").fill("not-my-password");
+    await pw.locator("input[name=newPassword]").fill("admin-new-pass-1");
+    await pw.locator("input[name=confirmPassword]").fill("admin-new-pass-2");
+    await pw.locator("button[type=submit]").click();
+    await expect.poll(() => pw.locator("[data-field-error=confirmPassword]").textContent()).toBe("The two new passwords differ.");
+    await pw.locator("input[name=confirmPassword]").fill("admin-new-pass-1");
+    await pw.locator("button[type=submit]").click();
+    await expect.poll(() => pw.locator("[data-field-error=currentPassword]").textContent()).toBe("That is not your current password.");
+    await screenshot(page, "account-errors");
+    await pw.locator("input[name=currentPassword]").fill(DEMO.admin.password);
+    await pw.locator("input[name=newPassword]").fill("admin-new-pass-1");
+    await pw.locator("input[name=confirmPassword]").fill("admin-new-pass-1");
+    await pw.locator("button[type=submit]").click();
+    await expect.poll(() => page.textContent("[data-notice]")).toBe("Password changed. Other sessions have been signed out.");
+    // This session survives its own password change.
+    expect(JSON.parse((await pageFetch("/api/me", { method: "GET" })).text)).toMatchObject({ role: "admin" });
     await screenshot(page, "account");
     const before = await page.getAttribute("html", "data-theme");
     await page.click("[data-testid=theme-toggle]");
@@ -258,6 +315,6 @@ describe.runIf(run)("roles in the browser", () => {
     });
     expect(noOrigin.status).toBe(403);
     const list = await fetch(url("/api/jobs"), { headers: { Cookie: cookie } });
-    expect(((await list.json()) as { jobs: unknown[] }).jobs).toHaveLength(2);
+    expect(((await list.json()) as { jobs: unknown[] }).jobs).toHaveLength(3);
   });
 });
