@@ -1,0 +1,162 @@
+/**
+ * The solve command:
+ *   npm run --silent solve -- <problem folder, problem.json or id> --scheme <id> [--intervals N]
+ *        [--degree K] [--variant V] [--tolerance T] [--max-iter M] [--json] [--quiet] [--no-resim]
+ *
+ * Live iteration log on stderr; then a readable summary on stdout, or with --json one JSON object
+ * (the engine's SolveReport, app/engine/solve.ts). Exit status: 0 when the solver reports optimal
+ * or acceptable, 1 for any other solver status, 2 for a bad problem file or option (the validation
+ * errors are printed on stderr).
+ */
+import { loadProblem } from "../app/engine/problem/load";
+import { formatProblemError } from "../app/engine/problem/errors";
+import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/index";
+import { isConverged, solveProblem, type SolveReport } from "../app/engine/solve";
+import type { IterationRecord, NlpOptions } from "../app/engine/nlp/types";
+import type { Mesh } from "../app/engine/schemes/types";
+
+const USAGE = `usage: npm run --silent solve -- <problem folder | problem.json | id> --scheme <${SCHEME_IDS.join("|")}>
+       [--intervals N] [--degree K] [--variant V] [--tolerance T] [--max-iter M] [--json] [--quiet] [--no-resim]`;
+
+interface Args {
+  target: string;
+  scheme: string;
+  intervals?: number;
+  degree?: number;
+  variant?: string;
+  tolerance?: number;
+  maxIter?: number;
+  json: boolean;
+  quiet: boolean;
+  resim: boolean;
+}
+
+function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
+  const errors: string[] = [];
+  const a: Partial<Args> = { json: false, quiet: false, resim: true };
+  const positional: string[] = [];
+  const num = (flag: string, v: string | undefined, integer: boolean, min: number): number | undefined => {
+    if (v === undefined || v.startsWith("--")) {
+      errors.push(`${flag}: a value is required`);
+      return undefined;
+    }
+    const x = Number(v);
+    if (!Number.isFinite(x) || (integer && !Number.isInteger(x)) || x < min) {
+      errors.push(`${flag}: expected ${integer ? "an integer" : "a number"} ≥ ${min}, got "${v}"`);
+      return undefined;
+    }
+    return x;
+  };
+  for (let i = 0; i < argv.length; i++) {
+    const s = argv[i];
+    switch (s) {
+      case "--scheme":
+        a.scheme = argv[++i];
+        if (a.scheme === undefined) errors.push("--scheme: a value is required");
+        break;
+      case "--intervals":
+        a.intervals = num(s, argv[++i], true, 1);
+        break;
+      case "--degree":
+        a.degree = num(s, argv[++i], true, 1);
+        break;
+      case "--variant":
+        a.variant = argv[++i];
+        if (a.variant === undefined) errors.push("--variant: a value is required");
+        break;
+      case "--tolerance":
+        a.tolerance = num(s, argv[++i], false, 0);
+        if (a.tolerance === 0) errors.push("--tolerance: must be positive");
+        break;
+      case "--max-iter":
+        a.maxIter = num(s, argv[++i], true, 0);
+        break;
+      case "--json":
+        a.json = true;
+        break;
+      case "--quiet":
+        a.quiet = true;
+        break;
+      case "--no-resim":
+        a.resim = false;
+        break;
+      case "--help":
+      case "-h":
+        errors.push("help");
+        break;
+      default:
+        if (s.startsWith("-")) errors.push(`unknown option ${s}`);
+        else positional.push(s);
+    }
+  }
+  if (positional.length !== 1) errors.push(positional.length === 0 ? "a problem folder, file or id is required" : `exactly one problem expected, got ${positional.join(" ")}`);
+  if (!a.scheme) errors.push("--scheme is required");
+  else if (!isSchemeId(a.scheme)) errors.push(`--scheme: unknown scheme "${a.scheme}" (known: ${SCHEME_IDS.join(", ")})`);
+  if (a.degree !== undefined && a.scheme && a.scheme !== "lgr") errors.push("--degree applies to --scheme lgr only");
+  if (errors.length > 0) return { errors };
+  return { args: { ...(a as Args), target: positional[0] }, errors };
+}
+
+const fmt = (v: number | null | undefined, digits = 3) => (v === null || v === undefined ? "—" : Number.isFinite(v) ? v.toExponential(digits) : String(v));
+const fix = (v: number | null | undefined, digits = 10) => (v === null || v === undefined ? "—" : v.toPrecision(digits));
+
+function logLine(r: IterationRecord): string {
+  return `${String(r.iter).padStart(4)}${r.phase === "restoration" ? "r" : " "} ${r.f.toExponential(7).padStart(15)} ${r.infPr.toExponential(2).padStart(9)} ${r.infDu.toExponential(2).padStart(9)} ${Math.log10(Math.max(r.mu, 1e-300)).toFixed(1).padStart(6)} ${r.normD.toExponential(2).padStart(9)} ${(r.deltaW > 0 ? Math.log10(r.deltaW).toFixed(1) : "-").padStart(5)} ${r.alphaDu.toExponential(2).padStart(9)} ${r.alphaPr.toExponential(2).padStart(9)}${String(r.lsTrials).padStart(3)} ${r.info}`;
+}
+
+function summary(rep: SolveReport, title: string): string {
+  const L: string[] = [];
+  const e = rep.errors;
+  L.push(`${rep.problemId} — ${title}`);
+  L.push(`  version      ${rep.versionHash.slice(0, 12)}`);
+  L.push(`  scheme       ${rep.scheme}, ${rep.intervals} intervals${rep.degree !== null ? `, degree ${rep.degree}` : ""}${rep.variant ? `, ${rep.variant}` : ""}`);
+  L.push(`  NLP          n = ${rep.nlpSize.n}, m = ${rep.nlpSize.m}, Jacobian nnz = ${rep.nlpSize.jacNnz}, Hessian nnz = ${rep.nlpSize.hessNnz}`);
+  L.push(`  status       ${rep.status} (${rep.message})`);
+  L.push(`  iterations   ${rep.iterations}`);
+  L.push(`  time         solve ${rep.solveSeconds.toFixed(3)} s, transcribe ${rep.transcribeSeconds.toFixed(3)} s`);
+  L.push(`  objective    ${fix(rep.objective)}`);
+  L.push(`  final time   ${fix(rep.finalTime)}`);
+  L.push(`  violation    ${fmt(rep.constraintViolation)}`);
+  if (rep.resim) L.push(`  re-simulated final miss ${fmt(rep.resim.finalMiss)} (scaled), path violation ${fmt(rep.resim.maxPathViolation)}`);
+  L.push(`  vs reference objective ${fmt(e.objectiveAbs)} (rel ${fmt(e.objectiveRel)}), final time ${fmt(e.finalTimeAbs)}, states ${fmt(e.stateMax)}, controls ${fmt(e.controlMax)}, costates ${fmt(e.costateMax)}, switching ${fmt(e.switchingTimes)}`);
+  return L.join("\n");
+}
+
+function main(): number {
+  const parsed = parseArgs(process.argv.slice(2));
+  if (!parsed.args) {
+    const onlyHelp = parsed.errors.length === 1 && parsed.errors[0] === "help";
+    if (!onlyHelp) for (const e of parsed.errors.filter((x) => x !== "help")) process.stderr.write(`error: ${e}\n`);
+    process.stderr.write(`${USAGE}\n`);
+    return onlyHelp ? 0 : 2;
+  }
+  const args = parsed.args;
+  const loaded = loadProblem(args.target);
+  if (!loaded.ok) {
+    for (const e of loaded.errors) process.stderr.write(`${formatProblemError(e)}\n`);
+    return 2;
+  }
+  const problem = loaded.problem;
+  const scheme = args.scheme as (typeof SCHEME_IDS)[number];
+  const mesh: Mesh = { intervals: args.intervals ?? problem.defaults?.intervals ?? 40 };
+  if (scheme === "lgr") mesh.degree = args.degree ?? problem.defaults?.degree;
+  if (args.variant) mesh.variant = args.variant;
+  const nlp: NlpOptions = {};
+  if (args.tolerance !== undefined) nlp.tol = args.tolerance;
+  if (args.maxIter !== undefined) nlp.maxIter = args.maxIter;
+  if (!args.quiet) {
+    process.stderr.write(`solving ${problem.id} with ${scheme}, ${mesh.intervals} intervals${mesh.degree ? ` × degree ${mesh.degree}` : ""}\n`);
+    process.stderr.write(" iter       objective     inf_pr    inf_du  lg(mu)   ||d||   lg(rg)  alpha_du  alpha_pr ls\n");
+    nlp.onIteration = (r) => process.stderr.write(`${logLine(r)}\n`);
+  }
+  const rep = solveProblem(problem, scheme, mesh, { nlp, resimulate: args.resim });
+  if (rep.status === "invalid_model" && rep.message.startsWith("transcription failed")) {
+    process.stderr.write(`error: ${rep.message}\n`);
+    return 2;
+  }
+  if (args.json) process.stdout.write(`${JSON.stringify(rep)}\n`);
+  else process.stdout.write(`${summary(rep, problem.title)}\n`);
+  return isConverged(rep.status) ? 0 : 1;
+}
+
+process.exitCode = main();
