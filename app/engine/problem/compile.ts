@@ -10,7 +10,6 @@
  * Input layouts (types.ts): point functions z = [t, x_1..x_nx, u_1..u_nu];
  * endpoint functions e = [t0, x(t0)_1..nx, tf, x(tf)_1..nx].
  */
-import { createHash } from "node:crypto";
 import { parse, type MathNode } from "mathjs";
 import type { $ZodIssue } from "zod/v4/core";
 import type {
@@ -35,6 +34,7 @@ import { Dag } from "../expr/dag";
 import { toDag, inputResolver } from "../expr/compile";
 import { substitute } from "../expr/derive";
 import { toTex } from "../expr/tex";
+import { Sha256 } from "./sha256";
 
 export type CompileResult = { ok: true; problem: CompiledProblem } | { ok: false; errors: ProblemError[] };
 
@@ -62,17 +62,18 @@ export const KNOWN_TAGS: readonly string[] = [
  *   "problem.json\n" + len + "\n" + bytes, then the same for reference.csv and guess.csv when present.
  */
 export function problemVersionHash(files: ProblemSourceFiles): string {
-  const h = createHash("sha256");
+  const h = new Sha256();
+  const utf8 = new TextEncoder();
   const part = (name: string, text: string | undefined) => {
     if (text === undefined) return;
-    const bytes = Buffer.from(text, "utf8");
+    const bytes = utf8.encode(text);
     h.update(`${name}\n${bytes.length}\n`);
     h.update(bytes);
   };
   part("problem.json", files.problemJson);
   part("reference.csv", files.referenceCsv);
   part("guess.csv", files.guessCsv);
-  return h.digest("hex");
+  return h.digestHex();
 }
 
 export function compileProblemSource(id: string, files: ProblemSourceFiles, label?: string): CompileResult {
