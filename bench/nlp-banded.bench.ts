@@ -14,6 +14,7 @@
  * numeric factorisations, and the least-squares slope of log(time) against log(n) (must be
  * below 1.2). Run: npx tsx bench/nlp-banded.bench.ts [--max 64000]
  */
+import { pathToFileURL } from "node:url";
 import { solveNlp, type NlpProblem } from "../app/engine/nlp/index";
 
 const T = 8, c = 0.1, uMax = 0.6, theta0 = 2;
@@ -94,6 +95,7 @@ function fitSlope(xs: number[], ys: number[]): number {
   return num / den;
 }
 
+function main(): void {
 const maxArg = process.argv.indexOf("--max");
 const maxN = maxArg > 0 ? Number(process.argv[maxArg + 1]) : 64000;
 const sizes = [1000, 2000, 4000, 8000, 16000, 32000, 64000].filter((s) => s <= maxN);
@@ -106,7 +108,9 @@ const ns: number[] = [], times: number[] = [], perIter: number[] = [], factor: n
 for (const size of sizes) {
   const N = Math.round(size / 3) - 1;
   const p = pendulumProblem(N);
-  const r = solveNlp(p);
+  // Best of two solves (the machine is shared; the minimum is the least disturbed figure).
+  const r1 = solveNlp(p), r2 = solveNlp(p);
+  const r = r2.seconds < r1.seconds ? r2 : r1;
   const st = r.stats!;
   ns.push(p.n); times.push(r.seconds); perIter.push(r.seconds / Math.max(1, r.iterations)); factor.push(st.factorSeconds);
   console.log(
@@ -119,3 +123,6 @@ if (ns.length >= 2) {
   console.log(`time ratio largest/smallest: ${(times[times.length - 1] / times[0]).toFixed(1)} for a size ratio ${(ns[ns.length - 1] / ns[0]).toFixed(1)}`);
   console.log(sSolve < 1.2 && sIter < 1.2 ? "PASS: exponents below 1.2" : "FAIL: an exponent is 1.2 or more");
 }
+}
+
+if (import.meta.url === pathToFileURL(process.argv[1] ?? "").href) main();
