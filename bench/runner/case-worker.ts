@@ -6,12 +6,14 @@
  *   in  { type: "run", spec, repeats, warmup }             → out { type: "done", outcome }
  * Timing: tinybench runs `prepared.solve` exactly `repeats` times after `warmup` untimed solves;
  * all samples are kept (seconds). The report returned is the one of the last timed solve.
+ * Between warm-up and timing the calibration kernel runs once (machine.ts, quickCalibration).
  */
 import { parentPort } from "node:worker_threads";
 import { pathToFileURL } from "node:url";
 import { Bench } from "tinybench";
 import type { CaseExecutor, CreateExecutor, ExecutorContext } from "./executor";
 import type { CaseOutcome, CaseReport, CaseSpec } from "./types";
+import { quickCalibration } from "./machine";
 
 let executor: CaseExecutor | null = null;
 
@@ -27,6 +29,7 @@ async function runCase(spec: CaseSpec, repeats: number, warmup: number): Promise
     const prepared = await executor.prepare(spec);
     let report: CaseReport | null = null;
     for (let i = 0; i < warmup; i++) report = await prepared.solve();
+    const calibrationSeconds = quickCalibration();
     const bench = new Bench({ iterations: repeats, time: 0, warmup: false, retainSamples: true, throws: true });
     bench.add(spec.key, async () => {
       report = await prepared.solve();
@@ -40,7 +43,7 @@ async function runCase(spec: CaseSpec, repeats: number, warmup: number): Promise
     }
     const samples = Array.from(result.latency.samples ?? [], (ms) => ms / 1000);
     const r = report as CaseReport | null;
-    return { spec, status: r?.status ?? "error", message: r?.message ?? null, report: r, samples, wallSeconds: wall() };
+    return { spec, status: r?.status ?? "error", message: r?.message ?? null, report: r, samples, wallSeconds: wall(), calibrationSeconds };
   } catch (err) {
     const e = err as Error;
     return { spec, status: "error", message: `${e.name}: ${e.message}`, report: null, samples: [], wallSeconds: wall() };

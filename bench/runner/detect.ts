@@ -8,8 +8,9 @@
  *  robustness  solved before and not now (metric "status"); iterations up by more than
  *              iterationShare and by at least iterationMin (metric "iterations"). Reverse = improvement.
  *  speed       both solved with ≥ 3 samples each; r = median(x/c) / median(y), x the current
- *              samples, y the baseline's, c = calibration_now / calibration_base (1 when
- *              calibration is off); flagged when r > speedRatio AND (one-sided Mann–Whitney
+ *              samples, y the baseline's, c = calibration_now / calibration_base from the
+ *              case-level calibrations measured beside each case (run-level ones when missing;
+ *              1 when calibration is off); flagged when r > speedRatio AND (one-sided Mann–Whitney
  *              p < alpha on x/c vs y OR the bootstrap interval of r lies above 1).
  *              Improvement: r < 1/speedRatio with the mirrored evidence.
  *  structure   the arc signature changed (reports carrying `arcs.signature`); an improvement when
@@ -108,6 +109,8 @@ interface CaseRow {
   medianSeconds: number | null;
   arcsJson: unknown;
   samples: number[];
+  /** Case-level calibration seconds (measured beside the case), if recorded. */
+  calibration?: number | null;
 }
 
 function loadCases(db: Db, runId: string): Map<string, CaseRow> {
@@ -124,13 +127,19 @@ function loadCases(db: Db, runId: string): Map<string, CaseRow> {
       controlError: caseResults.controlError,
       medianSeconds: caseResults.medianSeconds,
       arcsJson: caseResults.arcsJson,
+      log: caseResults.iterationLogJson,
       samples: timingSamples.samplesJson,
     })
     .from(caseResults)
     .leftJoin(timingSamples, eq(timingSamples.caseResultId, caseResults.id))
     .where(eq(caseResults.runId, runId))
     .all();
-  return new Map(rows.map((r) => [r.caseKey, { ...r, samples: r.samples ?? [] }]));
+  return new Map(
+    rows.map(({ log, ...r }) => {
+      const cal = (log as { extra?: { calibrationSeconds?: unknown } } | null)?.extra?.calibrationSeconds;
+      return [r.caseKey, { ...r, samples: r.samples ?? [], calibration: typeof cal === "number" && cal > 0 ? cal : null }];
+    }),
+  );
 }
 
 const ACCURACY_METRICS = [
@@ -207,7 +216,9 @@ export function compareCases(
       }
     }
     if (cur.samples.length >= 3 && old.samples.length >= 3) {
-      const x = cur.samples.map((v) => v / calibrationFactor);
+      // Case-level calibration when both cases carry it, else the run-level factor.
+      const factor = t.calibrate ? (cur.calibration && old.calibration ? cur.calibration / old.calibration : calibrationFactor) : 1;
+      const x = cur.samples.map((v) => v / factor);
       const y = old.samples;
       const ratio = median(x) / median(y);
       const seed = seedOf(key);
@@ -227,7 +238,7 @@ export function compareCases(
             pValue: mw.pValue,
             ciLow: ci.low,
             ciHigh: ci.high,
-            detail: `median ${fmt(median(y))} s → ${fmt(median(cur.samples))} s, ratio ${ratio.toFixed(3)}${calibrationFactor !== 1 ? ` (calibrated ×${(1 / calibrationFactor).toFixed(3)})` : ""}, Mann–Whitney p = ${fmt(mw.pValue, 2)}, ${Math.round(t.confidence * 100)} % CI [${ci.low.toFixed(3)}, ${ci.high.toFixed(3)}]`,
+            detail: `median ${fmt(median(y))} s → ${fmt(median(cur.samples))} s, ratio ${ratio.toFixed(3)}${factor !== 1 ? ` (calibrated ×${(1 / factor).toFixed(3)})` : ""}, Mann–Whitney p = ${fmt(mw.pValue, 2)}, ${Math.round(t.confidence * 100)} % CI [${ci.low.toFixed(3)}, ${ci.high.toFixed(3)}]`,
           });
         }
       }
@@ -259,11 +270,11 @@ export function detectDrift(db: Db, run: RunRow, suiteName: string, t: Threshold
   if (seq.length < t.driftMinHistory) return [];
   const ids = seq.map((r) => r.id);
   const rows = db
-    .select({ runId: caseResults.runId, caseKey: caseResults.caseKey, problemId: caseResults.problemId, status: caseResults.status, median: caseResults.medianSeconds })
+    .select({ runId: caseResults.runId, caseKey: caseResults.caseKey, problemId: caseResults.problemId, status: caseResults.status, median: caseResults.medianSeconds, log: caseResults.iterationLogJson })
     .from(caseResults)
     .where(inArray(caseResults.runId, ids))
     .all();
-  const byCase = new Map<string, Map<string, { median: number | null; status: string; problemId: string }>>();
+  const byCase = new Map<string, Map<string, { median: number | null; status: string; problemId: string; log: unknown }>>();
   for (const r of rows) {
     if (!byCase.has(r.caseKey)) byCase.set(r.caseKey, new Map());
     byCase.get(r.caseKey)!.set(r.runId, r);
@@ -274,7 +285,8 @@ export function detectDrift(db: Db, run: RunRow, suiteName: string, t: Threshold
     const pts: { runId: string; y: number; problemId: string }[] = [];
     for (const r of seq) {
       const c = perRun.get(r.id);
-      const cal = t.calibrate ? runCalibration(r) : 1;
+      const caseCal = (c?.log as { extra?: { calibrationSeconds?: unknown } } | null)?.extra?.calibrationSeconds;
+      const cal = t.calibrate ? (typeof caseCal === "number" && caseCal > 0 ? caseCal : runCalibration(r)) : 1;
       if (!c || c.median === null || !(c.median > 0) || !isSolved(c.status) || !cal) continue;
       pts.push({ runId: r.id, y: Math.log(c.median / cal), problemId: c.problemId });
     }

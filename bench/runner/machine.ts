@@ -6,9 +6,10 @@
  * cores, OS platform, architecture, Node major.minor); baselines are looked up by it.
  *
  * Calibration: a fixed numeric kernel — C = A·B for 160×160 dense Float64Array matrices with
- * deterministic entries, repeated until ≈ 0.1 s, timed 5 times — run before and after the suite.
- * Its median seconds per multiply lets times be compared as ratios between runs: a case time
- * divided by the calibration time is roughly independent of how busy the machine was.
+ * deterministic entries — timed in batches before and after the suite (run level) and, shorter,
+ * in each worker right before each case (case level, `quickCalibration`). A case time divided by
+ * the calibration time measured beside it is far less sensitive to how busy the machine was
+ * than the raw time (on a shared machine the run-level figure moved 3× within one run).
  */
 import os from "node:os";
 import { sha256 } from "./suite";
@@ -65,7 +66,7 @@ export interface Calibration {
   kernel: string;
 }
 
-export function calibrate(): Calibration {
+function operands(): { a: Float64Array; b: Float64Array; c: Float64Array } {
   const a = new Float64Array(N * N);
   const b = new Float64Array(N * N);
   const c = new Float64Array(N * N);
@@ -73,6 +74,28 @@ export function calibrate(): Calibration {
     a[i] = ((i * 7919) % 1000) / 1000 - 0.5;
     b[i] = ((i * 104729) % 1000) / 1000 - 0.5;
   }
+  return { a, b, c };
+}
+
+/**
+ * Short per-case calibration, run by the worker right before a case's timed repeats so that it
+ * sees the same machine load: median seconds of `count` single multiplies after one untimed one.
+ */
+export function quickCalibration(count = 5): number {
+  const { a, b, c } = operands();
+  let sink = multiply(a, b, c);
+  const s: number[] = [];
+  for (let k = 0; k < count; k++) {
+    const t = performance.now();
+    sink += multiply(a, b, c);
+    s.push((performance.now() - t) / 1000);
+  }
+  if (!Number.isFinite(sink)) throw new Error("calibration kernel produced a non-finite checksum");
+  return median(s);
+}
+
+export function calibrate(): Calibration {
+  const { a, b, c } = operands();
   let sink = 0;
   // Warm up and size a batch of about 0.1 s.
   let t = performance.now();

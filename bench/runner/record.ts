@@ -5,7 +5,7 @@
  *
  * Columns the schema does not have yet are kept in JSON columns:
  *   case_results.iteration_log_json = { log, extra: { degree, variant, nlpSize, transcribeSeconds,
- *     solveSeconds, wallSeconds, costateMax, switchingTimes, maxPathViolation, q1, q3 } }
+ *     solveSeconds, wallSeconds, calibrationSeconds, costateMax, switchingTimes, maxPathViolation, q1, q3 } }
  *   runs.machine_json = { ...machine, calibration: { before, after, kernel }, suite: { file } }
  */
 import fs from "node:fs";
@@ -116,6 +116,7 @@ export function recordCase(db: Db, runId: string, outcome: CaseOutcome, problems
     transcribeSeconds: num(report?.transcribeSeconds),
     solveSeconds: num(report?.solveSeconds),
     wallSeconds: outcome.wallSeconds,
+    calibrationSeconds: outcome.calibrationSeconds ?? null,
     costateMax: num(report?.errors?.costateMax),
     switchingTimes: num(report?.errors?.switchingTimes),
     maxPathViolation: num(report?.resim?.maxPathViolation),

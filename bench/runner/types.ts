@@ -63,6 +63,8 @@ export interface CaseOutcome {
   samples: number[];
   /** Seconds from the case's start to its end, loading included. */
   wallSeconds: number;
+  /** Seconds of the calibration kernel measured in the worker just before the timed repeats. */
+  calibrationSeconds?: number | null;
 }
 
 /** Regression thresholds of a suite (defaults in bench/runner/suite.ts). */

@@ -1,0 +1,23 @@
+/**
+ * Executor for Arcwatch's own engine: loads the problem with the engine's loader (compiled once
+ * per worker and cached by content hash) and times `solveProblem` for the case's scheme and mesh.
+ */
+import path from "node:path";
+import { loadProblem } from "../../app/engine/problem/load";
+import { solveProblem } from "../../app/engine/solve";
+import type { Mesh } from "../../app/engine/schemes/types";
+import type { CreateExecutor } from "./executor";
+import type { CaseReport } from "./types";
+
+export const createExecutor: CreateExecutor = (context) => ({
+  prepare(spec) {
+    const loaded = loadProblem(path.join(context.problemsDir, spec.problemId), context.problemsDir);
+    if (!loaded.ok) {
+      const why = loaded.errors.map((e) => `${e.file}${e.path ? ` ${e.path}` : ""}: ${e.message}`).join("; ");
+      throw new Error(`problem ${spec.problemId} does not load: ${why}`);
+    }
+    const mesh: Mesh = { intervals: spec.intervals, ...(spec.degree !== undefined ? { degree: spec.degree } : {}), ...(spec.variant ? { variant: spec.variant } : {}) };
+    const problem = loaded.problem;
+    return { solve: (): CaseReport => solveProblem(problem, spec.scheme, mesh) };
+  },
+});
