@@ -5,7 +5,10 @@
  * range where a side is absent):
  *   "lower"  if u − a ≤ τ_u R,  "upper" if b − u ≤ τ_u R   (τ_u = boundTol)
  *   "boundary:<c>" otherwise, if a path constraint or state bound c is active:
- *                  |c − bound| ≤ τ_c · max_k |c_k − bound|   (τ_c = activeTol)
+ *                  |c − bound| ≤ τ_c · max_k |c_k − bound|   (τ_c = activeTol), or in a stretch
+ *                  between two active points where |c − bound| stays ≤ τ_b · max_k |c_k − bound|
+ *                  (τ_b = bridgeTol: the dip of direct solutions between the touch points that
+ *                  mark a higher-order boundary arc)
  *   "singular" otherwise if H is affine in u_j, unless the switching function is clearly nonzero
  *              (|σ| > τ_σ max|σ|), in which case the sign of σ picks the bound (mesh noise,
  *              pseudospectral ringing on a bang arc)
@@ -24,13 +27,15 @@ export interface ConstraintDistance {
   d: Float64Array;
   /** Activity threshold in the units of d. */
   threshold: number;
+  /** 1 where the constraint counts as active (threshold, then bridging; see constraintDistances). */
+  active: Uint8Array;
 }
 
 /**
  * Distances of every path-constraint side and state bound to its bound at the control grid
  * times tu (states from sol.stateAt). Sides that never come within the threshold are dropped.
  */
-export function constraintDistances(problem: CompiledProblem, sol: Solution, activeTol: number): ConstraintDistance[] {
+export function constraintDistances(problem: CompiledProblem, sol: Solution, activeTol: number, bridgeTol: number): ConstraintDistance[] {
   const { nx, nu } = problem;
   const nt = sol.tu.length;
   const x = new Float64Array(nx);
@@ -61,9 +66,23 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
       scale = Math.max(scale, Math.abs(d[k]));
     }
     const threshold = activeTol * scale;
-    let touches = false;
-    for (let k = 0; k < nt && !touches; k++) touches = d[k] <= threshold;
-    if (touches) out.push({ name, d, threshold });
+    const active = new Uint8Array(nt);
+    for (let k = 0; k < nt; k++) if (d[k] <= threshold) active[k] = 1;
+    if (!active.includes(1)) return;
+    // Bridging: direct solutions of higher-order state constraints often touch the bound at the
+    // arc's ends and dip slightly in between; a gap between active points whose distance stays
+    // below bridgeTol · scale is part of the arc.
+    let last = -1;
+    for (let k = 0; k < nt; k++) {
+      if (!active[k]) continue;
+      if (last >= 0 && k > last + 1) {
+        let dmax = 0;
+        for (let q = last + 1; q < k; q++) dmax = Math.max(dmax, d[q]);
+        if (dmax <= bridgeTol * scale) for (let q = last + 1; q < k; q++) active[q] = 1;
+      }
+      last = k;
+    }
+    out.push({ name, d, threshold, active });
   };
   for (let m = 0; m < np; m++) {
     const info = problem.pathInfo[m];
@@ -126,7 +145,7 @@ export function classifyPoints(inp: ClassifyInput): string[] {
     let best = Infinity;
     for (const c of inp.constraints) {
       const r = c.d[k] / c.threshold;
-      if (c.d[k] <= c.threshold && r < best) {
+      if (c.active[k] && r < best) {
         best = r;
         active = c.name;
       }

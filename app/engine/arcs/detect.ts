@@ -19,6 +19,7 @@ import { structureSignature } from "./types";
 export const arcDefaults: Required<ArcDetectionOptions> = {
   boundTol: 1e-3,
   activeTol: 1e-5,
+  bridgeTol: 5e-3,
   switchTol: 2e-2,
   minFraction: 0.02,
 };
@@ -47,7 +48,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
   const tu = sol.tu;
   if (tu.length === 0) throw new Error(`arc detection (${problem.id}): the solution has an empty control grid`);
   const affine = controlAffine(problem, samplePoints(problem, sol));
-  const constraints = constraintDistances(problem, sol, opt.activeTol);
+  const constraints = constraintDistances(problem, sol, opt.activeTol, opt.bridgeTol);
   let sigma = switchingFunctions(problem, sol);
   let lambdaSign: 1 | -1 | 0 = 0;
   const minDuration = opt.minFraction * (sol.tf - sol.t0);

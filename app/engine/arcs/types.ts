@@ -53,6 +53,11 @@ export interface ArcDetectionOptions {
    * |c − bound|. Default 1e-5.
    */
   activeTol?: number;
+  /**
+   * Between two active points a constraint stays active while |c − bound| ≤ bridgeTol · scale
+   * (direct solutions dip between the touch points of a higher-order boundary arc). Default 5e-3.
+   */
+  bridgeTol?: number;
   /** Switching function counts as zero when |σ| ≤ switchTol · max|σ|. Default 2e-2. */
   switchTol?: number;
   /** Arcs shorter than minFraction · (tf − t0) are merged into their neighbours. Default 0.02. */

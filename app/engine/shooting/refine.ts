@@ -19,7 +19,7 @@ import { combineStructure, combinedSignature } from "./structure";
 import { integrateSegment } from "./integrate";
 
 export interface RefineOptions extends ShootingOptions {
-  /** Newton tolerance on ‖F‖∞. Default 1e-10. */
+  /** Newton tolerance on ‖F‖∞. Default 1e-11. */
   tol?: number;
   maxIter?: number;
   arcOptions?: ArcDetectionOptions;
@@ -139,7 +139,7 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
       return F ? ms.jacobian(z, F ?? Fz) : null;
     },
     ms.z0,
-    { tol: options.tol ?? 1e-10, maxIter: options.maxIter ?? 40, onIteration: options.onIteration },
+    { tol: options.tol ?? 1e-11, maxIter: options.maxIter ?? 40, onIteration: options.onIteration },
   );
   const z = result.z;
   const T = ms.times(z);
