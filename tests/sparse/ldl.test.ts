@@ -7,7 +7,7 @@
 import fc from "fast-check";
 import { Matrix, solve as denseSolve } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { SymmetricSolver } from "~/engine/sparse";
+import { SymmetricSolver, kktSigns } from "~/engine/sparse";
 import { eigenInertia, fromEntries, maxAbs, randomDominant, randomQuasiDefinite, rng, type SymTriplets } from "./helpers";
 
 function denseReference(M: SymTriplets, b: Float64Array): Float64Array {
@@ -227,5 +227,79 @@ describe("iterative refinement", () => {
     expect(r3).toBeLessThan(r0 / 100); // at least two orders of magnitude
     // and the refined solution matches the dense solve (tolerance: κ·ε with κ ~ 1e2 here, generous 1e-9)
     expect(relErr(x, denseReference(M, b))).toBeLessThan(1e-9);
+  });
+});
+
+describe("expected signs: constrained ordering and signed dynamic regularisation", () => {
+  /**
+   * Saddle-point matrix K = [[H, Jᵀ], [J, 0]] with H = diag(h) (h ≥ 0, some zeros allowed) and J
+   * sparse random with full row rank (an identity block is included). Its inertia is taken from the
+   * dense eigenvalues.
+   */
+  function saddle(n1: number, n2: number, seed: number, zeroDiagFraction: number): SymTriplets {
+    const r = rng(seed);
+    const e: Array<[number, number, number]> = [];
+    for (let i = 0; i < n1; i++) e.push([i, i, r() < zeroDiagFraction ? 0 : 0.5 + r()]);
+    for (let k = 0; k < n2; k++) {
+      e.push([n1 + k, k % n1, 1 + r()]);
+      for (let c = 0; c < 2; c++) e.push([n1 + k, Math.floor(r() * n1), r() - 0.5]);
+      e.push([n1 + k, n1 + k, 0]); // δc = 0 stored explicitly
+    }
+    return fromEntries(n1 + n2, e);
+  }
+
+  it("with H ≻ 0 and δc = 0: plain AMD meets zero pivots, the constrained order meets none", () => {
+    let plainZero = 0;
+    for (let seed = 1; seed <= 200; seed++) {
+      const n1 = 10 + (seed % 30);
+      const n2 = 1 + (seed % 8); // n2 < n1: J (with its entry at column k mod n1) has full row rank
+      const M = saddle(n1, n2, seed, 0);
+      const ref = eigenInertia(M.dense, 1e-10);
+      const plain = new SymmetricSolver(n1 + n2, M.rows, M.cols).factor(M.values);
+      plainZero += plain.zero;
+      const s = new SymmetricSolver(n1 + n2, M.rows, M.cols, { signs: kktSigns(n1, n2) });
+      const inertia = s.factor(M.values);
+      expect(inertia).toEqual({ ok: true, ...ref, regularized: 0 });
+      // H ≻ 0 and J of full row rank: inertia (n1, n2, 0) (Gould 1985, as above)
+      expect(ref).toEqual({ positive: n1, negative: n2, zero: 0 });
+      const b = randomRhs(n1 + n2, seed);
+      const x = new Float64Array(n1 + n2);
+      s.solve(b, x, 3);
+      expect(relErr(x, denseReference(M, b))).toBeLessThan(1e-9);
+    }
+    expect(plainZero).toBeGreaterThan(0); // the unconstrained order does take constraint rows first
+  });
+
+  it("with zero rows in H: regularised pivots, correct inertia, refinement recovers the unregularised solution", () => {
+    for (let seed = 1; seed <= 20; seed++) {
+      const n1 = 40;
+      const n2 = 15;
+      const M = saddle(n1, n2, 100 + seed, 0.3);
+      const ref = eigenInertia(M.dense, 1e-9);
+      if (ref.zero > 0) continue; // a singular draw has no unique solution to compare
+      const s = new SymmetricSolver(n1 + n2, M.rows, M.cols, { signs: kktSigns(n1, n2) });
+      const inertia = s.factor(M.values);
+      expect(inertia.ok).toBe(true);
+      expect({ positive: inertia.positive, negative: inertia.negative, zero: inertia.zero }).toEqual(ref);
+      const b = randomRhs(n1 + n2, seed);
+      const x = new Float64Array(n1 + n2);
+      s.solve(b, x, 10);
+      // the regularisation δ = 1e-8 perturbs the factor, not the answer: 1e-9 relative to the dense solve
+      expect(relErr(x, denseReference(M, b))).toBeLessThan(1e-9);
+      expect(s.lastRelativeResidual).toBeLessThan(1e-14);
+    }
+  });
+
+  it("a NaN stays a zero pivot (ok = false) even with signs", () => {
+    const M = fromEntries(3, [[0, 0, 1], [2, 0, NaN], [1, 1, 1], [2, 2, 0]]);
+    const inertia = new SymmetricSolver(3, M.rows, M.cols, { signs: Int8Array.from([1, 1, -1]) }).factor(M.values);
+    expect(inertia.ok).toBe(false);
+    expect(inertia.zero).toBeGreaterThanOrEqual(1);
+  });
+
+  it("rejects malformed signs with the position named", () => {
+    const rows = Int32Array.from([0, 1]);
+    expect(() => new SymmetricSolver(2, rows, rows, { signs: Int8Array.from([1]) })).toThrow(/signs has length 1/);
+    expect(() => new SymmetricSolver(2, rows, rows, { signs: Int8Array.from([1, 0]) })).toThrow(/signs\[1\] = 0/);
   });
 });

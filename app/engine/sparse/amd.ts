@@ -35,15 +35,20 @@ export interface AmdOptions {
   dense?: number;
   /**
    * Constrained nodes (Uint8Array(n), 1 = constrained), e.g. the constraint rows of a KKT matrix
-   * whose diagonal is (near) zero. A constrained node becomes eligible as a pivot only once it is
-   * adjacent to an element, i.e. after one of its neighbours in the filled graph has been eliminated,
-   * and within an elimination group it is ordered after the unconstrained nodes (the constrained
-   * minimum degree of Bridson, "An ordering method for the direct solution of saddle-point
-   * matrices", preprint, 2007: for a saddle-point matrix with a positive definite (1,1) block it
-   * gives an order in which LDLᵀ without pivoting meets no zero pivot). If only constrained nodes
-   * without elements remain, they are released and ordered as usual.
+   * whose diagonal is (near) zero. Within an elimination group they are ordered after the
+   * unconstrained nodes.
    */
   constrained?: Uint8Array;
+  /**
+   * Precedence partners (Int32Array(n), from matching.ts): a constrained node c with partner[c] ≥ 0
+   * is "deferred": kept out of the degree lists, out of supervariables and out of mass elimination
+   * until partner[c] has been eliminated; −1 = no precedence. This is a constrained minimum degree
+   * in the spirit of Bridson ("An ordering method for the direct solution of saddle-point
+   * matrices", 2007): a constraint row is eliminated only after a distinct variable of its own.
+   * If only deferred nodes are left (possible only when a partner is itself deferred, which
+   * matching.ts never produces), they are released and ordered as usual.
+   */
+  partner?: Int32Array;
 }
 
 export interface AmdInfo {
@@ -70,8 +75,12 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
   if (constrained !== null && constrained.length !== n) {
     throw new Error(`sparse/amd: options.constrained has length ${constrained.length}, expected ${n}`);
   }
-  // deferred[i] = 1 while constrained node i waits, outside the degree lists, for its first element
-  const deferred = constrained === null ? null : Uint8Array.from(constrained);
+  const partner = options.partner ?? null;
+  if (partner !== null && (constrained === null || partner.length !== n)) {
+    throw new Error(`sparse/amd: options.partner needs options.constrained and length ${n}`);
+  }
+  // deferred[i] = 1 while constrained node i waits, outside the degree lists, for partner[i]
+  const deferred = partner === null ? null : new Uint8Array(n);
   let releases = 0;
   // a row adjacent to all others (degree n − 1) counts as dense too, unless removal is disabled
   const denseThreshold = alpha < 0 ? n : Math.min(n - 2, Math.max(16, Math.floor(alpha * Math.sqrt(n))));
@@ -120,6 +129,14 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
   pe[n] = -1;
   w[n] = 0;
 
+  if (deferred !== null && partner !== null) {
+    for (let i = 0; i < n; i++) {
+      const q = partner[i];
+      // no precedence towards or from a dense or isolated row
+      if (q >= 0 && len[i] > 0 && len[i] <= denseThreshold && len[q] <= denseThreshold) deferred[i] = 1;
+    }
+  }
+
   let nel = 0; // variables eliminated so far (weighted)
   let denseRows = 0;
   let compressions = 0;
@@ -138,9 +155,8 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
       pe[i] = flip(n);
       nv[n]++;
       denseRows++;
-      if (deferred !== null) deferred[i] = 0;
     } else if (deferred !== null && deferred[i] === 1) {
-      // constrained: kept out of the degree lists until it joins some L_p
+      // waits for its partner, outside the degree lists
     } else {
       if (head[d] !== -1) last[head[d]] = i;
       next[i] = head[d];
@@ -158,7 +174,7 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
       if (p !== -1) break;
     }
     if (p === -1 && deferred !== null) {
-      // only constrained nodes without elements are left: release them
+      // only deferred nodes are left: release them
       releases++;
       mindeg = n;
       for (let i = 0; i < n; i++) {
@@ -233,10 +249,8 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
         dp += nvi;
         nv[i] = -nvi;
         iw[pk2++] = i;
-        // remove i from its degree list (a deferred constrained node is in none)
-        if (deferred !== null && deferred[i] === 1) {
-          deferred[i] = 0;
-        } else {
+        // remove i from its degree list (a deferred node is in none)
+        if (deferred === null || deferred[i] === 0) {
           if (next[i] !== -1) last[next[i]] = last[i];
           if (last[i] !== -1) next[last[i]] = next[i];
           else head[degree[i]] = next[i];
@@ -301,7 +315,7 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
         iw[pn++] = j;
         h += j;
       }
-      if (d === 0) {
+      if (d === 0 && (deferred === null || deferred[i] === 0)) {
         // mass elimination: i is adjacent only to p
         pe[i] = flip(p);
         const nvi = -nv[i];
@@ -340,7 +354,7 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
         for (let q = pe[i] + 1; q <= pe[i] + ln - 1; q++) w[iw[q]] = mark;
         let jlast = i;
         for (let j = next[i]; j !== -1; ) {
-          let same = len[j] === ln && elen[j] === eln;
+          let same = len[j] === ln && elen[j] === eln && (deferred === null || (deferred[i] === 0 && deferred[j] === 0));
           for (let q = pe[j] + 1; same && q <= pe[j] + ln - 1; q++) if (w[iw[q]] !== mark) same = false;
           if (same) {
             pe[j] = flip(i); // j merged into supervariable i
@@ -367,13 +381,20 @@ export function amdOrder(G: CscPattern, options: AmdOptions = {}, info?: AmdInfo
       let d = degree[i] + dp - nvi;
       const bound = n - nel - nvi;
       if (d > bound) d = bound;
+      degree[i] = d;
+      iw[q++] = i;
+      if (deferred !== null && deferred[i] === 1 && partner !== null) {
+        // eligible once the partner is eliminated: follow absorptions up to a live node or element
+        let r = partner[i];
+        while (nv[r] === 0) r = flip(pe[r]);
+        if (elen[r] !== -2) continue; // still waiting: stays out of the degree lists
+        deferred[i] = 0;
+      }
       if (head[d] !== -1) last[head[d]] = i;
       next[i] = head[d];
       last[i] = -1;
       head[d] = i;
       if (d < mindeg) mindeg = d;
-      degree[i] = d;
-      iw[q++] = i;
     }
     nv[p] = nvp;
     len[p] = q - pk1;

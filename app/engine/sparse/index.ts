@@ -17,6 +17,7 @@
 import { amdOrder, type AmdInfo } from "./amd";
 import { symmetricAdjacency, symmetricNormInf, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
 import { eliminationTree } from "./etree";
+import { matchConstrained } from "./matching";
 import {
   allocateLdlFactor,
   allocateLdlWorkspace,
@@ -35,6 +36,7 @@ export { amdOrder } from "./amd";
 export { tripletsToUpperCsc, validateTriplets } from "./triplet";
 export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
 export { eliminationTree } from "./etree";
+export { matchConstrained } from "./matching";
 
 export interface SymmetricSolverOptions {
   /** A pivot with |d_k| ≤ pivotTolerance counts as zero (ok = false). Default 1e-13 (absolute). */
@@ -43,8 +45,8 @@ export interface SymmetricSolverOptions {
   ordering?: "amd" | "natural";
   /**
    * Expected pivot signs (Int8Array(n) of +1/−1), e.g. kktSigns(N, m) for [[W, Jᵀ], [J, −δc I]].
-   * When given: (1) the AMD ordering is constrained so that a −1 node is eliminated only after one
-   * of its neighbours (amd.ts, `constrained`); (2) a pivot with |d| ≤ pivotTolerance is replaced by
+   * When given: (1) the AMD ordering is constrained so that each −1 node is eliminated after a
+   * distinct +1 neighbour of its own (matching.ts, amd.ts `partner`); (2) a pivot with |d| ≤ pivotTolerance is replaced by
    * sign·regularization instead of being a zero pivot (ldl.ts); refinement in solve() is done
    * against the unregularised matrix. Then `zero` counts only NaN pivots, and `regularized` the
    * replaced ones.
@@ -137,8 +139,13 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const info: AmdInfo = { denseRows: 0, compressions: 0 };
     let perm: Int32Array;
     if (ordering === "amd") {
-      const constrained = signs === null ? undefined : Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
-      perm = amdOrder(symmetricAdjacency(A), { constrained }, info);
+      const G = symmetricAdjacency(A);
+      if (signs === null) {
+        perm = amdOrder(G, {}, info);
+      } else {
+        const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
+        perm = amdOrder(G, { constrained, partner: matchConstrained(G, constrained) }, info);
+      }
     } else {
       perm = new Int32Array(n);
       for (let k = 0; k < n; k++) perm[k] = k;
