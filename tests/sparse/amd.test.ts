@@ -215,3 +215,26 @@ describe("constrained ordering for KKT matrices", () => {
     }
   });
 });
+
+describe("edge cases", () => {
+  it("releases deferred nodes whose partners wait on each other, still a valid permutation", () => {
+    // path 0 – 1 – 2 – 3 with nodes 1 and 2 constrained and partnered to each other (a cycle that
+    // matching.ts never produces): the ordering must not stall.
+    const { A } = tripletsToUpperCsc(4, Int32Array.from([1, 2, 3]), Int32Array.from([0, 1, 2]));
+    const info = { denseRows: 0, compressions: 0, releases: 0 };
+    const perm = amdOrder(symmetricAdjacency(A), { constrained: Uint8Array.from([0, 1, 1, 0]), partner: Int32Array.from([-1, 2, 1, -1]) }, info);
+    expect(isPermutation(perm, 4)).toBe(true);
+    expect(info.releases).toBe(1);
+  });
+
+  it("handles n = 0 and n = 1", () => {
+    const empty = new SymmetricSolver(0, new Int32Array(0), new Int32Array(0));
+    expect(empty.factor(new Float64Array(0))).toEqual({ ok: true, positive: 0, negative: 0, zero: 0 });
+    empty.solve(new Float64Array(0), new Float64Array(0));
+    const one = new SymmetricSolver(1, Int32Array.from([0]), Int32Array.from([0]));
+    expect(one.factor(Float64Array.from([-4]))).toEqual({ ok: true, positive: 0, negative: 1, zero: 0 });
+    const x = new Float64Array(1);
+    one.solve(Float64Array.from([2]), x);
+    expect(x[0]).toBe(-0.5);
+  });
+});
