@@ -433,7 +433,12 @@ class ProblemCompiler {
     const pathInfo: ConstraintInfo[] = [];
     (p.path ?? []).forEach((c, k) => {
       const path: Seg[] = ["path", k];
-      const node = this.expression(c.expr, [...path, "expr"], pointScope, usedNames, nonSmoothAt);
+      const used = new Set<string>();
+      const node = this.expression(c.expr, [...path, "expr"], pointScope, used, nonSmoothAt);
+      used.forEach((u) => usedNames.add(u));
+      if (node && !pointBase.some((n) => used.has(n)) && !interNames.some((n) => used.has(n))) {
+        this.err([...path, "expr"], "the expression depends on no time, state or control");
+      }
       const b = boundsOf(c, path, "a path constraint");
       pathRaw.push(node);
       pathInfo.push({ name: constraintName(c.name, `path${k}`, path), ...b });

@@ -1,7 +1,8 @@
 /**
  * Locates the first syntax error of a JSON text (line and column, 1-based), because
  * JSON.parse's messages do not always carry a position. A small scanner over the JSON grammar
- * (RFC 8259); nesting deeper than MAX_JSON_NESTING is reported as an error too.
+ * (RFC 8259); nesting deeper than MAX_JSON_NESTING and duplicate field names in one object
+ * (which JSON.parse would silently resolve to the last one) are reported as errors too.
  */
 export const MAX_JSON_NESTING = 256;
 
@@ -23,7 +24,7 @@ export function lineColumn(text: string, pos: number): { line: number; column: n
   return { line, column: col };
 }
 
-/** Returns null when the text is valid JSON (within the nesting limit). */
+/** Returns null when the text is valid JSON (within the nesting limit, no duplicate fields). */
 export function findJsonError(text: string): JsonSyntaxError | null {
   let i = 0;
   const n = text.length;
@@ -70,10 +71,18 @@ export function findJsonError(text: string): JsonSyntaxError | null {
         i++;
         return;
       }
+      const keys = new Set<string>();
       for (;;) {
         ws();
         if (text[i] !== '"') fail(`expected a double-quoted field name, found ${describe()}`);
+        const keyStart = i;
         str();
+        const key = JSON.parse(text.slice(keyStart, i)) as string;
+        if (keys.has(key)) {
+          i = keyStart;
+          fail(`duplicate field '${key.slice(0, 40)}'`);
+        }
+        keys.add(key);
         ws();
         if (text[i] !== ":") fail(`expected ':' after the field name, found ${describe()}`);
         i++;
