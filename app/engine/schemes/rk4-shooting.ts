@@ -17,7 +17,8 @@
  *   stage rows   y_i − x_k − h_k T Σ_{j<i} a_ij f(t_k + c_j h_k T, y_j, u(c_j)) = 0,   y_1 = x_k
  *   step rows    x_{k+1} − x_k − h_k T Σ_i b_i f(t_k + c_i h_k T, y_i, u(c_i)) = 0
  *   cost         ∫L ≈ Σ_k h_k T Σ_i b_i L(stage i)  (the RK4 quadrature of the cost integral)
- *   path         at the nodes (k = 0..N), where the shooting states and the controls are.
+ *   path         at the nodes (k = 0..N) and at the stage points with 0 < c_i < 1 (stage state,
+ *                midpoint control): every point where the scheme pairs a state with a control.
  * Between nodes the state is reported by the cubic Hermite interpolant of (x_k, f_k, x_{k+1}, f_{k+1}).
  *
  * Costates: Hager 2000 shows the multiplier of the step equation of interval k approximates the
@@ -27,7 +28,7 @@ import type { CompiledProblem } from "../problem/types";
 import type { NlpResult } from "../nlp/types";
 import type { Mesh, Scheme, Solution, Transcription } from "./types";
 import { TranscriptionBuilder, meshBreakpoints, type PointRef } from "./builder";
-import { allocSeries, pathMultipliers, recoverCommon } from "./recover";
+import { allocSeries, recoverCommon } from "./recover";
 import { hermiteCubic, locate, quadratic3 } from "./interpolation";
 import { RK4_CLASSICAL, type ButcherTableau } from "./butcher";
 
@@ -57,6 +58,7 @@ export const rk4Shooting: Scheme = {
       throw new Error(`rk4-shooting: stage abscissa ${c} has no control value (supported: 0, 1/2, 1)`);
     };
     const steps: number[] = [];
+    const innerPathRows: number[][] = [];
     for (let k = 0; k < N; k++) {
       const h = tau[k + 1] - tau[k];
       const stagePts: PointRef[] = [];
@@ -81,8 +83,14 @@ export const rk4Shooting: Scheme = {
         ),
       );
       stagePts.forEach((p, i) => b.addRunningCost(p, h * tab.b[i]));
+      b.addPath(nodes[k], `node ${k}`);
+      const inner: number[] = [];
+      stagePts.forEach((p, i) => {
+        if (tab.c[i] > 0 && tab.c[i] < 1) inner.push(b.addPath(p, `interval ${k} stage ${i + 1}`));
+      });
+      innerPathRows.push(inner);
     }
-    for (let k = 0; k <= N; k++) b.addPath(nodes[k], `node ${k}`);
+    b.addPath(nodes[N], `node ${N}`);
     b.setEndpoints(xs[0], xs[N]);
     const asm = b.build();
     return {
@@ -107,12 +115,24 @@ export const rk4Shooting: Scheme = {
             for (let i = 0; i < nu; i++) controls[i][2 * k + 1] = r.X[um[k] + i];
           }
         }
+        // path multipliers on the control grid tu: node rows, and at midpoints the sum over the
+        // stages with c = ½ (both use the midpoint control)
+        const rk4PathMultipliers = (): Float64Array[] | null => {
+          const np = problem.pathInfo.length;
+          if (np === 0) return null;
+          const out = allocSeries(np, 2 * N + 1);
+          const nodeRows = b.pathRows.filter((r0) => !innerPathRows.some((rows) => rows.includes(r0)));
+          for (let k = 0; k <= N; k++) for (let i = 0; i < np; i++) out[i][2 * k] = r.lambda[nodeRows[k] + i];
+          for (let k = 0; k < N; k++)
+            for (const r0 of innerPathRows[k]) for (let i = 0; i < np; i++) out[i][2 * k + 1] += r.lambda[r0 + i];
+          return out;
+        };
         const tLambda = t.slice(1);
         const costates = allocSeries(nx, N);
         for (let k = 0; k < N; k++) for (let i = 0; i < nx; i++) costates[i][k] = -r.lambda[steps[k] + i];
         return {
           scheme: "rk4-shooting", t, states, tu, controls, tLambda, costates,
-          pathMultipliers: pathMultipliers(problem, b.pathRows, r.lambda),
+          pathMultipliers: rk4PathMultipliers(),
           t0: r.t0, tf: r.tf, objective: r.objective,
           stateAt(s, out) {
             const k = locate(t, s);
