@@ -6,9 +6,12 @@
  *   singular:       σ_j⁽²ᵖ⁾(t, x, λ, u) = 0 (affine in u_j: Newton converges in one step);
  *   boundary:       S⁽ᵖ⁾(t, x, u) = 0 together with ∂H̃/∂u_j = 0, which gives the multiplier η.
  * The unknowns q = (non-bang controls, η on a boundary arc) solve the square system above by
- * Newton's method with a forward-difference Jacobian (tolerance 1e-14 relative on q), started from
- * the direct solution's control at t clamped to the bounds, so that the law is a deterministic
- * function of (t, x, λ).
+ * Newton's method with a forward-difference Jacobian (tolerance 1e-14 relative on q). Starting
+ * points, in order: the last solution of this law when it was computed at a time within 1 % of the
+ * horizon (continuation along the integration: keeps the branch of periodic controls such as
+ * steering angles), then the direct solution's control at t clamped to the bounds. A root where an
+ * interior control has ∂²H̃/∂u_j² ≤ 0 (a maximum of H, violating Legendre–Clebsch) is rejected when
+ * another starting point gives a minimum.
  */
 import type { ArcKind } from "../arcs/types";
 import type { ConstraintDerivatives, OptimalityConditions, SingularDerivatives } from "./conditions";
@@ -41,6 +44,9 @@ export class ArcControlLaw {
   private readonly huBuf: Float64Array;
   private readonly spBuf: Float64Array;
   private readonly sgBuf: Float64Array[];
+  private readonly lastQ: Float64Array;
+  private lastT = NaN;
+  private readonly window: number;
 
   constructor(oc: OptimalityConditions, spec: ArcControlSpec, guess: ControlGuess) {
     this.oc = oc;
@@ -60,6 +66,9 @@ export class ArcControlLaw {
     this.huBuf = new Float64Array(oc.nu);
     this.spBuf = new Float64Array(spec.constraint ? spec.constraint.order + 1 : 0);
     this.sgBuf = spec.singular.map((s) => new Float64Array(s ? 2 * s.order + 1 : 0));
+    this.lastQ = new Float64Array(this.nq);
+    const h = oc.problem.horizon;
+    this.window = 0.01 * Math.abs((h.kind === "fixed" ? h.tf : h.upper) - h.t0);
   }
 
   /** Whether the arc has any control to solve for. */
@@ -98,7 +107,7 @@ export class ArcControlLaw {
    * Fills w = [t, x, u, λ, η] given w's t, x and λ entries; returns false when Newton fails.
    */
   solve(w: Float64Array): boolean {
-    const { oc, spec, free, nq, q, r, rp, J, dq } = this;
+    const { oc, spec, free, nq, q } = this;
     const controls = oc.problem.controls;
     this.guess(w[0], this.ug);
     for (let j = 0; j < oc.nu; j++) {
@@ -109,39 +118,79 @@ export class ArcControlLaw {
     }
     w[oc.iEta] = 0;
     if (nq === 0) return true;
-    for (let a = 0; a < free.length; a++) q[a] = w[oc.iU + free[a]];
-    if (spec.constraint) q[free.length] = 0;
-    for (let it = 0; it < MAX_NEWTON; it++) {
+    const starts: Float64Array[] = [];
+    if (Math.abs(w[0] - this.lastT) <= this.window) starts.push(Float64Array.from(this.lastQ));
+    const direct = new Float64Array(nq);
+    for (let a = 0; a < free.length; a++) direct[a] = w[oc.iU + free[a]];
+    starts.push(direct);
+    let fallback: Float64Array | null = null;
+    for (const start of starts) {
+      q.set(start);
+      const r = this.newton(w);
+      if (r === "fail") continue;
+      if (r === "minimum") {
+        this.lastQ.set(q);
+        this.lastT = w[0];
+        this.load(w, q);
+        return true;
+      }
+      fallback ??= Float64Array.from(q);
+    }
+    if (!fallback) return false;
+    q.set(fallback);
+    this.load(w, q);
+    return true;
+  }
+
+  /** Newton from q; "minimum" when interior rows have ∂²H̃/∂u² > 0 at the root. */
+  private newton(w: Float64Array): "minimum" | "stationary" | "fail" {
+    const { spec, free, nq, q, r, rp, J, dq } = this;
+    let converged = false;
+    for (let it = 0; it < MAX_NEWTON && !converged; it++) {
       this.load(w, q);
       this.residual(w, r);
-      if (!r.every(Number.isFinite)) return false;
-      for (let b = 0; b < nq; b++) {
-        const h = 1e-7 * (1 + Math.abs(q[b]));
-        const keep = q[b];
-        q[b] = keep + h;
-        this.load(w, q);
-        this.residual(w, rp);
-        q[b] = keep;
-        for (let a = 0; a < nq; a++) J[a * nq + b] = (rp[a] - r[a]) / h;
-      }
+      if (!r.every(Number.isFinite)) return "fail";
+      this.jacobianAt(w);
       for (let a = 0; a < nq; a++) dq[a] = -r[a];
-      if (!solveDense(J, dq, nq)) return false;
+      if (!solveDense(J, dq, nq)) return "fail";
       let big = 0;
       for (let a = 0; a < nq; a++) {
         q[a] += dq[a];
         big = Math.max(big, Math.abs(dq[a]) / (1 + Math.abs(q[a])));
       }
-      if (big <= 1e-14) {
-        this.load(w, q);
-        return true;
-      }
+      converged = big <= 1e-14;
     }
     this.load(w, q);
-    // Accept a stalled iteration whose residual is at rounding level.
+    if (!converged) {
+      // Accept a stalled iteration whose residual is at rounding level.
+      this.residual(w, r);
+      let rn = 0;
+      for (const v of r) rn = Math.max(rn, Math.abs(v));
+      if (!(rn <= 1e-12)) return "fail";
+    }
+    this.jacobianAt(w);
+    for (let a = 0; a < free.length; a++) {
+      if (spec.kinds[free[a]] === "interior" && !(J[a * nq + a] > 0)) return "stationary";
+    }
+    void rp;
+    return "minimum";
+  }
+
+  /** Forward-difference Jacobian of the residual in q at the current q (into J). */
+  private jacobianAt(w: Float64Array): void {
+    const { nq, q, r, rp, J } = this;
+    this.load(w, q);
     this.residual(w, r);
-    let rn = 0;
-    for (const v of r) rn = Math.max(rn, Math.abs(v));
-    return rn <= 1e-12;
+    for (let b = 0; b < nq; b++) {
+      const h = 1e-7 * (1 + Math.abs(q[b]));
+      const keep = q[b];
+      q[b] = keep + h;
+      this.load(w, q);
+      this.residual(w, rp);
+      q[b] = keep;
+      for (let a = 0; a < nq; a++) J[a * nq + b] = (rp[a] - r[a]) / h;
+    }
+    this.load(w, q);
   }
 }
 
