@@ -271,11 +271,19 @@ export function parseExpression(text: string, scope: ExprScope): ParsedExpressio
     };
 
     const checkEndpointCall = (name: string, args: MathNode[], column: number | undefined): void => {
+      // keep the occurrence counters of the argument names in step with the text
+      const countArgs = () => {
+        for (const a of args) a.traverse((n) => {
+          if (n.type === "SymbolNode") loc.word((n as unknown as { name: string }).name);
+        });
+      };
       if (!scope.endpointStates) {
         issues.push({ column, message: `${name}(...) may only be used in endpoint expressions (endpoint constraints, terminal objective)` });
+        countArgs();
         return;
       }
       if (args.length !== 1 || args[0].type !== "SymbolNode") {
+        countArgs();
         issues.push({ column, message: `${name}(...) takes one state name, e.g. ${name}(${[...scope.endpointStates][0] ?? "x"})` });
         return;
       }

@@ -551,6 +551,12 @@ class ProblemCompiler {
       }
     }
     if (series.length !== nSeries) throw new Error("guess series count mismatch");
+    if (horizon.kind === "free") {
+      if (guessSpec.finalTime !== undefined && ft && "free" in ft && ft.free.guess !== undefined && horizon.guess !== guessSpec.finalTime) {
+        this.warn(["guess", "finalTime"], `differs from horizon.finalTime.free.guess (${horizon.guess}); guess.finalTime is used`);
+      }
+      horizon.guess = guessTf; // one final-time guess for everybody
+    }
 
     // ---- references
     const reference: ProblemReference = {};
