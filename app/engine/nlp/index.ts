@@ -18,7 +18,12 @@ import type { SolverFactory } from "./kkt";
 export type { NlpOptions, NlpProblem, NlpResult, NlpStatus, IterationRecord } from "./types";
 export { OPTION_SPECS } from "./options";
 
-const defaultFactory: SolverFactory = (n, rows, cols) => new SymmetricSolver(n, rows, cols, { pivotTolerance: 1e-20 });
+/**
+ * Default linear solver: sparse LDLᵀ with the KKT pivot signs (constrained AMD ordering), and a
+ * pivot tolerance of 1e-20: Σ = Z/S legitimately reaches 1e-13 and below for variables far from
+ * their bounds, and an absolute 1e-13 would call those pivots zero (DEVELOPERS.md, Decisions).
+ */
+const defaultFactory: SolverFactory = (n, rows, cols, signs) => new SymmetricSolver(n, rows, cols, { pivotTolerance: 1e-20, signs });
 
 /** Structural checks of the problem; returns a message naming the field and position, or null. */
 function validate(p: NlpProblem): { status: NlpStatus; message: string } | null {

@@ -40,7 +40,10 @@ export class InertiaCorrection {
     const right = (dw: number, dc: number) => {
       count++;
       const r = kkt.factor(hVals, diag, dw, jVals, dc);
-      return { good: r.ok && r.zero === 0 && r.positive === N && r.negative === m, singular: !r.ok || r.zero > 0 || r.negative < m };
+      // A pivot replaced by the solver's signed regularisation (r.regularized) hides a zero
+      // eigenvalue: it counts as singular here, so that δ_c / δ_w are chosen by Algorithm IC.
+      const reg = r.regularized ?? 0;
+      return { good: r.ok && r.zero === 0 && reg === 0 && r.positive === N && r.negative === m, singular: !r.ok || r.zero > 0 || reg > 0 || r.negative < m };
     };
     const deltaCTrial = C.deltaCBar * Math.pow(mu, C.kappaC); // IC-2: δ_c = δ̄_c μ^κ_c
     let deltaC = this.jacobianSingular ? deltaCTrial : 0;

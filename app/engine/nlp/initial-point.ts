@@ -8,7 +8,7 @@
  * Constraint multipliers, least-squares estimate, eq. (36):
  *   [ I  Jᵀ ] [ v ]     [ ∇f − z_L + z_U ]
  *   [ J  0  ] [ λ ] = − [ 0              ]      λ₀ = 0 when ‖λ‖∞ > λ_max = 1e3.
- * The system reuses the KKT pattern of kkt.ts with W = 0, diagonal 1, and −δ̄_c I in the (2,2) block.
+ * The system reuses the KKT pattern of kkt.ts with W = 0 and diagonal 1.
  */
 import { CONSTANTS as C } from "./options";
 import type { KktSystem } from "./kkt";
@@ -45,10 +45,11 @@ export function leastSquaresMultipliers(
   const N = kkt.N, m = kkt.m;
   lambda.fill(0);
   if (m === 0) return true;
-  // δ_c = δ̄_c from the start: an LDLᵀ without pivoting meets a zero pivot in the empty (2,2)
-  // block for most orderings; the regularised estimate differs by O(δ̄_c) (common practice, no source).
-  const inertia = kkt.factor(null, ones, 0, jv, C.deltaCBar);
-  if (!(inertia.ok && inertia.zero === 0 && inertia.positive === N && inertia.negative === m)) return false;
+  // δ_c = 0 first (with the KKT pivot signs the ordering keeps the (2,2) block factorisable),
+  // then δ̄_c when the Jacobian is rank deficient; the regularised estimate differs by O(δ̄_c).
+  const good = (r: { ok: boolean; zero: number; regularized?: number; positive: number; negative: number }) =>
+    r.ok && r.zero === 0 && !r.regularized && r.positive === N && r.negative === m;
+  if (!good(kkt.factor(null, ones, 0, jv, 0)) && !good(kkt.factor(null, ones, 0, jv, C.deltaCBar))) return false;
   for (let i = 0; i < N; i++) rhs[i] = -(grad[i] - zL[i] + zU[i]);
   rhs.fill(0, N, N + m);
   kkt.solve(rhs, sol);

@@ -17,7 +17,7 @@
  */
 import type { Inertia, SymmetricSolverLike } from "../sparse/types";
 
-export type SolverFactory = (n: number, rows: Int32Array, cols: Int32Array) => SymmetricSolverLike;
+export type SolverFactory = (n: number, rows: Int32Array, cols: Int32Array, signs?: Int8Array) => SymmetricSolverLike;
 
 export class KktSystem {
   readonly N: number;
@@ -46,7 +46,10 @@ export class KktSystem {
     for (let k = 0; k < nnzJ; k++) { rows[this.dEnd + k] = N + jRows[k]; cols[this.dEnd + k] = jCols[k]; }
     for (let j = 0; j < m; j++) { rows[this.jEnd + j] = N + j; cols[this.jEnd + j] = N + j; }
     this.values = new Float64Array(total);
-    this.solver = factory(this.dim, rows, cols);
+    const signs = new Int8Array(this.dim);
+    signs.fill(1, 0, N);
+    signs.fill(-1, N, this.dim);
+    this.solver = factory(this.dim, rows, cols, signs);
   }
 
   /**

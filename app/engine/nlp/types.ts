@@ -108,8 +108,11 @@ export interface NlpOptions {
   divergingIterates?: number;
   /** "unbounded" when the objective falls below this at a feasible iterate. Default -1e20. */
   unboundedObjective?: number;
-  /** Factory of the symmetric indefinite solver (default: sparse LDLᵀ of app/engine/sparse). */
-  linearSolver?: (n: number, rows: Int32Array, cols: Int32Array) => SymmetricSolverLike;
+  /**
+   * Factory of the symmetric indefinite solver (default: sparse LDLᵀ of app/engine/sparse).
+   * `signs` gives the expected pivot signs of the KKT matrix (+1 primal rows, −1 constraint rows).
+   */
+  linearSolver?: (n: number, rows: Int32Array, cols: Int32Array, signs?: Int8Array) => SymmetricSolverLike;
 }
 
 export interface NlpResult {
