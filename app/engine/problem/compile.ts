@@ -29,9 +29,8 @@ import { parseTrajectoryCsv, type CsvTable } from "./csv";
 import { defaultStateEnds, makeGuess, midOrFinite, type EndRange, type GuessSeries } from "./guess";
 import { parseExpression, treeDepth, FUNCTION_ARITY, MAX_TREE_DEPTH, type ExprScope } from "../expr/validate";
 import { nearestName } from "../expr/suggest";
-import { compilePointFunction } from "../expr/compile";
+import { compilePointFunction, inputResolver, toDag } from "../expr/compile";
 import { Dag } from "../expr/dag";
-import { toDag, inputResolver } from "../expr/compile";
 import { substitute } from "../expr/derive";
 import { toTex } from "../expr/tex";
 import { Sha256 } from "./sha256";
@@ -598,6 +597,7 @@ class ProblemCompiler {
           if (k > 0) columns[h] = table.columns[k];
         });
         const traj: ReferenceTrajectory = { t: table.columns[0], columns, provenance: provenance(ref.trajectory.provenance) };
+        if (ref.trajectory.tolerance !== undefined) traj.tolerance = ref.trajectory.tolerance;
         reference.trajectory = traj;
       }
     } else if (this.files.referenceCsv !== undefined) {

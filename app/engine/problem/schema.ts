@@ -115,7 +115,7 @@ export const ReferenceSchema = z.strictObject({
   finalTime: ReferenceValueSchema.optional(),
   switchingTimes: z.strictObject({ values: z.array(z.number()), tolerance: Tolerance, provenance: ProvenanceSchema }).optional(),
   arcs: z.array(z.string().min(1)).optional(),
-  trajectory: z.strictObject({ file: FileName, provenance: ProvenanceSchema }).optional(),
+  trajectory: z.strictObject({ file: FileName, provenance: ProvenanceSchema, tolerance: Tolerance.optional() }).optional(),
 });
 
 export const DefaultsSchema = z.strictObject({

@@ -61,6 +61,8 @@ export interface ReferenceTrajectory {
   t: Float64Array;
   columns: Record<string, Float64Array>;
   provenance: Provenance;
+  /** Absolute tolerance of the trajectory values (max over the grid), when the file gives one. */
+  tolerance?: number;
 }
 
 export interface ProblemReference {
