@@ -450,7 +450,10 @@ export class MultipleShooting {
     return J;
   }
 
-  /** Dense trajectory at every accepted ODEX step: t, x, λ, u per point. */
+  /**
+   * Dense trajectory at every accepted ODEX step: t, x, λ, u per point. Junction times appear
+   * twice (left and right limits, different arcs); segment boundaries inside an arc once.
+   */
   trajectory(z: Float64Array): { t: number[]; x: number[][]; lambda: number[][]; u: number[][]; arc: number[] } | null {
     const { nx, nu } = this.problem;
     const T = this.times(z);
@@ -458,6 +461,8 @@ export class MultipleShooting {
     for (let k = 0; k < this.K; k++) {
       const a = this.segArc[k];
       const ok = this.integrate(k, z, T, (t, y) => {
+        const n = out.t.length;
+        if (n > 0 && out.arc[n - 1] === a && out.t[n - 1] === t) return; // segment boundary inside an arc
         const w = this.point(a, t, y);
         out.t.push(t);
         out.x.push(Array.from(y.subarray(0, nx)));
