@@ -35,7 +35,14 @@ const { startServer } = await import("./serve.mjs");
 try {
   const { server, url } = await startServer({ buildPath: serverBuild });
   console.log(`\n  Arcwatch is running at ${url}\n  Sign in with a demo account listed in README.md. Stop with Ctrl+C.\n`);
-  for (const signal of ["SIGTERM", "SIGINT"]) process.once(signal, () => server.close(() => process.exit(0)));
+  const stop = () => server.close(() => process.exit(0));
+  for (const signal of ["SIGTERM", "SIGINT"]) process.once(signal, stop);
+  // `npm start` killed by a signal does not always pass it on (e.g. `timeout`, `kill <npm pid>`):
+  // stop when the parent process is gone, so no server is left behind.
+  const parent = process.ppid;
+  setInterval(() => {
+    if (process.ppid !== parent) stop();
+  }, 1000).unref();
 } catch (err) {
   if (err && err.code === "EADDRINUSE") {
     console.error(`[arcwatch] port ${process.env.PORT ?? 3000} is in use; set PORT to another port.`);

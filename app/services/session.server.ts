@@ -44,6 +44,9 @@ export function sessionSecrets(): string[] {
   return [DEV_SECRET];
 }
 
+// Warn at server start (this module loads with the server build), not at the first request.
+sessionSecrets();
+
 let storage: { key: string; value: SessionStorage<SessionData, FlashData> } | undefined;
 
 export function secureCookies(): boolean {
