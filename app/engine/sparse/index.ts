@@ -3,15 +3,20 @@
  * (contract in ./types.ts).
  *
  * Construction (symbolic, once per pattern):
- *   triplets → upper CSC A with triplet→slot map        (triplet.ts)
- *   G = A + Aᵀ without diagonal → AMD permutation P     (csc.ts, amd.ts)
- *   C = P A Pᵀ upper-stored, slot map composed          (csc.ts)
- *   elimination tree and column counts of L; L allocated (etree.ts, ldl.ts)
+ *   triplets → upper CSC A with triplet→slot map                  (triplet.ts)
+ *   G = A + Aᵀ without diagonal                                   (csc.ts)
+ *   [signs given: match each −1 node to a distinct +1 neighbour]   (matching.ts)
+ *   AMD permutation P (constrained by the matching if any)        (amd.ts)
+ *   C = P A Pᵀ upper-stored, slot map composed                    (csc.ts)
+ *   elimination tree and column counts of L; L allocated           (etree.ts, ldl.ts)
  * factor(values): scatter the triplet values into C (O(nnz)), numeric LDLᵀ, inertia (ldl.ts).
- * solve(b, x): x = Pᵀ (L D Lᵀ)⁻¹ P b, then iterative refinement
- *   r = b − A x,  x ← x + (L D Lᵀ)⁻¹ r,  accepted only while ‖r‖∞ decreases
- *   (Wilkinson's iterative refinement; for sparse LDLᵀ without pivoting see Arioli, Demmel and Duff,
- *   "Solving sparse linear systems with sparse backward error", SIAM J. Matrix Anal. Appl. 10(2), 1989).
+ * solve(b, x): x = Pᵀ (L D Lᵀ)⁻¹ P b, then iterative refinement against C (the matrix given,
+ *   without any dynamic regularisation)
+ *     r = b − A x,  x ← x + (L D Lᵀ)⁻¹ r,  a step kept only if ‖r‖∞ decreases,
+ *   stopping once ‖r‖∞ ≤ 4ε (‖A‖∞‖x‖∞ + ‖b‖∞) (Wilkinson, "Rounding Errors in Algebraic
+ *   Processes", 1963; Skeel, "Iterative refinement implies numerical stability for Gaussian
+ *   elimination", Math. Comp. 35, 1980; Arioli, Demmel and Duff, "Solving sparse linear systems
+ *   with sparse backward error", SIAM J. Matrix Anal. Appl. 10(2), 1989).
  * factor and solve allocate nothing except the small Inertia object returned by factor.
  */
 import { amdOrder, type AmdInfo } from "./amd";
@@ -46,8 +51,9 @@ export interface SymmetricSolverOptions {
   /**
    * Expected pivot signs (Int8Array(n) of +1/−1), e.g. kktSigns(N, m) for [[W, Jᵀ], [J, −δc I]].
    * When given: (1) the AMD ordering is constrained so that each −1 node is eliminated after a
-   * distinct +1 neighbour of its own (matching.ts, amd.ts `partner`); (2) a pivot with |d| ≤ pivotTolerance is replaced by
-   * sign·regularization instead of being a zero pivot (ldl.ts); refinement in solve() is done
+   * distinct +1 neighbour of its own (matching.ts, amd.ts `partner`); (2) a pivot with
+   * |d| ≤ pivotTolerance is replaced by sign·regularization instead of being a zero pivot
+   * (ldl.ts); refinement in solve() is done
    * against the unregularised matrix. Then `zero` counts only NaN pivots, and `regularized` the
    * replaced ones.
    */
