@@ -162,10 +162,14 @@ describe("failure cases are results", () => {
     expect(new SymmetricSolver(2, D.rows, D.cols, { pivotTolerance: 1e-10 }).factor(D.values)).toEqual({ ok: true, positive: 2, negative: 0, zero: 0 });
   });
 
-  it("a NaN value gives ok = false, not an exception", () => {
-    const D = fromEntries(3, [[0, 0, 1], [1, 0, NaN], [1, 1, 2], [2, 2, 1]]);
-    const s = new SymmetricSolver(3, D.rows, D.cols);
-    expect(s.factor(D.values).ok).toBe(false);
+  it("a NaN or infinite value gives ok = false, not an exception", () => {
+    for (const bad of [NaN, Infinity, -Infinity]) {
+      const D = fromEntries(3, [[0, 0, 1], [1, 0, bad], [1, 1, 2], [2, 2, 1]]);
+      const s = new SymmetricSolver(3, D.rows, D.cols);
+      expect(s.factor(D.values).ok).toBe(false);
+      const E = fromEntries(2, [[0, 0, bad], [1, 1, 1]]);
+      expect(new SymmetricSolver(2, E.rows, E.cols).factor(E.values).ok).toBe(false);
+    }
   });
 
   it("rank-deficient PSD matrix B Bᵀ (rank r): r positive pivots and n − r zero pivots", () => {

@@ -10,7 +10,7 @@
  *  splitting solver for quadratic programs", Math. Program. Comput. 12, 2020).
  *
  * Inertia: by Sylvester's law of inertia the signs of d_k are the signs of the eigenvalues of A
- * (valid whenever every d_k ≠ 0). A pivot with |d_k| ≤ pivotTolerance (or NaN) is counted as zero and
+ * (valid whenever every d_k ≠ 0). A pivot with |d_k| ≤ pivotTolerance (or NaN, ±∞) is counted as zero and
  * makes the factorisation unusable (ok = false); it is then replaced by a decoupled pivot
  * (1/d_k := 0, so column k of L is zero) and the factorisation continues, so that the counts of the
  * remaining pivots are still reported. Without pivoting the factorisation exists for every
@@ -165,14 +165,17 @@ export function ldlNumeric(
     }
     D[k] = dk;
 
-    if (dk > pivotTolerance) {
+    if (dk - dk !== 0) {
+      zero++; // NaN or ±Infinity: not a usable pivot
+      Dinv[k] = 0;
+    } else if (dk > pivotTolerance) {
       positive++;
       Dinv[k] = 1 / dk;
     } else if (dk < -pivotTolerance) {
       negative++;
       Dinv[k] = 1 / dk;
     } else {
-      zero++; // |d_k| ≤ tolerance, or NaN
+      zero++; // |d_k| ≤ tolerance
       Dinv[k] = 0;
     }
   }
