@@ -214,6 +214,48 @@ describe("constrained ordering for KKT matrices", () => {
     );
   });
 
+  it("random patterns with random constrained subsets and hub rows: valid order, precedence kept, exact fill", () => {
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 2, max: 60 }),
+        fc.double({ min: 0, max: 4, noNaN: true }),
+        fc.double({ min: 0, max: 0.7, noNaN: true }),
+        fc.integer({ min: 0, max: 2 }),
+        fc.integer({ min: 0, max: 2 ** 31 - 1 }),
+        (n, density, fraction, hubs, seed) => {
+          const base = randomPattern(n, density, seed);
+          const rows = Array.from(base.rows);
+          const cols = Array.from(base.cols);
+          for (let h = 0; h < hubs && h < n; h++) for (let i = 0; i < n; i++) if (i !== h) rows.push(Math.max(i, h)), cols.push(Math.min(i, h));
+          const R = Int32Array.from(rows);
+          const C = Int32Array.from(cols);
+          const r = rng(seed ^ 0x9e3779b9);
+          const constrained = Uint8Array.from({ length: n }, () => (r() < fraction ? 1 : 0));
+          const { A } = tripletsToUpperCsc(n, R, C);
+          const G = symmetricAdjacency(A);
+          const partner = matchConstrained(G, constrained);
+          const info = { denseRows: 0, compressions: 0, releases: 0 };
+          const perm = amdOrder(G, { constrained, partner }, info);
+          expect(isPermutation(perm, n)).toBe(true);
+          const pinv = new Int32Array(n);
+          for (let k = 0; k < n; k++) pinv[perm[k]] = k;
+          const denseThreshold = Math.min(n - 2, Math.max(16, Math.floor(10 * Math.sqrt(n))));
+          const degree = (i: number) => G.colPtr[i + 1] - G.colPtr[i];
+          for (let c = 0; c < n; c++) {
+            const q = partner[c];
+            if (q < 0 || degree(c) > denseThreshold || degree(q) > denseThreshold) continue;
+            expect(pinv[q]).toBeLessThan(pinv[c]);
+          }
+          expect(info.releases).toBe(0);
+          const signs = Int8Array.from(constrained, (v) => (v ? -1 : 1));
+          const s = new SymmetricSolver(n, R, C, { signs });
+          expect(s.nnzL).toBe(denseSymbolicNnzL(n, R, C, s.perm));
+        },
+      ),
+      { numRuns: 300, seed: 31337 },
+    );
+  });
+
   it("orders every matched constraint row after its partner and keeps a valid permutation", () => {
     for (let seed = 1; seed <= 30; seed++) {
       const n1 = 60;
