@@ -29,7 +29,13 @@ export const OPTION_SPECS = {
   lbfgsMemory: { default: 6, help: "Number of stored pairs for the limited-memory Hessian." },
   divergingIterates: { default: 1e20, help: "Status 'diverging' when max|x| exceeds this." },
   unboundedObjective: { default: -1e20, help: "Status 'unbounded' when the unscaled objective falls below this at a feasible iterate." },
+  warmStart: { default: null, help: "{ lambda, zL, zU, mu } of a previous solve (x from problem.x0); bound push shrinks to μ₀ ∈ [1e-9, 1e-2]." },
+  onIteration: { default: null, help: "Callback receiving each IterationRecord (progress display)." },
+  linearSolver: { default: null, help: "Factory (n, rows, cols, signs) of the symmetric indefinite solver; default sparse LDLᵀ (app/engine/sparse)." },
 } as const;
+
+/** Options that are objects or callbacks: passed through, not resolved. */
+const PASS_THROUGH = new Set(["warmStart", "onIteration", "linearSolver"]);
 
 /**
  * Algorithmic constants (not user options). Each cites its equation in W&B.
@@ -113,6 +119,7 @@ export function resolveOptions(o: NlpOptions | undefined): ResolvedOptions {
   const r = {} as Record<string, unknown>;
   const given = (o ?? {}) as Record<string, unknown>;
   for (const [k, spec] of Object.entries(OPTION_SPECS)) {
+    if (PASS_THROUGH.has(k)) continue;
     const v = given[k];
     r[k] = v === undefined ? spec.default : v;
   }
@@ -127,4 +134,12 @@ export function resolveOptions(o: NlpOptions | undefined): ResolvedOptions {
   if (!Number.isInteger(res.lbfgsMemory) || res.lbfgsMemory < 1) throw new Error(`options.lbfgsMemory: must be a positive integer`);
   if (res.hessian !== "exact" && res.hessian !== "limited-memory") throw new Error(`options.hessian: must be "exact" or "limited-memory", got ${String(res.hessian)}`);
   return res;
+}
+
+/** A default as DEVELOPERS.md prints it ("1e-8", "none", "\"exact\""). */
+export function formatDefault(v: unknown): string {
+  if (v === null) return "none";
+  if (typeof v === "string") return `"${v}"`;
+  if (typeof v === "number" && v !== 0 && Number.isFinite(v) && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e5)) return v.toExponential().replace("e+", "e");
+  return String(v);
 }
