@@ -181,3 +181,35 @@ export function exactMinimumDegreeNnzL(n: number, rows: Int32Array, cols: Int32A
   }
   return nnzL;
 }
+
+/**
+ * KKT matrix [[W + Σ, Jᵀ], [J, 0]] of the trapezoidal transcription of the swing-trolley problem
+ * of bench/ldl.bench.ts (N intervals, states θ, ω, c, control u), δw = δc = 0. W is zero in the ω
+ * and c rows. Lower triplets with values, and the dense copy.
+ */
+export function trolleyKkt(N: number): SymTriplets & { nVar: number; nCon: number } {
+  const h = 5 / N;
+  const nVar = 4 * (N + 1);
+  const nCon = 3 * N + 3;
+  const e: Array<[number, number, number]> = [];
+  const theta = (k: number) => 0.8 * Math.sin((2 * Math.PI * k) / N);
+  const u = (k: number) => 1.5 * Math.cos((3 * Math.PI * k) / N);
+  for (let k = 0; k <= N; k++) {
+    const wgt = k === 0 || k === N ? h / 2 : h;
+    const b = 4 * k;
+    e.push([b, b, wgt * (0.3 * Math.sin(theta(k)) + 2)], [b + 1, b + 1, 0], [b + 2, b + 2, 0]);
+    e.push([b + 3, b + 3, wgt * 2 + 0.1 / (u(k) + 2) + 0.1 / (2 - u(k))]);
+  }
+  for (let s = 0; s < 3; s++) e.push([nVar + s, s, 1]);
+  for (let k = 0; k < N; k++) {
+    for (const [side, node] of [[-1, k], [1, k + 1]] as const) {
+      const b = 4 * node;
+      const r0 = nVar + 3 + 3 * k;
+      e.push([r0, b, side], [r0, b + 1, -h / 2]);
+      e.push([r0 + 1, b, (h / 2) * Math.cos(theta(node))], [r0 + 1, b + 1, side + (h / 2) * 0.2], [r0 + 1, b + 3, -h / 2]);
+      e.push([r0 + 2, b, -h * theta(node)], [r0 + 2, b + 2, side], [r0 + 2, b + 3, -h * u(node)]);
+    }
+  }
+  for (let r = 0; r < nCon; r++) e.push([nVar + r, nVar + r, 0]);
+  return { ...fromEntries(nVar + nCon, e), nVar, nCon };
+}

@@ -200,8 +200,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     ldlNumeric(this.C, Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork, this.signsPermuted, this.regularization);
     this.normA = symmetricNormInf(this.C, Cx, this.xt);
     this.factored = true;
-    const { ok, positive, negative, zero, regularized } = this.inertiaWork;
-    return this.signsPermuted === null ? { ok, positive, negative, zero } : { ok, positive, negative, zero, regularized };
+    const { ok, positive, negative, zero, regularized, regularizedNegative } = this.inertiaWork;
+    return this.signsPermuted === null ? { ok, positive, negative, zero } : { ok, positive, negative, zero, regularized, regularizedNegative };
   }
 
   /**

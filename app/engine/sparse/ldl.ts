@@ -108,6 +108,7 @@ export function ldlNumeric(
   let negative = 0;
   let zero = 0;
   let regularized = 0;
+  let regularizedNegative = 0;
 
   for (let i = 0; i < n; i++) {
     yMarkers[i] = 0;
@@ -162,6 +163,7 @@ export function ldlNumeric(
       // signed dynamic regularisation: a tiny pivot takes its expected sign (NaN stays a zero pivot)
       dk = signs[k] * regularization;
       regularized++;
+      if (signs[k] < 0) regularizedNegative++;
     }
     D[k] = dk;
 
@@ -184,6 +186,7 @@ export function ldlNumeric(
   inertia.negative = negative;
   inertia.zero = zero;
   inertia.regularized = regularized;
+  inertia.regularizedNegative = regularizedNegative;
   return inertia;
 }
 

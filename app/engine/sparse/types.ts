@@ -23,6 +23,13 @@ export interface Inertia {
    * signs); they are counted in positive/negative by their expected sign. Absent or 0 otherwise.
    */
   regularized?: number;
+  /**
+   * Of those, the ones with expected sign −1 (the constraint rows of a KKT matrix). A regularised
+   * +1 pivot is the usual sign of a zero row of W with δw = 0, which a 1×1-pivot LDLᵀ cannot avoid
+   * and refinement corrects; a regularised −1 pivot (with the matched ordering) points to
+   * dependent constraint rows.
+   */
+  regularizedNegative?: number;
 }
 
 export interface SymmetricSolverLike {
