@@ -7,7 +7,7 @@
  *
  * Calibration: a fixed numeric kernel — C = A·B for 160×160 dense Float64Array matrices with
  * deterministic entries — timed in batches before and after the suite (run level) and, shorter,
- * in each worker right before each case (case level, `quickCalibration`). A case time divided by
+ * interleaved with each case's timed repeats (case level, `CaseCalibration`). A case time divided by
  * the calibration time measured beside it is far less sensitive to how busy the machine was
  * than the raw time (on a shared machine the run-level figure moved 3× within one run).
  */
@@ -78,20 +78,32 @@ function operands(): { a: Float64Array; b: Float64Array; c: Float64Array } {
 }
 
 /**
- * Short per-case calibration, run by the worker right before a case's timed repeats so that it
- * sees the same machine load: median seconds of `count` single multiplies after one untimed one.
+ * Calibration measured beside a case: one untimed warm-up multiply at creation (and a ~50 ms
+ * warm-up the first time in a thread, so the kernel is compiled before anything is timed), then
+ * `tick()` times one multiply and keeps it. The case worker calls `tick()` after every timed
+ * repeat (tinybench afterEach hook, outside the timed region), so the calibration sees the same
+ * machine load as the samples it normalises; `seconds()` is the median of the ticks.
  */
-export function quickCalibration(count = 5): number {
-  const { a, b, c } = operands();
-  let sink = multiply(a, b, c);
-  const s: number[] = [];
-  for (let k = 0; k < count; k++) {
+let kernelWarm = false;
+export class CaseCalibration {
+  private readonly ops = operands();
+  private readonly ticks: number[] = [];
+  private sink = 0;
+  constructor() {
     const t = performance.now();
-    sink += multiply(a, b, c);
-    s.push((performance.now() - t) / 1000);
+    do this.sink += multiply(this.ops.a, this.ops.b, this.ops.c);
+    while (!kernelWarm && performance.now() - t < 50);
+    kernelWarm = true;
   }
-  if (!Number.isFinite(sink)) throw new Error("calibration kernel produced a non-finite checksum");
-  return median(s);
+  tick(): void {
+    const t = performance.now();
+    this.sink += multiply(this.ops.a, this.ops.b, this.ops.c);
+    this.ticks.push((performance.now() - t) / 1000);
+  }
+  seconds(): number | null {
+    if (!Number.isFinite(this.sink)) throw new Error("calibration kernel produced a non-finite checksum");
+    return this.ticks.length ? median(this.ticks) : null;
+  }
 }
 
 export function calibrate(): Calibration {

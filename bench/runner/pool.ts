@@ -21,6 +21,7 @@ export interface PoolOptions {
   budgetSeconds: number;
   repeats: number;
   warmup: number;
+  clock?: "wall" | "cpu";
   /** Path of the executor module the workers import. */
   executorModule: string;
   context: ExecutorContext;
@@ -99,7 +100,7 @@ function runOn(slot: Slot, spec: CaseSpec, opts: PoolOptions): Promise<{ outcome
     slot.worker.once("error", onError);
     slot.worker.once("exit", onExit);
     opts.signal?.addEventListener("abort", onAbort, { once: true });
-    slot.worker.postMessage({ type: "run", spec, repeats: opts.repeats, warmup: opts.warmup });
+    slot.worker.postMessage({ type: "run", spec, repeats: opts.repeats, warmup: opts.warmup, clock: opts.clock ?? "wall" });
   });
 }
 

@@ -115,6 +115,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     baseline = isBranch || !full ? { branch: opts.baseline } : { commit: full };
   }
 
+  const jobs = opts.jobs ?? def.jobs;
+  if (def.clock === "cpu" && jobs !== 1) throw new Error(`suite ${def.name}: clock "cpu" needs jobs = 1, got ${jobs}`);
   const machine = machineInfo();
   const key = machineKey(machine);
   const calBefore: Calibration = calibrate();
@@ -126,7 +128,7 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     machine,
     machineKey: key,
     calibrationSeconds: calBefore.seconds,
-    extraMachine: { calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind },
+    extraMachine: { calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind, clock: def.clock, jobs },
     solverLabel: plan.label,
     externalRepo: plan.repository,
     jobId: opts.jobId ?? null,
@@ -135,7 +137,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const progress = new Progress(cases.length, opts.progress === undefined ? process.stderr : opts.progress);
   let recordError: Error | null = null;
   const outcomes = await runCases(cases, {
-    jobs: opts.jobs ?? def.jobs,
+    jobs,
+    clock: def.clock,
     budgetSeconds: def.timeBudgetSeconds,
     repeats: def.repeats,
     warmup: def.warmup,

@@ -24,7 +24,7 @@ export const DEFAULT_THRESHOLDS: Thresholds = {
   bootstrapReplicates: 2000,
   driftMinShift: Math.log(1.1),
   driftMinHistory: 6,
-  calibrate: true,
+  calibrate: false,
 };
 
 const meshSchema = z
@@ -83,6 +83,11 @@ export const suiteSchema = z
     timeBudgetSeconds: z.number().positive().default(60),
     /** Cases run at the same time (worker threads). */
     jobs: z.number().int().min(1).max(64).default(1),
+    /**
+     * "wall": performance.now(). "cpu": CPU seconds of the process (process.cpuUsage), which a busy
+     * shared machine perturbs far less; needs jobs = 1 since the process's other workers would count.
+     */
+    clock: z.enum(["wall", "cpu"]).default("wall"),
     solver: solverSchema.default({ kind: "builtin" }),
     thresholds: z
       .object({
@@ -102,7 +107,8 @@ export const suiteSchema = z
       .strict()
       .default({}),
   })
-  .strict();
+  .strict()
+  .refine((s) => s.clock === "wall" || s.jobs === 1, { path: ["jobs"], message: 'clock "cpu" needs jobs = 1 (process CPU time would include the other workers)' });
 
 export type SuiteFile = z.infer<typeof suiteSchema>;
 
