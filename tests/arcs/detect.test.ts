@@ -51,8 +51,11 @@ describe("bang–singular–bang (H affine in u)", () => {
     const s = detectArcs(problem, sampledSolution(t, [x], [u], [lam]));
     expect(s.signature).toBe("upper|singular|lower");
     expect(s.usedSwitchingFunction).toBe(true);
-    expect(Math.abs(s.controls[0].junctions[0] - 0.3)).toBeLessThan(h);
-    expect(Math.abs(s.controls[0].junctions[1] - 0.7)).toBeLessThan(h);
+    expect(s.costateSign).toBe(1);
+    // σ is small next to the junctions (|σ| < 0.25 max|σ| there), so it does not relabel the
+    // ringing: the same two-interval tolerance as without costates.
+    expect(Math.abs(s.controls[0].junctions[0] - 0.3)).toBeLessThan(2 * h);
+    expect(Math.abs(s.controls[0].junctions[1] - 0.7)).toBeLessThan(2 * h);
   });
 
   it("absorbs the opposite costate sign convention", () => {
@@ -120,10 +123,10 @@ describe("state-constrained arc (Bryson–Denham construction)", () => {
   it("finds interior|boundary:x|interior with junctions near 3ℓ and 1 − 3ℓ", () => {
     const s = detectArcs(problem, sampledSolution(t, [x, v], [u]));
     expect(s.signature).toBe("interior|boundary:x|interior");
-    // The distance to the bound grows like (t − t1)³, so the activity threshold (1e-5 relative)
-    // is reached within 3ℓ·(1e-5)^(1/3) ≈ 0.007 of the junction.
-    expect(Math.abs(s.controls[0].junctions[0] - 3 * l)).toBeLessThan(0.01);
-    expect(Math.abs(s.controls[0].junctions[1] - (1 - 3 * l))).toBeLessThan(0.01);
+    // The distance to the bound grows like (t − t1)³, so the activity threshold (1e-4 relative)
+    // is reached within 3ℓ·(1e-4)^(1/3) ≈ 0.015 of the junction.
+    expect(Math.abs(s.controls[0].junctions[0] - 3 * l)).toBeLessThan(0.02);
+    expect(Math.abs(s.controls[0].junctions[1] - (1 - 3 * l))).toBeLessThan(0.02);
   });
 });
 
@@ -165,7 +168,7 @@ describe("path constraint and two controls", () => {
     expect(s.controls.map((c) => c.control)).toEqual(["u1", "u2"]);
     expect(s.signature).toBe("u1=upper|lower;u2=interior|boundary:q|interior");
     const j = s.controls[1].junctions;
-    // Distance (t − t1)² reaches the threshold 1e-5·0.25 within 1.6e-3 of the junction; grid 1/150.
+    // Distance (t − t1)² reaches the threshold 1e-4·0.25 within 5e-3 of the junction; grid 1/150.
     expect(Math.abs(j[0] - 0.5)).toBeLessThan(0.01);
     expect(Math.abs(j[1] - 0.8)).toBeLessThan(0.01);
   });

@@ -38,3 +38,13 @@ describe("filterRuns", () => {
     expect(r).toEqual([{ label: "lower", k0: 0, k1: 5 }]);
   });
 });
+
+describe("filterRuns minimum points", () => {
+  it("does not make an arc of a single grid point between two bang arcs", () => {
+    // One point at u = 0 between upper and lower (a trapezoidal switch); its extent is one grid
+    // spacing (0.025 here), above minDuration 0.02, but it is a single point.
+    const lab = labels([["upper", 20], ["singular", 1], ["lower", 20]]);
+    const r = filterRuns(runsOf(lab), grid(lab.length), 0, 1, 0.02, 2);
+    expect(r.map((q) => q.label)).toEqual(["upper", "lower"]);
+  });
+});

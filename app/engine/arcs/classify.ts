@@ -8,7 +8,8 @@
  *                  |c − bound| ≤ τ_c · max_k |c_k − bound|   (τ_c = activeTol), or in a stretch
  *                  between two active points where |c − bound| stays ≤ τ_b · max_k |c_k − bound|
  *                  (τ_b = bridgeTol: the dip of direct solutions between the touch points that
- *                  mark a higher-order boundary arc)
+ *                  mark a higher-order boundary arc), or where a path constraint's multiplier
+ *                  stands clearly above the interior-point floor (constants below)
  *   "singular" otherwise if H is affine in u_j, unless the switching function is clearly nonzero
  *              (|σ| > τ_σ max|σ|), in which case the sign of σ picks the bound (mesh noise,
  *              pseudospectral ringing on a bang arc)
@@ -19,6 +20,13 @@
  */
 import type { CompiledProblem } from "../problem/types";
 import type { Solution } from "../schemes/types";
+
+/** A multiplier counts when ≥ multiplierShare · max|μ| (common practice, no source). */
+export const multiplierShare = 0.02;
+/** ... and only when max|μ| ≥ multiplierSeparation · median|μ| (the interior-point floor μ/s). */
+export const multiplierSeparation = 100;
+/** ... and the value is within nearTol · scale of the bound. */
+export const nearTol = 1e-2;
 
 /** One monitored constraint side: value d_k = distance to its bound (≥ 0 when feasible). */
 export interface ConstraintDistance {
@@ -57,7 +65,7 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
     for (let i = 0; i < nx; i++) sval[i][k] = x[i];
   }
   const out: ConstraintDistance[] = [];
-  const add = (name: string, v: Float64Array, bound: number, side: 1 | -1) => {
+  const add = (name: string, v: Float64Array, bound: number, side: 1 | -1, mu: Float64Array | null = null) => {
     if (!Number.isFinite(bound)) return;
     const d = new Float64Array(nt);
     let scale = 1e-12;
@@ -68,6 +76,18 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
     const threshold = activeTol * scale;
     const active = new Uint8Array(nt);
     for (let k = 0; k < nt; k++) if (d[k] <= threshold) active[k] = 1;
+    // Multipliers: a path constraint is also active where its multiplier (in magnitude: schemes
+    // may scale or sign it differently; the value test picks the side) stands clearly above the interior-point noise floor and the value is near the bound.
+    if (mu && mu.length === nt) {
+      const a = Array.from(mu, (m) => Math.abs(m)).sort((x, y) => x - y);
+      const median = a[a.length >> 1];
+      const top = a[a.length - 1];
+      if (top > 0 && top >= multiplierSeparation * median) {
+        for (let k = 0; k < nt; k++) {
+          if (Math.abs(mu[k]) >= multiplierShare * top && d[k] <= nearTol * scale) active[k] = 1;
+        }
+      }
+    }
     if (!active.includes(1)) return;
     // Bridging: direct solutions of higher-order state constraints often touch the bound at the
     // arc's ends and dip slightly in between; a gap between active points whose distance stays
@@ -87,8 +107,9 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
   for (let m = 0; m < np; m++) {
     const info = problem.pathInfo[m];
     if (info.lower === info.upper) continue; // an equality path constraint is always active
-    add(info.name, cval[m], info.lower, 1);
-    add(info.name, cval[m], info.upper, -1);
+    const mu = sol.pathMultipliers ? sol.pathMultipliers[m] : null;
+    add(info.name, cval[m], info.lower, 1, mu);
+    add(info.name, cval[m], info.upper, -1, mu);
   }
   for (let i = 0; i < nx; i++) {
     add(problem.states[i].name, sval[i], problem.states[i].lower, 1);

@@ -18,10 +18,11 @@ import { structureSignature } from "./types";
 
 export const arcDefaults: Required<ArcDetectionOptions> = {
   boundTol: 1e-3,
-  activeTol: 1e-5,
+  activeTol: 1e-4,
   bridgeTol: 5e-3,
-  switchTol: 2e-2,
+  switchTol: 0.25,
   minFraction: 0.02,
+  minPoints: 2,
 };
 
 /** Sample point-function inputs z = [t, x, u] at a few grid points (for affinity checks). */
@@ -82,7 +83,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
       lower: c.lower, upper: c.upper, u, affine: affine[j], sigma: sj,
       constraints, boundTol: opt.boundTol, switchTol: opt.switchTol,
     });
-    const runs = filterRuns(runsOf(labels), tu, sol.t0, sol.tf, minDuration);
+    const runs = filterRuns(runsOf(labels), tu, sol.t0, sol.tf, minDuration, opt.minPoints);
     const ctx = {
       tu, u, lower: c.lower, upper: c.upper, tolU: opt.boundTol * controlRange(c.lower, c.upper, u),
       sigma: sj, constraints,

@@ -35,19 +35,20 @@ export function runExtent(run: Run, t: ArrayLike<number>, t0: number, tf: number
 export const gapMajority = 0.75;
 
 /**
- * Filtered runs. A run is stable when its extent is at least minDuration; only stable runs and
+ * Filtered runs. A run is stable when its extent is at least minDuration and it has at least
+ * minPoints grid points; only stable runs and
  * clear majorities inside the gaps between them become arcs, so fragments never add up into a
  * spurious arc (ringing mixes labels) while a real arc broken by noise (one label holding at least
  * gapMajority of a gap at least minDuration long) survives. Consecutive arcs with the same label
  * merge. Returned runs may leave gaps (k0 > previous k1 + 1): the junction lies inside the gap.
  */
-export function filterRuns(input: Run[], t: ArrayLike<number>, t0: number, tf: number, minDuration: number): Run[] {
+export function filterRuns(input: Run[], t: ArrayLike<number>, t0: number, tf: number, minDuration: number, minPoints = 1): Run[] {
   if (input.length <= 1) return input.map((r) => ({ ...r }));
   const len = (r: Run) => {
     const [a, b] = runExtent(r, t, t0, tf);
     return b - a;
   };
-  const stable = input.filter((r) => len(r) >= minDuration).map((r) => ({ ...r }));
+  const stable = input.filter((r) => len(r) >= minDuration && r.k1 - r.k0 + 1 >= minPoints).map((r) => ({ ...r }));
   const nLast = input[input.length - 1].k1;
   if (stable.length === 0) {
     const longest = input.reduce((a, b) => (len(b) > len(a) ? b : a));
@@ -64,10 +65,9 @@ export function filterRuns(input: Run[], t: ArrayLike<number>, t0: number, tf: n
     const share = new Map<string, number>();
     for (const r of frag) share.set(r.label, (share.get(r.label) ?? 0) + len(r));
     for (const [label, d] of share) {
-      if (d >= gapMajority * (b - a)) {
-        const mine = frag.filter((r) => r.label === label);
-        return { label, k0: mine[0].k0, k1: mine[mine.length - 1].k1 };
-      }
+      const mine = frag.filter((r) => r.label === label);
+      const points = mine.reduce((n, r) => n + r.k1 - r.k0 + 1, 0);
+      if (d >= gapMajority * (b - a) && points >= minPoints) return { label, k0: mine[0].k0, k1: mine[mine.length - 1].k1 };
     }
     return null;
   };

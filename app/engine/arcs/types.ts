@@ -50,7 +50,7 @@ export interface ArcDetectionOptions {
   boundTol?: number;
   /**
    * A constraint is active when |c − bound| ≤ activeTol · scale, scale = max over the grid of
-   * |c − bound|. Default 1e-5.
+   * |c − bound|. Default 1e-4.
    */
   activeTol?: number;
   /**
@@ -58,10 +58,17 @@ export interface ArcDetectionOptions {
    * (direct solutions dip between the touch points of a higher-order boundary arc). Default 5e-3.
    */
   bridgeTol?: number;
-  /** Switching function counts as zero when |σ| ≤ switchTol · max|σ|. Default 2e-2. */
+  /**
+   * The switching function is clearly nonzero when |σ| > switchTol · max|σ|: such points with an
+   * interior control value are relabelled by the sign of σ (ringing on a bang arc), and only such
+   * bang points decide the costate sign. Default 0.25 (costate estimates of low-order schemes are
+   * a few per cent off on singular arcs).
+   */
   switchTol?: number;
   /** Arcs shorter than minFraction · (tf − t0) are merged into their neighbours. Default 0.02. */
   minFraction?: number;
+  /** A run with fewer grid points than this is never an arc on its own. Default 2. */
+  minPoints?: number;
 }
 
 /** Label of one arc as used in signatures: "upper", "singular", "boundary:qmax". */
