@@ -28,7 +28,7 @@ import {
   allocateLdlWorkspace,
   ldlNumeric,
   ldlSolveInPlace,
-  ldlSymbolicFromCounts,
+  ldlSymbolic,
   type LdlFactor,
   type LdlSymbolic,
   type LdlWorkspace,
@@ -109,8 +109,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private readonly pivotTolerance: number;
   private readonly signsPermuted: Int8Array | null;
   private readonly regularization: number;
-  /** ‖A‖∞ of the last factored matrix. */
-  private normA = 0;
+  /** ‖A‖∞ of the last factored matrix (−1 until a solve needs it). */
+  private normA = -1;
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
   private factored = false;
   // solve() workspaces, length n
@@ -174,7 +174,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const Lnz = new Int32Array(n);
     const flag = new Int32Array(n);
     this.nnzL = eliminationTree(C, parent, Lnz, flag);
-    this.sym = ldlSymbolicFromCounts(n, parent, Lnz);
+    this.sym = ldlSymbolic(C, parent, Lnz);
     this.fac = allocateLdlFactor(this.sym);
     this.ws = allocateLdlWorkspace(n);
     this.bp = new Float64Array(n);
@@ -198,7 +198,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     Cx.fill(0);
     for (let t = 0; t < this.nT; t++) Cx[slot[t]] += values[t];
     ldlNumeric(this.C, Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork, this.signsPermuted, this.regularization);
-    this.normA = symmetricNormInf(this.C, Cx, this.xt);
+    this.normA = -1; // computed by the first solve that needs it
     this.factored = true;
     const { ok, positive, negative, zero, regularized, regularizedNegative } = this.inertiaWork;
     return this.signsPermuted === null ? { ok, positive, negative, zero } : { ok, positive, negative, zero, regularized, regularizedNegative };
@@ -220,15 +220,11 @@ export class SymmetricSolver implements SymmetricSolverLike {
     xp.set(bp);
     ldlSolveInPlace(sym, fac, xp);
     let res = symmetricResidual(C, Cx, xp, bp, r);
+    if (this.normA < 0) this.normA = symmetricNormInf(C, Cx, xt);
     let normB = 0;
     for (let k = 0; k < n; k++) normB = Math.max(normB, Math.abs(bp[k]));
-    const scale = (v: Float64Array) => {
-      let m = 0;
-      for (let k = 0; k < n; k++) m = Math.max(m, Math.abs(v[k]));
-      return this.normA * m + normB;
-    };
     let accepted = 0;
-    for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * scale(xp); step++) {
+    for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * this.backwardScale(xp, normB); step++) {
       ldlSolveInPlace(sym, fac, r); // r ← correction
       for (let k = 0; k < n; k++) xt[k] = xp[k] + r[k];
       const resTrial = symmetricResidual(C, Cx, xt, bp, r);
@@ -241,8 +237,18 @@ export class SymmetricSolver implements SymmetricSolverLike {
     }
     for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
     this.lastResidual = res;
-    const denom = scale(xp);
+    const denom = this.backwardScale(xp, normB);
     this.lastRelativeResidual = denom > 0 ? res / denom : res;
     this.lastRefinementSteps = accepted;
+  }
+
+  /** ‖A‖∞‖x‖∞ + ‖b‖∞, the scale of the normwise backward error. */
+  private backwardScale(x: Float64Array, normB: number): number {
+    let m = 0;
+    for (let k = 0; k < this.n; k++) {
+      const a = Math.abs(x[k]);
+      if (a > m) m = a;
+    }
+    return this.normA * m + normB;
   }
 }

@@ -2,12 +2,14 @@
  * Up-looking sparse LDLᵀ factorisation A = L D Lᵀ of a symmetric (indefinite) matrix, without
  * pivoting, with its inertia; and the triangular solves.
  *
- * Method: row k of L solves the sparse triangular system L₀:k−1,0:k−1 D y = a_0:k−1,k, where the
- * nonzero pattern of y is the reach of {i : a_ik ≠ 0} in the elimination tree, taken in topological
- * order; then  l_kj = y_j / d_j  and  d_k = a_kk − Σ_j y_j l_kj
+ * Method: row k of L solves the sparse triangular system L₀:k−1,0:k−1 y = a_0:k−1,k (unit lower L),
+ * where the nonzero pattern of y is the reach of {i : a_ik ≠ 0} in the elimination tree, taken in
+ * topological order; then  l_kj = y_j / d_j  and  d_k = a_kk − Σ_j y_j l_kj
  * (Davis, "Algorithm 849: A concise sparse Cholesky factorization package", ACM TOMS 31(4), 2005;
  *  the row-by-row variant with column fill pointers of QDLDL, Stellato et al., "OSQP: an operator
- *  splitting solver for quadratic programs", Math. Program. Comput. 12, 2020).
+ *  splitting solver for quadratic programs", Math. Program. Comput. 12, 2020). Unlike QDLDL the
+ *  row patterns are computed once in the symbolic phase (ldlSymbolic), since the interior-point
+ *  method refactors the same pattern every iteration.
  *
  * Inertia: by Sylvester's law of inertia the signs of d_k are the signs of the eigenvalues of A
  * (valid whenever every d_k ≠ 0). A pivot with |d_k| ≤ pivotTolerance (or NaN, ±∞) is counted as zero and
@@ -31,7 +33,13 @@
 import type { CscPattern } from "./csc";
 import type { Inertia } from "./types";
 
-/** Symbolic factor: elimination tree and the column pointers of L (from sparse/etree.ts). */
+/**
+ * Symbolic factor: elimination tree, column counts (sparse/etree.ts) and the full pattern of L,
+ * both by columns (Li, for the solves) and by rows (rowPtr/rowCols, for the up-looking numeric
+ * phase). The pattern of row k of L is the reach of {i < k : a_ik ≠ 0} in the elimination tree
+ * (Davis 2005, §2); it does not depend on the values, so it is found once here and each numeric
+ * factorisation walks no tree.
+ */
 export interface LdlSymbolic {
   n: number;
   /** parent[i] in the elimination tree, −1 for roots. Int32Array(n). */
@@ -40,9 +48,14 @@ export interface LdlSymbolic {
   Lnz: Int32Array;
   /** Column pointers of L: Lp[0] = 0, Lp[i+1] = Lp[i] + Lnz[i]. Int32Array(n+1). */
   Lp: Int32Array;
+  /** Row indices of L by column, increasing within each column. Int32Array(nnz(L)). */
+  Li: Int32Array;
+  /** Row k of L has its nonzeros in columns rowCols[rowPtr[k] .. rowPtr[k+1]−1], increasing. */
+  rowPtr: Int32Array;
+  rowCols: Int32Array;
 }
 
-/** Numeric factor storage, allocated once per pattern. */
+/** Numeric factor storage, allocated once per pattern (Li is the symbolic pattern, shared). */
 export interface LdlFactor {
   Li: Int32Array;
   Lx: Float64Array;
@@ -52,37 +65,53 @@ export interface LdlFactor {
 
 /** Workspace of the numeric phase, allocated once per pattern (all length n). */
 export interface LdlWorkspace {
-  /** 1 when node i is already in the pattern of the current row. */
-  yMarkers: Uint8Array;
-  /** Pattern of the current row, topological order. */
-  yIdx: Int32Array;
-  /** Stack for one elimination-tree path. */
-  elimBuffer: Int32Array;
   /** Dense values of the current row (zero between rows). */
   yVals: Float64Array;
   /** Next free slot of each column of L during the factorisation. */
   LNextSpaceInCol: Int32Array;
 }
 
-export function ldlSymbolicFromCounts(n: number, parent: Int32Array, Lnz: Int32Array): LdlSymbolic {
+/**
+ * Pattern of L from the elimination tree: for each row k, walk up from every i with a_ik ≠ 0
+ * until a node already visited for row k (flag), collecting the row's columns; sorted increasing,
+ * which is a topological order of the tree (parent[j] > j). Cost O(nnz(L) log) once per pattern.
+ */
+export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array): LdlSymbolic {
+  const { n, colPtr: Ap, rowIdx: Ai } = A;
   const Lp = new Int32Array(n + 1);
   for (let i = 0; i < n; i++) Lp[i + 1] = Lp[i] + Lnz[i];
-  return { n, parent, Lnz, Lp };
+  const nnzL = Lp[n];
+  const Li = new Int32Array(nnzL);
+  const rowPtr = new Int32Array(n + 1);
+  const rowCols = new Int32Array(nnzL);
+  const next = Lp.slice(0, n);
+  const flag = new Int32Array(n).fill(-1);
+  let count = 0;
+  for (let k = 0; k < n; k++) {
+    flag[k] = k;
+    const start = count;
+    for (let p = Ap[k]; p < Ap[k + 1]; p++) {
+      for (let i = Ai[p]; flag[i] !== k; i = parent[i]) {
+        flag[i] = k;
+        rowCols[count++] = i;
+      }
+    }
+    const row = rowCols.subarray(start, count);
+    row.sort();
+    for (let q = 0; q < row.length; q++) Li[next[row[q]]++] = k;
+    rowPtr[k + 1] = count;
+  }
+  if (count !== nnzL) throw new Error(`sparse/ldl: pattern has ${count} entries, column counts say ${nnzL}`);
+  return { n, parent, Lnz, Lp, Li, rowPtr, rowCols };
 }
 
 export function allocateLdlFactor(sym: LdlSymbolic): LdlFactor {
   const nnzL = sym.Lp[sym.n];
-  return { Li: new Int32Array(nnzL), Lx: new Float64Array(nnzL), D: new Float64Array(sym.n), Dinv: new Float64Array(sym.n) };
+  return { Li: sym.Li, Lx: new Float64Array(nnzL), D: new Float64Array(sym.n), Dinv: new Float64Array(sym.n) };
 }
 
 export function allocateLdlWorkspace(n: number): LdlWorkspace {
-  return {
-    yMarkers: new Uint8Array(n),
-    yIdx: new Int32Array(n),
-    elimBuffer: new Int32Array(n),
-    yVals: new Float64Array(n),
-    LNextSpaceInCol: new Int32Array(n),
-  };
+  return { yVals: new Float64Array(n), LNextSpaceInCol: new Int32Array(n) };
 }
 
 /**
@@ -101,9 +130,9 @@ export function ldlNumeric(
   regularization = 0,
 ): Inertia {
   const { n, colPtr: Ap, rowIdx: Ai } = A;
-  const { parent: etree, Lp } = sym;
-  const { Li, Lx, D, Dinv } = fac;
-  const { yMarkers, yIdx, elimBuffer, yVals, LNextSpaceInCol } = ws;
+  const { Lp, Li, rowPtr, rowCols } = sym;
+  const { Lx, D, Dinv } = fac;
+  const { yVals, LNextSpaceInCol } = ws;
   let positive = 0;
   let negative = 0;
   let zero = 0;
@@ -111,54 +140,32 @@ export function ldlNumeric(
   let regularizedNegative = 0;
 
   for (let i = 0; i < n; i++) {
-    yMarkers[i] = 0;
     yVals[i] = 0;
-    D[i] = 0;
     LNextSpaceInCol[i] = Lp[i];
   }
 
   for (let k = 0; k < n; k++) {
-    // Scatter column k of A (rows ≤ k) into y and find the pattern of row k of L.
-    let nnzY = 0;
+    // Scatter column k of A (rows ≤ k) into y.
+    let dk = 0;
     for (let p = Ap[k]; p < Ap[k + 1]; p++) {
-      const bidx = Ai[p];
-      if (bidx === k) {
-        D[k] += Ax[p];
-        continue;
-      }
-      yVals[bidx] += Ax[p];
-      if (yMarkers[bidx] === 0) {
-        // Walk up the elimination tree from bidx until a node already in the pattern (or k).
-        yMarkers[bidx] = 1;
-        elimBuffer[0] = bidx;
-        let nnzE = 1;
-        let next = etree[bidx];
-        while (next !== -1 && next < k) {
-          if (yMarkers[next] === 1) break;
-          yMarkers[next] = 1;
-          elimBuffer[nnzE++] = next;
-          next = etree[next];
-        }
-        // Push the path in reverse, so that yIdx read backwards is a topological order.
-        while (nnzE > 0) yIdx[nnzY++] = elimBuffer[--nnzE];
-      }
+      const i = Ai[p];
+      if (i === k) dk += Ax[p];
+      else yVals[i] += Ax[p];
     }
-
-    // Sparse triangular solve for row k, in topological order.
-    let dk = D[k];
-    for (let q = nnzY - 1; q >= 0; q--) {
-      const c = yIdx[q];
+    // Sparse triangular solve for row k over its precomputed pattern, in increasing
+    // (topological) order: y_c is final when column c is reached.
+    for (let q = rowPtr[k]; q < rowPtr[k + 1]; q++) {
+      const c = rowCols[q];
       const end = LNextSpaceInCol[c];
       const yc = yVals[c];
       for (let p = Lp[c]; p < end; p++) yVals[Li[p]] -= Lx[p] * yc;
       const lkc = yc * Dinv[c];
-      Li[end] = k;
       Lx[end] = lkc;
       dk -= yc * lkc;
       LNextSpaceInCol[c] = end + 1;
       yVals[c] = 0;
-      yMarkers[c] = 0;
     }
+
     if (signs !== null && Math.abs(dk) <= pivotTolerance) {
       // signed dynamic regularisation: a tiny pivot takes its expected sign (NaN stays a zero pivot)
       dk = signs[k] * regularization;
