@@ -133,14 +133,14 @@ export function solveNlp(problem: NlpProblem, options?: NlpOptions): NlpResult {
     infDu = NaN;
   }
 
-  const x = Float64Array.from(ref.scatter(st.w));
+  const x = ref.scatter(st.w).slice();
   const lambda = new Float64Array(m), zL = new Float64Array(n), zU = new Float64Array(n);
   let f = NaN;
   let g = new Float64Array(m);
   try {
     ref.recoverMultipliers(st.lambda, st.zL, st.zU, lambda, zL, zU);
     f = ref.userF(x);
-    g = Float64Array.from(ref.userG(x));
+    g = ref.userG(x).slice();
   } catch (e) {
     if (status === "optimal" || status === "acceptable") status = "numerical_trouble";
     message += `; final evaluation: ${e instanceof Error ? e.message : String(e)}`;

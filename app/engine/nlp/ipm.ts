@@ -27,6 +27,10 @@ import { backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } 
 import { leastSquaresMultipliers } from "./initial-point";
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
+import {
+  addScaled, allFinite, axpyInto, boundSlacks, dot, jacTransposeTimes, kktRightHandSide, lagrangianGradient,
+  norm1, normInfScaled, primalDualSigma, relativeStep, splitSolution,
+} from "./vectors";
 
 export interface IpmContext {
   opts: ResolvedOptions;
@@ -106,17 +110,10 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     else kkt.solve(b, x);
   };
 
-  const slacks = (v: Float64Array) => {
-    for (let i = 0; i < N; i++) {
-      sL[i] = hasL[i] ? v[i] - P.wL[i] : 1;
-      sU[i] = hasU[i] ? P.wU[i] - v[i] : 1;
-    }
-  };
-  const theta1 = (c: Float64Array) => { let s = 0; for (let j = 0; j < m; j++) s += Math.abs(c[j]); return s; };
-  const jacTransposeTimes = (lam: Float64Array, out: Float64Array) => {
-    out.fill(0);
-    for (let k = 0; k < nnzJ; k++) out[P.jCols[k]] += jv[k] * lam[P.jRows[k]];
-  };
+  const wLv = P.wL, wUv = P.wU, jR = P.jRows, jC = P.jCols;
+  const slacks = (v: Float64Array) => boundSlacks(N, v, wLv, wUv, hasL, hasU, sL, sU);
+  const theta1 = (c: Float64Array) => norm1(m, c);
+  const jtTimes = (lam: Float64Array, out: Float64Array) => jacTransposeTimes(nnzJ, jR, jC, jv, lam, out);
   const evalPoint = (): string | null => {
     try {
       fval = P.f(w);
@@ -153,8 +150,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   for (;;) {
     // ---- A-2: optimality error of the original problem (μ = 0) and log line.
     slacks(w);
-    jacTransposeTimes(lambda, JtL);
-    for (let i = 0; i < N; i++) gradL[i] = grad[i] + JtL[i] - zL[i] + zU[i];
+    jtTimes(lambda, JtL);
+    lagrangianGradient(N, grad, JtL, zL, zU, gradL);
     const E0 = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, 0);
     infPr = P.reportInfPr(w, cv);
     infDu = E0.dual;
@@ -201,7 +198,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
         throw e;
       }
     }
-    for (let i = 0; i < N; i++) diag[i] = (hasL[i] ? zL[i] / sL[i] : 0) + (hasU[i] ? zU[i] / sU[i] : 0); // Σ
+    primalDualSigma(N, zL, zU, sL, sU, hasL, hasU, diag); // Σ
     if (qn) qn.addDiagonal(diag);
     const tf = performance.now();
     const corr = ic.factorize(kkt, exact ? hv : null, diag, jv, mu);
@@ -217,25 +214,19 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     let lsAlpha = 0, lsTrials = 0, lsSoc = false, lsAugment = true;
     if (corr.ok) {
       if (qn) qn.prepare(solve0, rhs2);
-      for (let i = 0; i < N; i++) rhs[i] = -(gradPhi[i] + JtL[i]);
-      for (let j = 0; j < m; j++) rhs[N + j] = -cv[j];
+      kktRightHandSide(N, m, gradPhi, JtL, cv, rhs);
       solveKkt(rhs, sol);
-      let finite = true;
-      for (let i = 0; i < K; i++) if (!Number.isFinite(sol[i])) { finite = false; break; }
-      if (finite) {
-        for (let i = 0; i < N; i++) dw[i] = sol[i];
-        for (let j = 0; j < m; j++) dlam[j] = sol[N + j];
+      if (allFinite(K, sol)) {
+        splitSolution(N, m, sol, dw, dlam);
         // eq. (15) for the primal step
         let alphaMax = fractionToBoundary(tau, sL, dw, 1, hasL, 1);
         alphaMax = fractionToBoundary(tau, sU, dw, -1, hasU, alphaMax);
-        let gradPhiD = 0;
-        for (let i = 0; i < N; i++) gradPhiD += gradPhi[i] * dw[i];
+        const gradPhiD = dot(N, gradPhi, dw);
         // Tiny step (common practice, no source): the direction is below rounding of w.
-        let rel = 0;
-        for (let i = 0; i < N; i++) rel = Math.max(rel, Math.abs(dw[i]) / (1 + Math.abs(w[i])));
+        const rel = relativeStep(N, dw, w);
         let alphaSocUsed = 0;
         const trialAt = (alpha: number, d: Float64Array): TrialValues | null => {
-          for (let i = 0; i < N; i++) wT[i] = w[i] + alpha * d[i];
+          axpyInto(N, wT, w, alpha, d);
           try {
             const fT = P.f(wT);
             P.c(wT, cT);
@@ -254,8 +245,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
             for (let i = 0; i < N; i++) rhs2[i] = rhs[i];
             for (let j = 0; j < m; j++) rhs2[N + j] = -cSoc[j];
             solveKkt(rhs2, sol);
-            for (let i = 0; i < N; i++) dwSoc[i] = sol[i];
-            for (let j = 0; j < m; j++) dlamSoc[j] = sol[N + j];
+            splitSolution(N, m, sol, dwSoc, dlamSoc);
             let a = fractionToBoundary(tau, sL, dwSoc, 1, hasL, 1);
             a = fractionToBoundary(tau, sU, dwSoc, -1, hasU, a);
             alphaSocUsed = a;
@@ -306,17 +296,17 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     let alphaZ = fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
     alphaZ = fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
     if (lsAugment) filter.add((1 - C.gammaTheta) * theta, phi - C.gammaPhi * theta); // (22)
-    let normD = 0;
-    for (let i = 0; i < N; i++) normD = Math.max(normD, Math.abs(lsAlpha * dW[i]));
+    const normD = normInfScaled(N, lsAlpha, dW);
     if (qn) {
       // ∇_x L(w_k, λ_{k+1}) before the new Jacobian replaces the old one.
-      for (let j = 0; j < m; j++) lambda[j] += lsAlpha * dL[j];
-      jacTransposeTimes(lambda, JtL);
+      addScaled(m, lambda, lsAlpha, dL);
+      jtTimes(lambda, JtL);
       for (let i = 0; i < P.nX; i++) { qnG![i] = grad[i] + JtL[i]; qnS![i] = wT[i] - w[i]; }
     } else {
-      for (let j = 0; j < m; j++) lambda[j] += lsAlpha * dL[j];
+      addScaled(m, lambda, lsAlpha, dL);
     }
-    for (let i = 0; i < N; i++) { zL[i] += alphaZ * dzL[i]; zU[i] += alphaZ * dzU[i]; }
+    addScaled(N, zL, alphaZ, dzL);
+    addScaled(N, zU, alphaZ, dzU);
     const wOld = w; w = wT; wT = wOld;
     const cOld = cv; cv = cT; cT = cOld;
     st.w = w;
@@ -326,7 +316,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       return fail("numerical_trouble", `at iteration ${ctx.iter + 1}: ${err}`, infPr, infDu);
     }
     if (qn) {
-      jacTransposeTimes(lambda, JtL);
+      jtTimes(lambda, JtL);
       for (let i = 0; i < P.nX; i++) qnY![i] = grad[i] + JtL[i] - qnG![i];
       qn.update(qnS!, qnY!);
     }

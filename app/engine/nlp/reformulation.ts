@@ -55,11 +55,12 @@ export class NlpReformulation implements InternalProblem {
       if (v > hi) v = hi;
       this.xFull[i] = lo === hi ? lo : v;
     }
-    const free: number[] = [];
     this.posFree = new Int32Array(n).fill(-1);
-    for (let i = 0; i < n; i++) if (p.xL[i] !== p.xU[i]) { this.posFree[i] = free.length; free.push(i); }
-    this.free = Int32Array.from(free);
-    const nF = free.length;
+    let nF = 0;
+    for (let i = 0; i < n; i++) if (p.xL[i] !== p.xU[i]) this.posFree[i] = nF++;
+    this.free = new Int32Array(nF);
+    for (let i = 0; i < n; i++) if (this.posFree[i] >= 0) this.free[this.posFree[i]] = i;
+    const free = this.free;
     this.nX = nF;
     this.isEq = new Uint8Array(m);
     this.slackOf = new Int32Array(m).fill(-1);
@@ -79,7 +80,7 @@ export class NlpReformulation implements InternalProblem {
     this.userGradF(this.xFull);
     this.userJac(this.xFull);
     this.dc = new Float64Array(m);
-    this.df = gradientScaling(gMax, this.gradUser, p.jacRows, this.jUser, (i) => this.posFree[i] >= 0, p.jacCols, this.dc);
+    this.df = gradientScaling(gMax, this.gradUser, p.jacRows, p.jacCols, this.jUser, this.posFree, this.dc);
 
     this.dualUnscale = 1 / this.df;
     // Bounds (relaxed).
@@ -100,30 +101,39 @@ export class NlpReformulation implements InternalProblem {
       this.wU[s] = Number.isFinite(hi) ? ru(hi) : Infinity;
     }
 
-    // Jacobian pattern: kept user entries, then −1 per slack.
-    const jk: number[] = [];
-    for (let k = 0; k < p.jacRows.length; k++) if (this.posFree[p.jacCols[k]] >= 0) jk.push(k);
-    this.jKeep = Int32Array.from(jk);
-    const nnzJ = jk.length + mI;
-    this.jRows = new Int32Array(nnzJ);
-    this.jCols = new Int32Array(nnzJ);
-    for (let t = 0; t < jk.length; t++) {
-      this.jRows[t] = p.jacRows[jk[t]];
-      this.jCols[t] = this.posFree[p.jacCols[jk[t]]];
+    // Jacobian pattern: kept user entries, then −1 per slack (two passes, typed arrays).
+    const nnzJU = p.jacRows.length, jRowsU = p.jacRows, jColsU = p.jacCols, posFree = this.posFree;
+    let nKeep = 0;
+    for (let k = 0; k < nnzJU; k++) if (posFree[jColsU[k]] >= 0) nKeep++;
+    this.jKeep = new Int32Array(nKeep);
+    this.jRows = new Int32Array(nKeep + mI);
+    this.jCols = new Int32Array(nKeep + mI);
+    let t = 0;
+    for (let k = 0; k < nnzJU; k++) {
+      const col = posFree[jColsU[k]];
+      if (col < 0) continue;
+      this.jKeep[t] = k;
+      this.jRows[t] = jRowsU[k];
+      this.jCols[t] = col;
+      t++;
     }
-    let t = jk.length;
     for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = j; this.jCols[t] = this.slackOf[j]; t++; }
 
     // Hessian pattern: entries between free variables, lower triangle.
-    const hk: number[] = [];
-    for (let k = 0; k < p.hessRows.length; k++) if (this.posFree[p.hessRows[k]] >= 0 && this.posFree[p.hessCols[k]] >= 0) hk.push(k);
-    this.hKeep = Int32Array.from(hk);
-    this.hRows = new Int32Array(hk.length);
-    this.hCols = new Int32Array(hk.length);
-    for (let t2 = 0; t2 < hk.length; t2++) {
-      const a = this.posFree[p.hessRows[hk[t2]]], b = this.posFree[p.hessCols[hk[t2]]];
-      this.hRows[t2] = Math.max(a, b);
-      this.hCols[t2] = Math.min(a, b);
+    const nnzHU = p.hessRows.length, hRowsU = p.hessRows, hColsU = p.hessCols;
+    let hKeep = 0;
+    for (let k = 0; k < nnzHU; k++) if (posFree[hRowsU[k]] >= 0 && posFree[hColsU[k]] >= 0) hKeep++;
+    this.hKeep = new Int32Array(hKeep);
+    this.hRows = new Int32Array(hKeep);
+    this.hCols = new Int32Array(hKeep);
+    t = 0;
+    for (let k = 0; k < nnzHU; k++) {
+      const a = posFree[hRowsU[k]], b = posFree[hColsU[k]];
+      if (a < 0 || b < 0) continue;
+      this.hKeep[t] = k;
+      this.hRows[t] = a > b ? a : b;
+      this.hCols[t] = a > b ? b : a;
+      t++;
     }
   }
 

@@ -8,7 +8,8 @@
  * A lower limit d_min = 1e-8 keeps a huge gradient from wiping a function out
  * (common practice, no source).
  *
- * Arrays: grad (n), jacValues and jacRows (nnzJ); writes dc (m). Returns d_f.
+ * Arrays: grad (n), jacRows/jacCols/jacValues (nnzJ), posFree (n; −1 for a fixed variable, whose
+ * entries do not count); writes dc (m). Returns d_f.
  */
 export const SCALING_MIN = 1e-8;
 
@@ -16,17 +17,17 @@ export function gradientScaling(
   gMax: number,
   grad: Float64Array,
   jacRows: Int32Array,
-  jacValues: Float64Array,
-  colIsFree: (col: number) => boolean,
   jacCols: Int32Array,
+  jacValues: Float64Array,
+  posFree: Int32Array,
   dc: Float64Array,
 ): number {
   let gmaxF = 0;
-  for (let i = 0; i < grad.length; i++) if (colIsFree(i)) gmaxF = Math.max(gmaxF, Math.abs(grad[i]));
+  for (let i = 0; i < grad.length; i++) if (posFree[i] >= 0) gmaxF = Math.max(gmaxF, Math.abs(grad[i]));
   const df = gmaxF > 0 ? Math.max(SCALING_MIN, Math.min(1, gMax / gmaxF)) : 1;
   dc.fill(0);
   for (let k = 0; k < jacRows.length; k++) {
-    if (!colIsFree(jacCols[k])) continue;
+    if (posFree[jacCols[k]] < 0) continue;
     const r = jacRows[k];
     const a = Math.abs(jacValues[k]);
     if (a > dc[r]) dc[r] = a;

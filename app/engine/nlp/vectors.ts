@@ -1,0 +1,85 @@
+/**
+ * Small vector kernels of the interior-point iteration, kept as separate functions so that each
+ * hot loop is optimised on its own (the main loop in ipm.ts is large). All arrays are caller-owned;
+ * n is the loop length.
+ */
+
+/** out = x + a·d (n). */
+export function axpyInto(n: number, out: Float64Array, x: Float64Array, a: number, d: Float64Array): void {
+  for (let i = 0; i < n; i++) out[i] = x[i] + a * d[i];
+}
+
+/** y += a·x (n). */
+export function addScaled(n: number, y: Float64Array, a: number, x: Float64Array): void {
+  for (let i = 0; i < n; i++) y[i] += a * x[i];
+}
+
+/** Σ_i |x_i| (n). */
+export function norm1(n: number, x: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) s += Math.abs(x[i]);
+  return s;
+}
+
+/** max_i |a·x_i| (n). */
+export function normInfScaled(n: number, a: number, x: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) { const v = Math.abs(a * x[i]); if (v > s) s = v; }
+  return s;
+}
+
+/** Σ_i x_i y_i (n). */
+export function dot(n: number, x: Float64Array, y: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) s += x[i] * y[i];
+  return s;
+}
+
+/** max_i |d_i| / (1 + |w_i|) (n): relative size of a step. */
+export function relativeStep(n: number, d: Float64Array, w: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) { const v = Math.abs(d[i]) / (1 + Math.abs(w[i])); if (v > s) s = v; }
+  return s;
+}
+
+/** true when every entry of x (n) is finite. */
+export function allFinite(n: number, x: Float64Array): boolean {
+  for (let i = 0; i < n; i++) if (!Number.isFinite(x[i])) return false;
+  return true;
+}
+
+/** s_L = w − w_L, s_U = w_U − w where the bound exists, 1 elsewhere (N). */
+export function boundSlacks(N: number, w: Float64Array, wL: Float64Array, wU: Float64Array, hasL: Uint8Array, hasU: Uint8Array, sL: Float64Array, sU: Float64Array): void {
+  for (let i = 0; i < N; i++) {
+    sL[i] = hasL[i] ? w[i] - wL[i] : 1;
+    sU[i] = hasU[i] ? wU[i] - w[i] : 1;
+  }
+}
+
+/** out = Jᵀλ for J in triplets (nnz), out of length N. */
+export function jacTransposeTimes(nnz: number, jR: Int32Array, jC: Int32Array, jv: Float64Array, lam: Float64Array, out: Float64Array): void {
+  out.fill(0);
+  for (let k = 0; k < nnz; k++) out[jC[k]] += jv[k] * lam[jR[k]];
+}
+
+/** gradL = ∇f + Jᵀλ − z_L + z_U (N). */
+export function lagrangianGradient(N: number, grad: Float64Array, JtL: Float64Array, zL: Float64Array, zU: Float64Array, gradL: Float64Array): void {
+  for (let i = 0; i < N; i++) gradL[i] = grad[i] + JtL[i] - zL[i] + zU[i];
+}
+
+/** Σ = Z_L S_L⁻¹ + Z_U S_U⁻¹ (N), W&B eq. (13). */
+export function primalDualSigma(N: number, zL: Float64Array, zU: Float64Array, sL: Float64Array, sU: Float64Array, hasL: Uint8Array, hasU: Uint8Array, diag: Float64Array): void {
+  for (let i = 0; i < N; i++) diag[i] = (hasL[i] ? zL[i] / sL[i] : 0) + (hasU[i] ? zU[i] / sU[i] : 0);
+}
+
+/** rhs = −(∇φ_μ + Jᵀλ ; c) (N + m), W&B eq. (13). */
+export function kktRightHandSide(N: number, m: number, gradPhi: Float64Array, JtL: Float64Array, c: Float64Array, rhs: Float64Array): void {
+  for (let i = 0; i < N; i++) rhs[i] = -(gradPhi[i] + JtL[i]);
+  for (let j = 0; j < m; j++) rhs[N + j] = -c[j];
+}
+
+/** Split sol (N + m) into d_w (N) and d_λ (m). */
+export function splitSolution(N: number, m: number, sol: Float64Array, dw: Float64Array, dlam: Float64Array): void {
+  for (let i = 0; i < N; i++) dw[i] = sol[i];
+  for (let j = 0; j < m; j++) dlam[j] = sol[N + j];
+}
