@@ -1,0 +1,41 @@
+/**
+ * The refine command end to end (bench/refine.ts through tsx): JSON on stdout, Newton history on
+ * stderr, exit status 0 on convergence and 2 for a missing problem. The expected values are the
+ * analytic ones of the minimum-time double integrator (Bryson and Ho, Applied Optimal Control,
+ * 1975, §3.9: ts = 1, tf = 2), tolerance 1e-10.
+ */
+import { describe, expect, it } from "vitest";
+import { spawnSync } from "node:child_process";
+
+const run = (args: string[]) =>
+  spawnSync(process.execPath, ["node_modules/tsx/dist/cli.mjs", "bench/refine.ts", ...args], { encoding: "utf8", timeout: 120_000 });
+
+describe("npm run refine", () => {
+  it("refines the double integrator and prints one JSON object", () => {
+    const r = run(["tests/fixtures/classic/double-integrator-min-time", "--scheme", "trapezoidal", "--intervals", "30", "--json"]);
+    expect(r.status).toBe(0);
+    expect(r.stderr).toMatch(/iter\s+residual/);
+    const out = JSON.parse(r.stdout);
+    expect(out.status).toBe("converged");
+    expect(out.residual).toBeLessThan(1e-10);
+    expect(Math.abs(out.finalTime - 2)).toBeLessThan(1e-10);
+    expect(Math.abs(out.objective - 2)).toBeLessThan(1e-10);
+    expect(out.arcs.map((a: { kinds: string[] }) => a.kinds[0])).toEqual(["lower", "upper"]);
+    expect(Math.abs(out.junctions[0] - 1)).toBeLessThan(1e-10);
+    expect(out.provenance).toEqual({ kind: "shooting", detail: "refined by shooting from trapezoidal at 30 intervals", residual: out.residual });
+    expect(out.trajectory.t.length).toBeGreaterThan(2);
+    expect(Object.keys(out.trajectory.states)).toEqual(["x1", "x2"]);
+  });
+
+  it("exits with 2 for a problem that does not exist", () => {
+    const r = run(["tests/fixtures/classic/no-such-problem"]);
+    expect(r.status).toBe(2);
+    expect(r.stderr).toMatch(/no problem\.json/);
+  });
+
+  it("exits with 2 for an unknown scheme", () => {
+    const r = run(["tests/fixtures/classic/double-integrator-min-time", "--scheme", "simpson"]);
+    expect(r.status).toBe(2);
+    expect(r.stderr).toMatch(/unknown scheme/);
+  });
+});
