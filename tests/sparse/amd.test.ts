@@ -121,7 +121,7 @@ describe("AMD ordering", () => {
   });
 
   it("fill within 5% of exact minimum degree (the method it approximates) on grids and random patterns", () => {
-    // Amestoy, Davis and Duff (1996, §5) report AMD fill close to that of exact minimum degree;
+    // Amestoy, Davis and Duff (1996, §5; section recalled from memory) report AMD fill close to that of exact minimum degree;
     // 5% is our tolerance (measured here: AMD 0.6–1.3% BELOW exact minimum degree, which breaks
     // ties by index only).
     const cases = [grid(20), grid(30)];

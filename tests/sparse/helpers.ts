@@ -45,7 +45,7 @@ export function fromEntries(n: number, entries: Array<[number, number, number]>)
  * Random sparse symmetric indefinite matrix, strictly diagonally dominant with diagonal signs
  * chosen at random, so that elimination without pivoting in ANY order stays stable (every Schur
  * complement of a diagonally dominant matrix is diagonally dominant: Golub and Van Loan, "Matrix
- * Computations", 4th ed., 2013, §3.4.3 / §4.1.1). Entries are given in a random mix of lower and
+ * Computations", 4th ed., 2013, §3.4.3 / §4.1.1, section numbers recalled from memory). Entries are given in a random mix of lower and
  * upper triangle, some split into duplicate triplets.
  */
 export function randomDominant(n: number, offDiagPerRow: number, seed: number): SymTriplets {
@@ -82,7 +82,7 @@ export function randomDominant(n: number, offDiagPerRow: number, seed: number): 
 /**
  * Random symmetric quasi-definite matrix [[H, Bᵀ], [B, −G]] with H, G sparse strictly diagonally
  * dominant with positive diagonals: inertia (n1, n2, 0) for every symmetric ordering
- * (Vanderbei, "Symmetric quasidefinite matrices", SIAM J. Optim. 5(1), 1995, Theorem 2.1).
+ * (Vanderbei, "Symmetric quasidefinite matrices", SIAM J. Optim. 5(1), 1995, Theorem 2.1, recalled from memory).
  */
 export function randomQuasiDefinite(n1: number, n2: number, seed: number): SymTriplets {
   const r = rng(seed);

@@ -4,7 +4,7 @@
  * Amestoy, Davis and Duff, "An approximate minimum degree ordering algorithm",
  * SIAM J. Matrix Anal. Appl. 17(4):886–905, 1996 (the paper's Algorithm 2 with the approximate
  * external degree of eq. (4)); the single-array quotient-graph storage with garbage collection is
- * described there in §4 and in Davis, "Direct Methods for Sparse Linear Systems", SIAM 2006, §7.1.
+ * described there in §4 and in Davis, "Direct Methods for Sparse Linear Systems", SIAM 2006, §7.1 (section and equation numbers recalled from memory).
  *
  * Elimination is simulated on the QUOTIENT GRAPH: each uneliminated variable i has a list holding
  * first the elements adjacent to it (E_i, elen[i] entries) and then the variables adjacent to it

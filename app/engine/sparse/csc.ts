@@ -8,7 +8,7 @@
  * colPtr: Int32Array(n+1), rowIdx: Int32Array(nnz). "Upper" means every i ≤ j.
  * Numerical values live in a separate Float64Array (same length as rowIdx), so that one pattern
  * serves every numeric factorisation (Davis, "Direct Methods for Sparse Linear Systems",
- * SIAM 2006, §2.2).
+ * SIAM 2006, §2.2; section numbers in this file recalled from memory).
  */
 export interface CscPattern {
   n: number;

@@ -17,7 +17,7 @@
  * (1/d_k := 0, so column k of L is zero) and the factorisation continues, so that the counts of the
  * remaining pivots are still reported. Without pivoting the factorisation exists for every
  * symmetric quasi-definite matrix [[H, Jᵀ], [J, −C]] with H ≻ 0, C ≻ 0, in any symmetric order
- * (Vanderbei, "Symmetric quasidefinite matrices", SIAM J. Optim. 5(1), 1995, Theorem 2.1).
+ * (Vanderbei, "Symmetric quasidefinite matrices", SIAM J. Optim. 5(1), 1995, Theorem 2.1; theorem number recalled from memory).
  *
  * Signed dynamic regularisation (optional, `signs` given, s_k = ±1 the expected sign of pivot k):
  * a pivot with |d_k| ≤ pivotTolerance is replaced by s_k·δ (δ = `regularization`). Changing d_k

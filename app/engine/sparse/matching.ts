@@ -8,7 +8,7 @@
  * eliminated partners, so the leading J block has (structurally) full row rank and, with H ≻ 0,
  * the leading principal submatrix is nonsingular: LDLᵀ without pivoting meets no zero pivot for
  * generic values (the saddle-point argument of Benzi, Golub and Liesen, "Numerical solution of
- * saddle point problems", Acta Numerica 14, 2005, §3.1, applied to each leading block).
+ * saddle point problems", Acta Numerica 14, 2005, §3.1 (section recalled from memory), applied to each leading block).
  *
  * Algorithm: depth-first augmenting paths with a cheap assignment first (Duff, "On algorithms for
  * obtaining a maximum transversal", ACM TOMS 7(3), 1981, MC21), iterative so that long paths do

@@ -9,7 +9,7 @@
  * map slot[t] from each triplet to its CSC position, so a numeric matrix is assembled with
  *   Ax.fill(0);  for t: Ax[slot[t]] += values[t]
  * in O(nT) with no sorting per call (Davis, "Direct Methods for Sparse Linear Systems", SIAM 2006,
- * §2.4 cs_compress / §2.7 cs_dupl, here fused and with the triplet→slot map kept).
+ * §2.4 cs_compress / §2.7 cs_dupl, here fused and with the triplet→slot map kept; section numbers recalled from memory).
  */
 import type { CscPattern } from "./csc";
 
