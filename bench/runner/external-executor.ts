@@ -8,8 +8,10 @@
  * Errors computed here:
  *   objectiveAbs = |J − J_ref|, objectiveRel = |J − J_ref| / max(1, |J_ref|)
  *   finalTimeAbs = |t_f − t_f,ref|
- *   stateMax / controlMax = max over variables i and reference times t_k in [t0, t_f] of
- *     |x_i(t_k) − x_i,ref(t_k)| / max(1, max_k |x_i,ref(t_k)|), the answer linearly interpolated.
+ *   stateMax / controlMax = max over variables i and the answer's grid times t_k inside the
+ *     reference's time span of |x_i(t_k) − x_i,ref(t_k)| / max(1, max |x_i,ref|), the reference
+ *     (usually the finer grid) linearly interpolated. Controls are compared the same way, so a
+ *     jump between grid points counts fully at the points next to it.
  */
 import { spawnSync } from "node:child_process";
 import fs from "node:fs";
@@ -58,17 +60,19 @@ function trajectoryError(problem: CompiledProblem, answer: SolverResponse, names
   if (!ref || !traj || traj.t.length < 2) return null;
   const cols = pick(traj);
   if (!cols) return null;
-  const tEnd = answer.finalTime ?? traj.t[traj.t.length - 1];
   let worst: number | null = null;
+  const refT = Array.from(ref.t);
+  const tRefEnd = refT[refT.length - 1];
   for (const name of names) {
     const r = ref.columns[name];
     const y = cols[name];
     if (!r || !y || y.length !== traj.t.length) continue;
+    const rv = Array.from(r);
     let scale = 1;
-    for (let k = 0; k < r.length; k++) scale = Math.max(scale, Math.abs(r[k]));
-    for (let k = 0; k < ref.t.length; k++) {
-      if (ref.t[k] > tEnd + 1e-12) break;
-      const e = Math.abs(interp(traj.t, y, ref.t[k]) - r[k]) / scale;
+    for (const v of rv) scale = Math.max(scale, Math.abs(v));
+    for (let k = 0; k < traj.t.length; k++) {
+      if (traj.t[k] < refT[0] - 1e-12 || traj.t[k] > tRefEnd + 1e-12) continue;
+      const e = Math.abs(y[k] - interp(refT, rv, traj.t[k])) / scale;
       worst = worst === null ? e : Math.max(worst, e);
     }
   }
@@ -109,7 +113,7 @@ export function reportFromResponse(problem: CompiledProblem, spec: CaseSpec, ans
 export const createExecutor: CreateExecutor = (context) => {
   const command = context.options.command as string[];
   const repository = context.options.repository as string;
-  const timeoutMs = (context.options.timeoutSeconds as number | undefined) ?? 600;
+  const timeoutMs = ((context.options.timeoutSeconds as number | undefined) ?? 600) * 1000;
   if (!Array.isArray(command) || command.length === 0) throw new Error("external solver: options.command must be a non-empty argv array");
   return {
     prepare(spec) {
