@@ -49,7 +49,7 @@ describe("compiled point functions vs outside references", () => {
           expect(Math.abs(out[i] - ref)).toBeLessThanOrEqual(1e-10 * (1 + Math.abs(ref)));
         });
       }),
-      { numRuns: 500 },
+      { numRuns: Number(process.env.DERIV_RUNS ?? 500) },
     );
   });
 
@@ -88,7 +88,7 @@ describe("compiled point functions vs outside references", () => {
         const keys = new Set(Array.from(f.jacRows, (r, k) => `${r},${f.jacCols[k]}`));
         expect(keys.size).toBe(f.jacRows.length);
       }),
-      { numRuns: 500 },
+      { numRuns: Number(process.env.DERIV_RUNS ?? 500) },
     );
   });
 
@@ -139,7 +139,7 @@ describe("compiled point functions vs outside references", () => {
           }
         },
       ),
-      { numRuns: 500 },
+      { numRuns: Number(process.env.DERIV_RUNS ?? 500) },
     );
   });
 });

@@ -16,6 +16,7 @@ import type {
   CompiledProblem,
   ConstraintInfo,
   Horizon,
+  InitialGuess,
   PointFunction,
   ProblemReference,
   Provenance,
@@ -23,7 +24,7 @@ import type {
   VariableInfo,
 } from "./types";
 import { formatProblemError, jsonPath, type ProblemError } from "./errors";
-import { ProblemFileSchema, keysAtPath, type ProblemFile, type ProvenanceSpec } from "./schema";
+import { NAME_PATTERN, ProblemFileSchema, keysAtPath, type ProblemFile, type ProvenanceSpec, type VariableSpec } from "./schema";
 import { findJsonError } from "./json-position";
 import { parseTrajectoryCsv, type CsvTable } from "./csv";
 import { defaultStateEnds, makeGuess, midOrFinite, type EndRange, type GuessSeries } from "./guess";
@@ -90,6 +91,29 @@ export function compileProblemSource(id: string, files: ProblemSourceFiles, labe
 
 type Seg = string | number;
 
+/** Declared names, by kind. */
+interface Declared {
+  stateNames: string[];
+  controlNames: string[];
+  interNames: string[];
+  constNames: string[];
+  stateSet: Set<string>;
+  /** ["t", ...states, ...controls]: the point-function input names. */
+  pointInputs: string[];
+}
+
+interface EndpointRow {
+  node: MathNode;
+  info: ConstraintInfo;
+}
+
+/** Point-expression hints for the endpoint times. */
+function endpointTimes(m: Map<string, string>): Map<string, string> {
+  m.set("t0", "'t0' is for endpoint expressions; use 't' in point expressions");
+  m.set("tf", "'tf' is for endpoint expressions; use 't' in point expressions");
+  return m;
+}
+
 interface NamedEntry {
   name: string;
   kind: "constant" | "state" | "control" | "intermediate";
@@ -99,6 +123,15 @@ interface NamedEntry {
 class ProblemCompiler {
   private readonly errors: ProblemError[] = [];
   private readonly warnings: string[] = [];
+  /** Values of the constants evaluated so far. */
+  private readonly constants: Record<string, number> = Object.create(null);
+  /** Names used by constant expressions (bounds, values) and by all other expressions. */
+  private readonly constUsed = new Set<string>();
+  private readonly usedNames = new Set<string>();
+  /** Non-smooth-function warnings, one per expression. */
+  private readonly nonSmoothAt: string[] = [];
+  private readonly constraintNames = new Map<string, string>();
+  private constScope: ExprScope = { names: new Set() };
   private readonly dir: string;
   constructor(
     private readonly id: string,
@@ -206,23 +239,102 @@ class ProblemCompiler {
   }
 
   // ---------------------------------------------------------------- semantic checks and build
+  // The phases below run in this order (the order of the reported errors): names, constants,
+  // variable bounds, horizon, expressions (intermediates, dynamics), end conditions, endpoint
+  // and path constraints, objective, unused names, tags, guess, references; then, when nothing
+  // failed, compilation.
 
   private build(p: ProblemFile): CompiledProblem | null {
-    const states = p.states;
+    const d = this.declare(p);
+    this.evaluateConstants(p, d);
+    const stateInfo = this.variables(p.states, "states");
+    const controlInfo = this.variables(p.controls ?? [], "controls");
+    const horizon = this.horizonOf(p);
+    const scopes = this.scopes(d);
+    const inter = this.intermediatesOf(p, d);
+    const dynRaw = this.dynamicsOf(p, d, scopes.point);
+    const conditions = this.conditionsOf(p, d, stateInfo);
+    const events = this.endpointConstraintsOf(p, scopes.endpoint);
+    const path = this.pathConstraintsOf(p, d, scopes.point);
+    const objective = this.objectiveOf(p, scopes);
+
+    const sub = (n: MathNode | null, at: Seg[]): MathNode | null => {
+      if (!n) return null;
+      const s = substitute(n, inter.trees);
+      if (treeDepth(s) > 4 * MAX_TREE_DEPTH) this.err(at, `expression is nested more than ${4 * MAX_TREE_DEPTH} levels deep after substituting intermediates`);
+      return s;
+    };
+    const dynTrees = dynRaw.map((n, i) => sub(n, ["dynamics", d.stateNames[i]]));
+    const pathTrees = path.raw.map((n, k) => sub(n, ["path", k, "expr"]));
+    const runningTree = sub(objective.running, ["objective", "running"]);
+
+    this.unusedNames(d, [...dynTrees, ...pathTrees, runningTree], dynTrees.every((t) => t !== null), conditions.constrained);
+    this.checkTags(p, horizon);
+    const guess = this.guessOf(p, d, stateInfo, controlInfo, conditions.ends, horizon);
+    const reference = this.referenceOf(p, d, horizon, path.info);
+    if (this.errors.length > 0) return null;
+
+    // ---- compile (every tree is valid here)
+    const consts = { ...this.constants };
+    const pointInputs = d.pointInputs;
+    const endpointInputs = ["t0", ...d.stateNames.map((n) => `initial(${n})`), "tf", ...d.stateNames.map((n) => `final(${n})`)];
+    const compile = (nodes: MathNode[], inputs: string[]): PointFunction => compilePointFunction(nodes, inputs, consts);
+    const endpointRows = [...conditions.rows, ...events];
+    const tex = this.texOf(p, d, inter.raw, dynRaw, path.raw, events, objective);
+    const dynNodes = dynTrees as MathNode[];
+    const pathNodes = pathTrees as MathNode[];
+    return {
+      id: this.id,
+      versionHash: problemVersionHash(this.files),
+      title: p.title,
+      description: p.description,
+      tags: [...(p.tags ?? [])],
+      nx: d.stateNames.length,
+      nu: d.controlNames.length,
+      states: stateInfo,
+      controls: controlInfo,
+      constants: consts,
+      horizon,
+      dynamics: compile(dynNodes, pointInputs),
+      path: compile(pathNodes, pointInputs),
+      pathInfo: path.info,
+      runningCost: runningTree ? compile([runningTree], pointInputs) : null,
+      terminalCost: objective.terminal ? compile([objective.terminal], endpointInputs) : null,
+      endpoint: compile(endpointRows.map((r) => r.node), endpointInputs),
+      endpointInfo: endpointRows.map((r) => r.info),
+      sense: p.objective.sense,
+      objectiveSign: p.objective.sense === "max" ? -1 : 1,
+      guess,
+      reference,
+      warnings: [...this.warnings, ...new Set(this.nonSmoothAt)],
+      symbolic: {
+        pointInputs,
+        dynamics: dynNodes,
+        path: pathNodes,
+        runningCost: runningTree,
+        terminalCost: objective.terminal,
+        tex,
+        endpointInputs,
+        endpoint: endpointRows.map((r) => r.node),
+      },
+      defaults: p.defaults ? { ...p.defaults } : undefined,
+    };
+  }
+
+  /** Names: syntax is zod's; here reserved words and duplicates across all kinds. */
+  private declare(p: ProblemFile): Declared {
+    const constantsSpec = p.constants ?? {};
     const controls = p.controls ?? [];
     const intermediates = p.intermediates ?? [];
-    const constantsSpec = p.constants ?? {};
-
-    // ---- names: syntax is zod's; here reserved words and duplicates
     const entries: NamedEntry[] = [
       ...Object.keys(constantsSpec).map((name): NamedEntry => ({ name, kind: "constant", path: ["constants", name] })),
-      ...states.map((s, i): NamedEntry => ({ name: s.name, kind: "state", path: ["states", i, "name"] })),
+      ...p.states.map((s, i): NamedEntry => ({ name: s.name, kind: "state", path: ["states", i, "name"] })),
       ...controls.map((s, i): NamedEntry => ({ name: s.name, kind: "control", path: ["controls", i, "name"] })),
       ...intermediates.map((s, i): NamedEntry => ({ name: s.name, kind: "intermediate", path: ["intermediates", i, "name"] })),
     ];
     const byName = new Map<string, NamedEntry>();
     for (const e of entries) {
-      if (e.kind === "constant" && !/^[A-Za-z][A-Za-z0-9_]*$/.test(e.name)) {
+      if (e.kind === "constant" && !NAME_PATTERN.test(e.name)) {
         this.err(e.path, `'${e.name.slice(0, 40)}' is not a valid name: a letter, then letters, digits or '_'`);
         continue;
       }
@@ -237,151 +349,160 @@ class ProblemCompiler {
       }
       byName.set(e.name, e);
     }
-    const stateNames = states.map((s) => s.name);
+    const stateNames = p.states.map((s) => s.name);
     const controlNames = controls.map((s) => s.name);
-    const interNames = intermediates.map((s) => s.name);
-    const constNames = Object.keys(constantsSpec);
-    const stateSet = new Set(stateNames);
-
-    // ---- constants, in order; each may use earlier constants
-    const constants: Record<string, number> = Object.create(null);
-    const constUsed = new Set<string>();
-    const notConstant = (allowed: string) => {
-      const m = new Map<string, string>();
-      for (const n of stateNames) m.set(n, `state '${n}' cannot be used here: ${allowed}`);
-      for (const n of controlNames) m.set(n, `control '${n}' cannot be used here: ${allowed}`);
-      for (const n of interNames) m.set(n, `intermediate '${n}' cannot be used here: ${allowed}`);
-      for (const n of ["t", "t0", "tf"]) m.set(n, `'${n}' cannot be used here: ${allowed}`);
-      return m;
+    return {
+      stateNames,
+      controlNames,
+      interNames: intermediates.map((s) => s.name),
+      constNames: Object.keys(constantsSpec),
+      stateSet: new Set(stateNames),
+      pointInputs: ["t", ...stateNames, ...controlNames],
     };
-    constNames.forEach((name, k) => {
-      const spec = constantsSpec[name];
-      const value = typeof spec === "object" ? spec.value : spec;
-      const path: Seg[] = typeof spec === "object" ? ["constants", name, "value"] : ["constants", name];
-      const earlier = new Set(constNames.slice(0, k));
-      const misplaced = notConstant("a constant may use earlier constants only");
-      for (const later of constNames.slice(k)) misplaced.set(later, `constant '${later}' is defined later (constants may use earlier constants only)`);
-      const v = this.constantValue(value, path, { names: earlier, misplaced }, constants, constUsed);
-      if (v !== undefined) constants[name] = v;
+  }
+
+  /** Messages for declared names that may not appear in a constant expression. */
+  private notConstant(d: Declared, allowed: string): Map<string, string> {
+    const m = new Map<string, string>();
+    for (const n of d.stateNames) m.set(n, `state '${n}' cannot be used here: ${allowed}`);
+    for (const n of d.controlNames) m.set(n, `control '${n}' cannot be used here: ${allowed}`);
+    for (const n of d.interNames) m.set(n, `intermediate '${n}' cannot be used here: ${allowed}`);
+    for (const n of ["t", "t0", "tf"]) m.set(n, `'${n}' cannot be used here: ${allowed}`);
+    return m;
+  }
+
+  /** Constants in order; each may use earlier constants. Sets this.constants and this.constScope. */
+  private evaluateConstants(p: ProblemFile, d: Declared): void {
+    const spec = p.constants ?? {};
+    d.constNames.forEach((name, k) => {
+      const s = spec[name];
+      const value = typeof s === "object" ? s.value : s;
+      const path: Seg[] = typeof s === "object" ? ["constants", name, "value"] : ["constants", name];
+      const misplaced = this.notConstant(d, "a constant may use earlier constants only");
+      for (const later of d.constNames.slice(k)) {
+        misplaced.set(later, `constant '${later}' is defined later (constants may use earlier constants only)`);
+      }
+      const v = this.constantValue(value, path, { names: new Set(d.constNames.slice(0, k)), misplaced });
+      if (v !== undefined) this.constants[name] = v;
     });
-    const constScope: ExprScope = { names: new Set(constNames), misplaced: notConstant("bounds and values may use constants only") };
-    const num = (v: number | string | null | undefined, path: Seg[], absent: number): number => {
-      if (v === null || v === undefined) return absent;
-      const r = this.constantValue(v, path, constScope, constants, constUsed);
-      return r ?? NaN;
-    };
+    this.constScope = { names: new Set(d.constNames), misplaced: this.notConstant(d, "bounds and values may use constants only") };
+  }
 
-    // ---- states and controls
-    const varInfo = (list: typeof states, key: "states" | "controls"): VariableInfo[] =>
-      list.map((s, i) => {
-        const lower = num(s.lower, [key, i, "lower"], -Infinity);
-        const upper = num(s.upper, [key, i, "upper"], Infinity);
-        if (lower > upper) this.err([key, i], `contradictory bounds: lower ${lower} > upper ${upper}`);
-        return { name: s.name, unit: s.unit ?? "", lower, upper, scale: s.scale ?? 1 };
-      });
-    const stateInfo = varInfo(states, "states");
-    const controlInfo = varInfo(controls, "controls");
+  /** A bound or value: number, expression of constants, or null/omitted (→ `absent`). NaN when invalid. */
+  private num(v: number | string | null | undefined, path: Seg[], absent: number): number {
+    if (v === null || v === undefined) return absent;
+    return this.constantValue(v, path, this.constScope) ?? NaN;
+  }
 
-    // ---- horizon
+  private variables(list: VariableSpec[], key: "states" | "controls"): VariableInfo[] {
+    return list.map((s, i) => {
+      const lower = this.num(s.lower, [key, i, "lower"], -Infinity);
+      const upper = this.num(s.upper, [key, i, "upper"], Infinity);
+      if (lower > upper) this.err([key, i], `contradictory bounds: lower ${lower} > upper ${upper}`);
+      return { name: s.name, unit: s.unit ?? "", lower, upper, scale: s.scale ?? 1 };
+    });
+  }
+
+  /** Fixed tf > t0, or free with t0 < lower ≤ upper and a guess inside (finalised in guessOf). */
+  private horizonOf(p: ProblemFile): Horizon {
     const t0 = p.horizon.initialTime ?? 0;
-    let horizon: Horizon;
     const ft = p.horizon.finalTime;
     if ("fixed" in ft) {
-      const tf = num(ft.fixed, ["horizon", "finalTime", "fixed"], NaN);
+      const tf = this.num(ft.fixed, ["horizon", "finalTime", "fixed"], NaN);
       if (tf <= t0) this.err(["horizon", "finalTime", "fixed"], `final time ${tf} must be greater than initialTime ${t0}`);
-      horizon = { kind: "fixed", t0, tf };
-    } else {
-      const fp: Seg[] = ["horizon", "finalTime", "free"];
-      const lower = num(ft.free.lower, [...fp, "lower"], NaN);
-      const upper = num(ft.free.upper, [...fp, "upper"], NaN);
-      if (!(lower > t0)) this.err([...fp, "lower"], `lower bound ${lower} of the final time must be greater than initialTime ${t0}`);
-      if (lower > upper) this.err(fp, `contradictory bounds: lower ${lower} > upper ${upper}`);
-      const guessTf = ft.free.guess === undefined ? p.guess?.finalTime ?? 0.5 * (lower + upper) : num(ft.free.guess, [...fp, "guess"], NaN);
-      if (guessTf < lower || guessTf > upper) this.err([...fp, "guess"], `guess ${guessTf} is outside [${lower}, ${upper}]`);
-      horizon = { kind: "free", t0, lower, upper, guess: guessTf };
+      return { kind: "fixed", t0, tf };
     }
+    const fp: Seg[] = ["horizon", "finalTime", "free"];
+    const lower = this.num(ft.free.lower, [...fp, "lower"], NaN);
+    const upper = this.num(ft.free.upper, [...fp, "upper"], NaN);
+    if (!(lower > t0)) this.err([...fp, "lower"], `lower bound ${lower} of the final time must be greater than initialTime ${t0}`);
+    if (lower > upper) this.err(fp, `contradictory bounds: lower ${lower} > upper ${upper}`);
+    const guess = ft.free.guess === undefined ? 0.5 * (lower + upper) : this.num(ft.free.guess, [...fp, "guess"], NaN);
+    if (ft.free.guess !== undefined && (guess < lower || guess > upper)) this.err([...fp, "guess"], `guess ${guess} is outside [${lower}, ${upper}]`);
+    return { kind: "free", t0, lower, upper, guess };
+  }
 
-    // ---- intermediates, in dependency order
-    const pointBase = ["t", ...stateNames, ...controlNames];
-    const usedNames = new Set<string>();
-    const interTrees = new Map<string, MathNode>(); // substituted
-    const interRaw = new Map<string, MathNode>(); // as written
-    const endpointOnly = (m: Map<string, string>) => {
-      m.set("t0", "'t0' is for endpoint expressions; use 't' in point expressions");
-      m.set("tf", "'tf' is for endpoint expressions; use 't' in point expressions");
-      return m;
+  /** Scopes of point expressions (t, x, u, constants, intermediates) and endpoint expressions. */
+  private scopes(d: Declared): { point: ExprScope; endpoint: ExprScope } {
+    const point: ExprScope = {
+      names: new Set([...d.pointInputs, ...d.constNames, ...d.interNames]),
+      misplaced: endpointTimes(new Map()),
     };
-    const nonSmoothAt: string[] = [];
-    intermediates.forEach((inter, k) => {
-      const misplaced = endpointOnly(new Map());
-      for (const later of interNames.slice(k)) {
+    const m = new Map<string, string>();
+    for (const n of d.stateNames) m.set(n, `state '${n}' in an endpoint expression: write initial(${n}) or final(${n})`);
+    for (const n of d.controlNames) m.set(n, `control '${n}' cannot be used in an endpoint expression (controls are not endpoint values)`);
+    for (const n of d.interNames) m.set(n, `intermediate '${n}' cannot be used in an endpoint expression (it depends on t, states and controls)`);
+    m.set("t", "'t' in an endpoint expression: write t0 or tf");
+    const endpoint: ExprScope = { names: new Set(["t0", "tf", ...d.constNames]), misplaced: m, endpointStates: d.stateSet };
+    return { point, endpoint };
+  }
+
+  /** Intermediates in dependency order: trees as written and with earlier intermediates substituted. */
+  private intermediatesOf(p: ProblemFile, d: Declared): { raw: Map<string, MathNode>; trees: Map<string, MathNode> } {
+    const raw = new Map<string, MathNode>();
+    const trees = new Map<string, MathNode>();
+    (p.intermediates ?? []).forEach((inter, k) => {
+      const misplaced = endpointTimes(new Map());
+      for (const later of d.interNames.slice(k)) {
         misplaced.set(later, later === inter.name
           ? `intermediate '${later}' cannot use itself`
           : `intermediate '${later}' is defined later: list intermediates in dependency order`);
       }
-      const scope: ExprScope = { names: new Set([...pointBase, ...constNames, ...interNames.slice(0, k)]), misplaced };
-      const node = this.expression(inter.expr, ["intermediates", k, "expr"], scope, usedNames, nonSmoothAt);
+      const scope: ExprScope = { names: new Set([...d.pointInputs, ...d.constNames, ...d.interNames.slice(0, k)]), misplaced };
+      const node = this.expression(inter.expr, ["intermediates", k, "expr"], scope, this.usedNames);
       if (node) {
-        interRaw.set(inter.name, node);
-        interTrees.set(inter.name, substitute(node, interTrees));
+        raw.set(inter.name, node);
+        trees.set(inter.name, substitute(node, trees));
       }
     });
-    const pointScope: ExprScope = {
-      names: new Set([...pointBase, ...constNames, ...interNames]),
-      misplaced: endpointOnly(new Map()),
-    };
-    const endpointScope: ExprScope = (() => {
-      const m = new Map<string, string>();
-      for (const n of stateNames) m.set(n, `state '${n}' in an endpoint expression: write initial(${n}) or final(${n})`);
-      for (const n of controlNames) m.set(n, `control '${n}' cannot be used in an endpoint expression (controls are not endpoint values)`);
-      for (const n of interNames) m.set(n, `intermediate '${n}' cannot be used in an endpoint expression (it depends on t, states and controls)`);
-      m.set("t", "'t' in an endpoint expression: write t0 or tf");
-      return { names: new Set(["t0", "tf", ...constNames]), misplaced: m, endpointStates: stateSet };
-    })();
+    return { raw, trees };
+  }
 
-    // ---- dynamics: one entry per state
-    const dynRaw: (MathNode | null)[] = stateNames.map(() => null);
+  /** One dynamics entry per state (trees as written, in state order). */
+  private dynamicsOf(p: ProblemFile, d: Declared, scope: ExprScope): (MathNode | null)[] {
     for (const key of Object.keys(p.dynamics)) {
-      if (!stateSet.has(key)) {
-        this.err(["dynamics", key], `'${key}' is not a state: dynamics has one entry per state`, { suggestion: nearestName(key, stateNames) });
+      if (!d.stateSet.has(key)) {
+        this.err(["dynamics", key], `'${key}' is not a state: dynamics has one entry per state`, { suggestion: nearestName(key, d.stateNames) });
       }
     }
-    stateNames.forEach((name, i) => {
+    return d.stateNames.map((name) => {
       if (!Object.hasOwn(p.dynamics, name)) {
         this.err(["dynamics"], `missing entry for state '${name}' (one expression per state: d${name}/dt)`);
-        return;
+        return null;
       }
-      dynRaw[i] = this.expression(p.dynamics[name], ["dynamics", name], pointScope, usedNames, nonSmoothAt);
+      return this.expression(p.dynamics[name], ["dynamics", name], scope, this.usedNames);
     });
+  }
 
-    // ---- initial / final conditions → endpoint rows
-    const conditionRows: { node: MathNode; info: ConstraintInfo }[] = [];
-    const endRanges: { initial: (EndRange | undefined)[]; final: (EndRange | undefined)[] } = {
-      initial: stateNames.map(() => undefined),
-      final: stateNames.map(() => undefined),
-    };
-    const stateUsedByCondition = new Set<string>();
+  /**
+   * Initial / final conditions → endpoint rows x(t0)_i, x(tf)_i with their bounds: the initial
+   * rows in state order, then the final rows in state order.
+   */
+  private conditionsOf(p: ProblemFile, d: Declared, stateInfo: VariableInfo[]): {
+    rows: EndpointRow[];
+    ends: { initial: (EndRange | undefined)[]; final: (EndRange | undefined)[] };
+    constrained: Set<string>;
+  } {
+    const rows: EndpointRow[] = [];
+    const ends = { initial: d.stateNames.map((): EndRange | undefined => undefined), final: d.stateNames.map((): EndRange | undefined => undefined) };
+    const constrained = new Set<string>();
     for (const which of ["initial", "final"] as const) {
       const conds = p[which] ?? {};
       for (const key of Object.keys(conds)) {
-        if (!stateSet.has(key)) {
-          this.err([which, key], `'${key}' is not a state`, { suggestion: nearestName(key, stateNames) });
-        }
+        if (!d.stateSet.has(key)) this.err([which, key], `'${key}' is not a state`, { suggestion: nearestName(key, d.stateNames) });
       }
-      stateNames.forEach((name, i) => {
+      d.stateNames.forEach((name, i) => {
         if (!Object.hasOwn(conds, name)) return;
         const c = conds[name];
         const path: Seg[] = [which, name];
         let lower: number;
         let upper: number;
         if (typeof c === "object" && c !== null) {
-          lower = num(c.lower, [...path, "lower"], -Infinity);
-          upper = num(c.upper, [...path, "upper"], Infinity);
-          if (lower === -Infinity && upper === Infinity) {
-            this.err(path, "a range needs 'lower' and/or 'upper' (omit the entry for a free value)");
-          }
+          lower = this.num(c.lower, [...path, "lower"], -Infinity);
+          upper = this.num(c.upper, [...path, "upper"], Infinity);
+          if (lower === -Infinity && upper === Infinity) this.err(path, "a range needs 'lower' and/or 'upper' (omit the entry for a free value)");
         } else {
-          lower = upper = num(c, path, NaN);
+          lower = upper = this.num(c, path, NaN);
         }
         if (lower > upper) this.err(path, `contradictory bounds: lower ${lower} > upper ${upper}`);
         const sb = stateInfo[i];
@@ -389,146 +510,165 @@ class ProblemCompiler {
           const what = lower === upper ? `${which} value ${lower}` : `${which} range [${lower}, ${upper}]`;
           this.err(path, `${what} of '${name}' lies outside the state's bounds [${sb.lower}, ${sb.upper}]`);
         }
-        endRanges[which][i] = { lower, upper };
-        stateUsedByCondition.add(name);
-        conditionRows.push({
-          node: parse(`${which}(${name})`), // name matched NAME_PATTERN: safe mathjs text
-          info: { name: `${which}(${name})`, lower, upper },
-        });
+        ends[which][i] = { lower, upper };
+        constrained.add(name);
+        // the name matched NAME_PATTERN, so this is safe mathjs text
+        rows.push({ node: parse(`${which}(${name})`), info: { name: `${which}(${name})`, lower, upper } });
       });
     }
-    // state order: initial rows then final rows (conditionRows was filled per "which" in state order)
+    return { rows, ends, constrained };
+  }
 
-    // ---- general endpoint constraints and path constraints
-    const boundsOf = (c: { lower?: number | string | null; upper?: number | string | null }, path: Seg[], what: string) => {
-      const lower = num(c.lower, [...path, "lower"], -Infinity);
-      const upper = num(c.upper, [...path, "upper"], Infinity);
-      if (lower === -Infinity && upper === Infinity) this.err(path, `${what} needs 'lower' and/or 'upper' (equal for an equality)`);
-      if (lower > upper) this.err(path, `contradictory bounds: lower ${lower} > upper ${upper}`);
-      return { lower, upper };
-    };
-    const constraintNames = new Map<string, string>();
-    const constraintName = (given: string | undefined, fallback: string, path: Seg[]) => {
-      const name = given ?? fallback;
-      const prev = constraintNames.get(name);
-      if (prev !== undefined) this.err([...path, "name"], `constraint name '${name}' is already used at ${prev}`);
-      constraintNames.set(name, jsonPath(path));
-      return name;
-    };
-    const eventRows: { node: MathNode; info: ConstraintInfo }[] = [];
+  /** Bounds of a constraint: at least one side, lower ≤ upper. */
+  private boundsOf(c: { lower?: number | string | null; upper?: number | string | null }, path: Seg[], what: string) {
+    const lower = this.num(c.lower, [...path, "lower"], -Infinity);
+    const upper = this.num(c.upper, [...path, "upper"], Infinity);
+    if (lower === -Infinity && upper === Infinity) this.err(path, `${what} needs 'lower' and/or 'upper' (equal for an equality)`);
+    if (lower > upper) this.err(path, `contradictory bounds: lower ${lower} > upper ${upper}`);
+    return { lower, upper };
+  }
+
+  /** Constraint names are unique across endpoint and path constraints. */
+  private constraintName(given: string | undefined, fallback: string, path: Seg[]): string {
+    const name = given ?? fallback;
+    const prev = this.constraintNames.get(name);
+    if (prev !== undefined) this.err([...path, "name"], `constraint name '${name}' is already used at ${prev}`);
+    this.constraintNames.set(name, jsonPath(path));
+    return name;
+  }
+
+  private endpointConstraintsOf(p: ProblemFile, scope: ExprScope): EndpointRow[] {
+    const rows: EndpointRow[] = [];
     (p.endpointConstraints ?? []).forEach((c, k) => {
       const path: Seg[] = ["endpointConstraints", k];
       const used = new Set<string>();
-      const node = this.expression(c.expr, [...path, "expr"], endpointScope, used, nonSmoothAt);
-      used.forEach((u) => usedNames.add(u));
-      const b = boundsOf(c, path, "an endpoint constraint");
-      const name = constraintName(c.name, `endpoint${k}`, path);
+      const node = this.expression(c.expr, [...path, "expr"], scope, used);
+      used.forEach((u) => this.usedNames.add(u));
+      const b = this.boundsOf(c, path, "an endpoint constraint");
+      const name = this.constraintName(c.name, `endpoint${k}`, path);
       if (node && ![...used].some((u) => u === "t0" || u === "tf" || u.includes("("))) {
         this.err([...path, "expr"], "the expression depends on no endpoint value (initial(x), final(x), t0, tf)");
       }
-      if (node) eventRows.push({ node, info: { name, ...b } });
+      if (node) rows.push({ node, info: { name, ...b } });
     });
-    const pathRaw: (MathNode | null)[] = [];
-    const pathInfo: ConstraintInfo[] = [];
+    return rows;
+  }
+
+  private pathConstraintsOf(p: ProblemFile, d: Declared, scope: ExprScope): { raw: (MathNode | null)[]; info: ConstraintInfo[] } {
+    const raw: (MathNode | null)[] = [];
+    const info: ConstraintInfo[] = [];
     (p.path ?? []).forEach((c, k) => {
       const path: Seg[] = ["path", k];
       const used = new Set<string>();
-      const node = this.expression(c.expr, [...path, "expr"], pointScope, used, nonSmoothAt);
-      used.forEach((u) => usedNames.add(u));
-      if (node && !pointBase.some((n) => used.has(n)) && !interNames.some((n) => used.has(n))) {
+      const node = this.expression(c.expr, [...path, "expr"], scope, used);
+      used.forEach((u) => this.usedNames.add(u));
+      if (node && !d.pointInputs.some((n) => used.has(n)) && !d.interNames.some((n) => used.has(n))) {
         this.err([...path, "expr"], "the expression depends on no time, state or control");
       }
-      const b = boundsOf(c, path, "a path constraint");
-      pathRaw.push(node);
-      pathInfo.push({ name: constraintName(c.name, `path${k}`, path), ...b });
+      const b = this.boundsOf(c, path, "a path constraint");
+      raw.push(node);
+      info.push({ name: this.constraintName(c.name, `path${k}`, path), ...b });
     });
+    return { raw, info };
+  }
 
-    // ---- objective
+  private objectiveOf(p: ProblemFile, scopes: { point: ExprScope; endpoint: ExprScope }): { terminal: MathNode | null; running: MathNode | null } {
     const obj = p.objective;
     if (obj.terminal === undefined && obj.running === undefined) {
       this.err(["objective"], "the objective needs a 'terminal' term, a 'running' term or both");
     }
-    const terminalRaw = obj.terminal === undefined ? null : this.expression(obj.terminal, ["objective", "terminal"], endpointScope, usedNames, nonSmoothAt);
-    const runningRaw = obj.running === undefined ? null : this.expression(obj.running, ["objective", "running"], pointScope, usedNames, nonSmoothAt);
-
-    // ---- substituted trees and their depth
-    const sub = (n: MathNode | null, path: Seg[]): MathNode | null => {
-      if (!n) return null;
-      const s = substitute(n, interTrees);
-      if (treeDepth(s) > 4 * MAX_TREE_DEPTH) this.err(path, `expression is nested more than ${4 * MAX_TREE_DEPTH} levels deep after substituting intermediates`);
-      return s;
+    return {
+      terminal: obj.terminal === undefined ? null : this.expression(obj.terminal, ["objective", "terminal"], scopes.endpoint, this.usedNames),
+      running: obj.running === undefined ? null : this.expression(obj.running, ["objective", "running"], scopes.point, this.usedNames),
     };
-    const dynTrees = dynRaw.map((n, i) => sub(n, ["dynamics", stateNames[i]]));
-    const pathTrees = pathRaw.map((n, k) => sub(n, ["path", k, "expr"]));
-    const runningTree = sub(runningRaw, ["objective", "running"]);
+  }
 
-    // ---- unused names
-    for (const n of constNames) {
-      if (!usedNames.has(n) && !constUsed.has(n)) this.warn(["constants", n], `constant '${n}' is never used`);
+  /**
+   * Unused constants and intermediates warn; an unused control is an error (DEVELOPERS.md,
+   * Decisions); a state used nowhere (no expression, no end condition) warns.
+   */
+  private unusedNames(d: Declared, pointTrees: (MathNode | null)[], allDynamics: boolean, constrained: Set<string>): void {
+    for (const n of d.constNames) {
+      if (!this.usedNames.has(n) && !this.constUsed.has(n)) this.warn(["constants", n], `constant '${n}' is never used`);
     }
-    for (const [k, n] of interNames.entries()) {
-      if (!usedNames.has(n)) this.warn(["intermediates", k], `intermediate '${n}' is never used`);
-    }
-    const symbolsIn = (trees: (MathNode | null)[]) => {
-      const s = new Set<string>();
-      for (const t of trees) t?.traverse((n) => {
-        if (n.type === "SymbolNode") s.add((n as unknown as { name: string }).name);
+    d.interNames.forEach((n, k) => {
+      if (!this.usedNames.has(n)) this.warn(["intermediates", k], `intermediate '${n}' is never used`);
+    });
+    const pointUsed = new Set<string>();
+    for (const t of pointTrees) {
+      t?.traverse((n) => {
+        if (n.type === "SymbolNode") pointUsed.add((n as unknown as { name: string }).name);
       });
-      return s;
-    };
-    const pointUsed = symbolsIn([...dynTrees, ...pathTrees, runningTree]);
-    controlNames.forEach((n, i) => {
-      if (dynTrees.every((t) => t) && !pointUsed.has(n)) {
+    }
+    d.controlNames.forEach((n, i) => {
+      if (allDynamics && !pointUsed.has(n)) {
         this.err(["controls", i], `control '${n}' is never used in the dynamics, path constraints or running cost`);
       }
     });
-    stateNames.forEach((n, i) => {
-      const anywhere = pointUsed.has(n) || usedNames.has(`initial(${n})`) || usedNames.has(`final(${n})`) || stateUsedByCondition.has(n);
+    d.stateNames.forEach((n, i) => {
+      const anywhere = pointUsed.has(n) || this.usedNames.has(`initial(${n})`) || this.usedNames.has(`final(${n})`) || constrained.has(n);
       if (!anywhere) this.warn(["states", i], `state '${n}' is never used`);
     });
-    for (const w of new Set(nonSmoothAt)) this.warnings.push(w);
+  }
 
-    // ---- tags
+  /** Tags are free-form; a near miss of a known tag and a horizon mismatch warn. */
+  private checkTags(p: ProblemFile, horizon: Horizon): void {
     const tags = p.tags ?? [];
     tags.forEach((tag, k) => {
-      // tags are free-form; only a near miss of a known tag (a likely typo) is worth a warning
       const near = KNOWN_TAGS.includes(tag) ? undefined : nearestName(tag, KNOWN_TAGS);
       if (near) this.warn(["tags", k], `unknown tag '${tag}'; did you mean '${near}'?`);
     });
     if (tags.includes("free-final-time") && horizon.kind === "fixed") this.warn(["tags"], "tag 'free-final-time' but the final time is fixed");
     if (tags.includes("fixed-final-time") && horizon.kind === "free") this.warn(["tags"], "tag 'fixed-final-time' but the final time is free");
+  }
 
-    // ---- guess
-    const guessSpec = p.guess ?? { kind: "linear" as const };
-    const nSeries = stateNames.length + controlNames.length;
-    const series: GuessSeries[] = [];
-    stateNames.forEach((_, i) => {
-      const [a, b] = defaultStateEnds(endRanges.initial[i], endRanges.final[i], stateInfo[i]);
-      series.push(guessSpec.kind === "constant" ? { kind: "line", a, b: a } : { kind: "line", a, b });
+  /**
+   * The initial guess (rules in guess.ts). For a free final time the one final-time guess is, in
+   * order of precedence: guess.finalTime, horizon.finalTime.free.guess, the last time of
+   * guess.csv, the middle of the bounds; horizon.guess is set to it.
+   */
+  private guessOf(
+    p: ProblemFile,
+    d: Declared,
+    stateInfo: VariableInfo[],
+    controlInfo: VariableInfo[],
+    ends: { initial: (EndRange | undefined)[]; final: (EndRange | undefined)[] },
+    horizon: Horizon,
+  ): InitialGuess {
+    const spec = p.guess ?? { kind: "linear" as const };
+    const nx = d.stateNames.length;
+    const series: GuessSeries[] = stateInfo.map((s, i) => {
+      const [a, b] = defaultStateEnds(ends.initial[i], ends.final[i], s);
+      return spec.kind === "constant" ? { kind: "line", a, b: a } : { kind: "line", a, b };
     });
-    controlInfo.forEach((c) => {
+    for (const c of controlInfo) {
       const m = midOrFinite(c.lower, c.upper) ?? 0;
       series.push({ kind: "line", a: m, b: m });
-    });
-    let guessTf = horizon.kind === "fixed" ? horizon.tf : horizon.guess;
-    if (guessSpec.kind === "trajectory") {
-      const table = this.csvChecked(this.files.guessCsv, guessSpec.file, ["guess", "file"], stateNames, controlNames, false);
+    }
+    const ft = p.horizon.finalTime;
+    const horizonGuessGiven = "free" in ft && ft.free.guess !== undefined;
+    let tf = horizon.kind === "fixed" ? horizon.tf : horizon.guess;
+    let tfFrom: Seg[] = ["horizon", "finalTime", "free", "guess"];
+    if (spec.kind === "trajectory") {
+      const table = this.csvChecked(this.files.guessCsv, spec.file, ["guess", "file"], d.stateNames, d.controlNames, false);
       if (table) {
         const t = table.columns[0];
-        const span = t[t.length - 1] - t[0];
-        const tau = t.map((x) => (x - t[0]) / span);
+        const tau = t.map((x) => (x - t[0]) / (t[t.length - 1] - t[0]));
         table.header.forEach((h, k) => {
-          const j = h === "t" ? -1 : stateNames.includes(h) ? stateNames.indexOf(h) : controlNames.includes(h) ? stateNames.length + controlNames.indexOf(h) : -1;
-          if (j >= 0) series[j] = { kind: "table", tau, y: table.columns[k] };
+          const i = d.stateNames.indexOf(h);
+          const j = d.controlNames.indexOf(h);
+          if (k > 0 && i >= 0) series[i] = { kind: "table", tau, y: table.columns[k] };
+          else if (k > 0 && j >= 0) series[nx + j] = { kind: "table", tau, y: table.columns[k] };
         });
-        if (horizon.kind === "free" && guessSpec.finalTime === undefined && p.horizon.finalTime && "free" in p.horizon.finalTime && p.horizon.finalTime.free.guess === undefined) {
-          guessTf = t[t.length - 1];
+        if (horizon.kind === "free" && !horizonGuessGiven) {
+          tf = t[t.length - 1];
+          tfFrom = ["guess", "file"];
         }
       }
     } else {
       for (const which of ["states", "controls"] as const) {
-        const vals = guessSpec[which] ?? {};
-        const names = which === "states" ? stateNames : controlNames;
+        const vals = spec[which] ?? {};
+        const names = which === "states" ? d.stateNames : d.controlNames;
         for (const key of Object.keys(vals)) {
           const j = names.indexOf(key);
           if (j < 0) {
@@ -536,46 +676,58 @@ class ProblemCompiler {
             continue;
           }
           const v = vals[key];
-          series[(which === "states" ? 0 : stateNames.length) + j] = typeof v === "number" ? { kind: "line", a: v, b: v } : { kind: "line", a: v[0], b: v[1] };
+          series[(which === "states" ? 0 : nx) + j] = typeof v === "number" ? { kind: "line", a: v, b: v } : { kind: "line", a: v[0], b: v[1] };
         }
       }
     }
-    if (guessSpec.finalTime !== undefined) {
+    if (spec.finalTime !== undefined) {
       if (horizon.kind === "fixed") this.warn(["guess", "finalTime"], "ignored: the final time is fixed");
       else {
-        if (guessSpec.finalTime < horizon.lower || guessSpec.finalTime > horizon.upper) {
-          this.err(["guess", "finalTime"], `guess ${guessSpec.finalTime} is outside the final-time bounds [${horizon.lower}, ${horizon.upper}]`);
+        if (horizonGuessGiven && horizon.guess !== spec.finalTime) {
+          this.warn(["guess", "finalTime"], `differs from horizon.finalTime.free.guess (${horizon.guess}); guess.finalTime is used`);
         }
-        guessTf = guessSpec.finalTime;
+        tf = spec.finalTime;
+        tfFrom = ["guess", "finalTime"];
       }
     }
-    if (series.length !== nSeries) throw new Error("guess series count mismatch");
     if (horizon.kind === "free") {
-      if (guessSpec.finalTime !== undefined && ft && "free" in ft && ft.free.guess !== undefined && horizon.guess !== guessSpec.finalTime) {
-        this.warn(["guess", "finalTime"], `differs from horizon.finalTime.free.guess (${horizon.guess}); guess.finalTime is used`);
+      if (tfFrom[0] === "guess" && (tf < horizon.lower || tf > horizon.upper)) {
+        this.err(tfFrom, `final-time guess ${tf} is outside the final-time bounds [${horizon.lower}, ${horizon.upper}]`);
       }
-      horizon.guess = guessTf; // one final-time guess for everybody
+      horizon.guess = tf; // one final-time guess for everybody
     }
+    if (spec.kind !== "trajectory" && this.files.guessCsv !== undefined) {
+      this.warn(["guess"], "guess.csv is present but the guess is not of kind \"trajectory\"");
+    }
+    return makeGuess(series, tf);
+  }
 
-    // ---- references
+  private referenceOf(p: ProblemFile, d: Declared, horizon: Horizon, pathInfo: ConstraintInfo[]): ProblemReference {
     const reference: ProblemReference = {};
     const ref = p.reference ?? {};
-    if (ref.objective) reference.objective = { value: ref.objective.value, tolerance: ref.objective.tolerance, provenance: provenance(ref.objective.provenance) };
+    const value = (r: { value: number; tolerance: number; provenance: ProvenanceSpec }) => ({
+      value: r.value,
+      tolerance: r.tolerance,
+      provenance: provenance(r.provenance),
+    });
+    if (ref.objective) reference.objective = value(ref.objective);
     if (ref.finalTime) {
-      reference.finalTime = { value: ref.finalTime.value, tolerance: ref.finalTime.tolerance, provenance: provenance(ref.finalTime.provenance) };
+      reference.finalTime = value(ref.finalTime);
+      const at: Seg[] = ["reference", "finalTime", "value"];
       if (horizon.kind === "fixed" && Math.abs(ref.finalTime.value - horizon.tf) > ref.finalTime.tolerance) {
-        this.err(["reference", "finalTime", "value"], `reference final time ${ref.finalTime.value} differs from the fixed final time ${horizon.tf}`);
+        this.err(at, `reference final time ${ref.finalTime.value} differs from the fixed final time ${horizon.tf}`);
       }
       if (horizon.kind === "free" && (ref.finalTime.value < horizon.lower || ref.finalTime.value > horizon.upper)) {
-        this.err(["reference", "finalTime", "value"], `reference final time ${ref.finalTime.value} is outside the final-time bounds [${horizon.lower}, ${horizon.upper}]`);
+        this.err(at, `reference final time ${ref.finalTime.value} is outside the final-time bounds [${horizon.lower}, ${horizon.upper}]`);
       }
     }
     if (ref.switchingTimes) {
       const st = ref.switchingTimes;
       const hi = horizon.kind === "fixed" ? horizon.tf : horizon.upper;
       st.values.forEach((v, k) => {
-        if (v < t0 || v > hi) this.err(["reference", "switchingTimes", "values", k], `switching time ${v} lies outside the horizon [${t0}, ${hi}]`);
-        if (k > 0 && !(v > st.values[k - 1])) this.err(["reference", "switchingTimes", "values", k], "switching times must increase");
+        const at: Seg[] = ["reference", "switchingTimes", "values", k];
+        if (v < horizon.t0 || v > hi) this.err(at, `switching time ${v} lies outside the horizon [${horizon.t0}, ${hi}]`);
+        if (k > 0 && !(v > st.values[k - 1])) this.err(at, "switching times must increase");
       });
       reference.switchingTimes = { values: [...st.values], tolerance: st.tolerance, provenance: provenance(st.provenance) };
     }
@@ -583,14 +735,17 @@ class ProblemCompiler {
       const pathNames = pathInfo.map((c) => c.name);
       ref.arcs.forEach((arc, k) => {
         const m = /^boundary:(.*)$/.exec(arc);
-        if (m && !pathNames.includes(m[1]) && !stateNames.includes(m[1])) {
-          this.err(["reference", "arcs", k], `'${m[1]}' is not a path constraint or state`, { suggestion: nearestName(m[1], [...pathNames, ...stateNames]) });
+        if (m && !pathNames.includes(m[1]) && !d.stateNames.includes(m[1])) {
+          this.err(["reference", "arcs", k], `'${m[1]}' is not a path constraint or state`, {
+            suggestion: nearestName(m[1], [...pathNames, ...d.stateNames]),
+          });
         }
       });
       reference.arcs = [...ref.arcs];
     }
     if (ref.trajectory) {
-      const table = this.csvChecked(this.files.referenceCsv, ref.trajectory.file, ["reference", "trajectory", "file"], stateNames, controlNames, true);
+      const at: Seg[] = ["reference", "trajectory", "file"];
+      const table = this.csvChecked(this.files.referenceCsv, ref.trajectory.file, at, d.stateNames, d.controlNames, true);
       if (table) {
         const columns: Record<string, Float64Array> = {};
         table.header.forEach((h, k) => {
@@ -603,24 +758,21 @@ class ProblemCompiler {
     } else if (this.files.referenceCsv !== undefined) {
       this.warn(["reference"], "reference.csv is present but no reference.trajectory names it");
     }
-    if (guessSpec.kind !== "trajectory" && this.files.guessCsv !== undefined) {
-      this.warn(["guess"], "guess.csv is present but the guess is not of kind \"trajectory\"");
-    }
+    return reference;
+  }
 
-    if (this.errors.length > 0) return null;
-
-    // ---- compile
-    const dynNodes = dynTrees as MathNode[];
-    const endpointInputs = ["t0", ...stateNames.map((n) => `initial(${n})`), "tf", ...stateNames.map((n) => `final(${n})`)];
-    const consts = { ...constants };
-    const compile = (nodes: MathNode[], inputs: string[]): PointFunction => compilePointFunction(nodes, inputs, consts);
-    const initialRows = conditionRows.filter((r) => r.info.name.startsWith("initial("));
-    const finalRows = conditionRows.filter((r) => r.info.name.startsWith("final("));
-    const endpointRows = [...initialRows, ...finalRows, ...eventRows];
-    const terminalTree = terminalRaw;
-
+  /** TeX of every expression as written (intermediates by name), keyed by JSON path. */
+  private texOf(
+    p: ProblemFile,
+    d: Declared,
+    interRaw: Map<string, MathNode>,
+    dynRaw: (MathNode | null)[],
+    pathRaw: (MathNode | null)[],
+    events: EndpointRow[],
+    objective: { terminal: MathNode | null; running: MathNode | null },
+  ): Record<string, string> {
     const tex: Record<string, string> = {};
-    const texOf = (key: string, n: MathNode | null) => {
+    const put = (key: string, n: MathNode | null | undefined) => {
       if (!n) return;
       try {
         tex[key] = toTex(n);
@@ -628,85 +780,37 @@ class ProblemCompiler {
         tex[key] = "";
       }
     };
-    intermediates.forEach((it) => texOf(`intermediates.${it.name}`, interRaw.get(it.name) ?? null));
-    stateNames.forEach((n, i) => texOf(`dynamics.${n}`, dynRaw[i]));
-    pathRaw.forEach((n, k) => texOf(`path[${k}].expr`, n));
-    eventRows.forEach((r, k) => texOf(`endpointConstraints[${k}].expr`, r.node));
-    texOf("objective.terminal", terminalRaw);
-    texOf("objective.running", runningRaw);
-
-    const compiled: CompiledProblem = {
-      id: this.id,
-      versionHash: problemVersionHash(this.files),
-      title: p.title,
-      description: p.description,
-      tags: [...tags],
-      nx: stateNames.length,
-      nu: controlNames.length,
-      states: stateInfo,
-      controls: controlInfo,
-      constants: consts,
-      horizon,
-      dynamics: compile(dynNodes, pointBase),
-      path: compile(pathTrees as MathNode[], pointBase),
-      pathInfo,
-      runningCost: runningTree ? compile([runningTree], pointBase) : null,
-      terminalCost: terminalTree ? compile([terminalTree], endpointInputs) : null,
-      endpoint: compile(endpointRows.map((r) => r.node), endpointInputs),
-      endpointInfo: endpointRows.map((r) => r.info),
-      sense: obj.sense,
-      objectiveSign: obj.sense === "max" ? -1 : 1,
-      guess: makeGuess(series, guessTf),
-      reference,
-      warnings: this.warnings,
-      symbolic: {
-        pointInputs: pointBase,
-        dynamics: dynNodes,
-        path: pathTrees as MathNode[],
-        runningCost: runningTree,
-        terminalCost: terminalTree,
-        tex,
-        endpointInputs,
-        endpoint: endpointRows.map((r) => r.node),
-      },
-      defaults: p.defaults ? { ...p.defaults } : undefined,
-    };
-    return compiled;
+    for (const it of p.intermediates ?? []) put(`intermediates.${it.name}`, interRaw.get(it.name));
+    d.stateNames.forEach((n, i) => put(`dynamics.${n}`, dynRaw[i]));
+    pathRaw.forEach((n, k) => put(`path[${k}].expr`, n));
+    // called only when nothing failed, so events[k] is endpointConstraints[k]
+    events.forEach((r, k) => put(`endpointConstraints[${k}].expr`, r.node));
+    put("objective.terminal", objective.terminal);
+    put("objective.running", objective.running);
+    return tex;
   }
 
   /** Validates one expression; returns its tree or null (errors recorded). */
-  private expression(
-    value: string | number,
-    path: Seg[],
-    scope: ExprScope,
-    used: Set<string>,
-    nonSmoothAt: string[],
-  ): MathNode | null {
+  private expression(value: string | number, path: Seg[], scope: ExprScope, used: Set<string>): MathNode | null {
     const text = typeof value === "number" ? numberText(value) : value;
     const r = parseExpression(text, scope);
     for (const issue of r.issues) this.err(path, issue.message, { column: issue.column, suggestion: issue.suggestion });
     r.used.forEach((u) => used.add(u));
     for (const fn of r.nonSmooth) {
-      nonSmoothAt.push(formatProblemError({ file: this.file, path: jsonPath(path), message: `${fn} is not smooth: derivatives jump where its arguments meet or cross zero` }));
+      this.nonSmoothAt.push(formatProblemError({ file: this.file, path: jsonPath(path), message: `${fn} is not smooth: derivatives jump where its arguments meet or cross zero` }));
     }
     return r.node;
   }
 
   /** Value of a number or an expression of constants (undefined when invalid). */
-  private constantValue(
-    value: number | string,
-    path: Seg[],
-    scope: ExprScope,
-    constants: Record<string, number>,
-    used: Set<string>,
-  ): number | undefined {
+  private constantValue(value: number | string, path: Seg[], scope: ExprScope): number | undefined {
     if (typeof value === "number") return value;
     const r = parseExpression(value, scope);
     for (const issue of r.issues) this.err(path, issue.message, { column: issue.column, suggestion: issue.suggestion });
     if (!r.node) return undefined;
-    r.used.forEach((u) => used.add(u));
+    r.used.forEach((u) => this.constUsed.add(u));
     const dag = new Dag();
-    const n = toDag(dag, r.node, inputResolver(dag, [], constants));
+    const n = toDag(dag, r.node, inputResolver(dag, [], this.constants));
     const v = dag.isConst(n) ? dag.value[n] : NaN;
     if (!Number.isFinite(v)) {
       this.err(path, `the expression evaluates to ${v}, not a finite number`);
