@@ -173,3 +173,23 @@ describe("path constraint and two controls", () => {
     expect(Math.abs(j[1] - 0.8)).toBeLessThan(0.01);
   });
 });
+
+describe("mixed constraint riding with a control on its bound", () => {
+  // Unit thrust direction (ur, ut), ur² + ut² ≤ 1 active throughout; ur swings through +1 in the
+  // middle (ut = 0 there). The whole flight is one boundary arc of the mixed constraint.
+  const problem = toyProblem({
+    states: [{ name: "x" }],
+    controls: [{ name: "ur", lower: -1, upper: 1 }, { name: "ut", lower: -1, upper: 1 }],
+    dynamics: (z, out) => (out[0] = z[2] + z[3]),
+    path: [{ name: "direction", upper: 1, mixed: true, c: (z) => z[2] * z[2] + z[3] * z[3] }],
+  });
+  const t = clusteredGrid(40, 3);
+  const ang = t.map((tk) => Math.PI * (tk - 0.5)); // direction angle from −π/2 to π/2
+  const ur = ang.map((a) => Math.cos(a));
+  const ut = ang.map((a) => Math.sin(a));
+
+  it("labels both controls boundary:direction, also where ur = 1", () => {
+    const s = detectArcs(problem, sampledSolution(t, [t.map(() => 0)], [ur, ut]));
+    expect(s.signature).toBe("ur=boundary:direction;ut=boundary:direction");
+  });
+});

@@ -7,16 +7,20 @@ import type { CompiledProblem, PointFunction } from "~/engine/problem/types";
 import type { Solution } from "~/engine/schemes/types";
 import { interpLinear } from "~/engine/arcs/interp";
 
-/** Dense-structure point function; Jacobian by central differences (h = 1e-6), Hessian structure given. */
+/**
+ * Point function whose Jacobian structure covers the input columns `cols` (default all); values
+ * by central differences (h = 1e-6); Hessian structure given.
+ */
 export function pointFn(
   nIn: number,
   nOut: number,
   f: (z: Float64Array, out: Float64Array) => void,
   hessPairs: [number, number][] = [],
+  cols: number[] = Array.from({ length: nIn }, (_, j) => j),
 ): PointFunction {
   const jacRows: number[] = [];
   const jacCols: number[] = [];
-  for (let i = 0; i < nOut; i++) for (let j = 0; j < nIn; j++) {
+  for (let i = 0; i < nOut; i++) for (const j of cols) {
     jacRows.push(i);
     jacCols.push(j);
   }
@@ -30,15 +34,15 @@ export function pointFn(
     jacRows: Int32Array.from(jacRows),
     jacCols: Int32Array.from(jacCols),
     jac(z, out) {
-      for (let j = 0; j < nIn; j++) {
+      cols.forEach((j, c) => {
         zp.set(z);
         const h = 1e-6 * Math.max(1, Math.abs(z[j]));
         zp[j] = z[j] + h;
         f(zp, fp);
         zp[j] = z[j] - h;
         f(zp, fm);
-        for (let i = 0; i < nOut; i++) out[i * nIn + j] = (fp[i] - fm[i]) / (2 * h);
-      }
+        for (let i = 0; i < nOut; i++) out[i * cols.length + c] = (fp[i] - fm[i]) / (2 * h);
+      });
     },
     hessRows: Int32Array.from(hessPairs.map((p) => Math.max(p[0], p[1]))),
     hessCols: Int32Array.from(hessPairs.map((p) => Math.min(p[0], p[1]))),
@@ -55,7 +59,8 @@ export interface ToyProblem {
   dynamicsHess?: [number, number][];
   running?: (z: Float64Array) => number;
   runningHess?: [number, number][];
-  path?: { name: string; lower?: number; upper?: number; c: (z: Float64Array) => number }[];
+  /** Path constraints; `mixed` ones depend on the controls, the others on t and x only. */
+  path?: { name: string; lower?: number; upper?: number; mixed?: boolean; c: (z: Float64Array) => number }[];
   sense?: "min" | "max";
   t0?: number;
   tf?: number;
@@ -83,7 +88,13 @@ export function toyProblem(p: ToyProblem): CompiledProblem {
     constants: {},
     horizon: { kind: "fixed", t0: p.t0 ?? 0, tf: p.tf ?? 1 },
     dynamics: pointFn(nIn, nx, p.dynamics, p.dynamicsHess),
-    path: pointFn(nIn, path.length, (z, out) => path.forEach((q, m) => (out[m] = q.c(z)))),
+    path: pointFn(
+      nIn,
+      path.length,
+      (z, out) => path.forEach((q, m) => (out[m] = q.c(z))),
+      [],
+      Array.from({ length: path.some((q) => q.mixed) ? nIn : 1 + nx }, (_, j) => j),
+    ),
     pathInfo: path.map((q) => ({ name: q.name, lower: q.lower ?? -Infinity, upper: q.upper ?? Infinity })),
     runningCost: p.running ? pointFn(nIn, 1, (z, out) => (out[0] = p.running!(z)), p.runningHess) : null,
     terminalCost: null,

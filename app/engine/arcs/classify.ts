@@ -5,8 +5,9 @@
  * range where a side is absent):
  *   "lower"  if u − a ≤ τ_u R,  "upper" if b − u ≤ τ_u R   (τ_u = boundTol)
  *   "boundary:<c>" otherwise, if a path constraint or state bound c is active:
- *                  |c − bound| ≤ τ_c · max_k |c_k − bound|   (τ_c = activeTol), or in a stretch
- *                  between two active points where |c − bound| stays ≤ τ_b · max_k |c_k − bound|
+ *                  |c − bound| ≤ τ_c · scale   (τ_c = activeTol; scale = max_k max(|c_k − bound|,
+ *                  |c_k|, |bound|)), or in a stretch
+ *                  between two active points where |c − bound| stays ≤ τ_b · scale
  *                  (τ_b = bridgeTol: the dip of direct solutions between the touch points that
  *                  mark a higher-order boundary arc), or where a path constraint's multiplier
  *                  stands clearly above the interior-point floor (constants below)
@@ -14,8 +15,9 @@
  *              (|σ| > τ_σ max|σ|), in which case the sign of σ picks the bound (mesh noise,
  *              pseudospectral ringing on a bang arc)
  *   "interior" otherwise.
- * A constraint active while the control sits on a bound (e.g. the mass floor during a coast) does
- * not make a boundary arc: the bound already explains the control.
+ * A state constraint active while the control sits on a bound (e.g. the mass floor during a coast)
+ * does not make a boundary arc: the bound already explains the control. An active mixed constraint
+ * in that control does (a unit thrust direction with one cosine at ±1 rides the constraint).
  * Tolerances are common practice, no source; they are options (ArcDetectionOptions).
  */
 import type { CompiledProblem } from "../problem/types";
@@ -37,6 +39,8 @@ export interface ConstraintDistance {
   threshold: number;
   /** 1 where the constraint counts as active (threshold, then bridging; see constraintDistances). */
   active: Uint8Array;
+  /** Whether the constraint depends on each control (a mixed constraint c(t, x, u)). */
+  dependsOn: boolean[];
 }
 
 /**
@@ -65,19 +69,28 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
     for (let i = 0; i < nx; i++) sval[i][k] = x[i];
   }
   const out: ConstraintDistance[] = [];
-  const add = (name: string, v: Float64Array, bound: number, side: 1 | -1, mu: Float64Array | null = null) => {
+  const pathUses = (m: number) => {
+    const uses = new Array<boolean>(nu).fill(false);
+    const fn = problem.path;
+    for (let k = 0; k < fn.jacRows.length; k++) if (fn.jacRows[k] === m && fn.jacCols[k] > nx) uses[fn.jacCols[k] - 1 - nx] = true;
+    return uses;
+  };
+  const add = (name: string, v: Float64Array, bound: number, side: 1 | -1, mu: Float64Array | null = null, dependsOn = new Array<boolean>(nu).fill(false)) => {
     if (!Number.isFinite(bound)) return;
     const d = new Float64Array(nt);
-    let scale = 1e-12;
+    // Scale: the largest distance, but at least the size of the values and of the bound, so that a
+    // constraint active everywhere (all distances ≈ 0) still has a meaningful threshold.
+    let scale = Math.max(1e-12, Math.abs(bound));
     for (let k = 0; k < nt; k++) {
       d[k] = side * (v[k] - bound);
-      scale = Math.max(scale, Math.abs(d[k]));
+      scale = Math.max(scale, Math.abs(d[k]), Math.abs(v[k]));
     }
     const threshold = activeTol * scale;
     const active = new Uint8Array(nt);
     for (let k = 0; k < nt; k++) if (d[k] <= threshold) active[k] = 1;
     // Multipliers: a path constraint is also active where its multiplier (in magnitude: schemes
-    // may scale or sign it differently; the value test picks the side) stands clearly above the interior-point noise floor and the value is near the bound.
+    // may scale or sign it differently; the value test picks the side) stands clearly above the
+    // interior-point noise floor and the value is near the bound.
     if (mu && mu.length === nt) {
       const a = Array.from(mu, (m) => Math.abs(m)).sort((x, y) => x - y);
       const median = a[a.length >> 1];
@@ -102,14 +115,15 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
       }
       last = k;
     }
-    out.push({ name, d, threshold, active });
+    out.push({ name, d, threshold, active, dependsOn });
   };
   for (let m = 0; m < np; m++) {
     const info = problem.pathInfo[m];
     if (info.lower === info.upper) continue; // an equality path constraint is always active
     const mu = sol.pathMultipliers ? sol.pathMultipliers[m] : null;
-    add(info.name, cval[m], info.lower, 1, mu);
-    add(info.name, cval[m], info.upper, -1, mu);
+    const uses = pathUses(m);
+    add(info.name, cval[m], info.lower, 1, mu, uses);
+    add(info.name, cval[m], info.upper, -1, mu, uses);
   }
   for (let i = 0; i < nx; i++) {
     add(problem.states[i].name, sval[i], problem.states[i].lower, 1);
@@ -119,6 +133,8 @@ export function constraintDistances(problem: CompiledProblem, sol: Solution, act
 }
 
 export interface ClassifyInput {
+  /** Index of the control being classified. */
+  control: number;
   lower: number;
   upper: number;
   /** Control values on the grid. */
@@ -152,25 +168,31 @@ export function classifyPoints(inp: ClassifyInput): string[] {
   if (sigma) for (const v of sigma) sigmaMax = Math.max(sigmaMax, Math.abs(v));
   const useSigma = sigma !== null && sigmaMax > 0 && inp.affine;
   const labels: string[] = new Array(u.length);
-  for (let k = 0; k < u.length; k++) {
-    const v = u[k];
-    if (Number.isFinite(lower) && v - lower <= tolU) {
-      labels[k] = "lower";
-      continue;
-    }
-    if (Number.isFinite(upper) && upper - v <= tolU) {
-      labels[k] = "upper";
-      continue;
-    }
+  const activeAt = (k: number, mixedOnly: boolean): string | null => {
     let active: string | null = null;
     let best = Infinity;
     for (const c of inp.constraints) {
+      if (mixedOnly && !c.dependsOn[inp.control]) continue;
       const r = c.d[k] / c.threshold;
       if (c.active[k] && r < best) {
         best = r;
         active = c.name;
       }
     }
+    return active;
+  };
+  for (let k = 0; k < u.length; k++) {
+    const v = u[k];
+    const atLower = Number.isFinite(lower) && v - lower <= tolU;
+    const atUpper = !atLower && Number.isFinite(upper) && upper - v <= tolU;
+    if (atLower || atUpper) {
+      // A mixed constraint in this control that is active too explains the value (e.g. a unit
+      // direction vector with one component at ±1); a state constraint does not.
+      const mixed = activeAt(k, true);
+      labels[k] = mixed !== null ? `boundary:${mixed}` : atLower ? "lower" : "upper";
+      continue;
+    }
+    const active = activeAt(k, false);
     if (active !== null) {
       labels[k] = `boundary:${active}`;
       continue;

@@ -61,7 +61,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
       if (!affine[j]) continue;
       const c = problem.controls[j];
       const plain = classifyPoints({
-        lower: c.lower, upper: c.upper, u: sol.controls[j], affine: false, sigma: null,
+        control: j, lower: c.lower, upper: c.upper, u: sol.controls[j], affine: false, sigma: null,
         constraints: [], boundTol: opt.boundTol, switchTol: opt.switchTol,
       });
       const s = costateSign(plain, sigma0[j], opt.switchTol);
@@ -80,7 +80,7 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
     const u = sol.controls[j];
     const sj = sigma ? sigma[j] : null;
     const labels = classifyPoints({
-      lower: c.lower, upper: c.upper, u, affine: affine[j], sigma: sj,
+      control: j, lower: c.lower, upper: c.upper, u, affine: affine[j], sigma: sj,
       constraints, boundTol: opt.boundTol, switchTol: opt.switchTol,
     });
     const runs = filterRuns(runsOf(labels), tu, sol.t0, sol.tf, minDuration, opt.minPoints);

@@ -50,7 +50,7 @@ export interface ArcDetectionOptions {
   boundTol?: number;
   /**
    * A constraint is active when |c − bound| ≤ activeTol · scale, scale = max over the grid of
-   * |c − bound|. Default 1e-4.
+   * |c − bound|, |c| and |bound|. Default 1e-4.
    */
   activeTol?: number;
   /**
