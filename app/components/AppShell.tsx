@@ -36,7 +36,7 @@ export function RoleBadge({ role }: { role: Role }) {
 
 export function AppShell({ user, children }: { user: ShellUser; children: ReactNode }) {
   return (
-    <div className="flex min-h-screen flex-col">
+    <div className="flex flex-col">
       <header className="border-b border-line bg-surface">
         <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-4 px-4 py-3 2xl:max-w-[110rem]">
           <NavLink to="/" aria-label="Arcwatch overview">
