@@ -335,3 +335,63 @@ describe("expected signs: constrained ordering and signed dynamic regularisation
     expect(() => new SymmetricSolver(2, rows, rows, { signs: Int8Array.from([1, 0]) })).toThrow(/signs\[1\] = 0/);
   });
 });
+
+describe("2×2 pivot pairs (options.pairs)", () => {
+  it("trapezoidal KKT with zero W rows and δw = δc = 0: exact inertia with no regularisation", () => {
+    for (const N of [5, 20, 40]) {
+      const M = trolleyKkt(N);
+      const ref = eigenInertia(M.dense, 1e-10);
+      const s = new SymmetricSolver(M.n, M.rows, M.cols, { signs: kktSigns(M.nVar, M.nCon), pairs: true });
+      expect(s.factor(M.values)).toEqual({ ok: true, ...ref, regularized: 0, regularizedNegative: 0 });
+      const b = randomRhs(M.n, N);
+      const x = new Float64Array(M.n);
+      s.solve(b, x, 0);
+      // no regularisation, so no refinement is needed for accuracy (tolerance 1e-10 relative)
+      expect(relErr(x, denseReference(M, b))).toBeLessThan(1e-10);
+      s.solve(b, x, 3);
+      expect(s.lastRelativeResidual).toBeLessThan(1e-15);
+    }
+  });
+
+  it("random saddle-point and diagonally dominant matrices: inertia = eigenvalue signs, solves = dense", () => {
+    fc.assert(
+      fc.property(fc.integer({ min: 2, max: 45 }), fc.integer({ min: 0, max: 2 ** 31 - 1 }), fc.boolean(), (n, seed, dominant) => {
+        const r = rng(seed);
+        let M: SymTriplets;
+        let signs: Int8Array;
+        if (dominant) {
+          M = randomDominant(n, 3, seed);
+          signs = Int8Array.from({ length: n }, () => (r() < 0.4 ? -1 : 1));
+        } else {
+          const n2 = Math.max(1, Math.floor(n / 3));
+          const n1 = n;
+          const e: Array<[number, number, number]> = [];
+          for (let i = 0; i < n1; i++) e.push([i, i, r() < 0.4 ? 0 : 0.5 + r()]);
+          for (let k = 0; k < n2; k++) {
+            e.push([n1 + k, k, 1 + r()], [n1 + k, Math.floor(r() * n1), r() - 0.5], [n1 + k, n1 + k, 0]);
+          }
+          M = fromEntries(n1 + n2, e);
+          signs = kktSigns(n1, n2);
+        }
+        const ref = eigenInertia(M.dense, 1e-9);
+        if (ref.zero > 0) return; // singular draws have no unique solution
+        const s = new SymmetricSolver(M.n, M.rows, M.cols, { signs, pairs: true });
+        const inertia = s.factor(M.values);
+        const b = randomRhs(M.n, seed + 3);
+        const x = new Float64Array(M.n);
+        s.solve(b, x, 5);
+        if (inertia.regularized === 0) {
+          expect({ positive: inertia.positive, negative: inertia.negative, zero: inertia.zero }).toEqual(ref);
+        }
+        expect(inertia.ok).toBe(true);
+        expect(relErr(x, denseReference(M, b))).toBeLessThan(1e-8);
+      }),
+      { numRuns: 300, seed: 2024 },
+    );
+  });
+
+  it("rejects pairs without signs", () => {
+    const rows = Int32Array.from([0, 1]);
+    expect(() => new SymmetricSolver(2, rows, rows, { pairs: true })).toThrow(/pairs needs options.signs/);
+  });
+});

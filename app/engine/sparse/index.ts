@@ -23,6 +23,7 @@ import { amdOrder, type AmdInfo } from "./amd";
 import { symmetricAdjacency, symmetricNormInf, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
 import { eliminationTree } from "./etree";
 import { matchConstrained } from "./matching";
+import { pairedAmdOrder } from "./pairs";
 import {
   allocateLdlFactor,
   allocateLdlWorkspace,
@@ -42,6 +43,7 @@ export { tripletsToUpperCsc, validateTriplets } from "./triplet";
 export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
+export { pairedAmdOrder } from "./pairs";
 
 export interface SymmetricSolverOptions {
   /** A pivot with |d_k| ≤ pivotTolerance counts as zero (ok = false). Default 1e-13 (absolute). */
@@ -60,6 +62,12 @@ export interface SymmetricSolverOptions {
   signs?: Int8Array;
   /** δ of the signed dynamic regularisation. Default 1e-8 (common practice, no source). */
   regularization?: number;
+  /**
+   * With `signs`: factor each matched (variable, constraint row) pair as one 2×2 pivot block
+   * (pairs.ts, ldl.ts), so that a zero row of W with δw = δc = 0 needs no regularisation.
+   * Default false (1×1 pivots with the matched precedence ordering). AMD ordering only.
+   */
+  pairs?: boolean;
 }
 
 /** Expected signs of the pivots of a KKT matrix with N primal rows first and m constraint rows after. */
@@ -144,10 +152,19 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const tOrder = performance.now();
     const info: AmdInfo = { denseRows: 0, compressions: 0 };
     let perm: Int32Array;
+    let kind: Uint8Array | null = null;
+    if (options.pairs && (signs === null || ordering !== "amd")) {
+      throw new Error(`${where}: options.pairs needs options.signs and the "amd" ordering`);
+    }
     if (ordering === "amd") {
       const G = symmetricAdjacency(A);
       if (signs === null) {
         perm = amdOrder(G, {}, info);
+      } else if (options.pairs) {
+        const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
+        const paired = pairedAmdOrder(G, matchConstrained(G, constrained), info);
+        perm = paired.perm;
+        kind = paired.kind;
       } else {
         const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
         perm = amdOrder(G, { constrained, partner: matchConstrained(G, constrained) }, info);
@@ -173,8 +190,9 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const parent = new Int32Array(n);
     const Lnz = new Int32Array(n);
     const flag = new Int32Array(n);
-    this.nnzL = eliminationTree(C, parent, Lnz, flag);
-    this.sym = ldlSymbolic(C, parent, Lnz);
+    eliminationTree(C, parent, Lnz, flag);
+    this.sym = ldlSymbolic(C, parent, Lnz, kind);
+    this.nnzL = this.sym.Lp[n];
     this.fac = allocateLdlFactor(this.sym);
     this.ws = allocateLdlWorkspace(n);
     this.bp = new Float64Array(n);

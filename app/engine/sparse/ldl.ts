@@ -53,14 +53,22 @@ export interface LdlSymbolic {
   /** Row k of L has its nonzeros in columns rowCols[rowPtr[k] .. rowPtr[k+1]−1], increasing. */
   rowPtr: Int32Array;
   rowCols: Int32Array;
+  /** 2×2 pivot pairs: kind[k] = 1 and kind[k+1] = 2 for a pair; 0 for a 1×1 pivot; null if none. */
+  kind: Uint8Array | null;
 }
 
-/** Numeric factor storage, allocated once per pattern (Li is the symbolic pattern, shared). */
+/**
+ * Numeric factor storage, allocated once per pattern (Li is the symbolic pattern, shared).
+ * A 2×2 pair (k, k+1) has the block [[D[k], E[k]], [E[k], D[k+1]]] and its inverse
+ * [[Dinv[k], Einv[k]], [Einv[k], Dinv[k+1]]]; L[k+1][k] is kept as an explicit 0.
+ */
 export interface LdlFactor {
   Li: Int32Array;
   Lx: Float64Array;
   D: Float64Array;
   Dinv: Float64Array;
+  E: Float64Array;
+  Einv: Float64Array;
 }
 
 /** Workspace of the numeric phase, allocated once per pattern (all length n). */
@@ -76,38 +84,63 @@ export interface LdlWorkspace {
  * until a node already visited for row k (flag), collecting the row's columns; sorted increasing,
  * which is a topological order of the tree (parent[j] > j). Cost O(nnz(L) log) once per pattern.
  */
-export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array): LdlSymbolic {
+export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, kind: Uint8Array | null = null): LdlSymbolic {
   const { n, colPtr: Ap, rowIdx: Ai } = A;
+  const flag = new Int32Array(n).fill(-1);
+  // Row k's pattern: the tree reach; with 2×2 pairs (kind 1 at j, 2 at j+1) also column j
+  // wherever column j+1 appears, so that the pair's two columns share one pattern.
+  const walkRow = (k: number, visit: (i: number) => void) => {
+    flag[k] = k;
+    for (let p = Ap[k]; p < Ap[k + 1]; p++) {
+      for (let i = Ai[p]; flag[i] !== k; i = parent[i]) {
+        flag[i] = k;
+        visit(i);
+        if (kind !== null && kind[i] === 2 && flag[i - 1] !== k) {
+          flag[i - 1] = k;
+          visit(i - 1);
+        }
+      }
+    }
+  };
+  let colCount = Lnz;
+  if (kind !== null) {
+    if (kind.length !== n) throw new Error(`sparse/ldl: kind has length ${kind.length}, expected ${n}`);
+    for (let j = 0; j < n; j++) {
+      if (kind[j] === 1 && (j + 1 >= n || kind[j + 1] !== 2 || parent[j] !== j + 1)) {
+        throw new Error(`sparse/ldl: 2×2 pair at ${j}, ${j + 1} is not a parent–child pair of the elimination tree`);
+      }
+    }
+    colCount = new Int32Array(n);
+    const cc = colCount;
+    for (let k = 0; k < n; k++) walkRow(k, (i) => cc[i]++);
+    flag.fill(-1);
+  }
   const Lp = new Int32Array(n + 1);
-  for (let i = 0; i < n; i++) Lp[i + 1] = Lp[i] + Lnz[i];
+  for (let i = 0; i < n; i++) Lp[i + 1] = Lp[i] + colCount[i];
   const nnzL = Lp[n];
   const Li = new Int32Array(nnzL);
   const rowPtr = new Int32Array(n + 1);
   const rowCols = new Int32Array(nnzL);
   const next = Lp.slice(0, n);
-  const flag = new Int32Array(n).fill(-1);
   let count = 0;
   for (let k = 0; k < n; k++) {
-    flag[k] = k;
     const start = count;
-    for (let p = Ap[k]; p < Ap[k + 1]; p++) {
-      for (let i = Ai[p]; flag[i] !== k; i = parent[i]) {
-        flag[i] = k;
-        rowCols[count++] = i;
-      }
-    }
+    walkRow(k, (i) => {
+      rowCols[count++] = i;
+    });
     const row = rowCols.subarray(start, count);
     row.sort();
     for (let q = 0; q < row.length; q++) Li[next[row[q]]++] = k;
     rowPtr[k + 1] = count;
   }
   if (count !== nnzL) throw new Error(`sparse/ldl: pattern has ${count} entries, column counts say ${nnzL}`);
-  return { n, parent, Lnz, Lp, Li, rowPtr, rowCols };
+  return { n, parent, Lnz: colCount, Lp, Li, rowPtr, rowCols, kind };
 }
 
 export function allocateLdlFactor(sym: LdlSymbolic): LdlFactor {
   const nnzL = sym.Lp[sym.n];
-  return { Li: sym.Li, Lx: new Float64Array(nnzL), D: new Float64Array(sym.n), Dinv: new Float64Array(sym.n) };
+  const n = sym.n;
+  return { Li: sym.Li, Lx: new Float64Array(nnzL), D: new Float64Array(n), Dinv: new Float64Array(n), E: new Float64Array(n), Einv: new Float64Array(n) };
 }
 
 export function allocateLdlWorkspace(n: number): LdlWorkspace {
@@ -130,8 +163,8 @@ export function ldlNumeric(
   regularization = 0,
 ): Inertia {
   const { n, colPtr: Ap, rowIdx: Ai } = A;
-  const { Lp, Li, rowPtr, rowCols } = sym;
-  const { Lx, D, Dinv } = fac;
+  const { Lp, Li, rowPtr, rowCols, kind } = sym;
+  const { Lx, D, Dinv, E, Einv } = fac;
   const { yVals, LNextSpaceInCol } = ws;
   let positive = 0;
   let negative = 0;
@@ -159,11 +192,81 @@ export function ldlNumeric(
       const end = LNextSpaceInCol[c];
       const yc = yVals[c];
       for (let p = Lp[c]; p < end; p++) yVals[Li[p]] -= Lx[p] * yc;
-      const lkc = yc * Dinv[c];
-      Lx[end] = lkc;
-      dk -= yc * lkc;
       LNextSpaceInCol[c] = end + 1;
       yVals[c] = 0;
+      const kc = kind === null ? 0 : kind[c];
+      if (kc === 0) {
+        const lkc = yc * Dinv[c];
+        Lx[end] = lkc;
+        dk -= yc * lkc;
+      } else if (kc === 1) {
+        if (c + 1 === k) {
+          E[c] = yc; // off-diagonal of the pair (c, k): L[k][c] stays 0
+          Lx[end] = 0;
+        } else {
+          Lx[end] = yc; // y_c kept until y_{c+1} is known
+        }
+      } else {
+        // second column of the pair (c−1, c): [l_{k,c−1}, l_{k,c}] = B⁻¹ [y_{c−1}, y_c]
+        const s1 = LNextSpaceInCol[c - 1] - 1;
+        const y1 = Lx[s1];
+        const l1 = Dinv[c - 1] * y1 + Einv[c - 1] * yc;
+        const l2 = Einv[c - 1] * y1 + Dinv[c] * yc;
+        Lx[s1] = l1;
+        Lx[end] = l2;
+        dk -= y1 * l1 + yc * l2;
+      }
+    }
+
+    if (kind !== null && kind[k] !== 0) {
+      if (kind[k] === 1) {
+        D[k] = dk; // the pair is classified with its second row
+        continue;
+      }
+      // 2×2 pivot block of the pair (k−1, k)
+      let d1 = D[k - 1];
+      let d2 = dk;
+      const e = E[k - 1];
+      let det = d1 * d2 - e * e;
+      // |λ_min(B)| ≥ |det| / (|d1| + |d2| + |e|): the block counts as singular below the tolerance
+      let singular = !(Math.abs(det) > pivotTolerance * (Math.abs(d1) + Math.abs(d2) + Math.abs(e)));
+      if (singular && signs !== null && det - det === 0) {
+        d1 += signs[k - 1] * regularization;
+        d2 += signs[k] * regularization;
+        det = d1 * d2 - e * e;
+        regularized += 2;
+        if (signs[k - 1] < 0) regularizedNegative++;
+        if (signs[k] < 0) regularizedNegative++;
+        singular = !(Math.abs(det) > pivotTolerance * (Math.abs(d1) + Math.abs(d2) + Math.abs(e)));
+      }
+      D[k - 1] = d1;
+      D[k] = d2;
+      if (det - det !== 0) {
+        zero += 2;
+      } else if (singular) {
+        zero++;
+        const t = d1 + d2;
+        if (t > pivotTolerance) positive++;
+        else if (t < -pivotTolerance) negative++;
+        else zero++;
+      } else if (det < 0) {
+        positive++;
+        negative++;
+      } else if (d1 + d2 > 0) {
+        positive += 2;
+      } else {
+        negative += 2;
+      }
+      if (singular || det - det !== 0) {
+        Dinv[k - 1] = 0;
+        Dinv[k] = 0;
+        Einv[k - 1] = 0;
+      } else {
+        Dinv[k - 1] = d2 / det;
+        Dinv[k] = d1 / det;
+        Einv[k - 1] = -e / det;
+      }
+      continue;
     }
 
     if (signs !== null && Math.abs(dk) <= pivotTolerance) {
@@ -204,12 +307,23 @@ export function ldlNumeric(
  */
 export function ldlSolveInPlace(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void {
   const { n, Lp } = sym;
-  const { Li, Lx, Dinv } = fac;
+  const { Li, Lx, Dinv, Einv } = fac;
+  const kind = sym.kind;
   for (let j = 0; j < n; j++) {
     const xj = x[j];
     if (xj !== 0) for (let p = Lp[j]; p < Lp[j + 1]; p++) x[Li[p]] -= Lx[p] * xj;
   }
-  for (let j = 0; j < n; j++) x[j] *= Dinv[j];
+  for (let j = 0; j < n; j++) {
+    if (kind !== null && kind[j] === 1) {
+      const x1 = x[j];
+      const x2 = x[j + 1];
+      x[j] = Dinv[j] * x1 + Einv[j] * x2;
+      x[j + 1] = Einv[j] * x1 + Dinv[j + 1] * x2;
+      j++;
+    } else {
+      x[j] *= Dinv[j];
+    }
+  }
   for (let j = n - 1; j >= 0; j--) {
     let s = x[j];
     for (let p = Lp[j]; p < Lp[j + 1]; p++) s -= Lx[p] * x[Li[p]];

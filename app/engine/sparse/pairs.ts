@@ -1,0 +1,92 @@
+/**
+ * Ordering with 2×2 pivot pairs: each matched (variable v, constraint row c) pair of a KKT matrix
+ * (matching.ts) is merged into one node, the compressed graph is ordered by AMD, and every merged
+ * node is expanded back into v followed immediately by c. The pair is then factored as one 2×2
+ * pivot block [[d_v, e], [e, d_c]] (ldl.ts), which is nonsingular when e ≠ 0 even if d_v = d_c = 0:
+ * the static 2×2 pivots of Duff and Pralet, "Strategies for scaling and pivoting for sparse
+ * symmetric indefinite problems", SIAM J. Matrix Anal. Appl. 27(2), 2005 (matching-based 2×2
+ * pivots and ordering of the compressed graph), without their numerical pair selection: the pairs
+ * are fixed by structure once per pattern.
+ *
+ * Input: G the full pattern without diagonal (Int32 CSC, n nodes), partner Int32Array(n)
+ * (partner[c] = v ≥ 0 for a paired constraint row c, −1 otherwise).
+ * Output: perm Int32Array(n) (perm[k] = original node of pivot k) and kind Uint8Array(n) in the
+ * NEW order: 0 single pivot, 1 first (v) and 2 second (c) of a 2×2 pair at positions k, k+1.
+ */
+import { amdOrder, type AmdInfo } from "./amd";
+import type { CscPattern } from "./csc";
+
+export function pairedAmdOrder(G: CscPattern, partner: Int32Array, info?: AmdInfo): { perm: Int32Array; kind: Uint8Array } {
+  const { n, colPtr, rowIdx } = G;
+  // representative of each node: the variable of its pair, or itself
+  const rep = new Int32Array(n);
+  for (let i = 0; i < n; i++) rep[i] = i;
+  const pairedWith = new Int32Array(n).fill(-1); // variable v → its constraint row c
+  for (let c = 0; c < n; c++) {
+    const v = partner[c];
+    if (v < 0) continue;
+    if (pairedWith[v] !== -1 || partner[v] >= 0) throw new Error(`sparse/pairs: partner[${c}] = ${v} is not a distinct unpaired node`);
+    rep[c] = v;
+    pairedWith[v] = c;
+  }
+  // compressed node ids
+  const sid = new Int32Array(n).fill(-1);
+  const members = new Int32Array(n); // compressed id → representative
+  let nc = 0;
+  for (let i = 0; i < n; i++) {
+    if (rep[i] === i) {
+      sid[i] = nc;
+      members[nc++] = i;
+    }
+  }
+  // compressed adjacency: union of the neighbours of both members, without duplicates or self
+  const mark = new Int32Array(nc).fill(-1);
+  const count = new Int32Array(nc + 1);
+  const neighboursOf = (node: number, s: number, visit: (t: number) => void) => {
+    for (let p = colPtr[node]; p < colPtr[node + 1]; p++) {
+      const t = sid[rep[rowIdx[p]]];
+      if (t !== s && mark[t] !== s) {
+        mark[t] = s;
+        visit(t);
+      }
+    }
+  };
+  for (let s = 0; s < nc; s++) {
+    const v = members[s];
+    let m = 0;
+    const inc = () => {
+      m++;
+    };
+    neighboursOf(v, s, inc);
+    if (pairedWith[v] >= 0) neighboursOf(pairedWith[v], s, inc);
+    count[s + 1] = m;
+  }
+  for (let s = 0; s < nc; s++) count[s + 1] += count[s];
+  const adj = new Int32Array(count[nc]);
+  mark.fill(-1);
+  for (let s = 0; s < nc; s++) {
+    const v = members[s];
+    let q = count[s];
+    const put = (t: number) => {
+      adj[q++] = t;
+    };
+    neighboursOf(v, s, put);
+    if (pairedWith[v] >= 0) neighboursOf(pairedWith[v], s, put);
+  }
+  const permC = amdOrder({ n: nc, colPtr: count, rowIdx: adj }, {}, info);
+  // expand: a pair becomes (v, c) at consecutive positions
+  const perm = new Int32Array(n);
+  const kind = new Uint8Array(n);
+  let k = 0;
+  for (let q = 0; q < nc; q++) {
+    const v = members[permC[q]];
+    perm[k++] = v;
+    const c = pairedWith[v];
+    if (c >= 0) {
+      kind[k - 1] = 1;
+      kind[k] = 2;
+      perm[k++] = c;
+    }
+  }
+  return { perm, kind };
+}
