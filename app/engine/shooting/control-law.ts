@@ -14,7 +14,7 @@
  * another starting point gives a minimum.
  */
 import type { ArcKind } from "../arcs/types";
-import type { ConstraintDerivatives, OptimalityConditions, SingularDerivatives } from "./conditions";
+import { denseJacobian, type ConstraintDerivatives, type OptimalityConditions, type SingularDerivatives } from "./conditions";
 
 export interface ArcControlSpec {
   kinds: ArcKind[];
@@ -122,6 +122,7 @@ export class ArcControlLaw {
     if (Math.abs(w[0] - this.lastT) <= this.window) starts.push(Float64Array.from(this.lastQ));
     const direct = new Float64Array(nq);
     for (let a = 0; a < free.length; a++) direct[a] = w[oc.iU + free[a]];
+    if (spec.constraint) direct[free.length] = this.etaGuess(w);
     starts.push(direct);
     let fallback: Float64Array | null = null;
     for (const start of starts) {
@@ -140,6 +141,28 @@ export class ArcControlLaw {
     q.set(fallback);
     this.load(w, q);
     return true;
+  }
+
+  /**
+   * Least-squares multiplier for the guessed controls: η = −⟨∂H/∂u, ∂S⁽ᵖ⁾/∂u⟩ / ‖∂S⁽ᵖ⁾/∂u‖² (the
+   * Newton matrix is singular at η = 0 when S⁽ᵖ⁾ is quadratic in u, e.g. a unit direction).
+   */
+  private etaGuess(w: Float64Array): number {
+    const { oc } = this;
+    const cd = this.spec.constraint!;
+    w[oc.iEta] = 0;
+    oc.hu.eval(w, this.huBuf);
+    const J = new Float64Array(cd.fn.nOut * oc.nW);
+    denseJacobian(cd.fn, w, new Float64Array(cd.fn.jacRows.length), J);
+    const row = cd.order * oc.nW;
+    let num = 0;
+    let den = 0;
+    for (let j = 0; j < oc.nu; j++) {
+      const g = J[row + oc.iU + j];
+      num += this.huBuf[j] * g;
+      den += g * g;
+    }
+    return den > 0 ? -num / den : 0;
   }
 
   /** Newton from q; "minimum" when interior rows have ∂²H̃/∂u² > 0 at the root. */

@@ -29,6 +29,11 @@ import { integrateSegment } from "./integrate";
 export interface ShootingArc {
   kinds: ArcKind[];
   constraint: ConstraintSide | null;
+  /**
+   * Labels per control for reports ("boundary:q" for every control detected on the boundary arc,
+   * although only the first carries the constraint in the control law). Defaults to the kinds.
+   */
+  labels?: string[];
 }
 
 export interface ShootingSeed {

@@ -15,7 +15,7 @@ import { interpLinear } from "../arcs/interp";
 import { OptimalityConditions } from "./conditions";
 import { MultipleShooting, type ShootingArc, type ShootingOptions } from "./multiple-shooting";
 import { dampedNewton, type NewtonRecord, type NewtonStatus } from "./newton";
-import { combineStructure, combinedSignature } from "./structure";
+import { arcControlLabel, combineStructure, combinedSignature } from "./structure";
 import { integrateSegment } from "./integrate";
 
 export interface RefineOptions extends ShootingOptions {
@@ -146,7 +146,7 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
   const converged = result.status === "converged";
   const signature = combinedSignature(problem, ms.arcs);
   const arcs: RefinedArc[] = ms.arcs.map((arc, a) => ({
-    kinds: arc.kinds.map((k) => (k === "boundary" && arc.constraint ? `boundary:${arc.constraint.name}` : k)),
+    kinds: arc.kinds.map((_, j) => arcControlLabel(arc, j)),
     t0: T[a],
     t1: T[a + 1],
   }));
@@ -171,7 +171,7 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
     converged,
     message: converged ? `converged in ${result.history.length - 1} Newton iterations` : `Newton stopped: ${result.status}`,
     residual: result.residual,
-    iterations: result.history.length - 1,
+    iterations: Math.max(0, result.history.length - 1),
     history: result.history,
     objective,
     finalTime: T[T.length - 1],

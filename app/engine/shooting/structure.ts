@@ -61,8 +61,10 @@ export function combineStructure(problem: CompiledProblem, sol: Solution, s: Arc
   for (let a = 0; a + 1 < T.length; a++) {
     const mid = 0.5 * (T[a] + T[a + 1]);
     let constraintName: string | null = null;
+    const labels: string[] = [];
     const kinds: ArcKind[] = s.controls.map((c) => {
       const arc = c.arcs.find((q) => q.t0 <= mid && mid <= q.t1) ?? c.arcs[c.arcs.length - 1];
+      labels.push(arc.kind === "boundary" ? `boundary:${arc.constraint ?? "?"}` : arc.kind);
       if (arc.kind === "boundary") {
         if (constraintName === null) {
           constraintName = arc.constraint ?? null;
@@ -76,15 +78,14 @@ export function combineStructure(problem: CompiledProblem, sol: Solution, s: Arc
     const prev = arcs[arcs.length - 1];
     if (prev && prev.kinds.every((k, j) => k === kinds[j]) && (prev.constraint?.name ?? null) === (constraint?.name ?? null)) continue;
     if (arcs.length > 0) times.push(T[a]);
-    arcs.push({ kinds, constraint });
+    arcs.push({ kinds, constraint, labels });
   }
   return { arcs, junctions: times };
 }
 
 /** Signature of a combined sequence, in the form of app/engine/arcs signatures. */
 export function combinedSignature(problem: CompiledProblem, arcs: ShootingArc[]): string {
-  const label = (arc: ShootingArc, j: number) =>
-    arc.kinds[j] === "boundary" && arc.constraint ? `boundary:${arc.constraint.name}` : arc.kinds[j];
+  const label = (arc: ShootingArc, j: number) => arcControlLabel(arc, j);
   const perControl = problem.controls.map((_, j) => {
     const seq: string[] = [];
     for (const arc of arcs) {
@@ -94,4 +95,10 @@ export function combinedSignature(problem: CompiledProblem, arcs: ShootingArc[])
     return seq.join("|");
   });
   return problem.nu === 1 ? perControl[0] : problem.controls.map((c, j) => `${c.name}=${perControl[j]}`).join(";");
+}
+
+/** Report label of control j on a combined arc. */
+export function arcControlLabel(arc: ShootingArc, j: number): string {
+  if (arc.labels) return arc.labels[j];
+  return arc.kinds[j] === "boundary" && arc.constraint ? `boundary:${arc.constraint.name}` : arc.kinds[j];
 }
