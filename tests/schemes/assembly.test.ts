@@ -53,9 +53,10 @@ function denseJac(nlp: NlpProblem, y: Float64Array): Float64Array {
   return J;
 }
 
-for (const id of SCHEME_IDS) {
-  describe(`${id}: NLP derivatives vs finite differences`, () => {
-    const mesh = id === "lgr" ? { intervals: 2, degree: 3, breakpoints: [0, 0.35, 1] } : { intervals: 3, breakpoints: [0, 0.2, 0.55, 1] };
+const CASES: Array<{ id: (typeof SCHEME_IDS)[number]; variant?: string }> = [...SCHEME_IDS.map((id) => ({ id })), { id: "hermite-simpson", variant: "compressed" }];
+for (const { id, variant } of CASES) {
+  describe(`${id}${variant ? ` (${variant})` : ""}: NLP derivatives vs finite differences`, () => {
+    const mesh = id === "lgr" ? { intervals: 2, degree: 3, breakpoints: [0, 0.35, 1] } : { intervals: 3, breakpoints: [0, 0.2, 0.55, 1], variant };
     const nlp = getScheme(id).transcribe(problem, mesh).nlp;
     const r = rand(42);
     const y = new Float64Array(nlp.n);

@@ -138,3 +138,16 @@ describe("defects recomputed outside the scheme (LQ, x' = u)", () => {
     }
   });
 });
+
+describe("Hermite–Simpson compressed = separated (the same discrete problem with x_{k+½} eliminated)", () => {
+  for (const [name, N] of [["brachistochrone", 20], ["bryson-ho-orbit-raising", 30]] as const) {
+    it(`${name} at ${N} intervals: objectives agree to 1e-9`, () => {
+      const p = fixture(name);
+      const a = solveProblem(p, "hermite-simpson", { intervals: N }, { keepTrajectory: false, resimulate: false });
+      const b = solveProblem(p, "hermite-simpson", { intervals: N, variant: "compressed" }, { keepTrajectory: false, resimulate: false });
+      expect(b.status).toBe("optimal");
+      expect(b.nlpSize.n).toBeLessThan(a.nlpSize.n);
+      expect(Math.abs(a.objective! - b.objective!)).toBeLessThan(1e-9);
+    });
+  }
+});

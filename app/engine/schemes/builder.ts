@@ -12,7 +12,7 @@
  * A defect block is nx rows, row i:  Σ_b coef_b X[start_b + i] + T Σ_k w_k f_i(z_k) = 0,
  * each row divided by the scale of state i.
  */
-import type { CompiledProblem } from "../problem/types";
+import type { CompiledProblem, PointFunction } from "../problem/types";
 import type { Mesh } from "./types";
 import { Assembly, type AffineInput, type LinearEntry, type SiteSpec, type SiteTerm } from "./assembly";
 
@@ -136,9 +136,9 @@ export class TranscriptionBuilder {
   /**
    * nx defect rows: Σ_b coef_b X[start_b + i] + T Σ_k w_k f_i(z_k) = 0. Returns the first row.
    */
-  addDefect(linear: Array<{ start: number; coef: number }>, dyn: Array<{ point: PointRef; weight: number }>, label: string): number {
+  addDefect(linear: Array<{ start: number; coef: number }>, dyn: Array<{ point: PointRef; weight: number } | { site: number; weight: number }>, label: string): number {
     const r0 = this.gL.length;
-    const siteIds = dyn.map((d) => this.dynSite(d.point));
+    const siteIds = dyn.map((d) => ("site" in d ? d.site : this.dynSite(d.point)));
     for (let i = 0; i < this.nx; i++) {
       const r = this.gL.length;
       this.gL.push(0);
@@ -153,11 +153,27 @@ export class TranscriptionBuilder {
     return r0;
   }
 
+  /**
+   * A site of any point function with its own affine inputs (e.g. the compressed Hermite–Simpson
+   * midpoint, hs-midpoint.ts); use its index in addDefect terms. Returns the site index.
+   */
+  addSite(fn: PointFunction, inputs: AffineInput[], timeScaled: boolean): number {
+    if (inputs.length !== fn.nIn) throw new Error(`site needs ${fn.nIn} inputs, got ${inputs.length}`);
+    this.sites.push({ fn, inputs, timeScaled });
+    return this.sites.length - 1;
+  }
+
+  /** Affine input of T = tf − t0. */
+  spanInput(): AffineInput {
+    if (this.tfVar >= 0) return { c: -this.t0, vars: [this.tfVar], coefs: [1] };
+    return { c: this.fixedSpan, vars: [], coefs: [] };
+  }
+
   /** Path constraints c(z) at a point (rows with the problem's bounds); returns the first row or -1. */
-  addPath(p: PointRef, label: string): number {
+  addPath(p: PointRef, label: string, custom?: { fn: PointFunction; inputs: AffineInput[] }): number {
     const np = this.problem.pathInfo.length;
     if (np === 0) return -1;
-    this.sites.push({ fn: this.problem.path, inputs: p.inputs, timeScaled: false });
+    this.sites.push(custom ? { fn: custom.fn, inputs: custom.inputs, timeScaled: false } : { fn: this.problem.path, inputs: p.inputs, timeScaled: false });
     const s = this.sites.length - 1;
     const r0 = this.gL.length;
     for (let i = 0; i < np; i++) {
@@ -173,10 +189,10 @@ export class TranscriptionBuilder {
   }
 
   /** Running-cost quadrature node: adds objectiveSign · T · w · L(z) to the objective. */
-  addRunningCost(p: PointRef, weight: number): void {
+  addRunningCost(p: PointRef, weight: number, custom?: { fn: PointFunction; inputs: AffineInput[] }): void {
     const L = this.problem.runningCost;
     if (!L || weight === 0) return;
-    this.sites.push({ fn: L, inputs: p.inputs, timeScaled: true });
+    this.sites.push(custom ? { fn: custom.fn, inputs: custom.inputs, timeScaled: true } : { fn: L, inputs: p.inputs, timeScaled: true });
     this.terms.push({ site: this.sites.length - 1, comp: 0, row: -1, weight: this.problem.objectiveSign * weight });
   }
 

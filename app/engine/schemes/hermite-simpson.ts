@@ -12,8 +12,10 @@
  *   Simpson defect   x_{k+1} − x_k − (h_k T/6)(f_k + 4 f_{k+½} + f_{k+1}) = 0
  *   cost             ∫L ≈ Σ_k (h_k T/6)(L_k + 4 L_{k+½} + L_{k+1})   (Simpson's rule)
  *   path             at every node and every midpoint.
- * The compressed form (midpoint state eliminated) is not offered: mesh.variant must be absent or
- * "separated" (see DEVELOPERS.md, Decisions).
+ * Variant "compressed" (mesh.variant): the midpoint state is not a variable but the Hermite
+ * interpolant x_{k+½} = (x_k + x_{k+1})/2 + (h_k T/8)(f_k − f_{k+1}) substituted into the Simpson
+ * defect, the midpoint path constraints and the midpoint cost (composite functions, hs-midpoint.ts);
+ * only the Simpson defects remain. Fewer variables, denser Jacobian and Hessian blocks.
  *
  * Costates: the Simpson-defect multipliers estimate the costate at the midpoints,
  * λ(t_{k+½}) ≈ −λ^S_k; the Hermite-defect multipliers are O(h) (Betts 2010 §4.11, our sign and
@@ -25,14 +27,16 @@ import type { Mesh, Scheme, Solution, Transcription } from "./types";
 import { TranscriptionBuilder, meshBreakpoints, type PointRef } from "./builder";
 import { allocSeries, pathMultipliers, recoverCommon } from "./recover";
 import { hermiteCubic, locate, quadratic3 } from "./interpolation";
+import { hsMidpointFunction } from "./hs-midpoint";
 
 export const hermiteSimpson: Scheme = {
   id: "hermite-simpson",
-  label: "Hermite–Simpson (separated)",
+  label: "Hermite–Simpson (separated; compressed as a variant)",
   order: 4,
   transcribe(problem: CompiledProblem, mesh: Mesh): Transcription {
-    if (mesh.variant !== undefined && mesh.variant !== "separated")
-      throw new Error(`hermite-simpson: unknown variant "${mesh.variant}" (available: separated)`);
+    if (mesh.variant !== undefined && mesh.variant !== "separated" && mesh.variant !== "compressed")
+      throw new Error(`hermite-simpson: unknown variant "${mesh.variant}" (available: separated, compressed)`);
+    const compressed = mesh.variant === "compressed";
     const tau = meshBreakpoints(mesh);
     const N = mesh.intervals;
     const { nx, nu } = problem;
@@ -45,13 +49,37 @@ export const hermiteSimpson: Scheme = {
       pts.push(b.point(tau[k], { start: xs[k] }, nu > 0 ? { start: us[k] } : null));
       if (k < N) {
         const tm = 0.5 * (tau[k] + tau[k + 1]);
-        xm.push(b.addStates(tm, `midpoint ${k}`));
+        if (!compressed) xm.push(b.addStates(tm, `midpoint ${k}`));
         um.push(b.addControls(tm, `midpoint ${k}`));
-        mids.push(b.point(tm, { start: xm[k] }, nu > 0 ? { start: um[k] } : null));
+        if (!compressed) mids.push(b.point(tm, { start: xm[k] }, nu > 0 ? { start: um[k] } : null));
       }
     }
     const simpson: number[] = [];
-    for (let k = 0; k < N; k++) {
+    if (compressed) {
+      const fm = hsMidpointFunction(problem.dynamics, problem.dynamics, nx, nu);
+      const cm = hsMidpointFunction(problem.dynamics, problem.path, nx, nu);
+      const Lm = problem.runningCost ? hsMidpointFunction(problem.dynamics, problem.runningCost, nx, nu) : null;
+      for (let k = 0; k < N; k++) {
+        const h = tau[k + 1] - tau[k];
+        const uIn = Array.from({ length: nu }, (_, j) => ({ c: 0, vars: [um[k] + j], coefs: [1] }));
+        const v = [{ c: h, vars: [], coefs: [] }, b.spanInput(), b.timeInput(0.5 * (tau[k] + tau[k + 1])), ...pts[k].inputs, ...pts[k + 1].inputs, ...uIn];
+        const site = b.addSite(fm, v, true);
+        simpson.push(
+          b.addDefect(
+            [{ start: xs[k + 1], coef: 1 }, { start: xs[k], coef: -1 }],
+            [{ point: pts[k], weight: -h / 6 }, { site, weight: (-4 * h) / 6 }, { point: pts[k + 1], weight: -h / 6 }],
+            `Simpson interval ${k}`,
+          ),
+        );
+        b.addPath(pts[k], `node ${k}`);
+        b.addRunningCost(pts[k], (k > 0 ? (tau[k] - tau[k - 1]) / 6 : 0) + h / 6);
+        b.addPath(pts[k], `midpoint ${k}`, { fn: cm, inputs: v });
+        if (Lm) b.addRunningCost(pts[k], (4 * h) / 6, { fn: Lm, inputs: v });
+      }
+      b.addPath(pts[N], `node ${N}`);
+      b.addRunningCost(pts[N], (tau[N] - tau[N - 1]) / 6);
+    }
+    for (let k = 0; k < N && !compressed; k++) {
       const h = tau[k + 1] - tau[k];
       b.addDefect(
         [{ start: xm[k], coef: 1 }, { start: xs[k], coef: -0.5 }, { start: xs[k + 1], coef: -0.5 }],
@@ -66,7 +94,7 @@ export const hermiteSimpson: Scheme = {
         ),
       );
     }
-    for (let k = 0; k <= N; k++) {
+    for (let k = 0; k <= N && !compressed; k++) {
       b.addPath(pts[k], `node ${k}`);
       const wq = (k > 0 ? (tau[k] - tau[k - 1]) / 6 : 0) + (k < N ? (tau[k + 1] - tau[k]) / 6 : 0);
       b.addRunningCost(pts[k], wq);
@@ -98,10 +126,15 @@ export const hermiteSimpson: Scheme = {
           for (let i = 0; i < nx; i++) fNode[i][k] = fk[i];
           if (k < N) {
             t[2 * k + 1] = r.time(0.5 * (tau[k] + tau[k + 1]));
-            for (let i = 0; i < nx; i++) states[i][2 * k + 1] = r.X[xm[k] + i];
+            if (!compressed) for (let i = 0; i < nx; i++) states[i][2 * k + 1] = r.X[xm[k] + i];
             for (let i = 0; i < nu; i++) controls[i][2 * k + 1] = r.X[um[k] + i];
           }
         }
+        if (compressed)
+          for (let k = 0; k < N; k++) {
+            const hT = tn[k + 1] - tn[k];
+            for (let i = 0; i < nx; i++) states[i][2 * k + 1] = 0.5 * (states[i][2 * k] + states[i][2 * k + 2]) + (hT / 8) * (fNode[i][k] - fNode[i][k + 1]);
+          }
         const tLambda = new Float64Array(N);
         const costates = allocSeries(nx, N);
         for (let k = 0; k < N; k++) {
