@@ -1,0 +1,12 @@
+import { loadProblem } from "~/engine/problem/load";
+import { solveNlp } from "~/engine/nlp";
+import { getScheme } from "~/engine/schemes";
+const [id, sch, N, K] = process.argv.slice(2);
+const r = loadProblem(id);
+if (!r.ok) throw new Error(JSON.stringify(r.errors));
+const tr = getScheme(sch).transcribe(r.problem, { intervals: Number(N), degree: K ? Number(K) : undefined });
+const t0 = performance.now();
+const res = solveNlp(tr.nlp, { tol: 1e-9 });
+const sol = tr.recover(res);
+console.log(res.message); console.log(id, sch, N, res.status, res.iterations, ((performance.now() - t0) / 1000).toFixed(3) + "s", "obj", sol.objective, "tf", sol.tf, "n", tr.nlp.n, "m", tr.nlp.m);
+if (sol.costates) console.log("costate[0] first/last", sol.costates[0][0], sol.costates[0][sol.costates[0].length - 1], "at", sol.tLambda![0]);
