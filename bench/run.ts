@@ -1,9 +1,10 @@
 /**
  * npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>]
- *                  [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--base-url <url>]
+ *                  [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--base-url <url>] [--job <id>]
  *
  * Runs a suite on the current checkout, records it in SQLite (ARCWATCH_DB or --db), compares it
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
+ * `--job <id>` links the run to a jobs row (the server's job worker runs this command in a worktree).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  */
 import { parseArgs } from "node:util";
@@ -67,6 +68,7 @@ async function main(): Promise<number> {
         json: { type: "boolean", default: false },
         "no-alerts": { type: "boolean", default: false },
         "base-url": { type: "string" },
+        job: { type: "string" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -92,6 +94,11 @@ async function main(): Promise<number> {
     process.stderr.write(`--jobs must be a positive integer, got "${args.jobs}"\n`);
     return 2;
   }
+  const jobId = args.job !== undefined ? Number(args.job) : null;
+  if (jobId !== null && (!Number.isInteger(jobId) || jobId < 1)) {
+    process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
+    return 2;
+  }
   const db = args.db ? openDatabase(args.db) : getDb();
   const controller = new AbortController();
   const onSignal = (sig: string) => {
@@ -111,6 +118,7 @@ async function main(): Promise<number> {
       progress: args.json ? null : process.stderr,
       alerts: !args["no-alerts"],
       baseUrl: args["base-url"],
+      jobId,
     });
     let uploaded: { url: string; status: number } | null = null;
     if (args.upload && summary.status !== "interrupted") {
