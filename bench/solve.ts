@@ -8,7 +8,10 @@
  * or acceptable, 1 for any other solver status, 2 for a bad problem file or option (the validation
  * errors are printed on stderr).
  */
+import { existsSync, readFileSync } from "node:fs";
+import path from "node:path";
 import { loadProblem } from "../app/engine/problem/load";
+import { compileProblemSource } from "../app/engine/problem/compile";
 import { formatProblemError } from "../app/engine/problem/errors";
 import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/index";
 import { isConverged, solveProblem, type SolveReport } from "../app/engine/solve";
@@ -131,7 +134,12 @@ function main(): number {
     return onlyHelp ? 0 : 2;
   }
   const args = parsed.args;
-  const loaded = loadProblem(args.target);
+  // a problem.json (or its folder, or an id) goes through the library loader; any other .json file
+  // (e.g. a test fixture) is compiled on its own, with its file name as the id
+  const loose = args.target.endsWith(".json") && path.basename(args.target) !== "problem.json" && existsSync(args.target);
+  const loaded = loose
+    ? compileProblemSource(path.basename(args.target, ".json"), { problemJson: readFileSync(args.target, "utf8") }, args.target)
+    : loadProblem(args.target);
   if (!loaded.ok) {
     for (const e of loaded.errors) process.stderr.write(`${formatProblemError(e)}\n`);
     return 2;
