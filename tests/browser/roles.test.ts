@@ -23,6 +23,7 @@ describe.runIf(run)("roles in the browser", () => {
   let context: BrowserContext;
   let closeBrowser: () => Promise<void>;
   let page: Page;
+  const requested: string[] = [];
 
   beforeAll(async () => {
     server = await startTestServer();
@@ -30,6 +31,7 @@ describe.runIf(run)("roles in the browser", () => {
     context = b.context;
     closeBrowser = b.close;
     page = context.pages()[0] ?? (await context.newPage());
+    page.on("request", (r) => requested.push(r.url()));
   });
 
   afterAll(async () => {
@@ -280,6 +282,21 @@ describe.runIf(run)("roles in the browser", () => {
     await Promise.all([page.waitForURL(url("/signin")), page.click("[data-testid=sign-out]")]);
     const me = await pageFetch("/api/me", { method: "GET" });
     expect(me.status).toBe(401);
+  });
+
+  it("loads everything, fonts included, from the server itself", async () => {
+    expect(requested.length).toBeGreaterThan(20);
+    const foreign = requested.filter((u) => !u.startsWith(`${server.url}/`) && !u.startsWith("data:"));
+    expect(foreign).toEqual([]);
+    expect(requested.some((u) => /inter-latin-\d+-normal-[\w-]+\.woff2$/.test(u))).toBe(true);
+    expect(requested.some((u) => /jetbrains-mono-latin-\d+-normal-[\w-]+\.woff2$/.test(u))).toBe(true);
+    await page.goto(url("/signin"));
+    await hydrated(page);
+    await page.evaluate(() => document.fonts.ready);
+    const loaded = await page.evaluate(() =>
+      [...document.fonts].filter((f) => f.status === "loaded").map((f) => f.family.replace(/["']/g, "")),
+    );
+    expect(loaded).toContain("Inter"); // the sign-in page has no monospace text; its font request is checked above
   });
 
   it("refuses cross-origin state changes even with a valid session", async () => {

@@ -11,12 +11,12 @@ import { chromium, type BrowserContext, type Page } from "playwright-core";
 export const CHROMIUM = "/usr/bin/chromium";
 export const SCREENSHOTS = path.resolve(import.meta.dirname, "..", "screenshots");
 
-export function chromiumAvailable(): boolean {
-  if (fs.existsSync(CHROMIUM)) return true;
+export function chromiumAvailable(executable = CHROMIUM): boolean {
+  if (fs.existsSync(executable)) return true;
   if (process.env.CI === "true") {
-    throw new Error(`${CHROMIUM} is missing and CI=true: install it (apt-get install -y chromium); browser tests must not be skipped in CI.`);
+    throw new Error(`${executable} is missing and CI=true: install it (apt-get install -y chromium); browser tests must not be skipped in CI.`);
   }
-  console.warn(`[browser tests] ${CHROMIUM} not found: skipping (install with apt-get install -y chromium).`);
+  console.warn(`[browser tests] ${executable} not found: skipping (install with apt-get install -y chromium).`);
   return false;
 }
 
