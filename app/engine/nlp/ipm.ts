@@ -23,7 +23,7 @@ import { nextMu, tauOf, muMin } from "./barrier";
 import { barrierValue, barrierGradient } from "./barrier-function";
 import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers";
 import { Filter } from "./filter";
-import { backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
+import { acceptTrial, backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
 import { leastSquaresMultipliers } from "./initial-point";
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
@@ -145,6 +145,12 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   let forceMuUpdate = false;
   let tinyCount = 0;
   let infPr = NaN, infDu = NaN;
+  // Watchdog state: the stored iterate, its direction and reference values (A-5 with watchdog).
+  const wd = {
+    active: false, shortened: 0, trials: 0, mu: 0, theta: 0, phi: 0, gradPhiD: 0, alphaMax: 0,
+    w: new Float64Array(N), lambda: new Float64Array(m), zL: new Float64Array(N), zU: new Float64Array(N),
+    dw: new Float64Array(N), dlam: new Float64Array(m),
+  };
   const firstIter = ctx.iter;
 
   for (;;) {
@@ -208,6 +214,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     let info = corr.deltaW > 0 ? "h" : "";
     const phi = barrierValue(fval, w, P.wL, P.wU, hasL, hasU, mu);
     const theta = theta1(cv);
+    /** (θ, φ) of the point the step starts from (the stored one after a watchdog revert). */
+    let thetaFrom = theta, phiFrom = phi;
     barrierGradient(grad, sL, sU, hasL, hasU, mu, gradPhi);
 
     let lsAccepted = false;
@@ -260,8 +268,38 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
           tinyCount++;
         } else {
           tinyCount = 0;
-          const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0);
-          lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = ls.soc; lsAugment = ls.augment;
+          if (wd.active && wd.mu !== mu) wd.active = false; // μ changed: the reference is stale
+          if (!wd.active && wd.shortened >= C.watchdogShortenedIterTrigger) {
+            wd.active = true; wd.trials = 0; wd.mu = mu;
+            wd.w.set(w); wd.lambda.set(lambda); wd.zL.set(zL); wd.zU.set(zU); wd.dw.set(dw); wd.dlam.set(dlam);
+            wd.theta = theta; wd.phi = phi; wd.gradPhiD = gradPhiD; wd.alphaMax = alphaMax;
+          }
+          if (wd.active) {
+            // Full step, judged against the stored iterate; accepted tentatively a few times.
+            const t = host.trial(alphaMax);
+            const acc = t ? acceptTrial(t, alphaMax, filter, wd.theta, wd.phi, wd.gradPhiD, thetaMin) : null;
+            if (t && acc && acc.ok) {
+              lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = !acc.fType; thetaFrom = wd.theta; phiFrom = wd.phi;
+              wd.active = false; wd.shortened = 0; info += "W";
+            } else if (t && wd.trials < C.watchdogTrialIterMax) {
+              wd.trials++;
+              lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "w";
+            } else {
+              // Back to the stored iterate and an ordinary backtracking along its direction.
+              wd.active = false; wd.shortened = 0;
+              w.set(wd.w); lambda.set(wd.lambda); zL.set(wd.zL); zU.set(wd.zU); dw.set(wd.dw); dlam.set(wd.dlam);
+              const err = evalPoint();
+              if (err) return fail("numerical_trouble", `watchdog revert: ${err}`, infPr, infDu);
+              slacks(w);
+              thetaFrom = wd.theta; phiFrom = wd.phi;
+              const ls = backtrack(host, filter, wd.theta, wd.phi, wd.gradPhiD, wd.alphaMax, thetaMin, false);
+              lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = false; lsAugment = ls.augment; info += "R";
+            }
+          } else {
+            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0);
+            lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = ls.soc; lsAugment = ls.augment;
+            if (ls.accepted) wd.shortened = ls.alpha < alphaMax ? wd.shortened + 1 : 0;
+          }
         }
         if (tinyCount >= 3 && mu <= mMin) {
           return E0.E <= o.acceptableTol
@@ -275,14 +313,15 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       // ---- A-9: feasibility restoration (filter augmented with the current iterate first).
       const why = !corr.ok ? "inertia correction failed" : "step size below α_min";
       if (!hooks.allowRestoration) return fail("numerical_trouble", `restoration phase: ${why}`, infPr, infDu);
-      filter.add((1 - C.gammaTheta) * theta, phi - C.gammaPhi * theta);
+      filter.add((1 - C.gammaTheta) * thetaFrom, phiFrom - C.gammaPhi * thetaFrom);
       st.mu = mu;
+      wd.active = false; wd.shortened = 0;
       const r = runRestoration(P, st, ctx, filter, hasL, hasU);
       if (r.status !== "returned") return r;
       // Back in the regular phase: new point, multipliers re-estimated, eq. (36).
       const err = evalPoint();
       if (err) return fail("numerical_trouble", `after restoration: ${err}`, infPr, infDu);
-      leastSquaresMultipliers(kkt, grad, zL, zU, jv, lambda, ones, rhs, sol);
+      // λ: the restoration problem's multipliers of c(w) − p + n = 0 (copied back by runRestoration).
       rec = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, info: "r" };
       acceptableCount = 0;
       continue;
@@ -295,7 +334,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     boundMultiplierStep(mu, dW, sL, sU, hasL, hasU, zL, zU, dzL, dzU);
     let alphaZ = fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
     alphaZ = fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
-    if (lsAugment) filter.add((1 - C.gammaTheta) * theta, phi - C.gammaPhi * theta); // (22)
+    if (lsAugment) filter.add((1 - C.gammaTheta) * thetaFrom, phiFrom - C.gammaPhi * thetaFrom); // (22)
     const normD = normInfScaled(N, lsAlpha, dW);
     if (qn) {
       // ∇_x L(w_k, λ_{k+1}) before the new Jacobian replaces the old one.

@@ -74,6 +74,18 @@ export function switchingCondition(alpha: number, theta: number, gradPhiD: numbe
   return gradPhiD < 0 && alpha * Math.pow(-gradPhiD, C.sPhi) > C.delta * Math.pow(theta, C.sTheta);
 }
 
+/**
+ * Acceptance of a trial point (θ_t, φ_t) reached with step α from a point with (θ, φ, ∇φᵀd):
+ * filter, then Armijo (20) in the f-type case (θ ≤ θ_min and (19)), else sufficient decrease (18).
+ */
+export function acceptTrial(t: TrialValues, a: number, filter: Filter, theta: number, phi: number, gradPhiD: number, thetaMin: number): { ok: boolean; fType: boolean } {
+  if (!filter.isAcceptable(t.theta, t.phi)) return { ok: false, fType: false };
+  if (theta <= thetaMin && switchingCondition(a, theta, gradPhiD)) {
+    return { ok: t.phi <= phi + C.etaPhi * a * gradPhiD, fType: true }; // (20)
+  }
+  return { ok: t.theta <= (1 - C.gammaTheta) * theta || t.phi <= phi - C.gammaPhi * theta, fType: false }; // (18)
+}
+
 export function backtrack(
   host: LineSearchHost, filter: Filter, theta: number, phi: number, gradPhiD: number,
   alphaMax: number, thetaMin: number, withSoc: boolean,
@@ -82,13 +94,7 @@ export function backtrack(
   let alpha = alphaMax;
   let trials = 0;
   /** Acceptance of a trial computed with step α (used in m(α) = α ∇φᵀd). */
-  const acceptable = (t: TrialValues, a: number): { ok: boolean; fType: boolean } => {
-    if (!filter.isAcceptable(t.theta, t.phi)) return { ok: false, fType: false };
-    if (theta <= thetaMin && switchingCondition(a, theta, gradPhiD)) {
-      return { ok: t.phi <= phi + C.etaPhi * a * gradPhiD, fType: true }; // (20)
-    }
-    return { ok: t.theta <= (1 - C.gammaTheta) * theta || t.phi <= phi - C.gammaPhi * theta, fType: false }; // (18)
-  };
+  const acceptable = (t: TrialValues, a: number) => acceptTrial(t, a, filter, theta, phi, gradPhiD, thetaMin);
   while (alpha >= aMin) {
     trials++;
     const t = host.trial(alpha);

@@ -91,6 +91,14 @@ export const CONSTANTS = {
   /** Restoration phase §3.3: ρ (penalty, eq. (30) of the restoration problem), κ_resto (required θ reduction). */
   rho: 1000,
   kappaResto: 0.9,
+  /**
+   * Watchdog (Chamberlain, Powell, Lemaréchal and Pedersen, "The watchdog technique for forcing
+   * convergence in algorithms for constrained optimization", Math. Programming Study 16, 1982):
+   * after this many consecutive shortened steps, full steps are taken tentatively for at most
+   * watchdogTrialIterMax iterations (trigger values: common practice, no source).
+   */
+  watchdogShortenedIterTrigger: 10,
+  watchdogTrialIterMax: 3,
   /** Bound multipliers larger than this after restoration are reset to 1 (common practice, no source). */
   boundMultResetThreshold: 1e3,
 } as const;

@@ -127,7 +127,8 @@ class RestorationProblem implements InternalProblem {
 
 /**
  * Run the restoration phase from st (w_R, z, μ). On "returned", st.w and st.zL/zU hold the new
- * point; λ is left for the caller to re-estimate.
+ * point and st.lambda the restoration problem's multipliers of c(w) − p + n = 0 (bounded by ρ at
+ * its solution); a least-squares re-estimate (eq. (36)) behaved the same on our problems.
  */
 export function runRestoration(P: InternalProblem, st: IpmState, ctx: IpmContext, filter: Filter, hasL: Uint8Array, hasU: Uint8Array): IpmOutcome {
   const N = P.N, m = P.m;
@@ -175,6 +176,7 @@ export function runRestoration(P: InternalProblem, st: IpmState, ctx: IpmContext
   const vEnd = rs.w;
   const copyBack = () => {
     st.w.set(vEnd.subarray(0, N));
+    st.lambda.set(rs.lambda);
     let zMax = 0;
     for (let i = 0; i < N; i++) {
       st.zL[i] = hasL[i] ? rs.zL[i] : 0;
