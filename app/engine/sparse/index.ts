@@ -22,7 +22,7 @@
 import { amdOrder, type AmdInfo } from "./amd";
 import { symmetricAdjacency, symmetricNormInf, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
 import { eliminationTree } from "./etree";
-import { matchConstrained } from "./matching";
+import { matchConstrained, preferPartners } from "./matching";
 import { pairedAmdOrder } from "./pairs";
 import {
   allocateLdlFactor,
@@ -64,8 +64,10 @@ export interface SymmetricSolverOptions {
   regularization?: number;
   /**
    * With `signs`: factor each matched (variable, constraint row) pair as one 2×2 pivot block
-   * (pairs.ts, ldl.ts), so that a zero row of W with δw = δc = 0 needs no regularisation.
-   * Default false (1×1 pivots with the matched precedence ordering). AMD ordering only.
+   * (pairs.ts, ldl.ts), so that a zero row of W with δw = δc = 0 needs no regularisation. The
+   * pairing prefers variables with a small diagonal against the coupling, judged on the values of
+   * the FIRST factor() call, where the ordering and symbolic analysis then run (matching.ts
+   * preferPartners). Default false (1×1 pivots with the matched precedence ordering). AMD only.
    */
   pairs?: boolean;
 }
@@ -95,11 +97,6 @@ const REFINEMENT_STOP = 4 * Number.EPSILON;
 
 export class SymmetricSolver implements SymmetricSolverLike {
   readonly n: number;
-  readonly nnzL: number;
-  readonly symbolicStats: SymbolicStats;
-  /** Permutation: perm[k] = original index of pivot k; pinv its inverse. */
-  readonly perm: Int32Array;
-  readonly pinv: Int32Array;
   /** ‖b − A x‖∞ after the last solve (NaN before any solve). */
   lastResidual = NaN;
   /** ‖b − A x‖∞ / (‖A‖∞ ‖x‖∞ + ‖b‖∞) after the last solve: the normwise backward error. */
@@ -107,16 +104,26 @@ export class SymmetricSolver implements SymmetricSolverLike {
   /** Refinement steps accepted in the last solve. */
   lastRefinementSteps = 0;
 
-  private readonly C: CscPattern;
-  private readonly Cx: Float64Array;
-  private readonly slot: Int32Array;
   private readonly nT: number;
-  private readonly sym: LdlSymbolic;
-  private readonly fac: LdlFactor;
-  private readonly ws: LdlWorkspace;
   private readonly pivotTolerance: number;
-  private readonly signsPermuted: Int8Array | null;
   private readonly regularization: number;
+  private readonly signs: Int8Array | null;
+  private readonly options: SymmetricSolverOptions;
+  private readonly A: CscPattern;
+  private readonly slotA: Int32Array;
+  private readonly t0: number;
+  private analysed = false;
+  // set by analyse()
+  private permutation: Int32Array = new Int32Array(0);
+  private inverse: Int32Array = new Int32Array(0);
+  private stats: SymbolicStats = { orderingMs: 0, totalMs: 0, nnzA: 0, denseRows: 0 };
+  private C!: CscPattern;
+  private Cx!: Float64Array;
+  private slot!: Int32Array;
+  private sym!: LdlSymbolic;
+  private fac!: LdlFactor;
+  private ws!: LdlWorkspace;
+  private signsPermuted: Int8Array | null = null;
   /** ‖A‖∞ of the last factored matrix (−1 until a solve needs it). */
   private normA = -1;
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
@@ -127,12 +134,20 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private readonly xt: Float64Array;
   private readonly r: Float64Array;
 
+  /**
+   * Symbolic analysis of the pattern (rows[t], cols[t]). With `pairs` the ordering also uses the
+   * values (the pairing prefers zero diagonals and large couplings), so it runs in the first
+   * factor() call instead.
+   */
   constructor(n: number, rows: Int32Array, cols: Int32Array, options: SymmetricSolverOptions = {}) {
-    const t0 = performance.now();
+    this.t0 = performance.now();
     const where = "sparse/SymmetricSolver";
     const { A, slot: slotA } = tripletsToUpperCsc(n, rows, cols, where);
+    this.A = A;
+    this.slotA = slotA;
     this.n = n;
     this.nT = rows.length;
+    this.options = options;
     this.pivotTolerance = options.pivotTolerance ?? DEFAULT_PIVOT_TOLERANCE;
     if (!(this.pivotTolerance >= 0)) throw new Error(`${where}: options.pivotTolerance must be ≥ 0, got ${options.pivotTolerance}`);
 
@@ -143,31 +158,62 @@ export class SymmetricSolver implements SymmetricSolverLike {
         if (signs[i] !== 1 && signs[i] !== -1) throw new Error(`${where}: options.signs[${i}] = ${signs[i]}, expected +1 or −1`);
       }
     }
+    this.signs = signs;
     this.regularization = options.regularization ?? DEFAULT_REGULARIZATION;
     if (signs !== null && !(this.regularization > this.pivotTolerance)) {
       throw new Error(`${where}: options.regularization (${this.regularization}) must exceed the pivot tolerance (${this.pivotTolerance})`);
     }
     const ordering = options.ordering ?? "amd";
     if (ordering !== "amd" && ordering !== "natural") throw new Error(`${where}: options.ordering must be "amd" or "natural", got ${String(ordering)}`);
+    if (options.pairs && (signs === null || ordering !== "amd")) {
+      throw new Error(`${where}: options.pairs needs options.signs and the "amd" ordering`);
+    }
+    this.bp = new Float64Array(n);
+    this.xp = new Float64Array(n);
+    this.xt = new Float64Array(n);
+    this.r = new Float64Array(n);
+    if (!options.pairs) this.analyse(null);
+  }
+
+  /** Nonzeros of the strictly lower factor L (0 until the analysis has run). */
+  get nnzL(): number {
+    return this.analysed ? this.sym.Lp[this.n] : 0;
+  }
+  /** Permutation: perm[k] = original index of pivot k (empty until the analysis has run). */
+  get perm(): Int32Array {
+    return this.permutation;
+  }
+  /** Inverse permutation: pinv[original] = pivot position. */
+  get pinv(): Int32Array {
+    return this.inverse;
+  }
+  get symbolicStats(): SymbolicStats {
+    return this.stats;
+  }
+
+  /** Ordering, permuted pattern, elimination tree and pattern of L; `values` only for pairs. */
+  private analyse(values: Float64Array | null): void {
+    const { n, A, slotA, signs, options } = this;
     const tOrder = performance.now();
     const info: AmdInfo = { denseRows: 0, compressions: 0 };
     let perm: Int32Array;
     let kind: Uint8Array | null = null;
-    if (options.pairs && (signs === null || ordering !== "amd")) {
-      throw new Error(`${where}: options.pairs needs options.signs and the "amd" ordering`);
-    }
-    if (ordering === "amd") {
+    if ((options.ordering ?? "amd") === "amd") {
       const G = symmetricAdjacency(A);
       if (signs === null) {
         perm = amdOrder(G, {}, info);
-      } else if (options.pairs) {
-        const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
-        const paired = pairedAmdOrder(G, matchConstrained(G, constrained), info);
-        perm = paired.perm;
-        kind = paired.kind;
       } else {
         const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
-        perm = amdOrder(G, { constrained, partner: matchConstrained(G, constrained) }, info);
+        if (options.pairs && values !== null) {
+          const Ax = new Float64Array(A.colPtr[n]);
+          for (let t = 0; t < this.nT; t++) Ax[slotA[t]] += values[t];
+          const preferred = preferPartners(A, Ax, G, constrained);
+          const paired = pairedAmdOrder(G, matchConstrained(preferred, constrained), info);
+          perm = paired.perm;
+          kind = paired.kind;
+        } else {
+          perm = amdOrder(G, { constrained, partner: matchConstrained(G, constrained) }, info);
+        }
       }
     } else {
       perm = new Int32Array(n);
@@ -176,8 +222,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const orderingMs = performance.now() - tOrder;
     const pinv = new Int32Array(n);
     for (let k = 0; k < n; k++) pinv[perm[k]] = k;
-    this.perm = perm;
-    this.pinv = pinv;
+    this.permutation = perm;
+    this.inverse = pinv;
     this.signsPermuted = signs === null ? null : Int8Array.from(perm, (old) => signs[old]);
 
     const { C, slotMap } = symmetricPermute(A, pinv);
@@ -192,14 +238,10 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const flag = new Int32Array(n);
     eliminationTree(C, parent, Lnz, flag);
     this.sym = ldlSymbolic(C, parent, Lnz, kind);
-    this.nnzL = this.sym.Lp[n];
     this.fac = allocateLdlFactor(this.sym);
     this.ws = allocateLdlWorkspace(n);
-    this.bp = new Float64Array(n);
-    this.xp = new Float64Array(n);
-    this.xt = new Float64Array(n);
-    this.r = new Float64Array(n);
-    this.symbolicStats = { orderingMs, totalMs: performance.now() - t0, nnzA: C.colPtr[n], denseRows: info.denseRows };
+    this.stats = { orderingMs, totalMs: performance.now() - this.t0, nnzA: C.colPtr[n], denseRows: info.denseRows };
+    this.analysed = true;
   }
 
   /**
@@ -211,6 +253,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     if (values.length !== this.nT) {
       throw new Error(`sparse/SymmetricSolver.factor: values has ${values.length} entries, the pattern has ${this.nT} triplets`);
     }
+    if (!this.analysed) this.analyse(values);
     const Cx = this.Cx;
     const slot = this.slot;
     Cx.fill(0);

@@ -76,3 +76,56 @@ export function matchConstrained(G: CscPattern, constrained: Uint8Array): Int32A
   }
   return partner;
 }
+
+/**
+ * The adjacency G with each constrained node's neighbour list reordered by preference for its
+ * partner, so that matchConstrained (which tries neighbours in list order) pairs a constraint row
+ * c preferably with a variable j whose diagonal is small against the coupling:
+ *   key(j) = |a_jj| / |a_cj|   ascending   (a variable with a zero diagonal first; ties: larger |a_cj|)
+ * This is the variable that would give a zero 1×1 pivot and that a 2×2 pivot with c makes safe,
+ * with the best-conditioned block (det = a_jj a_cc − a_cj²). Heuristic (common practice for
+ * matching-based 2×2 pivots, no single source); values are those of one factorisation.
+ * A: upper-stored symmetric matrix with values Ax (rows sorted, diagonal last in each column);
+ * G: full adjacency of A without diagonal. Returns a new pattern; G is not modified.
+ */
+export function preferPartners(A: CscPattern, Ax: Float64Array, G: CscPattern, constrained: Uint8Array): CscPattern {
+  const { n, colPtr: Ap, rowIdx: Ai } = A;
+  const rowIdx = G.rowIdx.slice();
+  const entry = (i: number, j: number): number => {
+    // value of a_ij, i < j, by binary search in column j of A
+    let lo = Ap[j];
+    let hi = Ap[j + 1] - 1;
+    while (lo <= hi) {
+      const mid = (lo + hi) >> 1;
+      const r = Ai[mid];
+      if (r === i) return Ax[mid];
+      if (r < i) lo = mid + 1;
+      else hi = mid - 1;
+    }
+    return 0;
+  };
+  const keys: number[] = [];
+  const coupling: number[] = [];
+  const idx: number[] = [];
+  for (let c = 0; c < n; c++) {
+    if (constrained[c] !== 1) continue;
+    const start = G.colPtr[c];
+    const end = G.colPtr[c + 1];
+    keys.length = 0;
+    coupling.length = 0;
+    idx.length = 0;
+    for (let p = start; p < end; p++) {
+      const j = rowIdx[p];
+      const acj = Math.abs(j < c ? entry(j, c) : entry(c, j));
+      const ajj = Math.abs(Ax[Ap[j + 1] - 1]);
+      keys.push(acj > 0 ? ajj / acj : Infinity);
+      coupling.push(acj);
+      idx.push(j);
+    }
+    const order = idx
+      .map((_, q) => q)
+      .sort((a, b) => (keys[a] < keys[b] ? -1 : keys[a] > keys[b] ? 1 : coupling[b] - coupling[a]));
+    for (let q = 0; q < order.length; q++) rowIdx[start + q] = idx[order[q]];
+  }
+  return { n, colPtr: G.colPtr, rowIdx };
+}
