@@ -1,6 +1,7 @@
 /**
  * Executor for Arcwatch's own engine: loads the problem with the engine's loader (compiled once
  * per worker and cached by content hash) and times `solveProblem` for the case's scheme and mesh.
+ * After timing, the arc structure of a converged solve is attached (./arcs-from-report.ts).
  */
 import path from "node:path";
 import { loadProblem } from "../../app/engine/problem/load";
@@ -8,6 +9,7 @@ import { solveProblem } from "../../app/engine/solve";
 import type { Mesh } from "../../app/engine/schemes/types";
 import type { CreateExecutor } from "./executor";
 import type { CaseReport } from "./types";
+import { arcsOfReport } from "./arcs-from-report";
 
 export const createExecutor: CreateExecutor = (context) => ({
   prepare(spec) {
@@ -18,6 +20,15 @@ export const createExecutor: CreateExecutor = (context) => ({
     }
     const mesh: Mesh = { intervals: spec.intervals, ...(spec.degree !== undefined ? { degree: spec.degree } : {}), ...(spec.variant ? { variant: spec.variant } : {}) };
     const problem = loaded.problem;
-    return { solve: (): CaseReport => solveProblem(problem, spec.scheme, mesh) };
+    return {
+      solve: (): CaseReport => solveProblem(problem, spec.scheme, mesh),
+      // Arc structure for the "structure" rule, after timing, for converged solves only.
+      finish: (report: CaseReport): CaseReport => {
+        const r = report as ReturnType<typeof solveProblem>;
+        if (r.status !== "optimal" && r.status !== "acceptable") return report;
+        const arcs = arcsOfReport(problem, spec.scheme, r.trajectory, r.objective);
+        return arcs ? { ...report, arcs } : report;
+      },
+    };
   },
 });

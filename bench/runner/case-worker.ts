@@ -60,7 +60,8 @@ async function runCase(spec: CaseSpec, repeats: number, warmup: number, clock: "
       return { spec, status: "error", message, report, samples: [], wallSeconds: wall() };
     }
     const samples = Array.from(result.latency.samples ?? [], (ms) => ms / 1000);
-    const r = report as CaseReport | null;
+    let r = report as CaseReport | null;
+    if (r && prepared.finish) r = await prepared.finish(r);
     return { spec, status: r?.status ?? "error", message: r?.message ?? null, report: r, samples, wallSeconds: wall(), calibrationSeconds: calibration.seconds() };
   } catch (err) {
     const e = err as Error;

@@ -17,6 +17,8 @@ export interface ExecutorContext {
 export interface PreparedCase {
   /** One solve; timed by the worker. Must not throw for a solver failure (return a status). */
   solve(): CaseReport | Promise<CaseReport>;
+  /** Optional post-processing of the last report, once, outside the timed region (e.g. arc structure). */
+  finish?(report: CaseReport): CaseReport | Promise<CaseReport>;
 }
 
 export interface CaseExecutor {
