@@ -26,6 +26,9 @@ describe("infeasible problems end with status infeasible", () => {
     // min over x of max(|s − 1|, |s − 3|) with s = x1 + x2 is 1 (at s = 2); restoration
     // minimises the ℓ1 violation, any s ∈ [1, 3] gives ‖c‖∞ ≥ 1.
     expect(r.infPr).toBeGreaterThanOrEqual(1 - 1e-6);
+    // The returned point minimises the ℓ1 violation |s − 1| + |s − 3| = 2: any s ∈ [1, 3].
+    expect(r.g[0]).toBeGreaterThanOrEqual(1 - 1e-6);
+    expect(r.g[0]).toBeLessThanOrEqual(3 + 1e-6);
   });
 
   it("x² ≤ −1 (nonlinear, no real solution)", () => {
@@ -40,6 +43,7 @@ describe("infeasible problems end with status infeasible", () => {
     const r = solveNlp(makeProblem(spec));
     expect(r.status, r.message).toBe("infeasible");
     expect(r.infPr).toBeGreaterThan(0.5); // the violation x² + 1 ≥ 1 everywhere
+    expect(Math.abs(r.x[0])).toBeLessThan(1e-4); // and is smallest at x = 0
   });
 
   it("bound 0 ≤ x ≤ 1 against the constraint x ≥ 2", () => {

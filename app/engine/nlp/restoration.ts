@@ -191,8 +191,10 @@ export function runRestoration(P: InternalProblem, st: IpmState, ctx: IpmContext
   }
   if (out.status === "optimal" || out.status === "acceptable") {
     const infPr = out.infPr;
-    if (infPr > ctx.opts.constrViolTol)
+    if (infPr > ctx.opts.constrViolTol) {
+      copyBack(); // report the minimiser of the infeasibility, not the point restoration started from
       return { status: "infeasible", message: `converged to a point of local infeasibility: constraint violation ${infPr.toExponential(2)}`, infPr, infDu: out.infDu };
+    }
     copyBack();
     return { status: "returned", message: "restoration reached a feasible point", infPr, infDu: out.infDu };
   }
