@@ -128,13 +128,29 @@ export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, 
     walkRow(k, (i) => {
       rowCols[count++] = i;
     });
-    const row = rowCols.subarray(start, count);
-    row.sort();
-    for (let q = 0; q < row.length; q++) Li[next[row[q]]++] = k;
+    sortRange(rowCols, start, count);
+    for (let q = start; q < count; q++) Li[next[rowCols[q]]++] = k;
     rowPtr[k + 1] = count;
   }
   if (count !== nnzL) throw new Error(`sparse/ldl: pattern has ${count} entries, column counts say ${nnzL}`);
   return { n, parent, Lnz: colCount, Lp, Li, rowPtr, rowCols, kind };
+}
+
+/** Sorts a[start..end) increasing: insertion sort for short rows, the typed-array sort otherwise. */
+function sortRange(a: Int32Array, start: number, end: number): void {
+  if (end - start > 32) {
+    a.subarray(start, end).sort();
+    return;
+  }
+  for (let i = start + 1; i < end; i++) {
+    const v = a[i];
+    let j = i - 1;
+    while (j >= start && a[j] > v) {
+      a[j + 1] = a[j];
+      j--;
+    }
+    a[j + 1] = v;
+  }
 }
 
 export function allocateLdlFactor(sym: LdlSymbolic): LdlFactor {
