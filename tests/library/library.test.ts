@@ -27,6 +27,28 @@ describe("reference library", () => {
     expect(k.reference.arcs).toEqual(["upper", "boundary:q", "singular", "lower"]);
   });
 
+  it("Kestrel-2: the fine-mesh reference shows full thrust, a q-boundary arc, a singular arc and a coast, in order", () => {
+    const k = lib.problems.find((p) => p.id === "kestrel-2-ascent")!;
+    const tr = k.reference.trajectory!;
+    const { Tmax, Hc, qmax } = k.constants;
+    const arcOf = (i: number): string => {
+      const T = tr.columns.T[i], h = tr.columns.h[i], v = tr.columns.v[i];
+      const q = 0.5 * v * v * Math.exp(-Hc * (h - 1));
+      // thresholds leave room for the ringing of the LGR control interpolant at switches (±0.15)
+      if (T > Tmax - 0.05) return "upper";
+      if (T < 0.15) return "lower";
+      const interior = T > 0.5 && T < Tmax - 0.5;
+      if (interior && Math.abs(q / qmax - 1) < 1e-3) return "boundary:q";
+      return interior && q / qmax < 0.97 ? "singular" : "transition";
+    };
+    const seq: string[] = [];
+    for (let i = 0; i < tr.t.length; i++) {
+      const a = arcOf(i);
+      if (a !== "transition" && seq[seq.length - 1] !== a) seq.push(a);
+    }
+    expect(seq).toEqual(["upper", "boundary:q", "singular", "lower"]);
+  });
+
   it("every problem has a reference objective, a trajectory and provenance", () => {
     for (const p of lib.problems) {
       const r = p.reference;
