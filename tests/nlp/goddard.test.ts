@@ -5,7 +5,7 @@
  * (COPS report, recalled from memory); tolerance 1e-5 absolute (the value is given to 6 digits).
  */
 import { describe, it, expect } from "vitest";
-import { solveNlp } from "~/engine/nlp";
+import { solveNlp, type NlpProblem } from "~/engine/nlp";
 import { goddardProblem, GODDARD_HEIGHT } from "./helpers/goddard";
 import { derivativeMismatch, type DenseSpec } from "./helpers/dense-problem";
 
@@ -36,5 +36,29 @@ describe("COPS Goddard rocket, trapezoidal, N = 100", () => {
     expect(r.status, r.message).toBe("optimal");
     expect(Math.abs(-r.f - GODDARD_HEIGHT)).toBeLessThan(1e-5);
     expect(r.iterations).toBeLessThan(100);
+  });
+
+  it("still converges when the boundary conditions are equality rows (degenerate with the bounds)", () => {
+    // h(0) = 1, v(0) = 0, m(0) = 1, m(N) = 0.6 as rows x_i = b while the bounds h ≥ 1, v ≥ 0,
+    // 0.6 ≤ m ≤ 1 stay: LICQ fails at the solution (DEVELOPERS.md, Decisions).
+    const N = 100;
+    const p = goddardProblem(N);
+    const idx = [0, 1, 2, 4 * N + 2], vals = [1, 0, 1, 0.6];
+    const xL = p.xL.slice(), xU = p.xU.slice();
+    xU[0] = Infinity; xU[1] = Infinity; xL[2] = 0.6; xL[4 * N + 2] = 0.6; xU[4 * N + 2] = 1;
+    const q: NlpProblem = {
+      ...p, m: p.m + 4, xL, xU,
+      gL: Float64Array.from([...p.gL, ...vals]), gU: Float64Array.from([...p.gU, ...vals]),
+      jacRows: Int32Array.from([...p.jacRows, p.m, p.m + 1, p.m + 2, p.m + 3]),
+      jacCols: Int32Array.from([...p.jacCols, ...idx]),
+      g: (x, o) => { p.g(x, o); for (let k = 0; k < 4; k++) o[p.m + k] = x[idx[k]]; },
+      jacValues: (x, o) => { p.jacValues(x, o); for (let k = 0; k < 4; k++) o[o.length - 4 + k] = 1; },
+      hessValues: (x, s, l, o) => p.hessValues(x, s, l.subarray(0, p.m), o),
+    };
+    const r = solveNlp(q);
+    console.log(`Goddard N=100, boundary conditions as rows: ${r.status}, ${r.iterations} iterations`);
+    expect(r.status, r.message).toBe("optimal");
+    expect(Math.abs(-r.f - GODDARD_HEIGHT)).toBeLessThan(1e-5);
+    expect(r.iterations).toBeLessThan(200);
   });
 });
