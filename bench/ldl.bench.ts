@@ -228,14 +228,18 @@ const exponents = [
   for (const signs of [false, true]) {
     const options = signs ? { signs: kktSigns(K.nVar, K.nCon) } : {};
     const times: number[] = [];
+    const cpuTimes: number[] = [];
     let s = new SymmetricSolver(K.dim, K.rows, K.cols, options);
     for (let rep = 0; rep < 3; rep++) {
+      const c0 = process.cpuUsage();
       s = new SymmetricSolver(K.dim, K.rows, K.cols, options);
+      const c = process.cpuUsage(c0);
+      cpuTimes.push((c.user + c.system) / 1000);
       times.push(s.symbolicStats.orderingMs);
     }
     const nat = new SymmetricSolver(K.dim, K.rows, K.cols, { ordering: "natural" });
     console.log(
-      `\nAMD${signs ? " (constrained)" : ""} on KKT dim ${K.dim}: ordering ${best(times).toFixed(1)} ms (best of 3), whole symbolic ${s.symbolicStats.totalMs.toFixed(1)} ms; ` +
+      `\nAMD${signs ? " (constrained)" : ""} on KKT dim ${K.dim}: ordering ${best(times).toFixed(1)} ms (best of 3), whole symbolic ${s.symbolicStats.totalMs.toFixed(1)} ms (CPU ${best(cpuTimes).toFixed(1)} ms); ` +
         `nnz(L) AMD ${s.nnzL} vs natural ${nat.nnzL} (ratio ${(nat.nnzL / s.nnzL).toFixed(2)})`,
     );
   }

@@ -118,8 +118,9 @@ export function preferPartners(A: CscPattern, Ax: Float64Array, G: CscPattern, c
       const j = rowIdx[p];
       const acj = Math.abs(j < c ? entry(j, c) : entry(c, j));
       const ajj = Math.abs(Ax[Ap[j + 1] - 1]);
-      keys.push(acj > 0 ? ajj / acj : Infinity);
-      coupling.push(acj);
+      const key = ajj / acj;
+      keys.push(key >= 0 ? key : Infinity); // a zero coupling or a non-finite value: last choice
+      coupling.push(acj === acj ? acj : 0);
       idx.push(j);
     }
     const order = idx
