@@ -390,6 +390,19 @@ describe("2×2 pivot pairs (options.pairs)", () => {
     );
   });
 
+  it("runs the analysis in the first factor call (it uses the values), then reuses it", () => {
+    const M = trolleyKkt(6);
+    const s = new SymmetricSolver(M.n, M.rows, M.cols, { signs: kktSigns(M.nVar, M.nCon), pairs: true });
+    expect(s.nnzL).toBe(0);
+    s.factor(M.values);
+    const nnzL = s.nnzL;
+    const perm = s.perm;
+    expect(nnzL).toBeGreaterThan(0);
+    s.factor(M.values.map((v) => 2 * v));
+    expect(s.nnzL).toBe(nnzL);
+    expect(s.perm).toBe(perm);
+  });
+
   it("rejects pairs without signs", () => {
     const rows = Int32Array.from([0, 1]);
     expect(() => new SymmetricSolver(2, rows, rows, { pairs: true })).toThrow(/pairs needs options.signs/);
