@@ -93,7 +93,7 @@ function summary(r: RefineProblemReport, title: string): string {
   L.push(`  seed         ${r.provenance.kind === "shooting" ? r.provenance.detail.replace("refined by shooting from ", "") : ""}: ${r.direct.status}, objective ${r.direct.objective === null ? "—" : fix(r.direct.objective, 10)}, ${r.direct.seconds.toFixed(2)} s`);
   L.push(`  detected     ${r.detectedSignature || "—"}`);
   L.push(`  status       ${r.status} (${r.message})`);
-  L.push(`  residual     ${r.residual.toExponential(2)} after ${r.iterations} Newton iterations`);
+  L.push(`  residual     ${r.residual.toExponential(2)} after ${r.iterations} Newton iterations (Jacobian condition ${r.jacobianCondition.toExponential(1)})`);
   L.push(`  objective    ${fix(r.objective)}`);
   L.push(`  final time   ${fix(r.finalTime)}`);
   L.push(`  structure    ${r.signature || "—"} (${r.structureConfirmed ? "confirmed" : "not confirmed"})`);

@@ -88,5 +88,10 @@ describe("classic checks", () => {
     // A speed limit can only lower the optimum.
     expect(r.objective).toBeLessThan(free.objective);
     expect(Math.abs(r.junctions[0] - free.junctions[0])).toBeLessThan(1e-9);
+    // Well-posed conditions: a second seed (Hermite–Simpson) reaches the same point.
+    const other = refine(classic("goddard-cops-speed-limit"), "hermite-simpson", 60);
+    expect(other.converged).toBe(true);
+    expect(Math.abs(other.objective - r.objective)).toBeLessThan(1e-10);
+    other.junctions.forEach((tj, k) => expect(Math.abs(tj - r.junctions[k])).toBeLessThan(1e-9));
   });
 });

@@ -47,6 +47,7 @@ export class ArcControlLaw {
   private readonly lastQ: Float64Array;
   private lastT = NaN;
   private readonly window: number;
+  private readonly hasInterior: boolean;
 
   constructor(oc: OptimalityConditions, spec: ArcControlSpec, guess: ControlGuess) {
     this.oc = oc;
@@ -67,6 +68,7 @@ export class ArcControlLaw {
     this.spBuf = new Float64Array(spec.constraint ? spec.constraint.order + 1 : 0);
     this.sgBuf = spec.singular.map((s) => new Float64Array(s ? 2 * s.order + 1 : 0));
     this.lastQ = new Float64Array(this.nq);
+    this.hasInterior = this.free.some((j) => spec.kinds[j] === "interior");
     const h = oc.problem.horizon;
     this.window = 0.01 * Math.abs((h.kind === "fixed" ? h.tf : h.upper) - h.t0);
   }
@@ -191,6 +193,7 @@ export class ArcControlLaw {
       for (const v of r) rn = Math.max(rn, Math.abs(v));
       if (!(rn <= 1e-12)) return "fail";
     }
+    if (!this.hasInterior) return "minimum";
     this.jacobianAt(w);
     for (let a = 0; a < free.length; a++) {
       if (spec.kinds[free[a]] === "interior" && !(J[a * nq + a] > 0)) return "stationary";

@@ -10,9 +10,11 @@
  * Conditions F(z) = 0:
  *   continuity        y_{k+1} − Φ_k(y_k)  (with the costate jump −Σ π_i ∇ₓS⁽ⁱ⁾ at a boundary entry)
  *   junctions         σ_j = 0 between opposite bang arcs; ∂H/∂u_j(u_j = bound) = 0 between a bang
- *                     and an interior arc; σ = … = σ⁽²ᵖ⁻¹⁾ = 0 entering a singular arc; tangency
- *                     S = … = S⁽ᵖ⁻¹⁾ = 0 entering a boundary arc, and at its entry and exit
- *                     continuity of u (next to an interior arc) or of H (otherwise)
+ *                     and an interior arc; σ = … = σ⁽²ᵖ⁻¹⁾ = 0 entering a singular arc (also from a
+ *                     boundary arc); tangency S = … = S⁽ᵖ⁻¹⁾ = 0 entering a boundary arc, and at its
+ *                     entry and exit continuity of u (next to an interior arc) or of H (otherwise);
+ *                     no condition when leaving a singular arc, also into a boundary arc (there
+ *                     H-continuity holds identically)
  *   endpoints         b_r(e) = target_r on active rows; λ(t0) = −∂Φ/∂x(t0), λ(tf) = ∂Φ/∂x(tf),
  *                     H(tf) = −∂Φ/∂tf when tf is free, Φ = s·φ + νᵀ b     (Bryson and Ho, eq. (2.8.14))
  * Φ_k is the ODEX flow of ẋ = f, λ̇ = −∂H̃/∂x with the arc's control law (control-law.ts).
@@ -388,14 +390,24 @@ export class MultipleShooting {
         out.push(hm[0] - hp[0]);
       }
     };
+    const singularEntry = (j: number) => {
+      const s = this.specs[b].singular[j]!;
+      const v = new Float64Array(s.fn.nOut);
+      s.fn.eval(wp, v);
+      for (let q = 0; q < 2 * s.order; q++) out.push(v[q]);
+    };
     if (B.constraint && !sameConstraint(A.constraint, B.constraint)) {
       const cd = this.specs[b].constraint!;
       const v = new Float64Array(cd.fn.nOut);
       cd.fn.eval(wp, v);
       for (let q = 0; q < cd.order; q++) out.push(v[q]);
-      continuity(jB, A.kinds[jB]);
+      // From a singular arc (σ ≡ 0) H-continuity holds identically and no condition is added: as
+      // at any exit from a singular arc, the rest of the system fixes the time.
+      if (A.kinds[jB] !== "singular") continuity(jB, A.kinds[jB]);
     } else if (A.constraint && !sameConstraint(A.constraint, B.constraint)) {
-      continuity(jA, B.kinds[jA]);
+      // Into a singular arc: its entry conditions σ = … = σ⁽²ᵖ⁻¹⁾ = 0 (H-continuity follows).
+      if (B.kinds[jA] === "singular") singularEntry(jA);
+      else continuity(jA, B.kinds[jA]);
     }
     const hu = new Float64Array(nu);
     for (let j = 0; j < nu; j++) {
@@ -405,10 +417,7 @@ export class MultipleShooting {
       if (ka === kb) continue;
       const bang = (k: ArcKind) => k === "lower" || k === "upper";
       if (kb === "singular") {
-        const s = this.specs[b].singular[j]!;
-        const v = new Float64Array(s.fn.nOut);
-        s.fn.eval(wp, v);
-        for (let q = 0; q < 2 * s.order; q++) out.push(v[q]);
+        singularEntry(j);
       } else if (ka === "singular") {
         // Exit from a singular arc: no condition (the exit time is fixed by the rest).
       } else if (bang(ka) && bang(kb)) {

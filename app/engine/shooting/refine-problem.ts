@@ -93,6 +93,7 @@ export function refineProblem(problem: CompiledProblem, options: RefineProblemOp
       trajectory: null,
       seconds: d.seconds,
       rhsEvaluations: 0,
+      jacobianCondition: NaN,
       direct,
       provenance: { kind: "shooting", detail },
       reference: null,

@@ -17,6 +17,7 @@ import { MultipleShooting, type ShootingArc, type ShootingOptions } from "./mult
 import { dampedNewton, type NewtonRecord, type NewtonStatus } from "./newton";
 import { arcControlLabel, combineStructure, combinedSignature } from "./structure";
 import { integrateSegment } from "./integrate";
+import { SingularValueDecomposition } from "ml-matrix";
 
 export interface RefineOptions extends ShootingOptions {
   /** Newton tolerance on ‖F‖∞. Default 1e-11. */
@@ -66,9 +67,10 @@ export interface RefineReport {
   /** Costate jumps π at boundary-arc entries. */
   jumps: number[];
   trajectory: RefinedTrajectory | null;
-  /** "refined by shooting from <scheme> at <mesh>" is composed by the caller that knows the mesh. */
   seconds: number;
   rhsEvaluations: number;
+  /** Condition number (2-norm) of the shooting Jacobian at the returned point; NaN when not computed. */
+  jacobianCondition: number;
 }
 
 /** Costate guess from the scheme's estimates (linear interpolation), with a sign correction. */
@@ -98,6 +100,7 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
   const sign = structure.costateSign === -1 ? -1 : 1;
   const failed = (message: string): RefineReport => ({
     ...base,
+    jacobianCondition: NaN,
     status: "setup_failed",
     converged: false,
     message,
@@ -150,9 +153,25 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
     t0: T[a],
     t1: T[a + 1],
   }));
-  ms.evaluate(z);
+  const Fz = ms.evaluate(z);
   const traj = ms.trajectory(z);
   const violations = traj ? confirm(problem, oc, ms, traj) : ["the refined trajectory could not be integrated"];
+  // Well-posedness: as many conditions as unknowns, and a Jacobian of full rank at the solution.
+  let jacobianCondition = NaN;
+  if (Fz) {
+    if (Fz.length !== ms.nz) violations.push(`the shooting conditions are ${Fz.length} equations for ${ms.nz} unknowns`);
+    ms.evaluate(z);
+    const J = ms.jacobian(z, Fz);
+    if (J) {
+      const sv = new SingularValueDecomposition(J, { autoTranspose: true }).diagonal;
+      const smax = Math.max(...sv);
+      const smin = Math.min(...sv);
+      jacobianCondition = smin > 0 ? smax / smin : Infinity;
+      // Forward differences carry errors near 1e-6 relative, so a condition number above 1e10 is
+      // read as a missing condition (common practice, no source).
+      if (!(jacobianCondition <= 1e10)) violations.push(`the shooting Jacobian is (nearly) singular at the solution (condition ${jacobianCondition.toExponential(1)})`);
+    }
+  }
   const objective = traj ? objectiveValue(problem, ms, z, T) : NaN;
   const endpointMultipliers: Record<string, number> = {};
   ms.active.forEach((r, q) => (endpointMultipliers[problem.endpointInfo[r.row].name] = z[ms.offNu + q]));
@@ -186,6 +205,7 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
     trajectory,
     seconds: (performance.now() - started) / 1000,
     rhsEvaluations: ms.nEvalTotal,
+    jacobianCondition,
   };
 }
 
