@@ -4,7 +4,8 @@
  * Amestoy, Davis and Duff, "An approximate minimum degree ordering algorithm",
  * SIAM J. Matrix Anal. Appl. 17(4):886–905, 1996 (the paper's Algorithm 2 with the approximate
  * external degree of eq. (4)); the single-array quotient-graph storage with garbage collection is
- * described there in §4 and in Davis, "Direct Methods for Sparse Linear Systems", SIAM 2006, §7.1 (section and equation numbers recalled from memory).
+ * described there in §4 and in Davis, "Direct Methods for Sparse Linear Systems", SIAM 2006, §7.1
+ * (section and equation numbers recalled from memory).
  *
  * Elimination is simulated on the QUOTIENT GRAPH: each uneliminated variable i has a list holding
  * first the elements adjacent to it (E_i, elen[i] entries) and then the variables adjacent to it
@@ -22,9 +23,12 @@
  *     and placed last (the default of the AMD package, Amestoy, Davis and Duff, ACM TOMS 30(3),
  *     2004, "Algorithm 837: AMD");
  *   - final assembly-tree postorder, which keeps each subtree contiguous.
+ * Arcwatch addition for KKT matrices (options `constrained`, `partner`): a constrained node waits
+ * outside the degree lists until its partner is eliminated, and is ordered after the
+ * unconstrained nodes of its elimination group (see AmdOptions).
  *
- * Input: the pattern of the FULL symmetric matrix (both triangles, from csc.symmetricAdjacency);
- * diagonal entries are ignored. Output: perm, Int32Array(n), perm[k] = index of the k-th pivot
+ * Input: the pattern of the FULL symmetric matrix (both triangles, from csc.symmetricAdjacency;
+ * no duplicate entries); diagonal entries are ignored. Output: perm, Int32Array(n), perm[k] = index of the k-th pivot
  * (so P A Pᵀ has row k equal to row perm[k] of A). Cost: about O(nnz(A)) memory and, for the banded
  * and mesh-like matrices of transcriptions, near-linear time.
  */
