@@ -1,5 +1,5 @@
 /** Typed queries on users. Role checks belong to the callers' guards (app/services/auth.server.ts). */
-import { asc, count, eq, sql } from "drizzle-orm";
+import { and, asc, count, eq, isNull, sql } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { ROLES, users, type Role, type UserRow } from "~/db/schema";
 import { hashPassword } from "~/services/password.server";
@@ -63,18 +63,61 @@ export class LastAdminError extends Error {
   }
 }
 
-/** Changes a role; refuses to demote the last admin (checked inside one transaction). */
+/** Changes a role; refuses to demote the last enabled admin (checked inside one transaction). */
 export function changeRole(db: Db, id: number, role: Role): PublicUser | undefined {
   return db.transaction((tx) => {
     const current = tx.select().from(users).where(eq(users.id, id)).get();
     if (!current) return undefined;
-    if (current.role === "admin" && role !== "admin") {
-      const admins = tx.select({ n: count() }).from(users).where(eq(users.role, "admin")).get()?.n ?? 0;
-      if (admins <= 1) throw new LastAdminError();
+    if (current.role === "admin" && role !== "admin" && !current.disabledAt) {
+      const enabledAdmins =
+        tx
+          .select({ n: count() })
+          .from(users)
+          .where(and(eq(users.role, "admin"), isNull(users.disabledAt)))
+          .get()?.n ?? 0;
+      if (enabledAdmins <= 1) throw new LastAdminError();
     }
     return tx
       .update(users)
       .set({ role, updatedAt: new Date() })
+      .where(eq(users.id, id))
+      .returning(publicColumns)
+      .get();
+  });
+}
+
+export class SelfDisableError extends Error {
+  constructor() {
+    super("You cannot disable your own account.");
+  }
+}
+
+/**
+ * Disables (signs out everywhere, refuses sign-in) or re-enables an account. Accounts are
+ * disabled rather than deleted so that their comments and triage history keep their author.
+ * Refuses to disable the acting admin or the last enabled admin.
+ */
+export function setDisabled(db: Db, id: number, disabled: boolean, actingUserId: number): PublicUser | undefined {
+  return db.transaction((tx) => {
+    const current = tx.select().from(users).where(eq(users.id, id)).get();
+    if (!current) return undefined;
+    if (disabled && id === actingUserId) throw new SelfDisableError();
+    if (disabled && current.role === "admin") {
+      const enabledAdmins =
+        tx
+          .select({ n: count() })
+          .from(users)
+          .where(and(eq(users.role, "admin"), isNull(users.disabledAt)))
+          .get()?.n ?? 0;
+      if (enabledAdmins <= 1) throw new LastAdminError();
+    }
+    return tx
+      .update(users)
+      .set(
+        disabled
+          ? { disabledAt: new Date(), sessionVersion: sql`${users.sessionVersion} + 1`, updatedAt: new Date() }
+          : { disabledAt: null, updatedAt: new Date() },
+      )
       .where(eq(users.id, id))
       .returning(publicColumns)
       .get();

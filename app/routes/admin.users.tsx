@@ -5,7 +5,15 @@ import { RouteErrorBoundary } from "~/components/ErrorView";
 import { Field, FormError, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { ROLES } from "~/db/schema";
-import { changeRole, createUser, findUserByEmail, LastAdminError, listUsers } from "~/models/users.server";
+import {
+  changeRole,
+  createUser,
+  findUserByEmail,
+  LastAdminError,
+  listUsers,
+  SelfDisableError,
+  setDisabled,
+} from "~/models/users.server";
 import { requireRole } from "~/services/auth.server";
 import { fieldErrors, formValues, type FieldErrors } from "~/services/forms.server";
 import { ROLE_DESCRIPTIONS } from "~/services/roles";
@@ -25,7 +33,7 @@ type ActionResult =
   | { intent: "done"; notice: string; errors?: undefined };
 
 export async function action({ request }: Route.ActionArgs) {
-  await requireRole(request, "admin");
+  const me = await requireRole(request, "admin");
   const db = getDb();
   const form = await request.formData();
   const intent = form.get("intent");
@@ -49,6 +57,19 @@ export async function action({ request }: Route.ActionArgs) {
       return data<ActionResult>({ intent: "done", notice: `${updated.email} is now ${updated.role}.` });
     } catch (err) {
       if (err instanceof LastAdminError) return data<ActionResult>({ intent: "role", userId, errors: { role: err.message } }, { status: 400 });
+      throw err;
+    }
+  }
+  if (intent === "disable" || intent === "enable") {
+    const parsed = changeRoleSchema.shape.userId.safeParse(form.get("userId"));
+    if (!parsed.success) throw data({ message: "No such user." }, { status: 400 });
+    try {
+      const updated = setDisabled(db, parsed.data, intent === "disable", me.id);
+      if (!updated) throw data({ message: "No such user." }, { status: 404 });
+      return data<ActionResult>({ intent: "done", notice: `${updated.email} is ${intent === "disable" ? "disabled" : "enabled again"}.` });
+    } catch (err) {
+      if (err instanceof LastAdminError || err instanceof SelfDisableError)
+        return data<ActionResult>({ intent: "role", userId: parsed.data, errors: { role: err.message } }, { status: 400 });
       throw err;
     }
   }
@@ -82,6 +103,7 @@ export default function AdminUsers({ loaderData, actionData }: Route.ComponentPr
               <th className="px-4 py-3 font-medium">E-mail</th>
               <th className="px-4 py-3 font-medium">Last sign-in</th>
               <th className="px-4 py-3 font-medium">Role</th>
+              <th className="px-4 py-3 font-medium">Access</th>
             </tr>
           </thead>
           <tbody>
@@ -98,7 +120,8 @@ export default function AdminUsers({ loaderData, actionData }: Route.ComponentPr
                     {u.lastSignInAt ? new Date(u.lastSignInAt).toISOString().replace("T", " ").slice(0, 16) : "never"}
                   </td>
                   <td className="px-4 py-3">
-                    <Form method="post" className="flex flex-wrap items-center gap-2">
+                    {/* Re-mounted after an error so the picker shows the stored role again. */}
+                    <Form method="post" className="flex flex-wrap items-center gap-2" key={`${u.id}:${u.role}:${err ?? ""}`}>
                       <input type="hidden" name="intent" value="role" />
                       <input type="hidden" name="userId" value={u.id} />
                       <select name="role" defaultValue={u.role} className="input w-auto py-1" aria-label={`Role of ${u.email}`}>
@@ -116,6 +139,16 @@ export default function AdminUsers({ loaderData, actionData }: Route.ComponentPr
                           {err}
                         </span>
                       ) : null}
+                    </Form>
+                  </td>
+                  <td className="px-4 py-3">
+                    <Form method="post" className="flex items-center gap-2">
+                      <input type="hidden" name="intent" value={u.disabledAt ? "enable" : "disable"} />
+                      <input type="hidden" name="userId" value={u.id} />
+                      {u.disabledAt ? <span className="text-sm text-bad">disabled</span> : null}
+                      <button type="submit" className="btn-quiet" disabled={busy || u.id === loaderData.meId} data-access-button>
+                        {u.disabledAt ? "Enable" : "Disable"}
+                      </button>
                     </Form>
                   </td>
                 </tr>

@@ -200,13 +200,25 @@ describe.runIf(run)("roles in the browser", () => {
 
     const row = page.locator("[data-user-row='orla@arcwatch.test']");
     await row.locator("select[name=role]").selectOption("viewer");
-    await row.locator("button[type=submit]").click();
+    await row.locator("button", { hasText: "Save" }).click();
     await expect.poll(() => page.textContent("[data-notice]")).toBe("orla@arcwatch.test is now viewer.");
+
+    await row.locator("[data-access-button]").click();
+    await expect.poll(() => page.textContent("[data-notice]")).toBe("orla@arcwatch.test is disabled.");
+    const orla = await fetch(url("/signin"), {
+      method: "POST",
+      headers: { Origin: server.url, "Content-Type": "application/x-www-form-urlencoded" },
+      body: new URLSearchParams({ email: "orla@arcwatch.test", password: "orla-first-pass" }),
+      redirect: "manual",
+    });
+    expect(orla.status).toBe(401);
+    expect(await page.locator("[data-user-row='admin@arcwatch.test'] [data-access-button]").isDisabled()).toBe(true);
 
     const self = page.locator("[data-user-row='admin@arcwatch.test']");
     await self.locator("select[name=role]").selectOption("viewer");
-    await self.locator("button[type=submit]").click();
+    await self.locator("button", { hasText: "Save" }).click();
     await expect.poll(() => self.locator("[data-field-error=role]").textContent()).toBe("At least one admin must remain.");
+    expect(await self.locator("select[name=role]").inputValue()).toBe("admin");
     await screenshot(page, "admin-users");
   });
 

@@ -4,7 +4,7 @@ import { formPost, useTempDatabase } from "../helpers/temp-db";
 useTempDatabase("guards");
 
 const { getDb } = await import("~/db/client.server");
-const { createUser, changeRole, setPassword, LastAdminError } = await import("~/models/users.server");
+const { createUser, changeRole, setPassword, setDisabled, LastAdminError, SelfDisableError } = await import("~/models/users.server");
 const { requireRole, requireUser, getOptionalUser, signIn, safeRedirectTo } = await import("~/services/auth.server");
 const { createApiToken, revokeApiToken, hashToken } = await import("~/services/tokens.server");
 const { apiTokens } = await import("~/db/schema");
@@ -113,6 +113,29 @@ describe("requireRole", () => {
 
   it("refuses to demote the last admin", () => {
     expect(() => changeRole(getDb(), ids.admin!, "viewer")).toThrow(LastAdminError);
+  });
+
+  it("a disabled account loses its sessions and cannot sign in; re-enabled it can", async () => {
+    const db = getDb();
+    const u = await createUser(db, { email: "leaver@guards.test", name: "L", role: "engineer", password: "leaver-password" });
+    const c = await cookieFor("leaver@guards.test", "leaver-password");
+    expect(setDisabled(db, u.id, true, ids.admin!)?.disabledAt).toBeInstanceOf(Date);
+    expect(await getOptionalUser(page("/", c))).toBeNull();
+    const r = await signIn(formPost(`${BASE}/signin`, { email: "leaver@guards.test", password: "leaver-password" }));
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.errors.form).toBe("That e-mail and password do not match an account.");
+    setDisabled(db, u.id, false, ids.admin!);
+    expect((await requireUser(page("/", await cookieFor("leaver@guards.test", "leaver-password")))).email).toBe("leaver@guards.test");
+  });
+
+  it("an admin cannot disable themselves, nor the last enabled admin", async () => {
+    const db = getDb();
+    expect(() => setDisabled(db, ids.admin!, true, ids.admin!)).toThrow(SelfDisableError);
+    expect(() => setDisabled(db, ids.admin!, true, ids.engineer!)).toThrow(LastAdminError);
+    const second = await createUser(db, { email: "second-admin@guards.test", name: "A2", role: "admin", password: "second-admin-pw" });
+    setDisabled(db, second.id, true, ids.admin!);
+    // A disabled admin does not count: the only enabled admin still cannot be demoted.
+    expect(() => changeRole(db, ids.admin!, "viewer")).toThrow(LastAdminError);
   });
 });
 
