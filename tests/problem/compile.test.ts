@@ -78,8 +78,8 @@ describe("compiled problem layout", () => {
   });
 
   it("TeX of every expression renders with KaTeX", () => {
-    expect(p.symbolic.tex["dynamics.v"]).toBe("\\frac{T-D}{m}-g_{0}");
-    expect(p.symbolic.tex["intermediates.rho"]).toBe("\\rho_{0}\\cdot\\exp\\left(\\frac{-h}{H}\\right)");
+    expect(p.symbolic.tex["dynamics.v"]).toBe("\\frac{ T- D}{ m}- g_{0}");
+    expect(p.symbolic.tex["intermediates.rho"]).toBe("\\rho_{0}\\cdot\\exp\\left(\\frac{- h}{ H}\\right)");
     expect(p.symbolic.tex["objective.terminal"]).toBe("h(t_{f})");
     for (const [key, tex] of Object.entries(p.symbolic.tex)) {
       expect(() => katex.renderToString(tex, { throwOnError: true }), key).not.toThrow();

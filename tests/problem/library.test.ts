@@ -2,6 +2,7 @@
 import { describe, expect, it } from "vitest";
 import { loadLibrary } from "~/engine/problem/load";
 import { formatProblemError } from "~/engine/problem/errors";
+import katex from "katex";
 
 describe("problem library", () => {
   it("every folder in problems/ validates and compiles", () => {
@@ -23,6 +24,11 @@ describe("problem library", () => {
       const out = new Float64Array(p.nx);
       p.dynamics.eval(z, out);
       expect(Array.from(out).every(Number.isFinite), `${p.id} dynamics at the guess`).toBe(true);
+      // every expression has TeX, and KaTeX accepts it
+      expect(Object.keys(p.symbolic.tex)).toEqual(expect.arrayContaining(p.states.map((s) => `dynamics.${s.name}`)));
+      for (const [key, tex] of Object.entries(p.symbolic.tex)) {
+        expect(() => katex.renderToString(tex, { throwOnError: true }), `${p.id} ${key}: ${tex}`).not.toThrow();
+      }
     }
   });
 

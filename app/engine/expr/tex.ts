@@ -34,16 +34,21 @@ export function nameToTex(name: string): string {
 
 /** TeX of a validated tree. */
 export function toTex(node: MathNode): string {
+  return texWithHandler(node).trim();
+}
+
+function texWithHandler(node: MathNode): string {
   return node.toTex({
     parenthesis: "auto",
     implicit: "show",
     handler: (n: MathNode, options: object) => {
-      if (n.type === "SymbolNode") return nameToTex((n as unknown as { name: string }).name);
+      // a leading space keeps "\cdot" + "m_{2}" from fusing into the control word "\cdotm"
+      if (n.type === "SymbolNode") return ` ${nameToTex((n as unknown as { name: string }).name)}`;
       if (n.type === "FunctionNode") {
         const { fn, args } = n as unknown as { fn: { name: string }; args: MathNode[] };
         if ((fn.name === "initial" || fn.name === "final") && args.length === 1 && args[0].type === "SymbolNode") {
           const x = nameToTex((args[0] as unknown as { name: string }).name);
-          return `${x}(t_{${fn.name === "initial" ? "0" : "f"}})`;
+          return ` ${x}(t_{${fn.name === "initial" ? "0" : "f"}})`;
         }
         if (fn.name === "min" || fn.name === "max") {
           return `\\${fn.name}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;

@@ -267,7 +267,8 @@ export function parseExpression(text: string, scope: ExprScope): ParsedExpressio
         issues.push({ column, message: `'${name}' is a function; write ${name}(<state name>)` });
         return;
       }
-      issues.push({ column, message: `unknown name '${name}'`, suggestion: nearestName(name, scope.names) });
+      const hint = name === "e" || name === "E" ? " (Euler's number is written exp(1))" : "";
+      issues.push({ column, message: `unknown name '${name}'${hint}`, suggestion: nearestName(name, scope.names) });
     };
 
     const checkEndpointCall = (name: string, args: MathNode[], column: number | undefined): void => {
