@@ -21,11 +21,13 @@
  *              drift row already exists for a run of that segment.
  *
  * A finding is "new" unless a row with the same case, kind, metric and direction already exists
- * for a run of the same commit (reruns of one commit do not re-alert).
+ * for a run of the same commit (reruns of one commit do not re-alert). Each new row gets a first
+ * regression_events row carrying the evidence in words. An improvement of the same case, kind and
+ * metric marks earlier open regressions of the suite on the machine "fixed" (fixing_commit = this one).
  */
 import { and, desc, eq, inArray, ne } from "drizzle-orm";
 import type { Db } from "../../app/db/client.server";
-import { caseResults, regressions, runs, suites, timingSamples, type RegressionDirection, type RegressionKind } from "../../app/db/schema";
+import { caseResults, regressionEvents, regressions, runs, suites, timingSamples, type RegressionDirection, type RegressionKind } from "../../app/db/schema";
 import { mannWhitneyU } from "../../app/engine/stats/mann-whitney";
 import { bootstrapMedianRatio } from "../../app/engine/stats/bootstrap";
 import { latestStepChange } from "../../app/engine/stats/change-point";
@@ -55,6 +57,8 @@ export interface Detection {
   /** Findings written as new regression rows (direction "regression" ones make the command fail). */
   inserted: { id: number; finding: Finding }[];
   newRegressions: number;
+  /** Open regressions of earlier runs that this run's improvements resolve (marked "fixed"). */
+  fixed: number[];
 }
 
 type RunRow = typeof runs.$inferSelect;
@@ -358,8 +362,9 @@ export function detectRegressions(db: Db, runId: string, options: { thresholds: 
       : [],
   );
   const fresh = findings.filter((f) => !known.has(`${f.caseKey}|${f.kind}|${f.metric}|${f.direction}`));
-  const inserted = db.transaction((tx) =>
-    fresh.map((f) => {
+  const fixed: number[] = [];
+  const inserted = db.transaction((tx) => {
+    const rows = fresh.map((f) => {
       const row = tx
         .insert(regressions)
         .values({
@@ -379,14 +384,37 @@ export function detectRegressions(db: Db, runId: string, options: { thresholds: 
         })
         .returning({ id: regressions.id })
         .get();
+      // The evidence in words (statuses, medians, interval, change point) as the first triage event.
+      tx.insert(regressionEvents)
+        .values({ regressionId: row.id, userId: null, fromStatus: null, toStatus: f.direction === "improvement" ? "acknowledged" : "open", note: `Found by run ${runId} at ${run.commitHash.slice(0, 10)}: ${f.detail}` })
+        .run();
       return { id: row.id, finding: f };
-    }),
-  );
+    });
+    // An improvement of the same case, kind and metric resolves the open regressions of earlier
+    // runs of this suite on this machine: they become "fixed" with this commit as the fix.
+    for (const f of findings) {
+      if (f.direction !== "improvement" || f.kind === "drift") continue;
+      const open = tx
+        .select({ id: regressions.id })
+        .from(regressions)
+        .innerJoin(runs, eq(runs.id, regressions.runId))
+        .where(and(eq(regressions.caseKey, f.caseKey), eq(regressions.kind, f.kind), eq(regressions.metric, f.metric), eq(regressions.direction, "regression"), inArray(regressions.status, ["open", "acknowledged"]), eq(runs.suiteId, run.suiteId), eq(runs.machineKey, run.machineKey), ne(regressions.runId, runId)))
+        .all();
+      for (const o of open) {
+        const prev = tx.select({ status: regressions.status }).from(regressions).where(eq(regressions.id, o.id)).get();
+        tx.update(regressions).set({ status: "fixed", fixingCommit: run.commitHash, updatedAt: new Date() }).where(eq(regressions.id, o.id)).run();
+        tx.insert(regressionEvents).values({ regressionId: o.id, userId: null, fromStatus: prev?.status ?? null, toStatus: "fixed", note: `Resolved by run ${runId} at ${run.commitHash.slice(0, 10)}: ${f.detail}` }).run();
+        fixed.push(o.id);
+      }
+    }
+    return rows;
+  });
   return {
     baselineRunId: baseline?.id ?? null,
     baselineCommit: baseline?.commitHash ?? null,
     findings,
     inserted,
     newRegressions: inserted.filter((i) => i.finding.direction === "regression").length,
+    fixed,
   };
 }

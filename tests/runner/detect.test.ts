@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
-import { regressions } from "~/db/schema";
+import { regressionEvents, regressions } from "~/db/schema";
 import { compareCases, detectRegressions, findBaseline } from "../../bench/runner/detect";
 import { createRun, ensureSuite, finishRun, recordCase } from "../../bench/runner/record";
 import { DEFAULT_THRESHOLDS, loadSuite } from "../../bench/runner/suite";
@@ -156,5 +156,18 @@ describe("baselines, drift and de-duplication in the database", () => {
     expect(second.findings.some((f) => f.kind === "speed")).toBe(true);
     expect(second.newRegressions).toBe(0);
     expect(base).toBeTruthy();
+    // The evidence is kept in words as the regression's first event.
+    const id = first.inserted[0].id;
+    const ev = db.select().from(regressionEvents).where(eq(regressionEvents.regressionId, id)).all();
+    expect(ev).toHaveLength(1);
+    expect(ev[0].note).toMatch(/^Found by run .* at d1: median .* Mann–Whitney p = /);
+    // A later commit back at the old speed resolves it.
+    const good = addRun("d2", 0.1, "feature", 303);
+    const third = detectRegressions(db, good, { thresholds: suite.thresholds, baseline: { commit: "d1" } });
+    expect(third.findings.some((f) => f.kind === "speed" && f.direction === "improvement")).toBe(true);
+    expect(third.fixed).toContain(id);
+    const row = db.select().from(regressions).where(eq(regressions.id, id)).get()!;
+    expect(row.status).toBe("fixed");
+    expect(row.fixingCommit).toBe("d2");
   });
 });
