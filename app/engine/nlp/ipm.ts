@@ -367,8 +367,3 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     st.mu = mu;
   }
 }
-
-/** Copy helper used by callers that keep the state's w in their own buffer. */
-export function copyState(st: IpmState, w: Float64Array): void {
-  if (st.w !== w) w.set(st.w);
-}

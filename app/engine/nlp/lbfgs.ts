@@ -28,11 +28,11 @@ export class LimitedMemoryHessian {
   private readonly V: Float64Array[] = [];
   private lu: LuDecomposition | null = null;
   private readonly tmp: Float64Array;
-  private readonly small: Float64Array;
+  private readonly rTmp: Float64Array;
 
   constructor(readonly nX: number, readonly memory: number, readonly dim: number) {
     this.tmp = new Float64Array(nX);
-    this.small = new Float64Array(2 * memory);
+    this.rTmp = new Float64Array(nX);
     for (let i = 0; i < 2 * memory; i++) this.V.push(new Float64Array(dim));
   }
 
@@ -89,13 +89,17 @@ export class LimitedMemoryHessian {
     this.times(s, Bs);
     const sBs = dot(s, Bs), sy = dot(s, y);
     const th = sy >= 0.2 * sBs ? 1 : (0.8 * sBs) / (sBs - sy);
-    const r = new Float64Array(this.nX);
+    const r = this.rTmp;
     for (let i = 0; i < this.nX; i++) r[i] = th * y[i] + (1 - th) * Bs[i];
     const sr = dot(s, r), rr = dot(r, r);
     if (!(sr > 1e-14 * Math.sqrt(ss * rr))) return false;
-    if (this.S.length === this.memory) { this.S.shift(); this.R.shift(); }
-    this.S.push(Float64Array.from(s.subarray(0, this.nX)));
-    this.R.push(r);
+    // Reuse the oldest pair's buffers once the memory is full (no allocation per iteration then).
+    const full = this.S.length === this.memory;
+    const sNew = full ? this.S.shift()! : new Float64Array(this.nX);
+    const rNew = full ? this.R.shift()! : new Float64Array(this.nX);
+    for (let i = 0; i < this.nX; i++) { sNew[i] = s[i]; rNew[i] = r[i]; }
+    this.S.push(sNew);
+    this.R.push(rNew);
     this.sigma = Math.min(1e8, Math.max(1e-8, rr / sr));
     return true;
   }
@@ -141,7 +145,6 @@ export class LimitedMemoryHessian {
       const a = u.get(c, 0), vc = this.V[c];
       for (let i = 0; i < x.length; i++) x[i] -= a * vc[i];
     }
-    void this.small;
   }
 }
 

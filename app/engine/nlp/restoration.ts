@@ -39,7 +39,6 @@ class RestorationProblem implements InternalProblem {
   private readonly nnzHB: number;
   private readonly cB: Float64Array;
   private readonly hB: Float64Array;
-  private readonly gB: Float64Array;
 
   constructor(readonly base: InternalProblem, readonly wR: Float64Array, readonly zeta: number, readonly D2: Float64Array) {
     const N = base.N, m = base.m;
@@ -69,7 +68,6 @@ class RestorationProblem implements InternalProblem {
     for (let i = 0; i < N; i++) { this.hRows[this.nnzHB + i] = i; this.hCols[this.nnzHB + i] = i; }
     this.cB = new Float64Array(m);
     this.hB = new Float64Array(this.nnzHB);
-    this.gB = new Float64Array(N);
   }
 
   f(v: Float64Array): number {
@@ -119,9 +117,6 @@ class RestorationProblem implements InternalProblem {
     for (let j = 0; j < this.m; j++) th += Math.abs(this.cB[j]);
     const fb = this.base.f(v);
     return { theta: th, phi: barrierValue(fb, v, this.base.wL, this.base.wU, hasL, hasU, mu) };
-  }
-  get gradWork(): Float64Array {
-    return this.gB;
   }
 }
 
