@@ -17,9 +17,11 @@
  * defect, the midpoint path constraints and the midpoint cost (composite functions, hs-midpoint.ts);
  * only the Simpson defects remain. Fewer variables, denser Jacobian and Hessian blocks.
  *
- * Costates: the Simpson-defect multipliers estimate the costate at the midpoints,
- * λ(t_{k+½}) ≈ −λ^S_k; the Hermite-defect multipliers are O(h) (Betts 2010 §4.11, our sign and
- * row convention: defects not divided by h).
+ * Costates: the Simpson-defect multiplier −λ^S_k estimates the costate (Betts 2010 §4.11, our sign
+ * and row convention: defects not divided by h) — more precisely its interval average, to O(h⁴)
+ * (measured on the LQ problem, tests/schemes/convergence.test.ts), while it differs from the midpoint
+ * value by O(h²). The reported midpoint costates are therefore point values reconstructed from these
+ * averages (interval-averages.ts), fourth order; the Hermite-defect multipliers are O(h).
  */
 import type { CompiledProblem } from "../problem/types";
 import type { NlpResult } from "../nlp/types";
@@ -28,6 +30,7 @@ import { TranscriptionBuilder, meshBreakpoints, type PointRef } from "./builder"
 import { allocSeries, pathMultipliers, recoverCommon } from "./recover";
 import { hermiteCubic, locate, quadratic3 } from "./interpolation";
 import { hsMidpointFunction } from "./hs-midpoint";
+import { valuesFromAverages } from "./interval-averages";
 
 export const hermiteSimpson: Scheme = {
   id: "hermite-simpson",
@@ -137,9 +140,11 @@ export const hermiteSimpson: Scheme = {
           }
         const tLambda = new Float64Array(N);
         const costates = allocSeries(nx, N);
-        for (let k = 0; k < N; k++) {
-          tLambda[k] = t[2 * k + 1];
-          for (let i = 0; i < nx; i++) costates[i][k] = -r.lambda[simpson[k] + i];
+        const avg = new Float64Array(N);
+        for (let k = 0; k < N; k++) tLambda[k] = t[2 * k + 1];
+        for (let i = 0; i < nx; i++) {
+          for (let k = 0; k < N; k++) avg[k] = -r.lambda[simpson[k] + i];
+          costates[i].set(valuesFromAverages(tn, avg, tLambda));
         }
         return {
           scheme: "hermite-simpson", t, states, tu: t, controls, tLambda, costates,
