@@ -41,9 +41,12 @@ interface Slot {
 function startWorker(opts: PoolOptions): Slot {
   const worker = new Worker(BOOT, {
     workerData: { entry: ENTRY, tsconfig: opts.tsconfig ?? path.join(opts.context.root, "tsconfig.json") },
-    stdout: false,
-    stderr: false,
+    // Anything a solver prints goes to stderr, never into the command's stdout (which may be --json).
+    stdout: true,
+    stderr: true,
   });
+  worker.stdout.pipe(process.stderr, { end: false });
+  worker.stderr.pipe(process.stderr, { end: false });
   const ready = new Promise<void>((resolve, reject) => {
     const onMessage = (m: { type: string; message?: string }) => {
       if (m.type === "ready") {
