@@ -121,7 +121,8 @@ export const rk4Shooting: Scheme = {
           const np = problem.pathInfo.length;
           if (np === 0) return null;
           const out = allocSeries(np, 2 * N + 1);
-          const nodeRows = b.pathRows.filter((r0) => !innerPathRows.some((rows) => rows.includes(r0)));
+          const inner = new Set(innerPathRows.flat());
+          const nodeRows = b.pathRows.filter((r0) => !inner.has(r0));
           for (let k = 0; k <= N; k++) for (let i = 0; i < np; i++) out[i][2 * k] = r.lambda[nodeRows[k] + i];
           for (let k = 0; k < N; k++)
             for (const r0 of innerPathRows[k]) for (let i = 0; i < np; i++) out[i][2 * k + 1] += r.lambda[r0 + i];
