@@ -6,7 +6,7 @@
  *   singular:       σ_j⁽²ᵖ⁾(t, x, λ, u) = 0 (affine in u_j: Newton converges in one step);
  *   boundary:       S⁽ᵖ⁾(t, x, u) = 0 together with ∂H̃/∂u_j = 0, which gives the multiplier η.
  * The unknowns q = (non-bang controls, η on a boundary arc) solve the square system above by
- * Newton's method with a forward-difference Jacobian (tolerance 1e-14 relative on q). Starting
+ * Newton's method with the exact Jacobian of the compiled functions (tolerance 1e-14 relative on q). Starting
  * points, in order: the last solution of this law when it was computed at a time within 1 % of the
  * horizon (continuation along the integration: keeps the branch of periodic controls such as
  * steering angles), then the direct solution's control at t clamped to the bounds. A root where an
@@ -14,6 +14,7 @@
  * another starting point gives a minimum.
  */
 import type { ArcKind } from "../arcs/types";
+import type { PointFunction } from "../problem/types";
 import { denseJacobian, type ConstraintDerivatives, type OptimalityConditions, type SingularDerivatives } from "./conditions";
 
 export interface ArcControlSpec {
@@ -37,7 +38,6 @@ export class ArcControlLaw {
   private readonly nq: number;
   private readonly q: Float64Array;
   private readonly r: Float64Array;
-  private readonly rp: Float64Array;
   private readonly J: Float64Array;
   private readonly dq: Float64Array;
   private readonly ug: Float64Array;
@@ -60,7 +60,6 @@ export class ArcControlLaw {
     this.nq = this.free.length + (spec.constraint ? 1 : 0);
     this.q = new Float64Array(this.nq);
     this.r = new Float64Array(this.nq);
-    this.rp = new Float64Array(this.nq);
     this.J = new Float64Array(this.nq * this.nq);
     this.dq = new Float64Array(this.nq);
     this.ug = new Float64Array(oc.nu);
@@ -169,7 +168,7 @@ export class ArcControlLaw {
 
   /** Newton from q; "minimum" when interior rows have ∂²H̃/∂u² > 0 at the root. */
   private newton(w: Float64Array): "minimum" | "stationary" | "fail" {
-    const { spec, free, nq, q, r, rp, J, dq } = this;
+    const { spec, free, nq, q, r, J, dq } = this;
     let converged = false;
     for (let it = 0; it < MAX_NEWTON && !converged; it++) {
       this.load(w, q);
@@ -198,25 +197,45 @@ export class ArcControlLaw {
     for (let a = 0; a < free.length; a++) {
       if (spec.kinds[free[a]] === "interior" && !(J[a * nq + a] > 0)) return "stationary";
     }
-    void rp;
     return "minimum";
   }
 
-  /** Forward-difference Jacobian of the residual in q at the current q (into J). */
+  /**
+   * Exact Jacobian of the residual in q at the current q (into J), from the compiled Jacobians:
+   * row a takes ∂/∂u_free and ∂/∂η of its function's output.
+   */
   private jacobianAt(w: Float64Array): void {
-    const { nq, q, r, rp, J } = this;
-    this.load(w, q);
-    this.residual(w, r);
-    for (let b = 0; b < nq; b++) {
-      const h = 1e-7 * (1 + Math.abs(q[b]));
-      const keep = q[b];
-      q[b] = keep + h;
-      this.load(w, q);
-      this.residual(w, rp);
-      q[b] = keep;
-      for (let a = 0; a < nq; a++) J[a * nq + b] = (rp[a] - r[a]) / h;
+    const { oc, spec, free, nq, J } = this;
+    this.load(w, this.q);
+    const hu = spec.constraint ? spec.constraint.hu : oc.hu;
+    const col = (k: number) => (k < free.length ? oc.iU + free[k] : oc.iEta);
+    const fill = (fn: PointFunction, row: number, a: number) => {
+      const buf = this.jacBuf(fn);
+      fn.jac(w, buf);
+      for (let b = 0; b < nq; b++) J[a * nq + b] = 0;
+      for (let k = 0; k < fn.jacRows.length; k++) {
+        if (fn.jacRows[k] !== row) continue;
+        const c = fn.jacCols[k];
+        for (let b = 0; b < nq; b++) if (col(b) === c) J[a * nq + b] += buf[k];
+      }
+    };
+    for (let a = 0; a < free.length; a++) {
+      const j = free[a];
+      const sd = spec.singular[j];
+      if (spec.kinds[j] === "singular" && sd) fill(sd.fn, sd.fn.nOut - 1, a);
+      else fill(hu, j, a);
     }
-    this.load(w, q);
+    if (spec.constraint) fill(spec.constraint.fn, spec.constraint.order, free.length);
+  }
+
+  private readonly jacBufs = new Map<PointFunction, Float64Array>();
+  private jacBuf(fn: PointFunction): Float64Array {
+    let b = this.jacBufs.get(fn);
+    if (!b) {
+      b = new Float64Array(fn.jacRows.length);
+      this.jacBufs.set(fn, b);
+    }
+    return b;
   }
 }
 

@@ -159,7 +159,10 @@ export function refineFromSolution(problem: CompiledProblem, sol: Solution, opti
   // Well-posedness: as many conditions as unknowns, and a Jacobian of full rank at the solution.
   let jacobianCondition = NaN;
   if (Fz) {
-    if (Fz.length !== ms.nz) violations.push(`the shooting conditions are ${Fz.length} equations for ${ms.nz} unknowns`);
+    // More equations than unknowns is fine when they are consistent (Newton's least-squares step
+    // drove all of them to the tolerance, e.g. a singular arc running to a fixed tf); fewer leaves
+    // a family of solutions.
+    if (Fz.length < ms.nz) violations.push(`the shooting conditions are ${Fz.length} equations for ${ms.nz} unknowns`);
     ms.evaluate(z);
     const J = ms.jacobian(z, Fz);
     if (J) {
