@@ -7,7 +7,8 @@
  *   (sent_at on success, error otherwise) so admins see what went out.
  * - Otherwise the local stand-in (./smtp-standin.server.ts): an SMTP server on loopback started
  *   on first use in this process (port ARCWATCH_STANDIN_PORT or any free port); it stores every
- *   received message in the outbox table.
+ *   received message in the outbox table. If ARCWATCH_STANDIN_PORT is already taken (the server's
+ *   stand-in), messages are handed to that one.
  */
 import nodemailer, { type Transporter } from "nodemailer";
 import type { Db } from "../db/client.server";
@@ -52,7 +53,14 @@ export async function ensureStandin(db: Db): Promise<SmtpStandin> {
   if (standin && standin.db === db) return standin.server;
   if (standin) await standin.server.close();
   const port = process.env.ARCWATCH_STANDIN_PORT ? Number(process.env.ARCWATCH_STANDIN_PORT) : 0;
-  standin = { db, server: await startSmtpStandin(db, { port }) };
+  try {
+    standin = { db, server: await startSmtpStandin(db, { port }) };
+  } catch (err) {
+    // A fixed port already taken: the Arcwatch server's own stand-in is listening there (it writes
+    // into its database, normally the same file); hand mail to it instead of failing.
+    if ((err as NodeJS.ErrnoException).code !== "EADDRINUSE" || port === 0) throw err;
+    standin = { db, server: { host: "127.0.0.1", port, close: async () => {} } };
+  }
   return standin.server;
 }
 

@@ -85,6 +85,24 @@ describe("e-mail", () => {
     db.$client.close();
   });
 
+  it("hands mail to a stand-in already listening on ARCWATCH_STANDIN_PORT (the server's)", async () => {
+    const serverDb = tempDb(tempDir("mail4"));
+    const cliDb = tempDb(tempDir("mail5"));
+    const running = await startSmtpStandin(serverDb);
+    process.env.ARCWATCH_STANDIN_PORT = String(running.port);
+    try {
+      await stopStandin();
+      const res = await sendMail(cliDb, { to: "ops@example.com", subject: "handed over", text: "x" }, {});
+      expect(res.via).toBe("standin");
+      expect(serverDb.select().from(outbox).all().map((r) => r.subject)).toEqual(["handed over"]);
+      expect(cliDb.select().from(outbox).all()).toEqual([]);
+    } finally {
+      delete process.env.ARCWATCH_STANDIN_PORT;
+      await stopStandin();
+      await running.close();
+    }
+  });
+
   it("decodes quoted-printable and encoded words", () => {
     expect(decodeQuotedPrintable("caf=C3=A9 =\r\nau lait")).toBe("café au lait");
     expect(decodeHeader("=?UTF-8?Q?=C3=97_1.3?= =?UTF-8?B?4oaS?=")).toBe("× 1.3→");
