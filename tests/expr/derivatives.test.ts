@@ -13,7 +13,8 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { evaluate } from "mathjs";
-import { compilePointFunction } from "~/engine/expr/compile";
+import { compilePointFunction, inputResolver, toDag } from "~/engine/expr/compile";
+import { Dag } from "~/engine/expr/dag";
 import { parseExpression } from "~/engine/expr/validate";
 import { INPUT_NAMES, N_INPUTS, point, smoothExpression } from "./gen";
 
@@ -53,6 +54,11 @@ describe("compiled point functions vs outside references", () => {
         const out = new Float64Array(f.nOut);
         f.eval(Float64Array.from(z), out);
         fc.pre(finiteAndModerate(out));
+        // the DAG interpreter agrees with the generated code; tolerance 1e-10 relative (as above): they differ
+        // only where codegen writes powers as products (x^2 → x·x, x^0.5 → √x)
+        const dag = new Dag();
+        const roots = texts.map((t) => toDag(dag, parseExpression(t, scope).node!, inputResolver(dag, INPUT_NAMES, {})));
+        dag.evaluate(roots, z).forEach((v, i) => expect(Math.abs(v - out[i])).toBeLessThanOrEqual(1e-10 * (1 + Math.abs(v))));
         texts.forEach((t, i) => {
           const ref = mathjsValue(t, z);
           // tolerance 1e-10 relative: only evaluation order differs (constant folding, x^2 → x·x)

@@ -9,7 +9,7 @@ import path from "node:path";
 import { describe, expect, it } from "vitest";
 import katex from "katex";
 import { compileProblemSource, problemVersionHash } from "~/engine/problem/compile";
-import { loadProblem } from "~/engine/problem/load";
+import { loadProblem, loadProblemById } from "~/engine/problem/load";
 import { formatProblemError } from "~/engine/problem/errors";
 import type { CompiledProblem } from "~/engine/problem/types";
 
@@ -163,6 +163,12 @@ describe("files next to problem.json", () => {
     expect(r.ok && r.problem.id).toBe("lab-cart");
     const missing = loadProblem("no-such-problem", path.dirname(folder));
     expect(missing.ok).toBe(false);
+    expect(loadProblemById("lab-cart", path.dirname(folder)).ok).toBe(true);
+    for (const bad of ["../lab-cart", "..", "a/b", "/etc", ".hidden", ""]) {
+      const r = loadProblemById(bad, path.join(path.dirname(folder), "lab-cart"));
+      expect(r.ok, bad).toBe(false);
+      if (!r.ok) expect(r.errors[0].message).toMatch(/is not a problem id/);
+    }
   });
 
   it("compileProblemSource reports a missing guess file with its JSON path", () => {

@@ -278,7 +278,10 @@ export class Dag {
     }
   }
 
-  /** Evaluates node n at z by walking the DAG (reference interpreter for tests; slow). */
+  /**
+   * Values of the `roots` at z by interpreting every node up to the largest root (slow: a
+   * reference interpreter, and for one-off values; hot paths use codegen.ts).
+   */
   evaluate(roots: readonly number[], z: ArrayLike<number>): number[] {
     const memo = new Float64Array(this.size);
     const upto = roots.length === 0 ? -1 : Math.max(...roots);

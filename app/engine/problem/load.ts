@@ -71,7 +71,8 @@ function compileCached(id: string, files: ProblemSourceFiles, fileLabel: string)
 
 /**
  * Loads one problem: `pathOrId` is a folder, a path to a problem.json, or a problem id looked up
- * in `libraryDir` (default "problems", relative to the working directory).
+ * in `libraryDir` (default "problems", relative to the working directory). Paths are trusted:
+ * for an id from outside use loadProblemById.
  */
 export function loadProblem(pathOrId: string, libraryDir = "problems"): CompileResult {
   let dir: string;
@@ -85,6 +86,20 @@ export function loadProblem(pathOrId: string, libraryDir = "problems"): CompileR
     return { ok: false, errors: [{ file: label(jsonFile), path: "", message: `no problem.json found for '${pathOrId}'` }] };
   }
   return compileCached(id, files, label(jsonFile));
+}
+
+/** A problem id: a folder name of letters, digits, '-', '_' and '.', not starting with '.'. */
+export const PROBLEM_ID_PATTERN = /^[A-Za-z0-9][A-Za-z0-9_.-]{0,127}$/;
+
+/**
+ * Loads a problem by id only (never a path): for ids that come from outside (a URL, a form),
+ * so that "../x" cannot reach outside the library.
+ */
+export function loadProblemById(id: string, libraryDir = "problems"): CompileResult {
+  if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) {
+    return { ok: false, errors: [{ file: label(libraryDir), path: "", message: `'${id.slice(0, 60)}' is not a problem id` }] };
+  }
+  return loadProblem(path.join(libraryDir, id), libraryDir);
 }
 
 /** Loads every problem folder of the library (sorted by id); folders without problem.json are errors. */
