@@ -1,7 +1,8 @@
 /**
  * From the detected per-control arc sequences (app/engine/arcs) to one combined sequence for
- * shooting: junctions of all controls are pooled, junctions closer than `mergeGap` are taken as one
- * (their mean), and each combined arc records the kind of every control at its midpoint. On a
+ * shooting: junctions of all controls are pooled, the junctions of different controls into or out
+ * of the same boundary arc closer than `mergeGap` are taken as one (their mean), and each combined
+ * arc records the kind of every control at its midpoint. On a
  * boundary arc the first control labelled "boundary" carries the constraint; others labelled
  * "boundary" become "interior" (they solve ∂H̃/∂u = 0 with the same H̃).
  */
@@ -44,17 +45,34 @@ export function constraintSide(problem: CompiledProblem, sol: Solution, name: st
 }
 
 export function combineStructure(problem: CompiledProblem, sol: Solution, s: ArcStructure, mergeGap: number): CombinedStructure {
-  const all = s.controls.flatMap((c) => c.junctions).sort((a, b) => a - b);
+  // Junctions of all controls; only junctions into or out of the same boundary arc, of different
+  // controls and closer than mergeGap, are one junction (a boundary arc shows in every control's
+  // sequence). Other junctions stay distinct however close: two controls may switch a fraction of
+  // a grid interval apart (the Marten hopper's thrust and pitch rate).
+  type J = { t: number; key: string | null; control: number };
+  const all: J[] = [];
+  s.controls.forEach((c, j) => {
+    c.junctions.forEach((t, k) => {
+      const a = c.arcs[k];
+      const b = c.arcs[k + 1];
+      const key = a.kind === "boundary" ? `out:${a.constraint}` : b.kind === "boundary" ? `in:${b.constraint}` : null;
+      all.push({ t, key, control: j });
+    });
+  });
+  all.sort((x, y) => x.t - y.t);
   const junctions: number[] = [];
-  let cluster: number[] = [];
-  for (const t of all) {
-    if (cluster.length && t - cluster[cluster.length - 1] > mergeGap) {
-      junctions.push(cluster.reduce((a, b) => a + b, 0) / cluster.length);
-      cluster = [];
-    }
-    cluster.push(t);
+  let cluster: J[] = [];
+  const flush = () => {
+    if (cluster.length) junctions.push(cluster.reduce((acc, q) => acc + q.t, 0) / cluster.length);
+    cluster = [];
+  };
+  for (const q of all) {
+    const last = cluster[cluster.length - 1];
+    const joins = last && q.key !== null && q.key === last.key && q.t - last.t <= mergeGap && !cluster.some((c) => c.control === q.control);
+    if (!joins) flush();
+    cluster.push(q);
   }
-  if (cluster.length) junctions.push(cluster.reduce((a, b) => a + b, 0) / cluster.length);
+  flush();
   const T = [sol.t0, ...junctions, sol.tf];
   const arcs: ShootingArc[] = [];
   const times: number[] = [];
