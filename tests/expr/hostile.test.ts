@@ -115,7 +115,7 @@ describe("hostile expressions", () => {
     expect(({} as Record<string, unknown>).polluted).toBeUndefined();
   });
 
-  it("2,000 random JSON documents and mutated problem files: errors, never an exception", () => {
+  it("3,000 random JSON documents and mutated problem files: errors, never an exception", () => {
     const base = {
       format: "arcwatch-problem/1", title: "t", description: "d",
       states: [{ name: "x" }], controls: [{ name: "u" }],
@@ -128,15 +128,48 @@ describe("hostile expressions", () => {
       else doc[where] = v;
       return JSON.stringify(doc);
     });
+    // a rich valid document; any one of its values (at any depth) replaced by junk
+    const rich: Record<string, unknown> = {
+      format: "arcwatch-problem/1", title: "t", description: "d", tags: ["smooth"],
+      constants: { g: 9.8, k: "2*g", m0: { value: 3, unit: "kg" } },
+      states: [{ name: "x", lower: 0, upper: "10*k" }, { name: "v", unit: "m/s" }, { name: "m", lower: "0.5*m0" }],
+      controls: [{ name: "u", lower: -1, upper: 1 }],
+      intermediates: [{ name: "D", expr: "v^2*exp(-x)" }],
+      dynamics: { x: "v", v: "(u - D)/m - g", m: "-abs(u)" },
+      horizon: { initialTime: 0, finalTime: { free: { lower: 1, upper: 9, guess: 3 } } },
+      initial: { x: 0, v: 0, m: "m0" }, final: { x: { lower: 1 }, v: 0 },
+      endpointConstraints: [{ name: "e", expr: "final(x) - initial(x) + tf", lower: 0 }],
+      path: [{ name: "q", expr: "D", upper: 5 }],
+      objective: { sense: "min", terminal: "tf", running: "u^2" },
+      guess: { kind: "linear", states: { x: [0, 1] }, controls: { u: 0.5 } },
+      reference: { objective: { value: 1, tolerance: 0.1, provenance: { kind: "analytic" } }, arcs: ["boundary:q"], switchingTimes: { values: [1, 2], tolerance: 0.1, provenance: { kind: "analytic" } } },
+      defaults: { intervals: 10, degree: 3 },
+    };
+    const paths: (string | number)[][] = [];
+    const walk = (v: unknown, p: (string | number)[]) => {
+      if (p.length > 0) paths.push(p);
+      if (Array.isArray(v)) v.forEach((x, k) => walk(x, [...p, k]));
+      else if (v && typeof v === "object") for (const [k, x] of Object.entries(v)) walk(x, [...p, k]);
+    };
+    walk(rich, []);
+    expect(compileProblemSource("rich", { problemJson: JSON.stringify(rich) }).ok).toBe(true);
+    const deepMutated = fc.tuple(fc.integer({ min: 0, max: paths.length - 1 }), fc.oneof(fc.jsonValue(), hostile, fc.constant(undefined))).map(([k, junk]) => {
+      const doc = structuredClone(rich);
+      const p = paths[k];
+      let o = doc as Record<string | number, unknown>;
+      for (const seg of p.slice(0, -1)) o = o[seg] as Record<string | number, unknown>;
+      o[p[p.length - 1]] = junk;
+      return JSON.stringify(doc);
+    });
     fc.assert(
-      fc.property(fc.oneof(fc.json(), mutated, fc.string()), (text) => {
+      fc.property(fc.oneof(fc.json(), mutated, deepMutated, deepMutated, fc.string()), (text) => {
         const r = compileProblemSource("fuzz", { problemJson: text }, "fuzz/problem.json");
         if (!r.ok) {
           expect(r.errors.length).toBeGreaterThan(0);
           for (const e of r.errors) expect(e.message).not.toMatch(/internal compiler error/);
         }
       }),
-      { numRuns: 2000 },
+      { numRuns: 3000 },
     );
   });
 });

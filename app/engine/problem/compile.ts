@@ -415,7 +415,8 @@ class ProblemCompiler {
     const fp: Seg[] = ["horizon", "finalTime", "free"];
     const lower = this.num(ft.free.lower, [...fp, "lower"], NaN);
     const upper = this.num(ft.free.upper, [...fp, "upper"], NaN);
-    if (!(lower > t0)) this.err([...fp, "lower"], `lower bound ${lower} of the final time must be greater than initialTime ${t0}`);
+    // NaN marks a value whose error is reported already
+    if (!Number.isNaN(lower) && !(lower > t0)) this.err([...fp, "lower"], `lower bound ${lower} of the final time must be greater than initialTime ${t0}`);
     if (lower > upper) this.err(fp, `contradictory bounds: lower ${lower} > upper ${upper}`);
     const guess = ft.free.guess === undefined ? 0.5 * (lower + upper) : this.num(ft.free.guess, [...fp, "guess"], NaN);
     if (ft.free.guess !== undefined && (guess < lower || guess > upper)) this.err([...fp, "guess"], `guess ${guess} is outside [${lower}, ${upper}]`);
@@ -809,6 +810,8 @@ class ProblemCompiler {
     for (const issue of r.issues) this.err(path, issue.message, { column: issue.column, suggestion: issue.suggestion });
     if (!r.node) return undefined;
     r.used.forEach((u) => this.constUsed.add(u));
+    // a constant whose own value failed has been reported already: no second error here
+    if ([...r.used].some((u) => !Object.hasOwn(this.constants, u))) return undefined;
     const dag = new Dag();
     const n = toDag(dag, r.node, inputResolver(dag, [], this.constants));
     const v = dag.isConst(n) ? dag.value[n] : NaN;
