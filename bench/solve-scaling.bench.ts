@@ -51,7 +51,7 @@ const Ns = [50, 100, 200, 400, 800, 1600, 3200].filter((n) => n <= maxN);
 for (const scheme of ["trapezoidal", "hermite-simpson"] as SchemeId[]) {
   console.log(`\n${scheme} on COPS Goddard`);
   console.log("     N   status        iters   seconds   s/iter    h(tf)        ref iters  ref s   iters ratio  time ratio");
-  const times: number[] = [], perIter: number[] = [];
+  const times: number[] = [], perIter: number[] = [], okN: number[] = [];
   for (const N of Ns) {
     let best = Infinity;
     let rep = null as ReturnType<typeof solveProblem> | null;
@@ -64,15 +64,18 @@ for (const scheme of ["trapezoidal", "hermite-simpson"] as SchemeId[]) {
     }
     const ref = REFERENCE[scheme];
     const refS = ref.seconds[N];
-    times.push(best);
-    perIter.push(best / Math.max(rep!.iterations, 1));
+    if (rep!.status === "optimal" || rep!.status === "acceptable") {
+      okN.push(N);
+      times.push(best);
+      perIter.push(best / Math.max(rep!.iterations, 1));
+    }
     console.log(
       `${String(N).padStart(6)}   ${rep!.status.padEnd(12)} ${String(rep!.iterations).padStart(6)} ${best.toFixed(3).padStart(9)} ${(best / Math.max(rep!.iterations, 1)).toExponential(2).padStart(9)}   ${rep!.objective?.toFixed(7) ?? "—"}   ${String(ref.iterations).padStart(6)}  ${refS !== undefined ? refS.toFixed(2).padStart(5) : "    —"}   ${(rep!.iterations / ref.iterations).toFixed(2).padStart(8)}   ${refS !== undefined ? (best / refS).toFixed(2).padStart(9) : "        —"}`,
     );
   }
-  if (Ns.length >= 2) {
-    console.log(`  fitted exponent: time ∝ N^${fit(Ns, times).toFixed(2)}, time per iteration ∝ N^${fit(Ns, perIter).toFixed(2)} (target < 1.2)`);
-    const from400 = Ns.map((n, i) => [n, i] as const).filter(([n]) => n >= 400);
-    if (from400.length >= 2) console.log(`  exponent from N = 400 up: time ∝ N^${fit(from400.map(([n]) => n), from400.map(([, i]) => times[i])).toFixed(2)}`);
+  if (okN.length >= 2) {
+    console.log(`  fitted over the ${okN.length} converged solves: time ∝ N^${fit(okN, times).toFixed(2)}, time per iteration ∝ N^${fit(okN, perIter).toFixed(2)} (target < 1.2)`);
+    const from400 = okN.map((n, i) => [n, i] as const).filter(([n]) => n >= 400);
+    if (from400.length >= 2) console.log(`  from N = 400 up: time ∝ N^${fit(from400.map(([n]) => n), from400.map(([, i]) => times[i])).toFixed(2)}, time per iteration ∝ N^${fit(from400.map(([n]) => n), from400.map(([, i]) => perIter[i])).toFixed(2)}`);
   }
 }
