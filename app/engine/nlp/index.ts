@@ -82,7 +82,11 @@ export function solveNlp(problem: NlpProblem, options?: NlpOptions): NlpResult {
   const stats = { nnzL: 0 };
   let st: IpmState;
   try {
-    ref = new NlpReformulation(problem, opts.boundRelaxFactor, opts.nlpScalingMaxGradient);
+    ref = new NlpReformulation(problem, opts.boundRelaxFactor, opts.nlpScalingMaxGradient, opts.presolveSingletons);
+    if (ref.removedViolation > opts.constrViolTol) {
+      const j = ref.worstRemovedRow;
+      return early("infeasible", `${cname(problem, j)} depends on fixed variables only and is violated by ${ref.removedViolation.toExponential(2)}`);
+    }
     const N = ref.N;
     const w = new Float64Array(N);
     ref.initialW(w);
@@ -92,23 +96,24 @@ export function solveNlp(problem: NlpProblem, options?: NlpOptions): NlpResult {
     // common practice, no source).
     const kappa = ws ? Math.min(1e-2, Math.max(1e-9, mu0)) : undefined;
     pushInsideBounds(w, ref.wL, ref.wU, kappa, kappa);
-    const zL = new Float64Array(N), zU = new Float64Array(N), lambda = new Float64Array(m);
+    const mK = ref.m;
+    const zL = new Float64Array(N), zU = new Float64Array(N), lambda = new Float64Array(mK);
     for (let i = 0; i < N; i++) { zL[i] = Number.isFinite(ref.wL[i]) ? 1 : 0; zU[i] = Number.isFinite(ref.wU[i]) ? 1 : 0; }
     if (ws) {
       const floor = mu0;
-      if (ws.lambda) for (let j = 0; j < m; j++) lambda[j] = (ref.df * ws.lambda[j]) / ref.dc[j];
+      if (ws.lambda) for (let r = 0; r < mK; r++) { const j = ref.rowMap[r]; lambda[r] = (ref.df * ws.lambda[j]) / ref.dc[j]; }
       for (let k = 0; k < ref.nX; k++) {
         const i = ref.free[k];
         if (ws.zL && zL[k]) zL[k] = Math.max(floor, ref.df * ws.zL[i]);
         if (ws.zU && zU[k]) zU[k] = Math.max(floor, ref.df * ws.zU[i]);
       }
       if (ws.lambda)
-        for (let j = 0; j < m; j++) {
-          const s = ref.slackOf[j];
+        for (let r = 0; r < mK; r++) {
+          const s = ref.slackOf[ref.rowMap[r]];
           if (s < 0) continue;
           // Stationarity in s: −λ_j − z_L,s + z_U,s = 0.
-          if (zL[s]) zL[s] = Math.max(floor, -lambda[j]);
-          if (zU[s]) zU[s] = Math.max(floor, lambda[j]);
+          if (zL[s]) zL[s] = Math.max(floor, -lambda[r]);
+          if (zU[s]) zU[s] = Math.max(floor, lambda[r]);
         }
     }
     st = { w, lambda, zL, zU, mu: mu0 };

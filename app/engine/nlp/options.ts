@@ -28,6 +28,7 @@ export const OPTION_SPECS = {
   nlpScalingMaxGradient: { default: 100, help: "Gradient-based scaling target g_max, W&B §3.8." },
   lbfgsMemory: { default: 6, help: "Number of stored pairs for the limited-memory Hessian." },
   divergingIterates: { default: 1e20, help: "Status 'diverging' when max|x| exceeds this." },
+  presolveSingletons: { default: true, help: "Turn linear equality rows in one variable (x_i = b) into fixed variables before solving." },
   unboundedObjective: { default: -1e20, help: "Status 'unbounded' when the unscaled objective falls below this at a feasible iterate." },
   warmStart: { default: null, help: "{ lambda, zL, zU, mu } of a previous solve (x from problem.x0); bound push shrinks to μ₀ ∈ [1e-9, 1e-2]." },
   onIteration: { default: null, help: "Callback receiving each IterationRecord (progress display)." },
@@ -120,6 +121,7 @@ export interface ResolvedOptions {
   lbfgsMemory: number;
   divergingIterates: number;
   unboundedObjective: number;
+  presolveSingletons: boolean;
 }
 
 /** Fill defaults; throws a plain Error naming the field for a bad value (caught by solveNlp). */

@@ -31,9 +31,17 @@ export class NlpReformulation implements InternalProblem {
   /** free[k] = user index of internal variable k (k < nF); posFree[i] = k or −1 when fixed. */
   readonly free: Int32Array;
   readonly posFree: Int32Array;
-  /** slackOf[j] = internal index of row j's slack, or −1 for an equality row. */
+  /** slackOf[j] = internal index of user row j's slack, or −1 (equality row or row not kept). */
   readonly slackOf: Int32Array;
-  readonly isEq: Uint8Array;
+  /** rowMap[r] = user row of internal row r; rowPos[j] = internal row of user row j, or −1. */
+  readonly rowMap: Int32Array;
+  readonly rowPos: Int32Array;
+  /** singletonOf[j] = variable fixed by presolving row j (−1 if none), singletonCoef[j] its a_j. */
+  readonly singletonOf: Int32Array;
+  readonly singletonCoef: Float64Array;
+  /** Constant violation of the rows outside the iteration, and the worst of them (−1 if none). */
+  readonly removedViolation: number;
+  readonly worstRemovedRow: number;
   /** Full user x with fixed values in place (workspace, n). */
   readonly xFull: Float64Array;
   private readonly gradUser: Float64Array;
@@ -44,9 +52,8 @@ export class NlpReformulation implements InternalProblem {
   private readonly jKeep: Int32Array;
   private readonly hKeep: Int32Array;
 
-  constructor(readonly p: NlpProblem, relax: number, gMax: number) {
+  constructor(readonly p: NlpProblem, relax: number, gMax: number, presolve = true) {
     const { n, m } = p;
-    this.m = m;
     this.xFull = new Float64Array(n);
     for (let i = 0; i < n; i++) {
       const lo = p.xL[i], hi = p.xU[i];
@@ -55,32 +62,54 @@ export class NlpReformulation implements InternalProblem {
       if (v > hi) v = hi;
       this.xFull[i] = lo === hi ? lo : v;
     }
-    this.posFree = new Int32Array(n).fill(-1);
-    let nF = 0;
-    for (let i = 0; i < n; i++) if (p.xL[i] !== p.xU[i]) this.posFree[i] = nF++;
-    this.free = new Int32Array(nF);
-    for (let i = 0; i < n; i++) if (this.posFree[i] >= 0) this.free[this.posFree[i]] = i;
-    const free = this.free;
-    this.nX = nF;
-    this.isEq = new Uint8Array(m);
-    this.slackOf = new Int32Array(m).fill(-1);
-    let mI = 0;
-    for (let j = 0; j < m; j++) {
-      if (p.gL[j] === p.gU[j]) this.isEq[j] = 1;
-      else this.slackOf[j] = nF + mI++;
-    }
-    this.N = nF + mI;
     this.gradUser = new Float64Array(n);
     this.gUser = new Float64Array(m);
     this.jUser = new Float64Array(p.jacRows.length);
     this.hUser = new Float64Array(p.hessRows.length);
     this.lamUser = new Float64Array(m);
+    const fixed = new Uint8Array(n);
+    for (let i = 0; i < n; i++) if (p.xL[i] === p.xU[i]) fixed[i] = 1;
+    this.singletonOf = new Int32Array(m).fill(-1);
+    this.singletonCoef = new Float64Array(m);
+    if (presolve) this.presolveSingletons(fixed);
 
-    // Scaling at the (clipped) starting point, W&B §3.8.
+    this.posFree = new Int32Array(n).fill(-1);
+    let nF = 0;
+    for (let i = 0; i < n; i++) if (!fixed[i]) this.posFree[i] = nF++;
+    this.free = new Int32Array(nF);
+    for (let i = 0; i < n; i++) if (this.posFree[i] >= 0) this.free[this.posFree[i]] = i;
+    const free = this.free;
+    this.nX = nF;
+
+    // Rows kept in the iteration: not presolved, and with at least one free column.
+    const hasFree = new Uint8Array(m);
+    for (let k = 0; k < p.jacRows.length; k++) if (this.posFree[p.jacCols[k]] >= 0) hasFree[p.jacRows[k]] = 1;
+    this.rowPos = new Int32Array(m).fill(-1);
+    let mK = 0;
+    for (let j = 0; j < m; j++) if (hasFree[j] && this.singletonOf[j] < 0) this.rowPos[j] = mK++;
+    this.m = mK;
+    this.rowMap = new Int32Array(mK);
+    for (let j = 0; j < m; j++) if (this.rowPos[j] >= 0) this.rowMap[this.rowPos[j]] = j;
+    this.slackOf = new Int32Array(m).fill(-1);
+    let mI = 0;
+    for (let j = 0; j < m; j++) if (this.rowPos[j] >= 0 && p.gL[j] !== p.gU[j]) this.slackOf[j] = nF + mI++;
+    this.N = nF + mI;
+
+    // Scaling at the (clipped, presolved) starting point, W&B §3.8.
     this.userGradF(this.xFull);
     this.userJac(this.xFull);
     this.dc = new Float64Array(m);
     this.df = gradientScaling(gMax, this.gradUser, p.jacRows, p.jacCols, this.jUser, this.posFree, this.dc);
+    // Rows that left the iteration depend on fixed variables only: their violation is a constant.
+    const g0 = this.userG(this.xFull);
+    let viol = 0, worst = -1;
+    for (let j = 0; j < m; j++) {
+      if (this.rowPos[j] >= 0) continue;
+      const v = Math.max(0, p.gL[j] - g0[j], g0[j] - p.gU[j]);
+      if (v > viol) { viol = v; worst = j; }
+    }
+    this.removedViolation = viol;
+    this.worstRemovedRow = worst;
 
     this.dualUnscale = 1 / this.df;
     // Bounds (relaxed).
@@ -104,20 +133,21 @@ export class NlpReformulation implements InternalProblem {
     // Jacobian pattern: kept user entries, then −1 per slack (two passes, typed arrays).
     const nnzJU = p.jacRows.length, jRowsU = p.jacRows, jColsU = p.jacCols, posFree = this.posFree;
     let nKeep = 0;
-    for (let k = 0; k < nnzJU; k++) if (posFree[jColsU[k]] >= 0) nKeep++;
+    const rowPos = this.rowPos;
+    for (let k = 0; k < nnzJU; k++) if (posFree[jColsU[k]] >= 0 && rowPos[jRowsU[k]] >= 0) nKeep++;
     this.jKeep = new Int32Array(nKeep);
     this.jRows = new Int32Array(nKeep + mI);
     this.jCols = new Int32Array(nKeep + mI);
     let t = 0;
     for (let k = 0; k < nnzJU; k++) {
       const col = posFree[jColsU[k]];
-      if (col < 0) continue;
+      if (col < 0 || rowPos[jRowsU[k]] < 0) continue;
       this.jKeep[t] = k;
-      this.jRows[t] = jRowsU[k];
+      this.jRows[t] = rowPos[jRowsU[k]];
       this.jCols[t] = col;
       t++;
     }
-    for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = j; this.jCols[t] = this.slackOf[j]; t++; }
+    for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = rowPos[j]; this.jCols[t] = this.slackOf[j]; t++; }
 
     // Hessian pattern: entries between free variables, lower triangle.
     const nnzHU = p.hessRows.length, hRowsU = p.hessRows, hColsU = p.hessCols;
@@ -197,22 +227,25 @@ export class NlpReformulation implements InternalProblem {
   }
   c(w: Float64Array, out: Float64Array): void {
     const g = this.userG(this.scatter(w));
-    for (let j = 0; j < this.m; j++) {
-      const s = this.slackOf[j];
-      out[j] = s < 0 ? this.dc[j] * (g[j] - this.p.gL[j]) : this.dc[j] * g[j] - w[s];
+    const rowMap = this.rowMap, slackOf = this.slackOf, dc = this.dc, gL = this.p.gL;
+    for (let r = 0; r < this.m; r++) {
+      const j = rowMap[r], s = slackOf[j];
+      out[r] = s < 0 ? dc[j] * (g[j] - gL[j]) : dc[j] * g[j] - w[s];
     }
   }
   jac(w: Float64Array, out: Float64Array): void {
     const ju = this.userJac(this.scatter(w));
     const jk = this.jKeep;
     const rows = this.jRows;
-    for (let t = 0; t < jk.length; t++) out[t] = this.dc[rows[t]] * ju[jk[t]];
+    const rowMap = this.rowMap, dc = this.dc;
+    for (let t = 0; t < jk.length; t++) out[t] = dc[rowMap[rows[t]]] * ju[jk[t]];
     for (let t = jk.length; t < rows.length; t++) out[t] = -1;
   }
   hess(w: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array): void {
     const x = this.scatter(w);
     const lu = this.lamUser;
-    for (let j = 0; j < this.m; j++) lu[j] = this.dc[j] * lambda[j];
+    lu.fill(0); // rows outside the iteration are linear in fixed variables (presolve) or constant
+    for (let r = 0; r < this.m; r++) { const j = this.rowMap[r]; lu[j] = this.dc[j] * lambda[r]; }
     const hu = this.hUser;
     this.call("hessValues", () => this.p.hessValues(x, sigma * this.df, lu, hu));
     const hk = this.hKeep;
@@ -228,14 +261,17 @@ export class NlpReformulation implements InternalProblem {
   reportF(_w: Float64Array, fw: number): number {
     return fw / this.df;
   }
-  /** max_j of |g_j − gL_j| (equality) or the violation of [gL_j, gU_j] by g_j = (c_j + s)/d_j. */
+  /**
+   * max over rows of |g_j − gL_j| (equality) or the violation of [gL_j, gU_j] by
+   * g_j = (c_r + s)/d_j, and the constant violation of the rows outside the iteration.
+   */
   reportInfPr(w: Float64Array, cw: Float64Array): number {
-    let v = 0;
-    for (let j = 0; j < this.m; j++) {
-      const s = this.slackOf[j];
-      if (s < 0) v = Math.max(v, Math.abs(cw[j]) / this.dc[j]);
+    let v = this.removedViolation;
+    for (let r = 0; r < this.m; r++) {
+      const j = this.rowMap[r], s = this.slackOf[j];
+      if (s < 0) v = Math.max(v, Math.abs(cw[r]) / this.dc[j]);
       else {
-        const g = (cw[j] + w[s]) / this.dc[j];
+        const g = (cw[r] + w[s]) / this.dc[j];
         v = Math.max(v, this.p.gL[j] - g, g - this.p.gU[j]);
       }
     }
@@ -246,7 +282,7 @@ export class NlpReformulation implements InternalProblem {
   initialW(out: Float64Array): void {
     for (let k = 0; k < this.nX; k++) out[k] = this.xFull[this.free[k]];
     const g = this.userG(this.xFull);
-    for (let j = 0; j < this.m; j++) {
+    for (let j = 0; j < this.p.m; j++) {
       const s = this.slackOf[j];
       if (s >= 0) out[s] = this.dc[j] * g[j];
     }
@@ -259,7 +295,8 @@ export class NlpReformulation implements InternalProblem {
    */
   recoverMultipliers(lamW: Float64Array, zLW: Float64Array, zUW: Float64Array, lambda: Float64Array, zL: Float64Array, zU: Float64Array): void {
     const p = this.p;
-    for (let j = 0; j < this.m; j++) lambda[j] = (this.dc[j] * lamW[j]) / this.df;
+    lambda.fill(0);
+    for (let r = 0; r < this.m; r++) { const j = this.rowMap[r]; lambda[j] = (this.dc[j] * lamW[r]) / this.df; }
     zL.fill(0);
     zU.fill(0);
     for (let k = 0; k < this.nX; k++) {
@@ -267,14 +304,106 @@ export class NlpReformulation implements InternalProblem {
       zU[this.free[k]] = zUW[k] / this.df;
     }
     if (this.nX === p.n) return;
-    const r = new Float64Array(p.n);
+    const red = new Float64Array(p.n);
     const gr = this.userGradF(this.xFull);
     const jv = this.userJac(this.xFull);
-    for (let i = 0; i < p.n; i++) if (this.posFree[i] < 0) r[i] = gr[i];
+    for (let i = 0; i < p.n; i++) if (this.posFree[i] < 0) red[i] = gr[i];
     for (let k = 0; k < jv.length; k++) {
       const i = p.jacCols[k];
-      if (this.posFree[i] < 0) r[i] += lambda[p.jacRows[k]] * jv[k];
+      if (this.posFree[i] < 0) red[i] += lambda[p.jacRows[k]] * jv[k];
     }
-    for (let i = 0; i < p.n; i++) if (this.posFree[i] < 0) { zL[i] = Math.max(0, r[i]); zU[i] = Math.max(0, -r[i]); }
+    // A presolved row x_i = b carries the whole reduced gradient: λ_j = −r_i / a_j.
+    for (let j = 0; j < p.m; j++) {
+      const i = this.singletonOf[j];
+      if (i < 0) continue;
+      lambda[j] = -red[i] / this.singletonCoef[j];
+      red[i] = 0;
+    }
+    for (let i = 0; i < p.n; i++) if (this.posFree[i] < 0) { zL[i] = Math.max(0, red[i]); zU[i] = Math.max(0, -red[i]); }
+  }
+
+  /**
+   * Presolve (the analogue of a modelling language's presolve; common practice, no source):
+   * an equality row with a single Jacobian entry a_j at column i that is linear (same a_j and
+   * g_j(x + δ e_i) − g_j(x) = a_j δ at a second point, no Hessian contribution) fixes
+   * x_i = x_i⁰ − (g_j(x⁰) − gL_j)/a_j. The variable becomes a parameter and the row leaves the
+   * iteration. Keeps boundary conditions written as rows (h(0) = 1 next to h ≥ 1) from making
+   * the KKT system degenerate (DEVELOPERS.md, Decisions). Skipped when the fixed value would
+   * violate the variable's bounds (the row then stays and the solver reports what it finds).
+   */
+  private presolveSingletons(fixed: Uint8Array): void {
+    const p = this.p;
+    const { n, m } = p;
+    const nnz = p.jacRows.length;
+    // Triplets grouped by row (CSR offsets).
+    const start = new Int32Array(m + 1);
+    for (let k = 0; k < nnz; k++) start[p.jacRows[k] + 1]++;
+    for (let j = 0; j < m; j++) start[j + 1] += start[j];
+    const byRow = new Int32Array(nnz), fill = start.slice(0, m);
+    for (let k = 0; k < nnz; k++) byRow[fill[p.jacRows[k]]++] = k;
+    try {
+      const x0 = this.xFull;
+      const J0 = Float64Array.from(this.userJac(x0));
+      const g0 = Float64Array.from(this.userG(x0));
+      // Candidates: equality rows whose Jacobian at x₀ has exactly one nonzero, on a free column.
+      const cand: number[] = [], colOf = new Int32Array(m).fill(-1), kOf = new Int32Array(m).fill(-1);
+      const taken = new Uint8Array(n);
+      for (let j = 0; j < m; j++) {
+        if (p.gL[j] !== p.gU[j]) continue;
+        let nzK = -1, count = 0;
+        for (let t = start[j]; t < start[j + 1]; t++) if (J0[byRow[t]] !== 0) { count++; nzK = byRow[t]; }
+        if (count !== 1) continue;
+        const i = p.jacCols[nzK];
+        // Duplicated triplets of the same entry are summed by contract: require a single one.
+        let dup = 0;
+        for (let t = start[j]; t < start[j + 1]; t++) if (p.jacCols[byRow[t]] === i) dup++;
+        if (dup !== 1 || fixed[i] || taken[i]) continue;
+        taken[i] = 1;
+        cand.push(j);
+        colOf[j] = i;
+        kOf[j] = nzK;
+      }
+      if (cand.length === 0) return;
+      const x1 = Float64Array.from(x0);
+      const delta = new Float64Array(n);
+      for (const j of cand) {
+        const i = colOf[j];
+        let d = 1e-3 * Math.max(1, Math.abs(x0[i]));
+        if (x0[i] + d > p.xU[i]) d = -d;
+        delta[i] = d;
+        x1[i] = x0[i] + d;
+      }
+      const J1 = this.userJac(x1);
+      const g1 = this.userG(x1);
+      // Σ of the candidates' Hessians: a column touched by a nonzero entry disqualifies every
+      // candidate row whose pattern contains it (a linear row contributes nothing).
+      const lam = new Float64Array(m);
+      for (const j of cand) lam[j] = 1;
+      const H = this.hUser;
+      this.call("hessValues", () => p.hessValues(x0, 0, lam, H));
+      const touched = new Uint8Array(n);
+      for (let k = 0; k < H.length; k++) if (H[k] !== 0) { touched[p.hessRows[k]] = 1; touched[p.hessCols[k]] = 1; }
+      for (const j of cand) {
+        const k = kOf[j], i = colOf[j], a = J0[k];
+        let linear = true;
+        for (let t = start[j]; t < start[j + 1] && linear; t++) {
+          const kk = byRow[t];
+          if (touched[p.jacCols[kk]]) linear = false;
+          else if (kk !== k && J1[kk] !== 0) linear = false;
+        }
+        if (!linear) continue;
+        if (Math.abs(J1[k] - a) > 1e-12 * Math.abs(a)) continue;
+        if (Math.abs(g1[j] - g0[j] - a * delta[i]) > 1e-10 * Math.max(1, Math.abs(g0[j]), Math.abs(a * delta[i]))) continue;
+        const b = x0[i] - (g0[j] - p.gL[j]) / a;
+        if (!(b >= p.xL[i] && b <= p.xU[i])) continue;
+        fixed[i] = 1;
+        this.xFull[i] = b;
+        this.singletonOf[j] = i;
+        this.singletonCoef[j] = a;
+      }
+    } catch (e) {
+      if (!(e instanceof ModelError)) throw e;
+      // A model that cannot be evaluated at the probe point is simply not presolved.
+    }
   }
 }

@@ -106,6 +106,8 @@ export interface NlpOptions {
   lbfgsMemory?: number;
   /** "diverging" when max|x| exceeds this. Default 1e20. */
   divergingIterates?: number;
+  /** Linear equality rows in one variable become fixed variables (presolve). Default true. */
+  presolveSingletons?: boolean;
   /** "unbounded" when the objective falls below this at a feasible iterate. Default -1e20. */
   unboundedObjective?: number;
   /**
