@@ -27,6 +27,8 @@ export interface RefineOptions extends ShootingOptions {
   /** Use this structure instead of detecting it (e.g. from the problem's reference arcs). */
   structure?: ArcStructure;
   onIteration?: (rec: NewtonRecord) => void;
+  /** Retry once with twice the segments when Newton fails. Default true. */
+  retry?: boolean;
 }
 
 export interface RefinedArc {
@@ -84,7 +86,21 @@ function costateGuess(sol: Solution, sign: number): (t: number, out: Float64Arra
   };
 }
 
+/**
+ * Refines a direct solution. When Newton does not converge with the default number of shooting
+ * segments, it is tried once more with twice as many (shorter segments tame the growth of the
+ * state–costate flow), unless options.retry is false.
+ */
 export function refineFromSolution(problem: CompiledProblem, sol: Solution, options: RefineOptions = {}): RefineReport {
+  const first = refineOnce(problem, sol, options);
+  if (first.converged || first.status === "setup_failed" || options.retry === false) return first;
+  const segments = 2 * (options.segments ?? 12);
+  const second = refineOnce(problem, sol, { ...options, segments });
+  if (!second.converged) return first;
+  return { ...second, message: `${second.message} (with ${segments} segments after ${first.status} with ${options.segments ?? 12})`, seconds: first.seconds + second.seconds };
+}
+
+function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOptions): RefineReport {
   const started = performance.now();
   const base = {
     problemId: problem.id,
