@@ -37,3 +37,19 @@ describe("minimum-time double integrator", () => {
     expect(Math.abs(r.trajectory!.costates.x2[0] - 1)).toBeLessThan(1e-8);
   });
 });
+
+describe("a wrong structure is reported, not refined", () => {
+  it("one upper arc cannot meet the end conditions: not converged or not confirmed", () => {
+    const sol = sampled(0, 2, 41, exactX, (t) => [t < 1 ? -1 : 1], (t) => [1, 1 - t]);
+    const wrong = {
+      controls: [{ control: "u", arcs: [{ kind: "upper" as const, control: "u", t0: 0, t1: 2 }], junctions: [] }],
+      signature: "upper",
+      usedSwitchingFunction: false,
+      costateSign: 1 as const,
+      notes: [],
+    };
+    const r = refineFromSolution(problem, sol, { structure: wrong, maxIter: 15 });
+    expect(r.converged && r.structureConfirmed).toBe(false);
+    expect(Number.isFinite(r.residual) ? r.residual : Infinity).toBeGreaterThan(1e-6);
+  });
+});
