@@ -72,7 +72,10 @@ export interface IterationRecord {
   /** Number of backtracking trials in the line search. */
   lsTrials: number;
   phase: "regular" | "restoration";
-  /** Short tags: "s" second-order correction, "h" hessian perturbed, "r" restoration entered. */
+  /**
+   * Short tags: "s" second-order correction, "h" hessian perturbed, "r" back from restoration,
+   * "t" tiny step, "w" watchdog trial step, "W" watchdog success, "R" watchdog reverted.
+   */
   info: string;
 }
 
