@@ -46,8 +46,13 @@ export function AppShell({ user, children }: { user: ShellUser; children: ReactN
             <NavItem to="/" end>
               Overview
             </NavItem>
+            <NavItem to="/runs">Runs</NavItem>
+            <NavItem to="/history">History</NavItem>
+            <NavItem to="/run-suite">Run a suite</NavItem>
+            <NavItem to="/settings">Settings</NavItem>
             {roleAtLeast(user.role, "admin") ? <NavItem to="/admin/users">Users</NavItem> : null}
             {roleAtLeast(user.role, "admin") ? <NavItem to="/admin/tokens">API tokens</NavItem> : null}
+            {roleAtLeast(user.role, "admin") ? <NavItem to="/admin/outbox">Outbox</NavItem> : null}
             <NavItem to="/account">Account</NavItem>
           </nav>
           <div className="flex items-center gap-3">

@@ -460,6 +460,39 @@ export const jobs = sqliteTable(
 );
 
 // ---------------------------------------------------------------------------------------
+// Settings
+// ---------------------------------------------------------------------------------------
+
+export const THRESHOLD_SETTING_STATUSES = ["proposed", "saved", "rejected", "superseded"] as const;
+export type ThresholdSettingStatus = (typeof THRESHOLD_SETTING_STATUSES)[number];
+
+/**
+ * Regression thresholds of a suite set from the settings page: an engineer proposes a set
+ * (status "proposed"), an admin saves it ("saved"; the previous saved set of that suite becomes
+ * "superseded") or rejects it. The latest saved set overrides the suite file's `thresholds`
+ * key by key (see app/models/settings.server.ts `effectiveThresholds`).
+ */
+export const thresholdSettings = sqliteTable(
+  "threshold_settings",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    suiteName: text("suite_name").notNull(),
+    /** Partial `Thresholds` (bench/runner/types.ts): only the keys that differ from the file. */
+    thresholdsJson: text("thresholds_json", { mode: "json" }).$type<Record<string, number | boolean>>().notNull(),
+    status: text("status", { enum: THRESHOLD_SETTING_STATUSES }).notNull().default("proposed"),
+    note: text("note"),
+    proposedById: integer("proposed_by_id").references(() => users.id, { onDelete: "set null" }),
+    decidedById: integer("decided_by_id").references(() => users.id, { onDelete: "set null" }),
+    createdAt: createdAt(),
+    decidedAt: integer("decided_at", { mode: "timestamp_ms" }),
+  },
+  (t) => [
+    index("threshold_settings_suite_status_idx").on(t.suiteName, t.status, t.createdAt),
+    check("threshold_settings_status_check", sql`${t.status} in (${inList(THRESHOLD_SETTING_STATUSES)})`),
+  ],
+);
+
+// ---------------------------------------------------------------------------------------
 // Row types
 // ---------------------------------------------------------------------------------------
 
@@ -494,3 +527,5 @@ export type OutboxRow = typeof outbox.$inferSelect;
 export type NewOutbox = typeof outbox.$inferInsert;
 export type JobRow = typeof jobs.$inferSelect;
 export type NewJob = typeof jobs.$inferInsert;
+export type ThresholdSettingRow = typeof thresholdSettings.$inferSelect;
+export type NewThresholdSetting = typeof thresholdSettings.$inferInsert;

@@ -1,0 +1,32 @@
+/**
+ * One state/control/costate over time: the solver's recovered series (solid) and the problem's
+ * reference (dashed), each on its own time grid (numeric x axis). Fixed size, drawn after
+ * hydration (recharts renders an empty wrapper on the server).
+ */
+import { CartesianGrid, Legend, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
+import type { Series } from "~/models/cases.server";
+
+function points(s: Series | null, name: string): { t: number; v: number }[] {
+  const col = s?.columns[name];
+  if (!s || !col) return [];
+  return s.t.map((t, i) => ({ t, v: col[i]! })).filter((p) => Number.isFinite(p.t) && Number.isFinite(p.v));
+}
+
+export function TrajectoryChart({ name, solution, reference, referenceName, width = 420, height = 220, step = false }: { name: string; solution: Series | null; reference: Series | null; referenceName?: string; width?: number; height?: number; step?: boolean }) {
+  const sol = points(solution, name);
+  const ref = points(reference, referenceName ?? name);
+  return (
+    <figure className="card p-3" data-testid="trajectory-chart" data-series={name}>
+      <figcaption className="mb-1 text-sm font-medium">{name}</figcaption>
+      <LineChart width={width} height={height} margin={{ top: 5, right: 12, bottom: 5, left: 0 }}>
+        <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
+        <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} allowDuplicatedCategory={false} />
+        <YAxis type="number" domain={["auto", "auto"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={56} />
+        <Tooltip contentStyle={{ background: "var(--aw-surface)", border: "1px solid var(--aw-line)", fontSize: 12 }} formatter={(v) => (typeof v === "number" ? v.toPrecision(6) : String(v))} labelFormatter={(t) => `t = ${typeof t === "number" ? t.toPrecision(5) : t}`} />
+        <Legend wrapperStyle={{ fontSize: 11 }} />
+        {ref.length ? <Line data={ref} dataKey="v" name="reference" stroke="var(--aw-muted)" strokeDasharray="5 4" dot={false} isAnimationActive={false} /> : null}
+        {sol.length ? <Line data={sol} dataKey="v" name="solution" type={step ? "stepAfter" : "linear"} stroke="var(--aw-accent)" strokeWidth={2} dot={sol.length < 60 ? { r: 2 } : false} isAnimationActive={false} /> : null}
+      </LineChart>
+    </figure>
+  );
+}

@@ -1,0 +1,187 @@
+import { useEffect } from "react";
+import { data, Form, Link, redirect, useFetcher, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/run-suite";
+import { FlightCaution, fmtDate, fmtSeconds } from "~/components/Caution";
+import { RouteErrorBoundary } from "~/components/ErrorView";
+import { FormError } from "~/components/Field";
+import { getDb } from "~/db/client.server";
+import { benchJobPayload, enqueueJob, jobView, listJobs, type JobView } from "~/models/jobs.server";
+import { requireRole, requireUser } from "~/services/auth.server";
+import { fieldErrors, type FieldErrors } from "~/services/forms.server";
+import { listBranches, listCommits, listSuitesAt, resolveRef } from "~/services/git.server";
+import { roleAtLeast } from "~/services/roles";
+
+export const meta: Route.MetaFunction = () => [{ title: "Run a suite · Arcwatch" }];
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  const url = new URL(request.url);
+  const db = getDb();
+  let branches: Awaited<ReturnType<typeof listBranches>> = [];
+  let gitError: string | null = null;
+  try {
+    branches = await listBranches();
+  } catch (err) {
+    gitError = `The repository could not be read (${(err as Error).message}). Set ARCWATCH_REPO to the solver's git repository.`;
+  }
+  const ref = url.searchParams.get("ref") || branches.find((b) => b.name === "main")?.name || branches[0]?.name || "";
+  const commits = ref ? await listCommits(ref, 20).catch(() => []) : [];
+  const suites = ref ? await listSuitesAt(ref) : [];
+  const jobId = Number(url.searchParams.get("job"));
+  const job = Number.isInteger(jobId) && jobId > 0 ? jobView(db, jobId) : null;
+  const jobs = listJobs(db, 15).map((j) => ({ id: j.id, status: j.status, suite: String((j.payloadJson as { suite?: unknown })?.suite ?? ""), ref: String((j.payloadJson as { ref?: unknown })?.ref ?? ""), createdAt: j.createdAt.getTime() }));
+  return { canStart: roleAtLeast(user.role, "engineer"), branches, commits, suites, ref, job, jobs, gitError };
+}
+
+const startSchema = z.object({
+  ref: z.string().trim().min(1, "Pick a branch.").max(200),
+  commit: z.string().trim().regex(/^([0-9a-f]{7,40})?$/, "A commit is 7 to 40 hexadecimal characters.").optional(),
+  suite: benchJobPayload.shape.suite,
+});
+type StartField = "ref" | "commit" | "suite";
+
+/** Engineers queue a bench job for a branch (its tip) or one of its commits. */
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, "engineer");
+  const form = await request.formData();
+  const values = { ref: String(form.get("ref") ?? ""), commit: String(form.get("commit") ?? ""), suite: String(form.get("suite") ?? "") };
+  const parsed = startSchema.safeParse(values);
+  if (!parsed.success) return data({ errors: fieldErrors<StartField>(parsed.error) as FieldErrors<StartField>, values }, { status: 400 });
+  const commit = await resolveRef(parsed.data.commit || parsed.data.ref);
+  if (!commit) return data({ errors: { [parsed.data.commit ? "commit" : "ref"]: `${parsed.data.commit || parsed.data.ref} is not in the repository.` } as FieldErrors<StartField>, values }, { status: 400 });
+  const suites = await listSuitesAt(commit);
+  if (!suites.includes(parsed.data.suite)) return data({ errors: { suite: `Commit ${commit.slice(0, 10)} has no suite "${parsed.data.suite}" (it has: ${suites.join(", ") || "none"}).` } as FieldErrors<StartField>, values }, { status: 400 });
+  const job = enqueueJob(getDb(), { kind: "bench", payload: { suite: parsed.data.suite, commit, ref: parsed.data.ref } }, user.id);
+  return redirect(`/run-suite?ref=${encodeURIComponent(parsed.data.ref)}&job=${job.id}`);
+}
+
+const ACTIVE = new Set(["queued", "running"]);
+
+function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean }) {
+  const poll = useFetcher<{ job: JobView }>();
+  const cancel = useFetcher<{ job?: JobView; error?: string }>();
+  const job = cancel.data?.job ?? poll.data?.job ?? initial;
+  const active = ACTIVE.has(job.status);
+  useEffect(() => {
+    if (!active) return;
+    const t = setInterval(() => {
+      if (poll.state === "idle") poll.load(`/api/jobs/${initial.id}`);
+    }, 1000);
+    return () => clearInterval(t);
+  }, [active, initial.id, poll]);
+  const p = job.progress;
+  const pct = p && p.total ? Math.round((100 * p.done) / p.total) : 0;
+  return (
+    <section className="card space-y-3 p-5" aria-labelledby="job-title" data-testid="job-panel" data-status={job.status}>
+      <div className="flex flex-wrap items-center justify-between gap-3">
+        <h2 id="job-title" className="text-xl font-semibold">
+          Job {job.id}: suite {job.suite} on {job.ref ?? "?"} <code className="num text-base">{job.commit?.slice(0, 10)}</code>
+        </h2>
+        <span className={`font-semibold ${job.status === "done" ? "text-good" : job.status === "failed" || job.status === "died" ? "text-bad" : "text-accent"}`} data-testid="job-status" aria-live="polite">
+          {job.status}
+        </span>
+      </div>
+      {active || p ? (
+        <div className="space-y-1">
+          <div className="h-3 w-full overflow-hidden rounded bg-raised" role="progressbar" aria-valuemin={0} aria-valuemax={p?.total ?? 0} aria-valuenow={p?.done ?? 0} aria-label="Cases done">
+            <div className="h-full bg-accent transition-all" style={{ width: `${pct}%` }} />
+          </div>
+          <p className="num text-sm text-muted" data-testid="job-progress">
+            {job.status === "queued" ? "waiting for the machine (one run at a time)" : p?.phase === "checkout" ? "checking the commit out into its own worktree…" : `${p?.done ?? 0}/${p?.total ?? "?"} cases`}
+            {p?.current && active ? ` · now ${p.current}` : ""}
+            {p && active && p.etaSeconds !== null ? ` · about ${fmtSeconds(p.etaSeconds)} left` : ""}
+            {p ? ` · elapsed ${fmtSeconds(p.elapsedSeconds)}` : ""}
+          </p>
+        </div>
+      ) : null}
+      {job.error ? <p className="text-sm text-bad">{job.error}</p> : null}
+      <div className="flex flex-wrap gap-2">
+        {job.runId ? <Link className="btn" to={`/runs/${job.runId}`} data-testid="job-run-link">Open the run</Link> : null}
+        {canCancel && active ? (
+          <cancel.Form method="post" action={`/api/jobs/${job.id}`}>
+            <input type="hidden" name="intent" value="cancel" />
+            <button type="submit" className="btn-quiet" data-testid="job-cancel" disabled={cancel.state !== "idle"}>{cancel.state !== "idle" ? "Cancelling…" : "Cancel"}</button>
+          </cancel.Form>
+        ) : null}
+        {cancel.data?.error ? <FormError message={cancel.data.error} /> : null}
+      </div>
+      <details open={active}>
+        <summary className="cursor-pointer text-sm font-medium">Log</summary>
+        <pre className="mt-2 max-h-80 overflow-auto rounded bg-raised p-3 text-xs" data-testid="job-log">{job.log || "(nothing yet)"}</pre>
+      </details>
+    </section>
+  );
+}
+
+export default function RunSuite({ loaderData, actionData }: Route.ComponentProps) {
+  const { canStart, branches, commits, suites, ref, job, jobs, gitError } = loaderData;
+  const errors = (actionData?.errors ?? {}) as FieldErrors<StartField>;
+  const values = actionData?.values;
+  const busy = useNavigation().state === "submitting";
+  return (
+    <div className="space-y-6">
+      <div>
+        <h1 className="text-3xl font-semibold tracking-tight">Run a suite</h1>
+        <p className="text-muted">Measure exactly one commit's code: the worker checks it out into its own git worktree and runs <code>npm run bench -- --suite …</code> there. One run at a time on this machine, so timings stay clean.</p>
+      </div>
+      <FlightCaution />
+      {gitError ? <FormError message={gitError} /> : null}
+      {job ? <JobPanel key={job.id} initial={job} canCancel={canStart} /> : null}
+      {canStart ? (
+        <section className="card space-y-4 p-5" aria-labelledby="start-title">
+          <h2 id="start-title" className="text-xl font-semibold">Start</h2>
+          <Form method="get" className="flex flex-wrap items-end gap-2" aria-label="Pick a branch">
+            <label className="space-y-1 text-sm">
+              <span className="font-medium">Branch</span>
+              <select name="ref" defaultValue={ref} className="input" data-testid="ref-picker">
+                {branches.map((b) => <option key={b.name} value={b.name}>{b.name} — {b.subject.slice(0, 60)} ({b.date.slice(0, 10)})</option>)}
+              </select>
+            </label>
+            <button type="submit" className="btn-quiet">Show its commits and suites</button>
+          </Form>
+          <Form method="post" className="grid gap-3 md:grid-cols-3" aria-label="Start a run">
+            <input type="hidden" name="ref" value={ref} />
+            <label className="space-y-1 text-sm md:col-span-2">
+              <span className="font-medium">Commit of {ref || "the branch"}</span>
+              <select name="commit" defaultValue={values?.commit ?? ""} className="input" aria-invalid={errors.commit ? true : undefined} aria-describedby={errors.commit ? "commit-error" : undefined}>
+                <option value="">Tip of {ref}</option>
+                {commits.map((c) => <option key={c.hash} value={c.hash}>{c.hash.slice(0, 10)} {c.subject.slice(0, 70)} ({c.date.slice(0, 10)})</option>)}
+              </select>
+              {errors.commit ? <span id="commit-error" className="text-bad">{errors.commit}</span> : null}
+              {errors.ref ? <span className="text-bad">{errors.ref}</span> : null}
+            </label>
+            <label className="space-y-1 text-sm">
+              <span className="font-medium">Suite</span>
+              <select name="suite" defaultValue={values?.suite ?? (suites.includes("quick") ? "quick" : suites[0])} className="input" data-testid="suite-picker" aria-invalid={errors.suite ? true : undefined} aria-describedby={errors.suite ? "suite-error" : undefined}>
+                {suites.map((s) => <option key={s} value={s}>{s}</option>)}
+              </select>
+              {errors.suite ? <span id="suite-error" className="text-bad" data-field-error="suite">{errors.suite}</span> : null}
+            </label>
+            <div className="md:col-span-3">
+              <button type="submit" className="btn" disabled={busy || !ref} data-testid="start-run">{busy ? "Queuing…" : "Start the run"}</button>
+            </div>
+            <FormError message={errors.form} />
+          </Form>
+        </section>
+      ) : (
+        <p className="card p-4 text-sm text-muted" data-testid="viewer-note">Starting runs needs the engineer role; ask an admin. You can follow every job below.</p>
+      )}
+      <section className="space-y-2" aria-labelledby="jobs-title">
+        <h2 id="jobs-title" className="text-xl font-semibold">Recent jobs</h2>
+        {jobs.length === 0 ? <p className="text-muted">No jobs yet.</p> : (
+          <ul className="card divide-y divide-line/60 text-sm" data-testid="job-list">
+            {jobs.map((j) => (
+              <li key={j.id} className="flex items-center justify-between px-4 py-2">
+                <Link className="text-accent hover:underline" to={`/run-suite?ref=${encodeURIComponent(j.ref || ref)}&job=${j.id}`}>Job {j.id} · {j.suite} on {j.ref || "?"}</Link>
+                <span className="num text-muted">{j.status} · {fmtDate(j.createdAt)}</span>
+              </li>
+            ))}
+          </ul>
+        )}
+      </section>
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteErrorBoundary;

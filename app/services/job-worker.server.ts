@@ -1,0 +1,170 @@
+/**
+ * The job worker: one per server process, so one run per machine at a time (timings stay clean).
+ *
+ * Loop (every POLL_MS): claim the oldest queued job when none runs → `git worktree add --detach`
+ * the job's commit into its own folder (under the server's folder, so that it finds the server's
+ * node_modules by Node's upward search) → run the same
+ * command line as a person would there:
+ *     node --import tsx bench/run.ts --suite <suite> --job <id> --db <this database> --base-url <url>
+ * so the code measured is exactly that commit's code, and results arrive through the runner's
+ * own recording path. The child's output is appended to the job's log; its per-case progress
+ * lines ("[###...] 3/25  elapsed 0:05  eta 0:40  key: status", bench/runner/progress.ts) become
+ * `progress_json`. Every heartbeat reads the job's status back: "cancelled" (set by the API)
+ * sends SIGTERM, and the runner marks its run interrupted, keeping the finished cases.
+ * At start-up, jobs left "running" by an earlier process are marked "died" (models/jobs.server.ts).
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import path from "node:path";
+import { pathToFileURL } from "node:url";
+import { databasePath, getDb, type Db } from "~/db/client.server";
+import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, markDeadJobs, runOfJob, type BenchProgress } from "~/models/jobs.server";
+import { expandCases, loadSuite, suitePath } from "../../bench/runner/suite";
+import { addWorktree, removeWorktree, repoRoot, resolveRef } from "./git.server";
+
+const POLL_MS = 1000;
+const HEARTBEAT_MS = 1000;
+/** Seconds between SIGTERM and SIGKILL when a cancelled child does not stop. */
+const KILL_GRACE_MS = 15_000;
+
+const PROGRESS_LINE = /(\d+)\/(\d+)\s+elapsed\s+([\d:]+|--:--)\s+eta\s+([\d:]+|--:--)\s+(\S+):\s+(\S+)/;
+
+function seconds(text: string): number | null {
+  if (text === "--:--") return null;
+  return text.split(":").reduce((acc, p) => acc * 60 + Number(p), 0);
+}
+
+/** Parses one progress line of the runner; null when the line is something else. */
+export function parseProgressLine(line: string): { done: number; total: number; elapsed: number | null; eta: number | null; key: string; status: string } | null {
+  const m = PROGRESS_LINE.exec(line);
+  if (!m) return null;
+  return { done: Number(m[1]), total: Number(m[2]), elapsed: seconds(m[3]!), eta: seconds(m[4]!), key: m[5]!, status: m[6]! };
+}
+
+interface WorkerState {
+  timer: NodeJS.Timeout | null;
+  busy: boolean;
+  child: ChildProcess | null;
+}
+const key = Symbol.for("arcwatch.jobWorker");
+type G = typeof globalThis & { [key]?: WorkerState };
+
+/** Starts the worker once per process (idempotent). Set ARCWATCH_JOB_WORKER=0 to disable. */
+export function startJobWorker(): void {
+  if (process.env.ARCWATCH_JOB_WORKER === "0") return;
+  const g = globalThis as G;
+  if (g[key]) return;
+  const state: WorkerState = { timer: null, busy: false, child: null };
+  g[key] = state;
+  const db = getDb();
+  for (const d of markDeadJobs(db)) {
+    if (d.pid) {
+      try {
+        process.kill(d.pid, "SIGTERM");
+      } catch {
+        /* already gone */
+      }
+    }
+    console.log(`[arcwatch] job ${d.id} marked died (its worker stopped before it finished)`);
+  }
+  state.timer = setInterval(() => {
+    if (state.busy) return;
+    state.busy = true;
+    tick(db, state)
+      .catch((err) => console.error("[arcwatch] job worker:", err))
+      .finally(() => (state.busy = false));
+  }, POLL_MS);
+  state.timer.unref();
+  const stop = () => {
+    state.child?.kill("SIGTERM");
+  };
+  process.once("exit", stop);
+}
+
+/**
+ * The server's own tsx loader, by absolute URL: the worktree has no node_modules of its own and
+ * finds the server's by walking up (worktrees live under the server's folder, see git.server.ts).
+ */
+function tsxLoader(): string {
+  return pathToFileURL(path.resolve("node_modules", "tsx", "dist", "loader.mjs")).href;
+}
+
+async function tick(db: Db, state: WorkerState): Promise<void> {
+  const job = claimNextJob(db, process.pid);
+  if (!job) return;
+  let log = "";
+  const append = (s: string) => (log += s);
+  let worktree: string | null = null;
+  try {
+    if (job.kind !== "bench") throw new Error(`unknown job kind "${job.kind}"`);
+    const payload = benchJobPayload.parse(job.payloadJson);
+    const root = repoRoot();
+    const commit = await resolveRef(payload.commit ?? payload.ref ?? "HEAD", root);
+    if (!commit) throw new Error(`commit ${payload.commit ?? payload.ref ?? "HEAD"} not found in ${root}`);
+    const progress: BenchProgress = { done: 0, total: 0, current: null, lastCase: null, lastStatus: null, elapsedSeconds: 0, etaSeconds: null, commit, runId: null, phase: "checkout" };
+    append(`$ git worktree add --detach <worktree> ${commit}\n`);
+    heartbeatJob(db, job.id, progress, log);
+    log = "";
+    worktree = await addWorktree(job.id, commit, root);
+    let order: string[] = [];
+    try {
+      const s = loadSuite(suitePath(payload.suite, worktree));
+      order = expandCases(s.definition, path.join(worktree, "problems")).map((c) => c.key);
+    } catch (err) {
+      append(`(case list unavailable: ${(err as Error).message})\n`);
+    }
+    Object.assign(progress, { total: order.length, current: order[0] ?? null, phase: "running" });
+    const args = ["--import", tsxLoader(), "bench/run.ts", "--suite", payload.suite, "--job", String(job.id), "--db", databasePath(), "--base-url", process.env.ARCWATCH_BASE_URL ?? `http://${process.env.HOST ?? "127.0.0.1"}:${process.env.PORT ?? 3000}`];
+    append(`$ cd <worktree> && node ${args.join(" ")}\n`);
+    const child = spawn(process.execPath, args, { cwd: worktree, env: { ...process.env, ARCWATCH_DB: databasePath(), ARCWATCH_JOB_WORKER: "0", FORCE_COLOR: "0" }, stdio: ["ignore", "pipe", "pipe"] });
+    state.child = child;
+    let partial = "";
+    const onData = (d: Buffer) => {
+      const text = d.toString("utf8");
+      append(text);
+      partial += text;
+      const lines = partial.split("\n");
+      partial = lines.pop() ?? "";
+      for (const line of lines) {
+        const p = parseProgressLine(line);
+        if (!p) continue;
+        Object.assign(progress, { done: p.done, total: p.total, lastCase: p.key, lastStatus: p.status, etaSeconds: p.eta, current: order[p.done] ?? null });
+      }
+    };
+    child.stdout!.on("data", onData);
+    child.stderr!.on("data", onData);
+    const started = Date.now();
+    let killTimer: NodeJS.Timeout | null = null;
+    const beat = setInterval(() => {
+      progress.elapsedSeconds = (Date.now() - started) / 1000;
+      progress.runId ??= runOfJob(db, job.id)?.id ?? null;
+      if (progress.runId && payload.ref && !/^[0-9a-f]{7,40}$/.test(payload.ref)) labelJobRuns(db, job.id, payload.ref);
+      const status = heartbeatJob(db, job.id, progress, log);
+      log = "";
+      if (status === "cancelled" && !killTimer) {
+        child.kill("SIGTERM");
+        killTimer = setTimeout(() => child.kill("SIGKILL"), KILL_GRACE_MS);
+      }
+    }, HEARTBEAT_MS);
+    const code: number | null = await new Promise((resolve) => child.once("close", (c) => resolve(c)));
+    clearInterval(beat);
+    if (killTimer) clearTimeout(killTimer);
+    state.child = null;
+    progress.phase = "finishing";
+    if (payload.ref && !/^[0-9a-f]{7,40}$/.test(payload.ref)) labelJobRuns(db, job.id, payload.ref);
+    progress.runId ??= runOfJob(db, job.id)?.id ?? null;
+    progress.current = null;
+    append(`\n[exit ${code}]\n`);
+    heartbeatJob(db, job.id, progress, log);
+    log = "";
+    // 0: fine; 3: finished with new regressions (a result, not a failure); 130: interrupted.
+    if (code === 0 || code === 3) finishJob(db, job.id, "done", null);
+    else if (code === 130) finishJob(db, job.id, "cancelled", "Interrupted.");
+    else finishJob(db, job.id, "failed", `bench exited with code ${code}`);
+  } catch (err) {
+    append(`\n${(err as Error).message}\n`);
+    heartbeatJob(db, job.id, null, log);
+    finishJob(db, job.id, "failed", (err as Error).message.slice(0, 2000));
+  } finally {
+    if (worktree) await removeWorktree(worktree).catch(() => undefined);
+  }
+}
