@@ -20,7 +20,7 @@ import { integrateSegment } from "./integrate";
 import { SingularValueDecomposition } from "ml-matrix";
 
 export interface RefineOptions extends ShootingOptions {
-  /** Newton tolerance on ‖F‖∞. Default 1e-11. */
+  /** Newton tolerance: ‖F‖∞ ≤ tol · (1 + ‖z0‖∞), z0 the seeded unknowns. Default 1e-11. */
   tol?: number;
   maxIter?: number;
   arcOptions?: ArcDetectionOptions;
@@ -158,7 +158,9 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
       return F ? ms.jacobian(z, F ?? Fz) : null;
     },
     ms.z0,
-    { tol: options.tol ?? 1e-11, maxIter: options.maxIter ?? 40, onIteration: options.onIteration },
+    // Tolerance relative to the size of the unknowns (states of 1500 m and costates of 1e-3 share
+    // one residual vector): ‖F‖∞ ≤ tol · (1 + ‖z0‖∞).
+    { tol: (options.tol ?? 1e-11) * (1 + maxAbs(ms.z0)), maxIter: options.maxIter ?? 40, onIteration: options.onIteration },
   );
   const z = result.z;
   const T = ms.times(z);
@@ -226,6 +228,12 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
     rhsEvaluations: ms.nEvalTotal,
     jacobianCondition,
   };
+}
+
+function maxAbs(v: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < v.length; i++) m = Math.max(m, Math.abs(v[i]));
+  return m;
 }
 
 /** Sample inputs w = [t, x, u, λ, 0] at a few grid points of the direct solution. */
