@@ -8,6 +8,7 @@
 import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
+import { runnerLibraryDir, uploadedProblemsDirFor } from "./library-dir";
 import type { Db } from "../../app/db/client.server";
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
 import { commitMeta, resolveCommit, type CommitMeta } from "./git-meta";
@@ -99,7 +100,7 @@ function referenceArcs(problemsDir: string, ids: string[]): Map<string, string> 
 export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const t0 = Date.now();
   const root = path.resolve(opts.root ?? process.cwd());
-  const problemsDir = path.join(root, "problems");
+  const problemsDir = runnerLibraryDir(root, uploadedProblemsDirFor(opts.db.$client.name));
   const suite = loadSuite(suitePath(opts.suite, root));
   const def = suite.definition;
   const cases = expandCases(def, problemsDir);

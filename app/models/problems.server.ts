@@ -1,0 +1,531 @@
+/**
+ * The problem library as the web app sees it: the checkout's problems/ folder (kept in git) and
+ * the problems engineers added through the browser (kept in the database as problem versions and
+ * written to the uploaded-problems folder, which the benchmark runner merges into its library;
+ * see DEVELOPERS.md, Decisions, "Uploaded problems").
+ */
+import fs from "node:fs";
+import path from "node:path";
+import { and, desc, eq, sql } from "drizzle-orm";
+import { databasePath, type Db } from "~/db/client.server";
+import { caseResults, problemVersions, problems, runs } from "~/db/schema";
+import { compileProblemSource, type ProblemSourceFiles } from "~/engine/problem/compile";
+import type { ProblemError } from "~/engine/problem/errors";
+import { loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
+import type { CompiledProblem, Provenance } from "~/engine/problem/types";
+import { solveProblem } from "~/engine/solve";
+import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, errorsByField, uploadFieldOf } from "~/components/problems/form-model";
+import { isSolved } from "../../bench/runner/types";
+
+import { SCHEMES, type SchemeName } from "~/components/problems/schemes";
+export { SCHEMES, type SchemeName };
+
+/** Largest accepted upload of problem.json / reference.csv (bytes). */
+export const MAX_PROBLEM_UPLOAD_BYTES = 512 * 1024;
+export const MAX_REFERENCE_UPLOAD_BYTES = 4 * 1024 * 1024;
+
+/** The checkout's problem folder (ARCWATCH_PROBLEMS, default ./problems). */
+export function libraryProblemsDir(): string {
+  return path.resolve(process.env.ARCWATCH_PROBLEMS ?? "problems");
+}
+
+/**
+ * Where problems added in the browser are written: ARCWATCH_UPLOADED_PROBLEMS, default the
+ * folder `problems/` beside the database file. The runner uses the same default (from its --db).
+ */
+export function uploadedProblemsDir(): string {
+  if (process.env.ARCWATCH_UPLOADED_PROBLEMS) return path.resolve(process.env.ARCWATCH_UPLOADED_PROBLEMS);
+  const db = databasePath();
+  return path.resolve(db === ":memory:" ? "data" : path.dirname(db), "problems");
+}
+
+export type ProblemOrigin = "library" | "uploaded";
+
+/** Compiles a problem by id from the checkout first, then from the uploaded folder. */
+export function loadAnyProblem(id: string): { origin: ProblemOrigin; result: ReturnType<typeof loadProblemById> } | null {
+  if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) return null;
+  const lib = libraryProblemsDir();
+  if (fs.existsSync(path.join(lib, id, "problem.json"))) return { origin: "library", result: loadProblemById(id, lib) };
+  const up = uploadedProblemsDir();
+  if (fs.existsSync(path.join(up, id, "problem.json"))) return { origin: "uploaded", result: loadProblemById(id, up) };
+  return null;
+}
+
+function folderIds(dir: string): string[] {
+  try {
+    return fs
+      .readdirSync(dir)
+      .filter((n) => !n.startsWith(".") && fs.existsSync(path.join(dir, n, "problem.json")))
+      .sort();
+  } catch {
+    return [];
+  }
+}
+
+export interface ProvenanceLine {
+  quantity: string;
+  kind: string;
+  text: string;
+}
+
+function provenanceText(p: Provenance): string {
+  const parts = [("citation" in p && p.citation) || "", p.detail ?? ""].filter(Boolean);
+  if (p.kind === "shooting" && p.residual !== undefined) parts.push(`residual ${p.residual.toExponential(1)}`);
+  return parts.join(" — ");
+}
+
+export function referenceProvenance(p: CompiledProblem): ProvenanceLine[] {
+  const r = p.reference;
+  const out: ProvenanceLine[] = [];
+  const add = (quantity: string, prov: Provenance | undefined) => {
+    if (prov) out.push({ quantity, kind: prov.kind, text: provenanceText(prov) });
+  };
+  add("objective", r.objective?.provenance);
+  add("final time", r.finalTime?.provenance);
+  add("switching times", r.switchingTimes?.provenance);
+  add("trajectory", r.trajectory?.provenance);
+  return out;
+}
+
+export interface SchemeState {
+  cases: number;
+  solved: number;
+  /** Smallest relative objective error among the solved cases. */
+  bestErrorRel: number | null;
+  runId: string;
+  commitHash: string;
+}
+
+export interface LibraryEntry {
+  id: string;
+  title: string;
+  tags: string[];
+  origin: ProblemOrigin;
+  provenance: ProvenanceLine[];
+  /** Compile errors (formatted) when the problem does not load. */
+  error: string | null;
+  /** Per scheme: the latest run on main that solved this problem with it. */
+  schemes: Partial<Record<string, SchemeState>>;
+}
+
+/** Latest run on main per (problem, scheme): case counts, solved counts, best relative error. */
+function schemeStatesOnMain(db: Db, problemId?: string): Map<string, Partial<Record<string, SchemeState>>> {
+  const rows = db
+    .select({
+      problemId: caseResults.problemId,
+      scheme: caseResults.scheme,
+      status: caseResults.status,
+      err: caseResults.objectiveErrorRel,
+      runId: runs.id,
+      commitHash: runs.commitHash,
+      startedAt: runs.startedAt,
+    })
+    .from(caseResults)
+    .innerJoin(runs, eq(runs.id, caseResults.runId))
+    .where(and(eq(runs.branch, "main"), problemId ? eq(caseResults.problemId, problemId) : sql`1 = 1`))
+    .orderBy(desc(runs.startedAt))
+    .all();
+  const out = new Map<string, Partial<Record<string, SchemeState>>>();
+  for (const r of rows) {
+    let per = out.get(r.problemId);
+    if (!per) out.set(r.problemId, (per = {}));
+    let s = per[r.scheme];
+    if (!s) per[r.scheme] = s = { cases: 0, solved: 0, bestErrorRel: null, runId: r.runId, commitHash: r.commitHash };
+    if (s.runId !== r.runId) continue; // an older run
+    s.cases++;
+    if (isSolved(r.status)) {
+      s.solved++;
+      if (r.err !== null && (s.bestErrorRel === null || r.err < s.bestErrorRel)) s.bestErrorRel = r.err;
+    }
+  }
+  return out;
+}
+
+function formatErrors(errors: ProblemError[]): string {
+  return errors
+    .slice(0, 3)
+    .map((e) => `${e.path ? `${e.path}: ` : ""}${e.message}`)
+    .join("; ");
+}
+
+/** Every problem of the checkout and every uploaded one (a checkout problem wins on a shared id). */
+export function listProblemLibrary(db: Db, filter: { tag?: string; q?: string } = {}): LibraryEntry[] {
+  const states = schemeStatesOnMain(db);
+  const lib = folderIds(libraryProblemsDir());
+  const up = folderIds(uploadedProblemsDir()).filter((id) => !lib.includes(id));
+  const entries: LibraryEntry[] = [];
+  for (const id of [...lib, ...up]) {
+    const loaded = loadAnyProblem(id);
+    if (!loaded) continue;
+    const r = loaded.result;
+    const base = { id, origin: loaded.origin, schemes: states.get(id) ?? {} };
+    if (r.ok) entries.push({ ...base, title: r.problem.title, tags: r.problem.tags, provenance: referenceProvenance(r.problem), error: null });
+    else entries.push({ ...base, title: id, tags: [], provenance: [], error: formatErrors(r.errors) });
+  }
+  const q = filter.q?.trim().toLowerCase();
+  return entries.filter((e) => (!filter.tag || e.tags.includes(filter.tag)) && (!q || e.id.includes(q) || e.title.toLowerCase().includes(q)));
+}
+
+export interface BestResult {
+  scheme: string;
+  caseId: number;
+  intervals: number;
+  degree: number | null;
+  errorRel: number | null;
+  medianSeconds: number | null;
+  commitHash: string;
+  runId: string;
+}
+
+/** Per scheme, the solved case on main with the smallest relative objective error (ties: faster). */
+export function bestResultsPerScheme(db: Db, problemId: string): BestResult[] {
+  const rows = db
+    .select({
+      id: caseResults.id,
+      scheme: caseResults.scheme,
+      status: caseResults.status,
+      intervals: caseResults.intervals,
+      degree: caseResults.degree,
+      err: caseResults.objectiveErrorRel,
+      med: caseResults.medianSeconds,
+      commitHash: runs.commitHash,
+      runId: runs.id,
+    })
+    .from(caseResults)
+    .innerJoin(runs, eq(runs.id, caseResults.runId))
+    .where(and(eq(caseResults.problemId, problemId), eq(runs.branch, "main")))
+    .all();
+  const best = new Map<string, BestResult>();
+  for (const r of rows) {
+    if (!isSolved(r.status)) continue;
+    const cur = best.get(r.scheme);
+    const e = r.err ?? Infinity;
+    const ce = cur ? (cur.errorRel ?? Infinity) : Infinity;
+    if (!cur || e < ce || (e === ce && (r.med ?? Infinity) < (cur.medianSeconds ?? Infinity))) {
+      best.set(r.scheme, { scheme: r.scheme, caseId: r.id, intervals: r.intervals, degree: r.degree, errorRel: r.err, medianSeconds: r.med, commitHash: r.commitHash, runId: r.runId });
+    }
+  }
+  return SCHEMES.filter((s) => best.has(s)).map((s) => best.get(s)!);
+}
+
+export interface BoundRow {
+  name: string;
+  kind: "state" | "control" | "path";
+  unit: string;
+  lower: number | null;
+  upper: number | null;
+  tex?: string;
+}
+
+export interface ProblemDetail {
+  id: string;
+  origin: ProblemOrigin;
+  title: string;
+  description: string;
+  tags: string[];
+  versionHash: string;
+  sense: "min" | "max";
+  horizon: CompiledProblem["horizon"];
+  /** TeX per JSON path of the file ("dynamics.v", "path[0].expr", "objective.terminal", ...). */
+  tex: Record<string, string>;
+  stateNames: string[];
+  controlNames: string[];
+  constants: { name: string; value: number }[];
+  bounds: BoundRow[];
+  reference: {
+    objective: { value: number; tolerance: number } | null;
+    finalTime: { value: number; tolerance: number } | null;
+    switchingTimes: number[] | null;
+    arcs: string[] | null;
+    trajectoryPoints: number | null;
+  };
+  provenance: ProvenanceLine[];
+  warnings: string[];
+  best: BestResult[];
+  versions: { id: number; contentHash: string; createdAt: number; results: number }[];
+  states: Partial<Record<string, SchemeState>>;
+}
+
+const finite = (v: number) => (Number.isFinite(v) ? v : null);
+
+export function getProblemDetail(db: Db, id: string): { ok: true; detail: ProblemDetail } | { ok: false; status: 404 | 422; message: string } {
+  const loaded = loadAnyProblem(id);
+  if (!loaded) return { ok: false, status: 404, message: `No problem '${id.slice(0, 80)}' in the library.` };
+  if (!loaded.result.ok) return { ok: false, status: 422, message: `The problem file does not compile: ${formatErrors(loaded.result.errors)}` };
+  const p = loaded.result.problem;
+  const versions = db
+    .select({ id: problemVersions.id, contentHash: problemVersions.contentHash, createdAt: problemVersions.createdAt })
+    .from(problemVersions)
+    .where(eq(problemVersions.problemId, id))
+    .orderBy(desc(problemVersions.createdAt), desc(problemVersions.id))
+    .all();
+  const counts = new Map(
+    db
+      .select({ hash: caseResults.problemVersionHash, n: sql<number>`count(*)` })
+      .from(caseResults)
+      .where(eq(caseResults.problemId, id))
+      .groupBy(caseResults.problemVersionHash)
+      .all()
+      .map((r) => [r.hash, Number(r.n)]),
+  );
+  const r = p.reference;
+  const detail: ProblemDetail = {
+    id,
+    origin: loaded.origin,
+    title: p.title,
+    description: p.description,
+    tags: p.tags,
+    versionHash: p.versionHash,
+    sense: p.sense,
+    horizon: p.horizon,
+    tex: p.symbolic.tex,
+    stateNames: p.states.map((s) => s.name),
+    controlNames: p.controls.map((c) => c.name),
+    constants: Object.entries(p.constants).map(([name, value]) => ({ name, value })),
+    bounds: [
+      ...p.states.map((s) => ({ name: s.name, kind: "state" as const, unit: s.unit, lower: finite(s.lower), upper: finite(s.upper) })),
+      ...p.controls.map((c) => ({ name: c.name, kind: "control" as const, unit: c.unit, lower: finite(c.lower), upper: finite(c.upper) })),
+      ...p.pathInfo.map((c, k) => ({ name: c.name, kind: "path" as const, unit: "", lower: finite(c.lower), upper: finite(c.upper), tex: p.symbolic.tex[`path[${k}].expr`] })),
+    ],
+    reference: {
+      objective: r.objective ? { value: r.objective.value, tolerance: r.objective.tolerance } : null,
+      finalTime: r.finalTime ? { value: r.finalTime.value, tolerance: r.finalTime.tolerance } : null,
+      switchingTimes: r.switchingTimes?.values ?? null,
+      arcs: r.arcs ?? null,
+      trajectoryPoints: r.trajectory ? r.trajectory.t.length : null,
+    },
+    provenance: referenceProvenance(p),
+    warnings: p.warnings,
+    best: bestResultsPerScheme(db, id),
+    versions: versions.map((v) => ({ id: v.id, contentHash: v.contentHash, createdAt: new Date(v.createdAt).getTime(), results: counts.get(v.contentHash) ?? 0 })),
+    states: schemeStatesOnMain(db, id).get(id) ?? {},
+  };
+  if (!versions.some((v) => v.contentHash === p.versionHash)) {
+    detail.versions.unshift({ id: 0, contentHash: p.versionHash, createdAt: 0, results: counts.get(p.versionHash) ?? 0 });
+  }
+  return { ok: true, detail };
+}
+
+/** The files of an uploaded problem (for editing); null for checkout problems and unknown ids. */
+export function uploadedProblemFiles(id: string): ProblemSourceFiles | null {
+  if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) return null;
+  if (fs.existsSync(path.join(libraryProblemsDir(), id, "problem.json"))) return null;
+  const dir = path.join(uploadedProblemsDir(), id);
+  try {
+    const problemJson = fs.readFileSync(path.join(dir, "problem.json"), "utf8");
+    const ref = path.join(dir, "reference.csv");
+    return fs.existsSync(ref) ? { problemJson, referenceCsv: fs.readFileSync(ref, "utf8") } : { problemJson };
+  } catch {
+    return null;
+  }
+}
+
+export function isLibraryProblem(id: string): boolean {
+  return PROBLEM_ID_PATTERN.test(id) && fs.existsSync(path.join(libraryProblemsDir(), id, "problem.json"));
+}
+
+export type SaveOutcome =
+  | { ok: true; id: string; versionHash: string; newVersion: boolean }
+  | { ok: false; errors: ProblemError[]; idError?: string };
+
+function writeAtomic(file: string, text: string) {
+  const tmp = `${file}.${process.pid}.${Date.now()}.tmp`;
+  fs.writeFileSync(tmp, text);
+  fs.renameSync(tmp, file);
+}
+
+/**
+ * Saves an added or edited problem: compiles it (refusing any error), writes its files to the
+ * uploaded-problems folder (the runner's library from the next run on), upserts the problem row
+ * and adds a problem version keyed by content hash. Results already recorded keep pointing at the
+ * version hash they solved, so an edit never rewrites them.
+ */
+export function saveUploadedProblem(db: Db, id: string, files: ProblemSourceFiles, mode: "create" | "edit"): SaveOutcome {
+  if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) return { ok: false, errors: [], idError: "Letters, digits, '-', '_' and '.', starting with a letter or digit (at most 128)." };
+  if (isLibraryProblem(id)) return { ok: false, errors: [], idError: `'${id}' is a problem of the checkout's library (edit it in git).` };
+  const dir = path.join(uploadedProblemsDir(), id);
+  const exists = fs.existsSync(path.join(dir, "problem.json"));
+  if (mode === "create" && exists) return { ok: false, errors: [], idError: `A problem '${id}' already exists: open it and choose Edit.` };
+  if (mode === "edit" && !exists) return { ok: false, errors: [], idError: `No added problem '${id}' to edit.` };
+  const compiled = compileProblemSource(id, files, `${id}/problem.json`);
+  if (!compiled.ok) return { ok: false, errors: compiled.errors };
+  const p = compiled.problem;
+  fs.mkdirSync(dir, { recursive: true });
+  writeAtomic(path.join(dir, "problem.json"), files.problemJson);
+  const refFile = path.join(dir, "reference.csv");
+  if (files.referenceCsv !== undefined) writeAtomic(refFile, files.referenceCsv);
+  else if (fs.existsSync(refFile)) fs.rmSync(refFile);
+  let newVersion = false;
+  db.transaction((tx) => {
+    tx.insert(problems)
+      .values({ id, title: p.title, description: p.description, tagsJson: p.tags })
+      .onConflictDoUpdate({ target: problems.id, set: { title: p.title, description: p.description, tagsJson: p.tags, updatedAt: new Date() } })
+      .run();
+    const r = tx.insert(problemVersions).values({ problemId: id, contentHash: p.versionHash, json: files.problemJson }).onConflictDoNothing().run();
+    newVersion = r.changes > 0;
+  });
+  return { ok: true, id, versionHash: p.versionHash, newVersion };
+}
+
+// ---------------------------------------------------------------------------------------
+// Submissions of the add / edit form (upload or builder) and the trial solve
+// ---------------------------------------------------------------------------------------
+
+export type SubmissionMode = "upload" | "form";
+
+export interface Submission {
+  mode: SubmissionMode;
+  id: string;
+  files: ProblemSourceFiles | null;
+  /** What was typed (and the text of uploaded files), to put back into the form. */
+  values: Record<string, string>;
+  /** Errors by field name ("form" for the whole form). */
+  errors: Record<string, string>;
+}
+
+const JSON_TYPES = new Set(["application/json", "text/json", "text/plain", "application/octet-stream", ""]);
+const CSV_TYPES = new Set(["text/csv", "application/csv", "application/vnd.ms-excel", "text/plain", "application/octet-stream", ""]);
+
+/** Reads an uploaded file field, checking name, type and size; null when none was chosen. */
+async function readUpload(value: FormDataEntryValue | null, ext: ".json" | ".csv", types: Set<string>, max: number): Promise<{ text: string } | { error: string } | null> {
+  if (value === null || typeof value === "string") return null;
+  if (value.size === 0 && !value.name) return null;
+  if (!value.name.toLowerCase().endsWith(ext)) return { error: `Choose a ${ext} file (got '${value.name.slice(0, 60)}').` };
+  if (!types.has(value.type)) return { error: `'${value.name.slice(0, 60)}' has type ${value.type}, not a ${ext.slice(1).toUpperCase()} text file.` };
+  if (value.size > max) return { error: `'${value.name.slice(0, 60)}' is ${(value.size / 1024).toFixed(0)} KiB; the limit is ${(max / 1024).toFixed(0)} KiB.` };
+  const bytes = new Uint8Array(await value.arrayBuffer());
+  try {
+    return { text: new TextDecoder("utf-8", { fatal: true }).decode(bytes) };
+  } catch {
+    return { error: `'${value.name.slice(0, 60)}' is not UTF-8 text.` };
+  }
+}
+
+/**
+ * Reads the add / edit form (multipart or url-encoded). Upload mode takes problem.json and
+ * reference.csv from file fields (they win) or from the text areas; form mode builds the JSON
+ * from the builder fields. Compiles the result and puts each error at its field.
+ */
+export async function readProblemSubmission(form: FormData, fixedId?: string): Promise<Submission> {
+  const mode: SubmissionMode = form.get("mode") === "form" ? "form" : "upload";
+  const str = (k: string) => {
+    const v = form.get(k);
+    return typeof v === "string" ? v : "";
+  };
+  const id = fixedId ?? str("id").trim();
+  const values: Record<string, string> = { mode, id };
+  const errors: Record<string, string> = {};
+  if (!id) errors.id = "Enter an id (it names the problem's folder).";
+  else if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) errors.id = "Letters, digits, '-', '_' and '.', starting with a letter or digit (at most 128).";
+  let files: ProblemSourceFiles | null = null;
+  if (mode === "upload") {
+    values.problemJson = str("problemJson");
+    values.referenceCsv = str("referenceCsv");
+    const pj = await readUpload(form.get("problemFile"), ".json", JSON_TYPES, MAX_PROBLEM_UPLOAD_BYTES);
+    const rc = await readUpload(form.get("referenceFile"), ".csv", CSV_TYPES, MAX_REFERENCE_UPLOAD_BYTES);
+    if (pj && "error" in pj) errors.problemJson = pj.error;
+    else if (pj) values.problemJson = pj.text;
+    if (rc && "error" in rc) errors.referenceCsv = rc.error;
+    else if (rc) values.referenceCsv = rc.text;
+    if (values.problemJson.length > MAX_PROBLEM_UPLOAD_BYTES) errors.problemJson ??= `The problem file is over ${MAX_PROBLEM_UPLOAD_BYTES / 1024} KiB.`;
+    if (values.referenceCsv.length > MAX_REFERENCE_UPLOAD_BYTES) errors.referenceCsv ??= `The reference file is over ${MAX_REFERENCE_UPLOAD_BYTES / 1024} KiB.`;
+    if (!values.problemJson.trim()) errors.problemJson ??= "Choose a problem.json file or paste its text.";
+    if (!errors.problemJson && !errors.referenceCsv) {
+      files = { problemJson: values.problemJson };
+      if (values.referenceCsv.trim()) files.referenceCsv = values.referenceCsv;
+    }
+  } else {
+    for (const k of BUILDER_FIELDS) if (k !== "id") values[k] = str(k);
+    const built = buildProblemJson({ ...(values as Record<(typeof BUILDER_FIELDS)[number], string>), id });
+    if (!built.ok) Object.assign(errors, built.errors);
+    else files = { problemJson: `${JSON.stringify(built.json, null, 2)}\n` };
+    values.problemJson = files?.problemJson ?? "";
+  }
+  if (files) {
+    const compiled = compileProblemSource(id || "new-problem", files, `${id || "new-problem"}/problem.json`);
+    if (!compiled.ok) {
+      const byField: Record<string, string> = mode === "upload" ? errorsByField(compiled.errors, uploadFieldOf) : errorsByField(compiled.errors, builderFieldOf);
+      for (const [k, v] of Object.entries(byField)) errors[k] = errors[k] ? `${errors[k]}\n${v}` : v;
+      files = null;
+    }
+  }
+  return { mode, id, files: Object.keys(errors).length ? null : files, values, errors };
+}
+
+export interface TrialResult {
+  scheme: string;
+  intervals: number;
+  status: string;
+  message: string;
+  objective: number | null;
+  finalTime: number | null;
+  iterations: number;
+  solveSeconds: number;
+  errorRel: number | null;
+  states: { t: number[]; columns: Record<string, number[]> } | null;
+  controls: { t: number[]; columns: Record<string, number[]> } | null;
+  reference: { t: number[]; columns: Record<string, number[]> } | null;
+  stateNames: string[];
+  controlNames: string[];
+}
+
+/** Largest mesh a trial solve may use (it runs inside a web request). */
+export const TRIAL_MAX_INTERVALS = 60;
+/** Wall-clock limit of a trial solve (seconds). */
+export const TRIAL_MAX_SECONDS = 20;
+
+/** One modest solve of a submitted problem before it is saved (never throws for a solver failure). */
+export async function trialSolve(files: ProblemSourceFiles, id: string, scheme: SchemeName, intervals: number): Promise<TrialResult | { error: string }> {
+  const compiled = compileProblemSource(id || "new-problem", files);
+  if (!compiled.ok) return { error: "The problem does not compile." };
+  const p = compiled.problem;
+  const n = Math.max(2, Math.min(TRIAL_MAX_INTERVALS, Math.round(intervals) || 20));
+  const report = solveProblem(p, scheme, { intervals: n, ...(scheme === "lgr" ? { degree: p.defaults?.degree ?? 4 } : {}) }, { nlp: { maxSeconds: TRIAL_MAX_SECONDS, maxIter: 500 } });
+  const tr = report.trajectory;
+  const ref = p.reference.trajectory;
+  return {
+    scheme,
+    intervals: n,
+    status: report.status,
+    message: report.message,
+    objective: report.objective,
+    finalTime: report.finalTime,
+    iterations: report.iterations,
+    solveSeconds: report.solveSeconds,
+    errorRel: report.errors.objectiveRel,
+    states: tr ? { t: tr.t, columns: tr.states } : null,
+    controls: tr ? { t: tr.tu, columns: tr.controls } : null,
+    reference: ref ? { t: Array.from(ref.t), columns: Object.fromEntries(Object.entries(ref.columns).map(([k, v]) => [k, Array.from(v)])) } : null,
+    stateNames: p.states.map((s) => s.name),
+    controlNames: p.controls.map((c) => c.name),
+  };
+}
+
+/** The builder's fields are not kept for a saved problem; editing starts from its files (upload mode). */
+export function editValues(id: string): Record<string, string> | null {
+  const files = uploadedProblemFiles(id);
+  if (!files) return null;
+  return { mode: "upload", id, problemJson: files.problemJson, referenceCsv: files.referenceCsv ?? "" };
+}
+
+/** Reads `{ id, problemJson, referenceCsv? }` (JSON) or the add form's fields (form data) into FormData. */
+export async function submissionForm(request: Request): Promise<FormData | Response> {
+  const type = request.headers.get("content-type") ?? "";
+  if (!type.includes("application/json")) return request.formData();
+  const text = await request.text();
+  if (text.length > MAX_PROBLEM_UPLOAD_BYTES + MAX_REFERENCE_UPLOAD_BYTES + 4096) return Response.json({ error: "Request body too large." }, { status: 413 });
+  let body: unknown;
+  try {
+    body = JSON.parse(text);
+  } catch {
+    return Response.json({ error: "The body is not valid JSON." }, { status: 400 });
+  }
+  const b = (body ?? {}) as Record<string, unknown>;
+  const form = new FormData();
+  form.set("mode", "upload");
+  if (typeof b.id === "string") form.set("id", b.id);
+  form.set("problemJson", typeof b.problemJson === "string" ? b.problemJson : b.problem !== undefined ? JSON.stringify(b.problem, null, 2) : "");
+  if (typeof b.referenceCsv === "string") form.set("referenceCsv", b.referenceCsv);
+  return form;
+}
+

@@ -1,0 +1,28 @@
+import type { Route } from "./+types/problems";
+import { errorsByField, uploadFieldOf } from "~/components/problems/form-model";
+import { getDb } from "~/db/client.server";
+import { listProblemLibrary, readProblemSubmission, saveUploadedProblem, submissionForm } from "~/models/problems.server";
+import { requireRole, requireUser } from "~/services/auth.server";
+
+/** GET /api/problems[?tag=&q=] (viewer or token): the library with tags, provenance and each scheme's state on main. */
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireUser(request);
+  const url = new URL(request.url);
+  return Response.json({ problems: listProblemLibrary(getDb(), { tag: url.searchParams.get("tag") ?? undefined, q: url.searchParams.get("q") ?? undefined }) });
+}
+
+/**
+ * POST /api/problems (engineer): adds a problem. JSON `{ id, problemJson | problem, referenceCsv? }`
+ * or the add form's multipart fields. 201 `{ id, versionHash }`; 400 `{ errors }` by field
+ * (problemJson / referenceCsv / id), each with JSON path and column.
+ */
+export async function action({ request }: Route.ActionArgs) {
+  await requireRole(request, "engineer");
+  const form = await submissionForm(request);
+  if (form instanceof Response) return form;
+  const sub = await readProblemSubmission(form);
+  if (!sub.files) return Response.json({ errors: sub.errors }, { status: 400 });
+  const saved = saveUploadedProblem(getDb(), sub.id, sub.files, "create");
+  if (!saved.ok) return Response.json({ errors: { ...errorsByField(saved.errors, uploadFieldOf), ...(saved.idError ? { id: saved.idError } : {}) } }, { status: saved.idError?.includes("already exists") ? 409 : 400 });
+  return Response.json({ id: saved.id, versionHash: saved.versionHash }, { status: 201 });
+}

@@ -1,0 +1,226 @@
+import { data, Link } from "react-router";
+import type { Route } from "./+types/problems.$id";
+import { RouteErrorBoundary } from "~/components/ErrorView";
+import { formatError, SchemeStateCell } from "~/components/problems/SchemeState";
+import { Tex } from "~/components/Tex";
+import { getDb } from "~/db/client.server";
+import { getProblemDetail } from "~/models/problems.server";
+import { SCHEMES } from "~/components/problems/schemes";
+import { requireUser } from "~/services/auth.server";
+import { roleAtLeast } from "~/services/roles";
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.title ?? "Problem"} · Arcwatch` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  const r = getProblemDetail(getDb(), params.id);
+  if (!r.ok) throw data({ message: r.message }, { status: r.status });
+  return { detail: r.detail, canEdit: roleAtLeast(user.role, "engineer") && r.detail.origin === "uploaded" };
+}
+
+const bound = (v: number | null) => (v === null ? "—" : String(v));
+const when = (ms: number) => (ms ? new Date(ms).toISOString().replace("T", " ").slice(0, 16) : "not yet saved");
+
+export default function ProblemPage({ loaderData }: Route.ComponentProps) {
+  const { detail: d, canEdit } = loaderData;
+  const tex = d.tex;
+  const dyn = d.stateNames.filter((s) => tex[`dynamics.${s}`] !== undefined);
+  const inter = Object.keys(tex).filter((k) => k.startsWith("intermediates."));
+  const objective = [tex["objective.terminal"], tex["objective.running"] ? `\\int_{t_0}^{t_f} ${tex["objective.running"]}\\,dt` : undefined].filter(Boolean).join(" + ");
+  return (
+    <div className="space-y-8">
+      <div className="flex flex-wrap items-start justify-between gap-4">
+        <div className="max-w-3xl space-y-2">
+          <p className="text-sm text-muted">
+            <Link to="/problems" className="hover:underline">
+              Problem library
+            </Link>{" "}
+            / <span className="num">{d.id}</span>
+          </p>
+          <h1 className="text-3xl font-semibold tracking-tight">{d.title}</h1>
+          <p className="text-muted">{d.description}</p>
+          <div className="flex flex-wrap gap-1">
+            {d.tags.map((t) => (
+              <Link key={t} to={`/problems?tag=${encodeURIComponent(t)}`} className="rounded bg-raised px-1.5 py-0.5 text-xs">
+                {t}
+              </Link>
+            ))}
+          </div>
+        </div>
+        <div className="flex gap-2">
+          <Link className="btn-quiet" to={`/compare?problem=${encodeURIComponent(d.id)}`}>
+            Compare schemes
+          </Link>
+          {canEdit ? (
+            <Link className="btn" to={`/problems/${d.id}/edit`}>
+              Edit (new version)
+            </Link>
+          ) : null}
+        </div>
+      </div>
+
+      <section className="card space-y-3 p-5" data-testid="equations">
+        <h2 className="text-lg font-semibold">Equations</h2>
+        <p>
+          <Tex tex={`\\${d.sense === "max" ? "max" : "min"}\\; J = ${objective || "0"}`} display />
+        </p>
+        {inter.map((k) => (
+          <p key={k}>
+            <Tex tex={`${k.slice("intermediates.".length)} = ${tex[k]}`} display />
+          </p>
+        ))}
+        {dyn.map((s) => (
+          <p key={s}>
+            <Tex tex={`\\dot{${s.length === 1 ? s : `\\mathrm{${s}}`}} = ${tex[`dynamics.${s}`]}`} display />
+          </p>
+        ))}
+        <p className="text-sm text-muted">
+          Horizon: t₀ = {d.horizon.t0},{" "}
+          {d.horizon.kind === "fixed" ? `t_f = ${d.horizon.tf} (fixed)` : `t_f free in [${d.horizon.lower}, ${d.horizon.upper}]`}
+        </p>
+      </section>
+
+      <div className="grid gap-6 lg:grid-cols-2">
+        <section className="card p-5">
+          <h2 className="mb-3 text-lg font-semibold">Constants</h2>
+          {d.constants.length === 0 ? (
+            <p className="text-muted">None.</p>
+          ) : (
+            <table className="text-sm" data-testid="constants">
+              <tbody>
+                {d.constants.map((c) => (
+                  <tr key={c.name}>
+                    <td className="num pr-6">{c.name}</td>
+                    <td className="num">{c.value}</td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          )}
+        </section>
+        <section className="card p-5">
+          <h2 className="mb-3 text-lg font-semibold">Bounds</h2>
+          <table className="w-full text-sm" data-testid="bounds">
+            <thead className="text-muted">
+              <tr>
+                <th className="text-left font-medium">name</th>
+                <th className="text-left font-medium">kind</th>
+                <th className="text-right font-medium">lower</th>
+                <th className="text-right font-medium">upper</th>
+              </tr>
+            </thead>
+            <tbody>
+              {d.bounds.map((b) => (
+                <tr key={`${b.kind}-${b.name}`}>
+                  <td className="num">
+                    {b.name}
+                    {b.tex ? (
+                      <span className="ml-2">
+                        <Tex tex={b.tex} />
+                      </span>
+                    ) : null}
+                  </td>
+                  <td className="text-muted">
+                    {b.kind}
+                    {b.unit ? ` (${b.unit})` : ""}
+                  </td>
+                  <td className="num text-right">{bound(b.lower)}</td>
+                  <td className="num text-right">{bound(b.upper)}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </section>
+      </div>
+
+      <section className="card space-y-3 p-5" data-testid="references">
+        <h2 className="text-lg font-semibold">References</h2>
+        <ul className="space-y-1 text-sm">
+          {d.reference.objective ? (
+            <li>
+              objective J* = <span className="num">{d.reference.objective.value}</span> ± <span className="num">{d.reference.objective.tolerance}</span>
+            </li>
+          ) : null}
+          {d.reference.finalTime ? (
+            <li>
+              final time t_f* = <span className="num">{d.reference.finalTime.value}</span> ± <span className="num">{d.reference.finalTime.tolerance}</span>
+            </li>
+          ) : null}
+          {d.reference.switchingTimes ? <li>switching times: <span className="num">{d.reference.switchingTimes.join(", ")}</span></li> : null}
+          {d.reference.arcs ? <li>arcs: {d.reference.arcs.join(" → ")}</li> : null}
+          {d.reference.trajectoryPoints ? <li>trajectory: {d.reference.trajectoryPoints} points</li> : null}
+        </ul>
+        <h3 className="font-medium">Provenance</h3>
+        <ul className="space-y-1 text-sm">
+          {d.provenance.map((p) => (
+            <li key={p.quantity} data-provenance={p.quantity}>
+              <span className="text-muted">{p.quantity}:</span> <strong>{p.kind}</strong>
+              {p.text ? ` — ${p.text}` : ""}
+            </li>
+          ))}
+        </ul>
+        {d.warnings.length ? (
+          <details className="text-sm text-muted">
+            <summary>{d.warnings.length} compiler warning(s)</summary>
+            <ul>
+              {d.warnings.map((w) => (
+                <li key={w}>{w}</li>
+              ))}
+            </ul>
+          </details>
+        ) : null}
+      </section>
+
+      <section className="card overflow-x-auto p-5">
+        <h2 className="mb-3 text-lg font-semibold">Best result per scheme on main</h2>
+        <table className="w-full text-left text-sm" data-testid="best-results">
+          <thead className="text-muted">
+            <tr>
+              <th className="font-medium">scheme</th>
+              <th className="font-medium">latest run</th>
+              <th className="font-medium">best mesh</th>
+              <th className="text-right font-medium">rel. objective error</th>
+              <th className="text-right font-medium">median time</th>
+              <th className="font-medium">commit</th>
+            </tr>
+          </thead>
+          <tbody>
+            {SCHEMES.map((s) => {
+              const b = d.best.find((x) => x.scheme === s);
+              return (
+                <tr key={s} className="border-t border-line" data-best={s}>
+                  <td className="py-2">{s}</td>
+                  <td className="py-2">
+                    <SchemeStateCell state={d.states[s]} />
+                  </td>
+                  <td className="num py-2">{b ? `${b.intervals}${b.degree ? `×${b.degree}` : ""}` : "—"}</td>
+                  <td className="num py-2 text-right">{b ? formatError(b.errorRel) : "—"}</td>
+                  <td className="num py-2 text-right">{b?.medianSeconds != null ? `${(b.medianSeconds * 1000).toFixed(1)} ms` : "—"}</td>
+                  <td className="num py-2">{b ? <Link to={`/cases/${b.caseId}`} className="hover:underline">{b.commitHash.slice(0, 10)}</Link> : ""}</td>
+                </tr>
+              );
+            })}
+          </tbody>
+        </table>
+      </section>
+
+      <section className="card p-5">
+        <h2 className="mb-3 text-lg font-semibold">Versions</h2>
+        <table className="text-sm" data-testid="versions">
+          <tbody>
+            {d.versions.map((v) => (
+              <tr key={v.contentHash} data-version={v.contentHash}>
+                <td className="num pr-6">{v.contentHash.slice(0, 12)}</td>
+                <td className="num pr-6 text-muted">{when(v.createdAt)}</td>
+                <td className="pr-6">{v.results} result(s)</td>
+                <td className="text-muted">{v.contentHash === d.versionHash ? "current" : ""}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      </section>
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteErrorBoundary;

@@ -1,0 +1,51 @@
+import { data, Link, redirect } from "react-router";
+import type { Route } from "./+types/problems.new";
+import { RouteErrorBoundary } from "~/components/ErrorView";
+import { ProblemEditor } from "~/components/problems/ProblemEditor";
+import { getDb } from "~/db/client.server";
+import { readProblemSubmission, saveUploadedProblem } from "~/models/problems.server";
+import { errorsByField, uploadFieldOf, builderFieldOf } from "~/components/problems/form-model";
+import { requireRole } from "~/services/auth.server";
+
+export const meta: Route.MetaFunction = () => [{ title: "Add a problem · Arcwatch" }];
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, "engineer");
+  return null;
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  await requireRole(request, "engineer");
+  const sub = await readProblemSubmission(await request.formData());
+  if (!sub.files) return data({ errors: sub.errors, values: sub.values }, { status: 400 });
+  const saved = saveUploadedProblem(getDb(), sub.id, sub.files, "create");
+  if (!saved.ok) {
+    const errors: Record<string, string> = { ...(sub.mode === "upload" ? errorsByField(saved.errors, uploadFieldOf) : errorsByField(saved.errors, builderFieldOf)) };
+    if (saved.idError) errors.id = saved.idError;
+    return data({ errors, values: sub.values }, { status: 400 });
+  }
+  return redirect(`/problems/${saved.id}?saved=${saved.versionHash.slice(0, 12)}`);
+}
+
+export default function NewProblem({ actionData }: Route.ComponentProps) {
+  return (
+    <div className="space-y-6">
+      <div>
+        <p className="text-sm text-muted">
+          <Link to="/problems" className="hover:underline">
+            Problem library
+          </Link>{" "}
+          / add
+        </p>
+        <h1 className="text-3xl font-semibold tracking-tight">Add a reference problem</h1>
+        <p className="max-w-3xl text-muted">
+          Upload a problem file (format arcwatch-problem/1, see DEVELOPERS.md) with an optional reference trajectory, or build one with the form. Run a trial solve before saving.
+          Saving creates the first version; suites that select the problem's tags include it from their next run on.
+        </p>
+      </div>
+      <ProblemEditor values={actionData?.values ?? { mode: "upload" }} errors={actionData?.errors ?? {}} saveLabel="Save problem" />
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteErrorBoundary;
