@@ -169,7 +169,7 @@ describe("hostile expressions", () => {
           for (const e of r.errors) expect(e.message).not.toMatch(/internal compiler error/);
         }
       }),
-      { numRuns: 3000 },
+      { numRuns: Number(process.env.FUZZ_RUNS ?? 3000) },
     );
   });
 });
