@@ -9,6 +9,7 @@
  * derivatives are large (sin((2πx)²)...) the truncation error is estimated by Richardson's
  * argument: D(h) − f′ ≈ (D(2h) − D(h))/3. Tolerance:
  *   |D(h) − exact| ≤ 1e-6·(1 + |exact| + max|f|) + |D(2h) − D(h)|.
+ * More cases: DERIV_RUNS=20000 npx vitest run tests/expr/derivatives.test.ts
  */
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";

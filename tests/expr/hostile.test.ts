@@ -3,6 +3,7 @@
  * a tree and no issues, or issues and no tree; it never throws and never hangs; a tree it accepts
  * compiles, and the generated code contains only the code generator's own vocabulary (no name or
  * text from the input). Canary: inputs that would set globalThis.__arcwatchCanary if evaluated.
+ * Longer fuzzing of whole problem files: FUZZ_RUNS=20000 npx vitest run tests/expr/hostile.test.ts
  */
 import { afterAll, describe, expect, it } from "vitest";
 import fc from "fast-check";
