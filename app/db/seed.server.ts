@@ -9,6 +9,7 @@
 import type { Db } from "./client.server";
 import type { Role } from "./schema";
 import { countUsers, createUser } from "~/models/users.server";
+import { demoSeedWanted, seedDemoResults } from "./demo-seed.server";
 
 export interface Seeder {
   name: string;
@@ -31,8 +32,17 @@ export const demoAccounts: Seeder = {
   },
 };
 
+/** Real quick-suite results on this checkout plus a labelled demo history (app/db/demo-seed.server.ts). */
+export const demoResults: Seeder = {
+  name: "demo results",
+  async run(db, log) {
+    if (!demoSeedWanted(db)) return;
+    await seedDemoResults(db, { log });
+  },
+};
+
 /** Seeders in the order they run. Add new ones here. */
-export const SEEDERS: Seeder[] = [demoAccounts];
+export const SEEDERS: Seeder[] = [demoAccounts, demoResults];
 
 export async function seed(db: Db, log: (line: string) => void = () => {}): Promise<void> {
   for (const s of SEEDERS) await s.run(db, (line) => log(`[seed] ${s.name}: ${line}`));

@@ -32,6 +32,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     thresholds: listSuiteThresholds(db),
     subscriptions: listSubscriptions(db, user.id),
     choices: subscriptionChoices(db),
+    fields: THRESHOLD_KEYS.map((k) => ({ key: k, help: THRESHOLD_FIELDS[k].help })),
   };
 }
 
@@ -74,7 +75,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function Settings({ loaderData, actionData }: Route.ComponentProps) {
-  const { role, email, thresholds, subscriptions, choices } = loaderData;
+  const { role, email, thresholds, subscriptions, choices, fields } = loaderData;
   const busy = useNavigation().state === "submitting";
   const errors = (actionData?.errors ?? {}) as Errors;
   const values = (actionData?.values ?? {}) as Record<string, string>;
@@ -140,13 +141,13 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
             ))}
             <Form method="post" className="grid gap-3 md:grid-cols-3" aria-label={`Thresholds of ${s.suiteName}`}>
               <input type="hidden" name="intent" value="propose" /><input type="hidden" name="suiteName" value={s.suiteName} />
-              {THRESHOLD_KEYS.map((k) => {
+              {fields.map(({ key: k, help }) => {
                 const err = values.suiteName === s.suiteName ? errors[k] : undefined;
                 return (
                   <label key={k} className="space-y-1 text-sm">
                     <span className="font-medium num">{k}</span>
                     <input name={k} className="input num" inputMode="decimal" defaultValue={values.suiteName === s.suiteName ? values[k] : String((s.current as unknown as Record<string, unknown>)[k])} readOnly={!isEngineer} aria-invalid={err ? true : undefined} />
-                    <span className={`block text-xs ${err ? "text-bad" : "text-muted"}`}>{err ?? THRESHOLD_FIELDS[k].help}</span>
+                    <span className={`block text-xs ${err ? "text-bad" : "text-muted"}`}>{err ?? help}</span>
                   </label>
                 );
               })}

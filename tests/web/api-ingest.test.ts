@@ -1,0 +1,185 @@
+/**
+ * The JSON API over loopback against the built server: tokens and roles are checked, an
+ * uploaded run is validated, stored once however often it is posted, 50 concurrent uploads all
+ * land, and tables export as CSV.
+ */
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
+import { openDatabase, type Db } from "~/db/client.server";
+import { caseResults, runs, users } from "~/db/schema";
+import { createApiToken } from "~/services/tokens.server";
+import { loadSuite, suitePath } from "../../bench/runner/suite";
+import { PAYLOAD_FORMAT, type RunPayload } from "../../bench/runner/payload";
+import { eq, sql } from "drizzle-orm";
+
+let server: RunningServer;
+let db: Db;
+const tokens: Record<string, string> = {};
+
+const suite = loadSuite(suitePath("quick", ROOT));
+
+/** A valid arcwatch-run/1 payload with `n` cases of the quick suite's first problem. */
+function payload(n = 3, id: string = crypto.randomUUID()): RunPayload {
+  return {
+    format: PAYLOAD_FORMAT,
+    run: {
+      id,
+      commitHash: "a".repeat(40),
+      branch: "ci-upload",
+      dirty: false,
+      commitSubject: "Upload test",
+      commitAuthor: "CI <ci@arcwatch.test>",
+      commitDate: new Date("2026-11-01T10:00:00Z").toISOString(),
+      machine: { cpuModel: "Test CPU", cores: 2 },
+      machineKey: "test-machine",
+      calibrationSeconds: 0.01,
+      startedAt: new Date("2026-11-01T10:01:00Z").toISOString(),
+      finishedAt: new Date("2026-11-01T10:02:00Z").toISOString(),
+      status: "complete",
+      solverLabel: null,
+      externalRepo: null,
+    },
+    suite: { name: suite.definition.name, contentHash: suite.contentHash, definition: suite.definition, thresholds: null },
+    problems: [],
+    cases: Array.from({ length: n }, (_, i) => ({
+      caseKey: `pika-rover-dash/trapezoidal/${10 + i}`,
+      problemId: "pika-rover-dash",
+      problemVersionHash: "test-version",
+      scheme: "trapezoidal",
+      intervals: 10 + i,
+      degree: null,
+      status: "optimal",
+      objective: 1.5,
+      objectiveErrorAbs: 1e-6,
+      objectiveErrorRel: 1e-6,
+      finalTime: 2,
+      finalTimeError: null,
+      stateError: 1e-5,
+      controlError: 1e-3,
+      resimMiss: 1e-7,
+      constraintViolation: 1e-10,
+      iterations: 12,
+      medianSeconds: 0.01,
+      meanSeconds: 0.01,
+      stddevSeconds: 0.001,
+      minSeconds: 0.009,
+      samples: [0.009, 0.01, 0.011],
+      message: null,
+    })),
+  };
+}
+
+const post = (body: unknown, token?: string, extra: Record<string, string> = {}) =>
+  fetch(`${server.url}/api/runs`, { method: "POST", headers: { "content-type": "application/json", ...(token ? { authorization: `Bearer ${token}` } : {}), ...extra }, body: typeof body === "string" ? body : JSON.stringify(body) });
+
+const runCount = () => db.select({ n: sql<number>`count(*)` }).from(runs).get()!.n;
+
+beforeAll(async () => {
+  server = await startTestServer({ env: { ARCWATCH_JOB_WORKER: "0" } });
+  db = openDatabase(server.dbFile);
+  for (const role of ["viewer", "engineer"] as const) {
+    const u = db.select().from(users).where(eq(users.email, `${role}@arcwatch.test`)).get()!;
+    tokens[role] = createApiToken(db, { name: `${role} test token`, role, createdById: u.id }).token;
+  }
+});
+
+afterAll(async () => {
+  db?.$client.close();
+  await server?.stop();
+});
+
+describe("ingestion: tokens and roles", () => {
+  it("refuses a post without a token (403 from the origin check, 401 with a same-origin header), with an unknown token (401) and with a viewer token (403)", async () => {
+    // No token and no Origin: the same-origin guard (app/services/csrf.server.ts) stops it first.
+    expect((await post(payload())).status).toBe(403);
+    expect((await post(payload(), undefined, { origin: server.url })).status).toBe(401);
+    expect((await post(payload(), "aw_not-a-real-token-000000000000000000000")).status).toBe(401);
+    const viewer = await post(payload(), tokens.viewer);
+    expect(viewer.status).toBe(403);
+    expect(((await viewer.json()) as { error: string }).error).toMatch(/engineer/);
+    expect(runCount()).toBe(0);
+  });
+
+  it("refuses a browser session (cookie) even for an engineer: ingestion takes a token", async () => {
+    const signin = await fetch(`${server.url}/signin`, { method: "POST", redirect: "manual", headers: { "content-type": "application/x-www-form-urlencoded", origin: server.url }, body: new URLSearchParams({ email: "engineer@arcwatch.test", password: "engineer-demo-pass" }) });
+    const cookie = signin.headers.get("set-cookie")!.split(";")[0]!;
+    const r = await fetch(`${server.url}/api/ingest`, { method: "POST", headers: { "content-type": "application/json", cookie, origin: server.url }, body: JSON.stringify(payload()) });
+    expect(r.status).toBe(401);
+  });
+
+  it("reads need a user or a token", async () => {
+    expect((await fetch(`${server.url}/api/runs`)).status).toBe(401);
+    expect((await fetch(`${server.url}/api/history?caseKey=x`)).status).toBe(401);
+    expect((await fetch(`${server.url}/api/runs`, { headers: { authorization: "Bearer aw_wrong" } })).status).toBe(401);
+    expect((await fetch(`${server.url}/api/runs`, { headers: { authorization: `Bearer ${tokens.viewer}` } })).status).toBe(200);
+  });
+});
+
+describe("ingestion: validation and idempotence", () => {
+  it("answers 400 with the failing paths for an invalid payload, and 413 above the size limit", async () => {
+    const bad = payload();
+    (bad.cases[0] as { intervals: unknown }).intervals = -3;
+    const r = await post(bad, tokens.engineer);
+    expect(r.status).toBe(400);
+    const body = (await r.json()) as { issues: { path: string }[] };
+    expect(body.issues.map((i) => i.path)).toContain("cases.0.intervals");
+    expect((await post("{not json", tokens.engineer)).status).toBe(400);
+    const huge = JSON.stringify({ format: PAYLOAD_FORMAT, pad: "x".repeat(33 * 1024 * 1024) });
+    expect((await post(huge, tokens.engineer)).status).toBe(413);
+    expect(runCount()).toBe(0);
+  });
+
+  it("stores the same run once however often it is posted", async () => {
+    const p = payload(4);
+    const first = await post(p, tokens.engineer);
+    expect(first.status).toBe(201);
+    const again = await post(p, tokens.engineer);
+    expect(again.status).toBe(200);
+    expect(((await again.json()) as { created: boolean }).created).toBe(false);
+    // and concurrently
+    const burst = await Promise.all(Array.from({ length: 5 }, () => post(p, tokens.engineer)));
+    expect(burst.map((r) => r.status).every((s) => s === 200)).toBe(true);
+    expect(db.select({ n: sql<number>`count(*)` }).from(runs).where(eq(runs.id, p.run.id)).get()!.n).toBe(1);
+    expect(db.select({ n: sql<number>`count(*)` }).from(caseResults).where(eq(caseResults.runId, p.run.id)).get()!.n).toBe(4);
+  });
+
+  it("loses nothing when 50 different runs are posted at once", async () => {
+    const before = runCount();
+    const ps = Array.from({ length: 50 }, () => payload(5));
+    const rs = await Promise.all(ps.map((p) => post(p, tokens.engineer)));
+    expect(rs.map((r) => r.status)).toEqual(Array(50).fill(201));
+    expect(runCount()).toBe(before + 50);
+    const ids = ps.map((p) => p.run.id);
+    const cases = db.select({ n: sql<number>`count(*)` }).from(caseResults).where(sql`${caseResults.runId} in (${sql.join(ids.map((i) => sql`${i}`), sql`, `)})`).get()!.n;
+    expect(cases).toBe(250);
+  });
+});
+
+describe("reading and exporting", () => {
+  it("lists, pages and filters runs, and exports them as CSV", async () => {
+    const auth = { authorization: `Bearer ${tokens.viewer}` };
+    const list = (await (await fetch(`${server.url}/api/runs?pageSize=10&branch=ci-upload`, { headers: auth })).json()) as { total: number; rows: { id: string; cases: number }[]; pages: number };
+    expect(list.total).toBe(51);
+    expect(list.rows).toHaveLength(10);
+    expect(list.pages).toBe(6);
+    const csv = await fetch(`${server.url}/api/runs?pageSize=500&format=csv`, { headers: auth });
+    expect(csv.headers.get("content-type")).toMatch(/text\/csv/);
+    const lines = (await csv.text()).trim().split("\r\n");
+    expect(lines[0]!.split(",").slice(0, 3)).toEqual(["id", "commitHash", "commitSubject"]);
+    expect(lines).toHaveLength(52);
+    const one = (await (await fetch(`${server.url}/api/runs/${list.rows[0]!.id}`, { headers: auth })).json()) as { cases: { id: number }[] };
+    expect(one.cases).toHaveLength(list.rows[0]!.cases);
+    const c = await fetch(`${server.url}/api/cases/${one.cases[0]!.id}`, { headers: auth });
+    expect(c.status).toBe(200);
+    const hist = (await (await fetch(`${server.url}/api/history?caseKey=${encodeURIComponent("pika-rover-dash/trapezoidal/10")}&branch=ci-upload&metric=medianSeconds`, { headers: auth })).json()) as { points: unknown[] };
+    expect(hist.points.length).toBe(51);
+    expect((await fetch(`${server.url}/api/runs/no-such-run`, { headers: auth })).status).toBe(404);
+  });
+
+  it("refuses a viewer's job start (403) and cancel (403)", async () => {
+    const auth = { authorization: `Bearer ${tokens.viewer}`, "content-type": "application/json" };
+    expect((await fetch(`${server.url}/api/jobs`, { method: "POST", headers: auth, body: JSON.stringify({ kind: "bench", payload: { suite: "quick" } }) })).status).toBe(403);
+    expect((await fetch(`${server.url}/api/jobs/1`, { method: "POST", headers: auth, body: JSON.stringify({ intent: "cancel" }) })).status).toBe(403);
+  });
+});
+
