@@ -95,3 +95,19 @@ describe("classic checks", () => {
     other.junctions.forEach((tj, k) => expect(Math.abs(tj - r.junctions[k])).toBeLessThan(1e-9));
   });
 });
+
+describe("costate sign convention", () => {
+  it("orbit raising from negated costate estimates: refined after the sign retry, same radius", () => {
+    // No bang arc, so arc detection cannot tell the sign; a scheme with the opposite convention
+    // is simulated by negating the estimates.
+    const p = classic("orbit-raising");
+    const d = directSolve(p, "hermite-simpson", { intervals: 50 });
+    const sol = d.solution!;
+    const flipped = { ...sol, costates: sol.costates!.map((c) => c.map((v) => -v)) };
+    const r = refineFromSolution(p, flipped);
+    expect(r.converged && r.structureConfirmed).toBe(true);
+    expect(Math.abs(r.objective - 1.525)).toBeLessThan(5e-4);
+    const direct = refineFromSolution(p, sol);
+    expect(Math.abs(r.objective - direct.objective)).toBeLessThan(1e-10);
+  });
+});

@@ -12,7 +12,7 @@ import type { Solution } from "../schemes/types";
 import type { ArcDetectionOptions, ArcStructure } from "../arcs/types";
 import { detectArcs, arcDefaults } from "../arcs/detect";
 import { interpLinear } from "../arcs/interp";
-import { OptimalityConditions } from "./conditions";
+import { denseJacobian, OptimalityConditions } from "./conditions";
 import { MultipleShooting, type ShootingArc, type ShootingOptions } from "./multiple-shooting";
 import { dampedNewton, type NewtonRecord, type NewtonStatus } from "./newton";
 import { arcControlLabel, combineStructure, combinedSignature } from "./structure";
@@ -87,20 +87,34 @@ function costateGuess(sol: Solution, sign: number): (t: number, out: Float64Arra
 }
 
 /**
- * Refines a direct solution. When Newton does not converge with the default number of shooting
+ * Refines a direct solution. When Newton does not converge (or the structure is not confirmed) with the default number of shooting
  * segments, it is tried once more with twice as many (shorter segments tame the growth of the
- * state–costate flow), unless options.retry is false.
+ * state–costate flow), and, when arc detection could not decide the costate sign convention, with
+ * the costate estimates negated; unless options.retry is false.
  */
 export function refineFromSolution(problem: CompiledProblem, sol: Solution, options: RefineOptions = {}): RefineReport {
-  const first = refineOnce(problem, sol, options);
-  if (first.converged || first.status === "setup_failed" || options.retry === false) return first;
+  const good = (r: RefineReport) => r.converged && r.structureConfirmed;
+  const first = refineOnce(problem, sol, options, 0);
+  if (good(first) || first.status === "setup_failed" || options.retry === false) return first;
   const segments = 2 * (options.segments ?? 12);
-  const second = refineOnce(problem, sol, { ...options, segments });
-  if (!second.converged) return first;
-  return { ...second, message: `${second.message} (with ${segments} segments after ${first.status} with ${options.segments ?? 12})`, seconds: first.seconds + second.seconds };
+  let spent = first.seconds;
+  const second = refineOnce(problem, sol, { ...options, segments }, 0);
+  spent += second.seconds;
+  if (good(second)) {
+    return { ...second, message: `${second.message} (with ${segments} segments after ${first.status} with ${options.segments ?? 12})`, seconds: spent };
+  }
+  // When the bang points could not tell the scheme's costate sign convention, try the other one.
+  const structure = options.structure ?? detectArcs(problem, sol, options.arcOptions);
+  if (structure.costateSign === 0) {
+    const third = refineOnce(problem, sol, { ...options, structure }, -1);
+    spent += third.seconds;
+    if (good(third)) return { ...third, message: `${third.message} (with the costate estimates negated)`, seconds: spent };
+  }
+  return { ...first, seconds: spent };
 }
 
-function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOptions): RefineReport {
+/** One refinement; forcedSign ±1 overrides the costate sign convention (0: from arc detection). */
+function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOptions, forcedSign: -1 | 0 | 1): RefineReport {
   const started = performance.now();
   const base = {
     problemId: problem.id,
@@ -113,7 +127,7 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
     rhsEvaluations: 0,
   };
   const structure = options.structure ?? detectArcs(problem, sol, options.arcOptions);
-  const sign = structure.costateSign === -1 ? -1 : 1;
+  const sign = forcedSign !== 0 ? forcedSign : structure.costateSign === -1 ? -1 : 1;
   const failed = (message: string): RefineReport => ({
     ...base,
     jacobianCondition: NaN,
@@ -318,6 +332,8 @@ function confirm(
   const out: string[] = [];
   const w = new Float64Array(oc.nW);
   const hu = new Float64Array(nu);
+  const huJacBuf = new Float64Array(oc.hu.jacRows.length);
+  const huJac = new Float64Array(nu * oc.nW);
   const np = problem.pathInfo.length;
   const c = new Float64Array(np);
   const zc = new Float64Array(1 + nx + nu);
@@ -341,6 +357,15 @@ function confirm(
     }
     for (let j = 0; j < nu; j++) w[oc.iU + j] = traj.u[p][j];
     oc.hu.eval(w, hu);
+    // Legendre–Clebsch on interior arcs: ∂²H/∂u_j² > 0 (Bryson and Ho 1975, eq. (2.5.6) with ≥).
+    if (arc.kinds.some((k) => k === "interior") && !arc.constraint) {
+      denseJacobian(oc.hu, w, huJacBuf, huJac);
+      for (let j = 0; j < nu; j++) {
+        if (arc.kinds[j] === "interior" && !(huJac[j * oc.nW + oc.iU + j] > 0)) {
+          report(`lc${a}${j}`, `arc ${a + 1}: ∂²H/∂${problem.controls[j].name}² ≤ 0 at t = ${traj.t[p].toPrecision(8)} (a maximum of H, not a minimum)`);
+        }
+      }
+    }
     let huScale = 1e-300;
     for (const v of hu) huScale = Math.max(huScale, Math.abs(v));
     for (let j = 0; j < nu; j++) {
