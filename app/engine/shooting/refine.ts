@@ -87,10 +87,11 @@ function costateGuess(sol: Solution, sign: number): (t: number, out: Float64Arra
 }
 
 /**
- * Refines a direct solution. When Newton does not converge (or the structure is not confirmed) with the default number of shooting
- * segments, it is tried once more with twice as many (shorter segments tame the growth of the
- * state–costate flow), and, when arc detection could not decide the costate sign convention, with
- * the costate estimates negated; unless options.retry is false.
+ * Refines a direct solution. When Newton does not converge, or the structure is not confirmed,
+ * with the default number of shooting segments, it is tried once more with twice as many
+ * (shorter segments tame the growth of the state–costate flow), and, when arc detection could not
+ * decide the costate sign convention, with the costate estimates negated; unless options.retry
+ * is false.
  */
 export function refineFromSolution(problem: CompiledProblem, sol: Solution, options: RefineOptions = {}): RefineReport {
   const good = (r: RefineReport) => r.converged && r.structureConfirmed;
