@@ -18,6 +18,8 @@ export default [
     route("problems/trial", "routes/api/problems.trial.ts"),
     route("problems/:id", "routes/api/problems.$id.ts"),
     route("compare", "routes/api/compare.ts"),
+    route("regressions", "routes/api/regressions.ts"),
+    route("regressions/:id", "routes/api/regressions.$id.ts"),
     route("*", "routes/api/not-found.ts"),
   ]),
   layout("routes/_app.tsx", [
@@ -37,6 +39,9 @@ export default [
     route("problems/:id", "routes/problems.$id.tsx"),
     route("problems/:id/edit", "routes/problems.$id.edit.tsx"),
     route("compare", "routes/compare.tsx"),
+    route("regressions", "routes/regressions.tsx"),
+    route("regressions/:id", "routes/regressions.$id.tsx"),
+    route("regressions/:id/commits/:sha", "routes/regressions.$id.commits.$sha.tsx"),
     route("*", "routes/not-found.tsx"),
   ]),
 ] satisfies RouteConfig;

@@ -48,6 +48,9 @@ export function AppShell({ user, children }: { user: ShellUser; children: ReactN
             </NavItem>
             <NavItem to="/runs">Runs</NavItem>
             <NavItem to="/history">History</NavItem>
+            <NavItem to="/problems">Problems</NavItem>
+            <NavItem to="/compare">Compare</NavItem>
+            <NavItem to="/regressions">Regressions</NavItem>
             <NavItem to="/run-suite">Run a suite</NavItem>
             <NavItem to="/settings">Settings</NavItem>
             {roleAtLeast(user.role, "admin") ? <NavItem to="/admin/users">Users</NavItem> : null}

@@ -1,0 +1,369 @@
+/**
+ * Regressions found by the runner (bench/runner/detect.ts): the list, one regression's evidence
+ * (before/after cases, timing samples, trajectories), the commits between baseline and flagged
+ * commit (simple-git), and triage: acknowledge, assign, mark expected with a reason, link the
+ * fixing commit, reopen. Every change is a regression_events row with who and when; comments
+ * and per-problem e-mail subscriptions sit beside it.
+ */
+import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
+import { simpleGit } from "simple-git";
+import { z } from "zod";
+import type { Db } from "~/db/client.server";
+import { caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressions, runs, subscriptions, timingSamples, users, type RegressionStatus } from "~/db/schema";
+import { getCaseTrajectory, type CaseTrajectory } from "~/models/cases.server";
+import { repoRoot } from "~/services/git.server";
+import { loadAnyProblem } from "./problems.server";
+
+export const problemOfCaseKey = (key: string) => key.split("/")[0] ?? key;
+
+export interface RegressionListItem {
+  id: number;
+  caseKey: string;
+  problemId: string;
+  kind: string;
+  direction: string;
+  metric: string;
+  before: number | null;
+  after: number | null;
+  ratio: number | null;
+  pValue: number | null;
+  status: RegressionStatus;
+  assignee: string | null;
+  runId: string;
+  commitHash: string;
+  commitSubject: string | null;
+  createdAt: number;
+}
+
+export const regressionListQuery = z.object({
+  status: z.enum(REGRESSION_STATUSES).optional().catch(undefined),
+  kind: z.enum(REGRESSION_KINDS).optional().catch(undefined),
+  direction: z.enum(["regression", "improvement"]).optional().catch(undefined),
+  problem: z.string().regex(/^[A-Za-z0-9][A-Za-z0-9_.-]{0,127}$/).optional().catch(undefined),
+  limit: z.coerce.number().int().min(1).max(500).default(200).catch(200),
+});
+export type RegressionListQuery = z.infer<typeof regressionListQuery>;
+
+export function listRegressions(db: Db, q: RegressionListQuery): RegressionListItem[] {
+  const where = [
+    q.status ? eq(regressions.status, q.status) : undefined,
+    q.kind ? eq(regressions.kind, q.kind) : undefined,
+    q.direction ? eq(regressions.direction, q.direction) : undefined,
+    q.problem ? sql`${regressions.caseKey} like ${`${q.problem}/%`}` : undefined,
+  ].filter((w) => w !== undefined);
+  const rows = db
+    .select({ r: regressions, commitHash: runs.commitHash, commitSubject: runs.commitSubject, assignee: users.name })
+    .from(regressions)
+    .innerJoin(runs, eq(runs.id, regressions.runId))
+    .leftJoin(users, eq(users.id, regressions.assigneeId))
+    .where(where.length ? and(...where) : undefined)
+    .orderBy(desc(regressions.createdAt), desc(regressions.id))
+    .limit(q.limit)
+    .all();
+  return rows.map(({ r, commitHash, commitSubject, assignee }) => ({
+    id: r.id,
+    caseKey: r.caseKey,
+    problemId: problemOfCaseKey(r.caseKey),
+    kind: r.kind,
+    direction: r.direction,
+    metric: r.metric,
+    before: r.before,
+    after: r.after,
+    ratio: r.ratio,
+    pValue: r.pValue,
+    status: r.status,
+    assignee,
+    runId: r.runId,
+    commitHash,
+    commitSubject,
+    createdAt: new Date(r.createdAt).getTime(),
+  }));
+}
+
+export interface SideCase {
+  caseId: number;
+  runId: string;
+  commitHash: string;
+  commitSubject: string | null;
+  commitAuthor: string | null;
+  status: string;
+  objective: number | null;
+  objectiveErrorRel: number | null;
+  stateError: number | null;
+  iterations: number | null;
+  medianSeconds: number | null;
+  samples: number[];
+  trajectory: CaseTrajectory | null;
+}
+
+export interface RegressionEvent {
+  id: number;
+  at: number;
+  user: string | null;
+  fromStatus: string | null;
+  toStatus: string | null;
+  note: string | null;
+}
+
+export interface RegressionDetail {
+  regression: RegressionListItem & { ciLow: number | null; ciHigh: number | null; reason: string | null; fixingCommit: string | null; assigneeId: number | null; baselineRunId: string | null };
+  before: SideCase | null;
+  after: SideCase | null;
+  events: RegressionEvent[];
+  comments: { id: number; user: string; body: string; at: number }[];
+  assignable: { id: number; name: string }[];
+  subscribed: boolean;
+}
+
+function sideCase(db: Db, runId: string | null, caseKey: string): SideCase | null {
+  if (!runId) return null;
+  const row = db
+    .select({ c: caseResults, run: runs })
+    .from(caseResults)
+    .innerJoin(runs, eq(runs.id, caseResults.runId))
+    .where(and(eq(caseResults.runId, runId), eq(caseResults.caseKey, caseKey)))
+    .get();
+  if (!row) return null;
+  const samples = db.select({ s: timingSamples.samplesJson }).from(timingSamples).where(eq(timingSamples.caseResultId, row.c.id)).get()?.s ?? [];
+  let trajectory: CaseTrajectory | null = null;
+  try {
+    trajectory = getCaseTrajectory(db, row.c.id);
+  } catch {
+    trajectory = null;
+  }
+  return {
+    caseId: row.c.id,
+    runId,
+    commitHash: row.run.commitHash,
+    commitSubject: row.run.commitSubject,
+    commitAuthor: row.run.commitAuthor,
+    status: row.c.status,
+    objective: row.c.objective,
+    objectiveErrorRel: row.c.objectiveErrorRel,
+    stateError: row.c.stateError,
+    iterations: row.c.iterations,
+    medianSeconds: row.c.medianSeconds,
+    samples: Array.isArray(samples) ? samples : [],
+    trajectory,
+  };
+}
+
+export function getRegressionDetail(db: Db, id: number, viewerId: number): RegressionDetail | null {
+  const [item] = listRegressionsById(db, [id]);
+  const r = db.select().from(regressions).where(eq(regressions.id, id)).get();
+  if (!item || !r) return null;
+  const events = db
+    .select({ e: regressionEvents, user: users.name })
+    .from(regressionEvents)
+    .leftJoin(users, eq(users.id, regressionEvents.userId))
+    .where(eq(regressionEvents.regressionId, id))
+    .orderBy(asc(regressionEvents.at), asc(regressionEvents.id))
+    .all()
+    .map(({ e, user }) => ({ id: e.id, at: new Date(e.at).getTime(), user, fromStatus: e.fromStatus, toStatus: e.toStatus, note: e.note }));
+  const cs = db
+    .select({ c: comments, user: users.name })
+    .from(comments)
+    .innerJoin(users, eq(users.id, comments.userId))
+    .where(and(eq(comments.targetType, "regression"), eq(comments.targetId, String(id))))
+    .orderBy(asc(comments.createdAt), asc(comments.id))
+    .all()
+    .map(({ c, user }) => ({ id: c.id, user, body: c.body, at: new Date(c.createdAt).getTime() }));
+  const assignable = db
+    .select({ id: users.id, name: users.name })
+    .from(users)
+    .where(and(inArray(users.role, ["engineer", "admin"]), sql`${users.disabledAt} is null`))
+    .orderBy(asc(users.name))
+    .all();
+  const subscribed = !!db
+    .select({ id: subscriptions.id })
+    .from(subscriptions)
+    .where(and(eq(subscriptions.userId, viewerId), eq(subscriptions.problemId, item.problemId)))
+    .get();
+  return {
+    regression: { ...item, ciLow: r.ciLow, ciHigh: r.ciHigh, reason: r.reason, fixingCommit: r.fixingCommit, assigneeId: r.assigneeId, baselineRunId: r.baselineRunId },
+    before: sideCase(db, r.baselineRunId, r.caseKey),
+    after: sideCase(db, r.runId, r.caseKey),
+    events,
+    comments: cs,
+    assignable,
+    subscribed,
+  };
+}
+
+function listRegressionsById(db: Db, ids: number[]): RegressionListItem[] {
+  if (ids.length === 0) return [];
+  const rows = db
+    .select({ r: regressions, commitHash: runs.commitHash, commitSubject: runs.commitSubject, assignee: users.name })
+    .from(regressions)
+    .innerJoin(runs, eq(runs.id, regressions.runId))
+    .leftJoin(users, eq(users.id, regressions.assigneeId))
+    .where(inArray(regressions.id, ids))
+    .all();
+  return rows.map(({ r, commitHash, commitSubject, assignee }) => ({
+    id: r.id, caseKey: r.caseKey, problemId: problemOfCaseKey(r.caseKey), kind: r.kind, direction: r.direction, metric: r.metric,
+    before: r.before, after: r.after, ratio: r.ratio, pValue: r.pValue, status: r.status, assignee, runId: r.runId, commitHash, commitSubject,
+    createdAt: new Date(r.createdAt).getTime(),
+  }));
+}
+
+// ---------------------------------------------------------------------------------------
+// Commits between baseline and flagged commit
+// ---------------------------------------------------------------------------------------
+
+export interface CommitEntry {
+  hash: string;
+  subject: string;
+  author: string;
+  date: string;
+  files: { status: string; path: string }[];
+}
+
+const HASH = /^[0-9a-f]{7,40}$/i;
+
+/**
+ * `git log --name-status baseline..flagged` (newest first, at most `limit`), in ARCWATCH_REPO.
+ * Null with a reason when either commit is unknown to the repository.
+ */
+export async function commitsBetween(baseline: string | null, flagged: string, limit = 50, root = repoRoot()): Promise<{ commits: CommitEntry[]; note: string | null }> {
+  if (!HASH.test(flagged) || (baseline !== null && !HASH.test(baseline))) return { commits: [], note: "Not commit hashes." };
+  const git = simpleGit(root);
+  try {
+    const range = baseline ? `${baseline}..${flagged}` : flagged;
+    const out = await git.raw(["log", `--max-count=${limit}`, "--name-status", "--format=%x1e%H%x00%s%x00%an%x00%cI", range, "--"]);
+    const commits = out
+      .split("\x1e")
+      .filter((b) => b.trim())
+      .map((block) => {
+        const [head, ...rest] = block.split("\n");
+        const [hash, subject, author, date] = head!.split("\0");
+        const files = rest
+          .filter((l) => l.trim())
+          .map((l) => {
+            const [status, ...paths] = l.split("\t");
+            return { status: status!, path: paths.join(" → ") };
+          });
+        return { hash: hash!, subject: subject ?? "", author: author ?? "", date: date ?? "", files };
+      });
+    return { commits, note: commits.length === limit ? `Showing the newest ${limit} commits.` : null };
+  } catch {
+    return { commits: [], note: "The commits are not in this server's repository." };
+  }
+}
+
+export interface DiffSummary {
+  hash: string;
+  subject: string;
+  author: string;
+  date: string;
+  body: string;
+  files: { path: string; added: number | null; removed: number | null }[];
+}
+
+/** `git show --numstat` of one commit: message and lines added/removed per file. */
+export async function diffSummary(sha: string, root = repoRoot()): Promise<DiffSummary | null> {
+  if (!HASH.test(sha)) return null;
+  try {
+    const out = await simpleGit(root).raw(["show", "--numstat", "--format=%H%x00%s%x00%an%x00%cI%x00%b%x1e", sha, "--"]);
+    const [head, stat] = out.split("\x1e");
+    const [hash, subject, author, date, body] = head!.split("\0");
+    const files = (stat ?? "")
+      .split("\n")
+      .filter((l) => l.trim())
+      .map((l) => {
+        const [a, r, ...p] = l.split("\t");
+        return { path: p.join("\t"), added: a === "-" ? null : Number(a), removed: r === "-" ? null : Number(r) };
+      });
+    return { hash: hash!, subject: subject ?? "", author: author ?? "", date: date ?? "", body: (body ?? "").trim(), files };
+  } catch {
+    return null;
+  }
+}
+
+// ---------------------------------------------------------------------------------------
+// Triage, comments, subscriptions
+// ---------------------------------------------------------------------------------------
+
+export const triageSchema = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("acknowledge"), note: z.string().trim().max(2000).optional() }),
+  z.object({ intent: z.literal("assign"), assigneeId: z.coerce.number().int().min(0) }),
+  z.object({ intent: z.literal("expected"), reason: z.string().trim().min(1, "Give the reason this change is expected.").max(2000) }),
+  z.object({ intent: z.literal("fixed"), fixingCommit: z.string().trim().regex(HASH, "A commit hash (7 to 40 hex digits).") }),
+  z.object({ intent: z.literal("reopen"), note: z.string().trim().max(2000).optional() }),
+]);
+export type TriageInput = z.infer<typeof triageSchema>;
+
+export type TriageOutcome = { ok: true; status: RegressionStatus } | { ok: false; status: 400 | 404; errors: Record<string, string> };
+
+/** Applies one triage change and records it as an event (one transaction). */
+export function triageRegression(db: Db, id: number, userId: number, input: TriageInput): TriageOutcome {
+  const r = db.select().from(regressions).where(eq(regressions.id, id)).get();
+  if (!r) return { ok: false, status: 404, errors: { form: "No such regression." } };
+  const from = r.status;
+  let to: RegressionStatus = from;
+  const set: Partial<typeof regressions.$inferInsert> = { updatedAt: new Date() };
+  let note: string;
+  switch (input.intent) {
+    case "acknowledge":
+      to = "acknowledged";
+      note = input.note ? `Acknowledged: ${input.note}` : "Acknowledged.";
+      break;
+    case "assign": {
+      if (input.assigneeId === 0) {
+        set.assigneeId = null;
+        note = "Unassigned.";
+        break;
+      }
+      const u = db.select({ id: users.id, name: users.name, role: users.role }).from(users).where(eq(users.id, input.assigneeId)).get();
+      if (!u || u.role === "viewer") return { ok: false, status: 400, errors: { assigneeId: "Choose an engineer or admin." } };
+      set.assigneeId = u.id;
+      note = `Assigned to ${u.name}.`;
+      break;
+    }
+    case "expected":
+      to = "expected";
+      set.reason = input.reason;
+      note = `Marked expected: ${input.reason}`;
+      break;
+    case "fixed":
+      to = "fixed";
+      set.fixingCommit = input.fixingCommit.toLowerCase();
+      note = `Fixed by ${input.fixingCommit.toLowerCase()}.`;
+      break;
+    case "reopen":
+      to = "open";
+      set.reason = null;
+      set.fixingCommit = null;
+      note = input.note ? `Reopened: ${input.note}` : "Reopened.";
+      break;
+  }
+  set.status = to;
+  db.transaction((tx) => {
+    tx.update(regressions).set(set).where(eq(regressions.id, id)).run();
+    tx.insert(regressionEvents).values({ regressionId: id, userId, fromStatus: from, toStatus: to, note }).run();
+  });
+  return { ok: true, status: to };
+}
+
+export const commentSchema = z.object({ body: z.string().trim().min(1, "Write a comment first.").max(5000, "At most 5000 characters.") });
+
+export function addRegressionComment(db: Db, id: number, userId: number, body: string): boolean {
+  if (!db.select({ id: regressions.id }).from(regressions).where(eq(regressions.id, id)).get()) return false;
+  db.insert(comments).values({ userId, targetType: "regression", targetId: String(id), body }).run();
+  return true;
+}
+
+/** Subscribes (or not) a user to e-mail about regressions on one problem (the runner's alerts read it). */
+export function setProblemSubscription(db: Db, userId: number, problemId: string, on: boolean): boolean {
+  if (!on) {
+    db.delete(subscriptions).where(and(eq(subscriptions.userId, userId), eq(subscriptions.problemId, problemId))).run();
+    return true;
+  }
+  if (!db.select({ id: problems.id }).from(problems).where(eq(problems.id, problemId)).get()) {
+    const loaded = loadAnyProblem(problemId);
+    if (!loaded || !loaded.result.ok) return false;
+    const p = loaded.result.problem;
+    db.insert(problems).values({ id: problemId, title: p.title, description: p.description, tagsJson: p.tags }).onConflictDoNothing().run();
+  }
+  db.insert(subscriptions).values({ userId, problemId }).onConflictDoNothing().run();
+  return true;
+}

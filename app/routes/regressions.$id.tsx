@@ -1,0 +1,300 @@
+import { data, Link, useFetcher } from "react-router";
+import type { Route } from "./+types/regressions.$id";
+import { PlotSvg, type PlotSeries } from "~/components/compare/PlotSvg";
+import { RouteErrorBoundary } from "~/components/ErrorView";
+import { FormError } from "~/components/Field";
+import { getDb } from "~/db/client.server";
+import { commitsBetween, getRegressionDetail, type SideCase } from "~/models/regressions.server";
+import { requireUser } from "~/services/auth.server";
+import { roleAtLeast } from "~/services/roles";
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.regression.caseKey ?? "Regression"} · Arcwatch` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  const id = Number(params.id);
+  const db = getDb();
+  const detail = Number.isInteger(id) ? getRegressionDetail(db, id, user.id) : null;
+  if (!detail) throw data({ message: "No such regression." }, { status: 404 });
+  const between = await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);
+  return { detail, commits: between.commits, commitsNote: between.note, canTriage: roleAtLeast(user.role, "engineer") };
+}
+
+const BEFORE = "#1f6feb";
+const AFTER = "#b3261e";
+const REF = "#4d5966";
+const num = (v: number | null | undefined) => (v === null || v === undefined ? "—" : Math.abs(v) < 1e-3 || Math.abs(v) >= 1e4 ? v.toExponential(3) : v.toPrecision(5));
+const when = (ms: number) => new Date(ms).toISOString().replace("T", " ").slice(0, 19);
+
+type ApiResult = { ok?: boolean; errors?: Record<string, string>; error?: string };
+
+function useApi(id: number) {
+  const f = useFetcher<ApiResult>();
+  return { f, action: `/api/regressions/${id}` };
+}
+
+function SamplesPlot({ before, after }: { before: SideCase | null; after: SideCase | null }) {
+  const series: PlotSeries[] = [];
+  if (before?.samples.length) series.push({ name: "before", label: `baseline (${before.samples.length} samples)`, colour: BEFORE, points: before.samples.map((s) => ({ x: s * 1000, y: 1 })) });
+  if (after?.samples.length) series.push({ name: "after", label: `flagged (${after.samples.length} samples)`, colour: AFTER, points: after.samples.map((s) => ({ x: s * 1000, y: 2 })) });
+  if (!series.length) return <p className="text-sm text-muted">No timing samples recorded.</p>;
+  return <PlotSvg series={series} xLabel="solve time (ms)  ·  row 1 baseline, row 2 flagged" yLabel="run" yDomain={[0.5, 2.5]} width={520} height={160} testId="timing-samples" />;
+}
+
+function TrajectoryPlots({ before, after }: { before: SideCase | null; after: SideCase | null }) {
+  const tr = after?.trajectory ?? before?.trajectory;
+  if (!tr) return <p className="text-sm text-muted">No trajectories recorded.</p>;
+  const names = [...tr.stateNames.map((n) => ({ n, kind: "states" as const })), ...tr.controlNames.map((n) => ({ n, kind: "controls" as const }))];
+  const pts = (s: { t: number[]; columns: Record<string, number[]> } | null | undefined, n: string) => (s?.columns[n] ? s.t.map((t, i) => ({ x: t, y: s.columns[n]![i]! })) : []);
+  return (
+    <div className="flex flex-wrap gap-3" data-testid="trajectories">
+      {names.map(({ n, kind }) => (
+        <div key={`${kind}-${n}`} className="card p-2">
+          <p className="text-sm font-medium">{n}</p>
+          <PlotSvg
+            width={360}
+            height={200}
+            xLabel="t"
+            yLabel={n}
+            series={[
+              { name: "reference", colour: REF, style: "guide", points: pts(tr.reference, n) },
+              { name: "baseline", colour: BEFORE, style: "line", points: pts(before?.trajectory?.solution[kind], n) },
+              { name: "flagged", colour: AFTER, style: "line", points: pts(after?.trajectory?.solution[kind], n) },
+            ].filter((s) => s.points.length > 0) as PlotSeries[]}
+          />
+        </div>
+      ))}
+      {tr.referenceNote ? <p className="w-full text-xs text-muted">{tr.referenceNote}</p> : null}
+    </div>
+  );
+}
+
+function Triage({ id, detail }: { id: number; detail: Route.ComponentProps["loaderData"]["detail"] }) {
+  const ack = useApi(id);
+  const assign = useApi(id);
+  const expected = useApi(id);
+  const fixed = useApi(id);
+  const reopen = useApi(id);
+  const r = detail.regression;
+  return (
+    <section className="card space-y-4 p-4" data-testid="triage">
+      <h2 className="text-lg font-semibold">Triage</h2>
+      <div className="flex flex-wrap gap-2">
+        <ack.f.Form method="post" action={ack.action}>
+          <input type="hidden" name="intent" value="acknowledge" />
+          <button className="btn-quiet" type="submit" disabled={r.status === "acknowledged" || ack.f.state !== "idle"} data-testid="acknowledge">
+            Acknowledge
+          </button>
+        </ack.f.Form>
+        {r.status !== "open" ? (
+          <reopen.f.Form method="post" action={reopen.action}>
+            <input type="hidden" name="intent" value="reopen" />
+            <button className="btn-quiet" type="submit" disabled={reopen.f.state !== "idle"}>
+              Reopen
+            </button>
+          </reopen.f.Form>
+        ) : null}
+      </div>
+      <assign.f.Form method="post" action={assign.action} className="flex flex-wrap items-end gap-2">
+        <input type="hidden" name="intent" value="assign" />
+        <label className="space-y-1 text-sm">
+          <span className="block font-medium">Assignee</span>
+          <select name="assigneeId" defaultValue={r.assigneeId ?? 0} className="input w-56" data-testid="assignee">
+            <option value={0}>nobody</option>
+            {detail.assignable.map((u) => (
+              <option key={u.id} value={u.id}>
+                {u.name}
+              </option>
+            ))}
+          </select>
+        </label>
+        <button className="btn-quiet" type="submit" disabled={assign.f.state !== "idle"} data-testid="assign">
+          Assign
+        </button>
+        {assign.f.data?.errors?.assigneeId ? <p className="text-sm text-bad">{assign.f.data.errors.assigneeId}</p> : null}
+      </assign.f.Form>
+      <expected.f.Form method="post" action={expected.action} className="flex flex-wrap items-end gap-2">
+        <input type="hidden" name="intent" value="expected" />
+        <label className="grow space-y-1 text-sm">
+          <span className="block font-medium">Reason it is expected</span>
+          <input name="reason" className="input" defaultValue={r.reason ?? ""} aria-invalid={expected.f.data?.errors?.reason ? true : undefined} data-testid="reason" />
+        </label>
+        <button className="btn-quiet" type="submit" disabled={expected.f.state !== "idle"} data-testid="mark-expected">
+          Mark expected
+        </button>
+        {expected.f.data?.errors?.reason ? (
+          <p className="w-full text-sm text-bad" data-field-error="reason">
+            {expected.f.data.errors.reason}
+          </p>
+        ) : null}
+      </expected.f.Form>
+      <fixed.f.Form method="post" action={fixed.action} className="flex flex-wrap items-end gap-2">
+        <input type="hidden" name="intent" value="fixed" />
+        <label className="space-y-1 text-sm">
+          <span className="block font-medium">Fixing commit</span>
+          <input name="fixingCommit" className="input num w-80" defaultValue={r.fixingCommit ?? ""} data-testid="fixing-commit" />
+        </label>
+        <button className="btn-quiet" type="submit" disabled={fixed.f.state !== "idle"} data-testid="mark-fixed">
+          Link fix
+        </button>
+        {fixed.f.data?.errors?.fixingCommit ? (
+          <p className="w-full text-sm text-bad" data-field-error="fixingCommit">
+            {fixed.f.data.errors.fixingCommit}
+          </p>
+        ) : null}
+      </fixed.f.Form>
+    </section>
+  );
+}
+
+export default function RegressionPage({ loaderData }: Route.ComponentProps) {
+  const { detail, commits, commitsNote, canTriage } = loaderData;
+  const r = detail.regression;
+  const { before, after } = detail;
+  const comment = useApi(r.id);
+  const sub = useApi(r.id);
+  const rows: [string, (c: SideCase) => number | null | string][] = [
+    ["status", (c) => c.status],
+    ["objective", (c) => c.objective],
+    ["relative objective error", (c) => c.objectiveErrorRel],
+    ["state error", (c) => c.stateError],
+    ["iterations", (c) => c.iterations],
+    ["median time (s)", (c) => c.medianSeconds],
+  ];
+  return (
+    <div className="space-y-6">
+      <div className="flex flex-wrap items-start justify-between gap-4">
+        <div>
+          <p className="text-sm text-muted">
+            <Link to="/regressions" className="hover:underline">
+              Regressions
+            </Link>{" "}
+            / {r.id}
+          </p>
+          <h1 className="num text-2xl font-semibold tracking-tight">{r.caseKey}</h1>
+          <p className={r.direction === "improvement" ? "text-good" : "text-bad"}>
+            {r.kind} {r.direction} in {r.metric} · <span data-testid="regression-status">{r.status}</span>
+            {r.assignee ? ` · assigned to ${r.assignee}` : ""}
+          </p>
+          {r.reason ? <p className="text-sm text-muted">Expected: {r.reason}</p> : null}
+          {r.fixingCommit ? <p className="num text-sm text-muted">Fixed by {r.fixingCommit}</p> : null}
+        </div>
+        <div className="flex gap-2">
+          <Link className="btn-quiet" to={`/problems/${r.problemId}`}>
+            Problem
+          </Link>
+          <sub.f.Form method="post" action={sub.action}>
+            <input type="hidden" name="intent" value={detail.subscribed ? "unsubscribe" : "subscribe"} />
+            <button className="btn-quiet" type="submit" data-testid="subscribe" disabled={sub.f.state !== "idle"}>
+              {detail.subscribed ? `Stop e-mail about ${r.problemId}` : `E-mail me about ${r.problemId}`}
+            </button>
+          </sub.f.Form>
+        </div>
+      </div>
+
+      <section className="card overflow-x-auto p-4" data-testid="evidence">
+        <h2 className="mb-2 text-lg font-semibold">Before and after</h2>
+        <p className="mb-3 text-sm">
+          {r.metric}: <span className="num">{num(r.before)}</span> → <span className="num">{num(r.after)}</span>, ratio <span className="num" data-testid="ratio">{r.ratio === null ? "—" : r.ratio.toFixed(3)}</span>
+          {r.pValue !== null ? <>, p = <span className="num">{r.pValue.toExponential(2)}</span></> : null}
+          {r.ciLow !== null && r.ciHigh !== null ? (
+            <>
+              , interval [<span className="num">{r.ciLow.toPrecision(4)}</span>, <span className="num">{r.ciHigh.toPrecision(4)}</span>]
+            </>
+          ) : null}
+        </p>
+        <table className="text-sm">
+          <thead className="text-muted">
+            <tr>
+              <th className="pr-6 text-left font-medium" />
+              <th className="pr-6 text-left font-medium">baseline {before ? <Link className="num hover:underline" to={`/cases/${before.caseId}`}>{before.commitHash.slice(0, 10)}</Link> : "—"}</th>
+              <th className="text-left font-medium">flagged {after ? <Link className="num hover:underline" to={`/cases/${after.caseId}`}>{after.commitHash.slice(0, 10)}</Link> : "—"}</th>
+            </tr>
+          </thead>
+          <tbody>
+            {rows.map(([label, get]) => (
+              <tr key={label}>
+                <td className="pr-6 text-muted">{label}</td>
+                <td className="num pr-6">{before ? (typeof get(before) === "string" ? get(before) : num(get(before) as number | null)) : "—"}</td>
+                <td className="num">{after ? (typeof get(after) === "string" ? get(after) : num(get(after) as number | null)) : "—"}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+      </section>
+
+      <section className="card p-4">
+        <h2 className="mb-2 text-lg font-semibold">Timing samples</h2>
+        <SamplesPlot before={before} after={after} />
+      </section>
+
+      <section className="space-y-2">
+        <h2 className="text-lg font-semibold">Trajectories over the reference</h2>
+        <TrajectoryPlots before={before} after={after} />
+      </section>
+
+      <section className="card p-4" data-testid="commits">
+        <h2 className="mb-2 text-lg font-semibold">Commits between baseline and flagged commit</h2>
+        {commitsNote ? <p className="text-sm text-muted">{commitsNote}</p> : null}
+        <ul className="space-y-3">
+          {commits.map((c) => (
+            <li key={c.hash} data-commit={c.hash}>
+              <Link to={`/regressions/${r.id}/commits/${c.hash}`} className="font-medium hover:underline">
+                {c.subject}
+              </Link>
+              <span className="num block text-xs text-muted">
+                {c.hash.slice(0, 10)} · {c.author} · {c.date}
+              </span>
+              <ul className="num text-xs">
+                {c.files.slice(0, 20).map((f) => (
+                  <li key={f.path}>
+                    <span className="text-muted">{f.status}</span> {f.path}
+                  </li>
+                ))}
+                {c.files.length > 20 ? <li className="text-muted">… {c.files.length - 20} more</li> : null}
+              </ul>
+            </li>
+          ))}
+        </ul>
+      </section>
+
+      {canTriage ? <Triage id={r.id} detail={detail} /> : null}
+
+      <section className="card p-4" data-testid="history">
+        <h2 className="mb-2 text-lg font-semibold">History</h2>
+        <ol className="space-y-1 text-sm">
+          {detail.events.map((e) => (
+            <li key={e.id} data-event={e.toStatus ?? ""}>
+              <span className="num text-muted">{when(e.at)}</span> · {e.user ?? "Arcwatch"} · {e.fromStatus ?? "—"} → {e.toStatus ?? "—"}
+              {e.note ? <span className="block pl-4">{e.note}</span> : null}
+            </li>
+          ))}
+        </ol>
+      </section>
+
+      <section className="card space-y-3 p-4" data-testid="comments">
+        <h2 className="text-lg font-semibold">Comments</h2>
+        <ul className="space-y-2 text-sm">
+          {detail.comments.map((c) => (
+            <li key={c.id}>
+              <span className="text-muted">
+                {c.user} · <span className="num">{when(c.at)}</span>
+              </span>
+              <p className="whitespace-pre-wrap">{c.body}</p>
+            </li>
+          ))}
+        </ul>
+        <comment.f.Form method="post" action={comment.action} className="space-y-2">
+          <input type="hidden" name="intent" value="comment" />
+          <textarea name="body" className="input min-h-20" aria-label="Comment" />
+          {comment.f.data?.errors?.body ? <FormError message={comment.f.data.errors.body} /> : null}
+          <button className="btn-quiet" type="submit" disabled={comment.f.state !== "idle"}>
+            Comment
+          </button>
+        </comment.f.Form>
+      </section>
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteErrorBoundary;
