@@ -97,6 +97,11 @@ export function historySeries(db: Db, q: HistoryQuery): { metric: HistoryMetric;
   };
 }
 
+/** The branch of the most recent run (the history page's default when main has no runs). */
+export function latestRunBranch(db: Db): string | null {
+  return db.select({ b: runs.branch }).from(runs).where(sql`${runs.branch} is not null`).orderBy(sql`${runs.startedAt} desc`).limit(1).get()?.b ?? null;
+}
+
 /** Case keys and branches available for the history pickers. */
 export function historyOptions(db: Db, branch: string): { caseKeys: string[]; branches: string[] } {
   const branches = db.selectDistinct({ b: runs.branch }).from(runs).all().map((r) => r.b).filter((b): b is string => !!b).sort();

@@ -5,7 +5,7 @@ import { FlightCaution, fmt } from "~/components/Caution";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { HistoryChart } from "~/components/charts/HistoryChart";
 import { getDb } from "~/db/client.server";
-import { HISTORY_METRICS, HISTORY_METRIC_KEYS, historyOptions, type HistoryPoint } from "~/models/history.server";
+import { HISTORY_METRICS, HISTORY_METRIC_KEYS, historyOptions, latestRunBranch, type HistoryPoint } from "~/models/history.server";
 import { requireUser } from "~/services/auth.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "History · Arcwatch" }];
@@ -14,8 +14,16 @@ export const meta: Route.MetaFunction = () => [{ title: "History · Arcwatch" }]
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
   const url = new URL(request.url);
-  const branch = url.searchParams.get("branch") || "main";
-  const opts = historyOptions(getDb(), branch);
+  const db = getDb();
+  let branch = url.searchParams.get("branch") || "main";
+  let opts = historyOptions(db, branch);
+  if (!url.searchParams.get("branch") && opts.caseKeys.length === 0) {
+    const latest = latestRunBranch(db);
+    if (latest) {
+      branch = latest;
+      opts = historyOptions(db, branch);
+    }
+  }
   const caseKey = url.searchParams.get("caseKey") || opts.caseKeys[0] || "";
   const metricParam = url.searchParams.get("metric");
   const metric = HISTORY_METRIC_KEYS.find((k) => k === metricParam) ?? "medianSeconds";
