@@ -1,5 +1,5 @@
 import { useEffect } from "react";
-import { data, Form, Link, redirect, useFetcher, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useFetcher, useNavigation, useRevalidator } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/run-suite";
 import { FlightCaution, fmtDate, fmtSeconds } from "~/components/Caution";
@@ -63,6 +63,13 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
   const cancel = useFetcher<{ job?: JobView; error?: string }>();
   const job = cancel.data?.job ?? poll.data?.job ?? initial;
   const active = ACTIVE.has(job.status);
+  const revalidator = useRevalidator();
+  const wasActive = ACTIVE.has(initial.status);
+  useEffect(() => {
+    // Refresh the page's job list once the job ends.
+    if (wasActive && !active) void revalidator.revalidate();
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [active]);
   useEffect(() => {
     if (!active) return;
     const t = setInterval(() => {

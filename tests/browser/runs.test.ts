@@ -87,16 +87,21 @@ describe.runIf(run)("running a suite from the browser", () => {
     expect(await page.textContent("[data-testid=job-progress]")).toContain("2/2 cases");
     expect(await page.textContent("[data-testid=job-log]")).toContain("bench/run.ts");
     await screenshot(page, "run-suite-done");
-    await Promise.all([page.waitForURL(/\/runs\/[0-9a-f-]{36}$/), page.click("[data-testid=job-run-link]")]);
+    await page.click("[data-testid=job-run-link]");
+    await page.waitForSelector("[data-testid=run-matrix]", { timeout: 20_000 }).catch(async (err) => {
+      await screenshot(page, "run-page-failed");
+      throw new Error(`${(err as Error).message}\nURL ${page.url()}\n${(await page.textContent("main"))?.slice(0, 2000)}\n${server.log().slice(-3000)}`);
+    });
     runUrl = page.url();
-    await hydrated(page);
+    expect(runUrl).toMatch(/\/runs\/[0-9a-f-]{36}$/);
     expect(await page.locator("[data-testid=matrix-cell]").count()).toBe(2);
     expect(await page.textContent("h1")).toContain("tiny");
     expect(await page.textContent("main")).toContain(BRANCH);
     await page.waitForSelector("[data-testid=flight-caution]");
     await screenshot(page, "run-page");
-    await Promise.all([page.waitForURL(/\/cases\/\d+$/), page.locator("[data-testid=matrix-cell]").first().click()]);
-    await hydrated(page);
+    await page.locator("[data-testid=matrix-cell]").first().click();
+    await page.waitForSelector("[data-testid=case-status]", { timeout: 20_000 });
+    expect(page.url()).toMatch(/\/cases\/\d+$/);
     await page.waitForSelector("[data-testid=trajectory-chart] svg path.recharts-curve", { timeout: 20_000 });
     expect(await page.locator("[data-testid=iteration-log] tbody tr").count()).toBeGreaterThan(2);
     await screenshot(page, "case-page");
@@ -120,6 +125,7 @@ describe.runIf(run)("running a suite from the browser", () => {
     expect(status).toBe(403);
     const apiStatus = await page.evaluate(async () => (await fetch("/api/jobs", { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify({ kind: "bench", payload: { suite: "tiny" } }) })).status);
     expect(apiStatus).toBe(403);
+    expect(runUrl).not.toBe("");
     await page.goto(runUrl);
     await hydrated(page);
     expect(await page.locator("[data-testid=matrix-cell]").count()).toBe(2);
