@@ -97,3 +97,10 @@ export async function listSuitesAt(ref: string, root = repoRoot()): Promise<stri
     return [];
   }
 }
+
+/** Removes job worktrees left behind by a server that stopped mid-job (called at worker start). */
+export async function pruneWorktrees(root = repoRoot()): Promise<void> {
+  const base = worktreesDir();
+  if (!fs.existsSync(base)) return;
+  for (const name of fs.readdirSync(base)) if (/^job-\d+$/.test(name)) await removeWorktree(path.join(base, name), root);
+}

@@ -19,7 +19,7 @@ import { pathToFileURL } from "node:url";
 import { databasePath, getDb, type Db } from "~/db/client.server";
 import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, markDeadJobs, runOfJob, type BenchProgress } from "~/models/jobs.server";
 import { expandCases, loadSuite, suitePath } from "../../bench/runner/suite";
-import { addWorktree, removeWorktree, repoRoot, resolveRef } from "./git.server";
+import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
 const HEARTBEAT_MS = 1000;
@@ -48,9 +48,14 @@ interface WorkerState {
 const key = Symbol.for("arcwatch.jobWorker");
 type G = typeof globalThis & { [key]?: WorkerState };
 
-/** Starts the worker once per process (idempotent). Set ARCWATCH_JOB_WORKER=0 to disable. */
+/**
+ * Starts the worker once per process (idempotent). ARCWATCH_JOB_WORKER=0 disables it; servers
+ * started by tests (VITEST set) run it only with ARCWATCH_JOB_WORKER=1, so that a test which
+ * merely queues a job does not start a real suite run in the background.
+ */
 export function startJobWorker(): void {
   if (process.env.ARCWATCH_JOB_WORKER === "0") return;
+  if (process.env.VITEST && process.env.ARCWATCH_JOB_WORKER !== "1") return;
   const g = globalThis as G;
   if (g[key]) return;
   const state: WorkerState = { timer: null, busy: false, child: null };
@@ -66,6 +71,7 @@ export function startJobWorker(): void {
     }
     console.log(`[arcwatch] job ${d.id} marked died (its worker stopped before it finished)`);
   }
+  void pruneWorktrees().catch(() => undefined);
   state.timer = setInterval(() => {
     if (state.busy) return;
     state.busy = true;

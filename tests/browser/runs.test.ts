@@ -47,7 +47,7 @@ describe.runIf(run)("running a suite from the browser", () => {
 
   beforeAll(async () => {
     repo = temporaryRepository();
-    server = await startTestServer({ env: { ARCWATCH_REPO: repo, ARCWATCH_WORKTREES: path.join(ROOT, ".arcwatch-worktrees", path.basename(repo)) } });
+    server = await startTestServer({ env: { ARCWATCH_JOB_WORKER: "1", ARCWATCH_REPO: repo, ARCWATCH_WORKTREES: path.join(ROOT, ".arcwatch-worktrees", path.basename(repo)) } });
     const b = await launchBrowser();
     context = b.context;
     closeBrowser = b.close;
