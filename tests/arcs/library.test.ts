@@ -3,8 +3,7 @@
  * (`reference.arcs` in problems/<id>/problem.json, written by the problem authors from their
  * analysis of each problem): every scheme at the problem's default mesh must give that sequence.
  * Problems without `reference.arcs` are not checked here.
- * The label "free" (used by one file for an unconstrained arc) is read as "interior", the
- * vocabulary of app/engine/arcs/types.ts.
+ * Labels are the vocabulary of app/engine/arcs/types.ts.
  */
 import { describe, expect, it } from "vitest";
 import { loadLibrary } from "~/engine/problem/load";
@@ -20,7 +19,7 @@ describe("arc detection on the library", () => {
     expect(withArcs.length).toBeGreaterThan(0);
   });
   for (const p of withArcs) {
-    const expected = p.reference.arcs!.map((a) => (a === "free" ? "interior" : a)).join("|");
+    const expected = p.reference.arcs!.join("|");
     for (const scheme of SCHEME_IDS) {
       it(`${p.id} with ${scheme}: ${expected}`, () => {
         const mesh = { intervals: p.defaults?.intervals ?? 40, degree: scheme === "lgr" ? p.defaults?.degree : undefined };

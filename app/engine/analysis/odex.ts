@@ -8,8 +8,13 @@
  */
 import { createRequire } from "node:module";
 
-interface OdexResult {
+export type OdexDerivative = (x: number, y: number[]) => number[];
+/** Called after every accepted step; return false to stop early. */
+export type OdexOutput = (nr: number, xOld: number, x: number, y: number[]) => boolean | void;
+
+export interface OdexResult {
   y: number[];
+  /** 0 converged, 1 maximum steps exceeded, 2 early return. */
   outcome: number;
   nStep: number;
   xEnd: number;
@@ -18,13 +23,15 @@ interface OdexResult {
   nEval: number;
 }
 
-interface OdexSolver {
-  absoluteTolerance: number | number[];
-  relativeTolerance: number | number[];
+export interface OdexSolver {
+  n: number;
   maxSteps: number;
   initialStepSize: number;
+  maxStepSize: number;
+  relativeTolerance: number | number[];
+  absoluteTolerance: number | number[];
   denseOutput: boolean;
-  solve(f: (x: number, y: number[]) => number[], x: number, y0: number[], xEnd: number): OdexResult;
+  solve(f: OdexDerivative, x: number, y0: number[], xEnd: number, solOut?: OdexOutput): OdexResult;
 }
 
 interface OdexModule {
@@ -35,6 +42,11 @@ interface OdexModule {
 
 const require = createRequire(import.meta.url);
 const odex = require("odex") as OdexModule;
+
+/** A fresh ODEX solver for n components (the shooting refinement sets its own options and step callback). */
+export function createOdexSolver(n: number): OdexSolver {
+  return new odex.Solver(n);
+}
 
 export interface IntegrateOptions {
   rtol: number;
