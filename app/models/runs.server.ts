@@ -328,3 +328,48 @@ export function ingestRun(db: Db, text: string): IngestOutcome {
   }
   return { ok: true, created: true, runId: id, newRegressions };
 }
+
+// ---------------------------------------------------------------------------------------
+// Overview: the state of main and of each active branch
+// ---------------------------------------------------------------------------------------
+
+export interface OverviewState {
+  branches: { branch: string; runId: string; suite: string; commitHash: string; commitSubject: string | null; status: string; startedAt: number; cases: number; solved: number; regressions: number; isDemo: boolean }[];
+  openByKind: { kind: string; total: number; small: number; medium: number; large: number }[];
+  health: { runId: string; commitHash: string; startedAt: number; cases: number; solved: number; regressions: number }[];
+  healthBranch: string;
+  inProgress: { runId: string; suite: string; branch: string | null; commitHash: string; startedAt: number; cases: number; jobId: number | null }[];
+}
+
+/**
+ * Last run per branch (the 8 most recently active), open regressions by kind and size
+ * (|ln ratio| < ln 1.5, < ln 3, larger; unknown ratios count as small), solved share over the
+ * last 20 runs of main (or of the most recent branch when main has none), runs still running.
+ */
+export function overviewState(db: Db): OverviewState {
+  const latestPerBranch = db.all<{ id: string }>(sql`select id from (select id, row_number() over (partition by branch order by started_at desc) rn, started_at from runs where branch is not null) where rn = 1 order by started_at desc limit 8`);
+  const ids = latestPerBranch.map((r) => r.id);
+  const meta = ids.length
+    ? db.select({ id: runs.id, branch: runs.branch, suite: suites.name, commitHash: runs.commitHash, commitSubject: runs.commitSubject, status: runs.status, startedAt: runs.startedAt, isDemo: runs.isDemo }).from(runs).innerJoin(suites, eq(suites.id, runs.suiteId)).where(inArray(runs.id, ids)).all()
+    : [];
+  const cc = caseCounts(db, ids);
+  const rc = regressionCounts(db, ids);
+  const branches = ids
+    .map((id) => meta.find((m) => m.id === id)!)
+    .map((m) => ({ branch: m.branch!, runId: m.id, suite: m.suite, commitHash: m.commitHash, commitSubject: m.commitSubject, status: m.status, startedAt: m.startedAt.getTime(), cases: cc.get(m.id)?.cases ?? 0, solved: cc.get(m.id)?.solved ?? 0, regressions: rc.get(m.id)?.regressions ?? 0, isDemo: m.isDemo }));
+  const openByKind = db.all<{ kind: string; total: number; small: number; medium: number; large: number }>(sql`
+    select kind, count(*) total,
+      sum(case when ratio is null or ratio <= 0 or abs(ln(ratio)) < ln(1.5) then 1 else 0 end) small,
+      sum(case when ratio > 0 and abs(ln(ratio)) >= ln(1.5) and abs(ln(ratio)) < ln(3) then 1 else 0 end) medium,
+      sum(case when ratio > 0 and abs(ln(ratio)) >= ln(3) then 1 else 0 end) large
+    from regressions where status = 'open' and direction = 'regression' group by kind order by total desc`);
+  const healthBranch = db.select({ b: runs.branch }).from(runs).where(eq(runs.branch, "main")).limit(1).get() ? "main" : (branches[0]?.branch ?? "main");
+  const recent = db.select({ id: runs.id, commitHash: runs.commitHash, startedAt: runs.startedAt }).from(runs).where(and(eq(runs.branch, healthBranch), eq(runs.status, "complete"))).orderBy(desc(runs.startedAt)).limit(20).all().reverse();
+  const hc = caseCounts(db, recent.map((r) => r.id));
+  const hr = regressionCounts(db, recent.map((r) => r.id));
+  const health = recent.map((r) => ({ runId: r.id, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: hc.get(r.id)?.cases ?? 0, solved: hc.get(r.id)?.solved ?? 0, regressions: hr.get(r.id)?.regressions ?? 0 }));
+  const running = db.select({ id: runs.id, suite: suites.name, branch: runs.branch, commitHash: runs.commitHash, startedAt: runs.startedAt, jobId: runs.jobId }).from(runs).innerJoin(suites, eq(suites.id, runs.suiteId)).where(eq(runs.status, "running")).orderBy(desc(runs.startedAt)).limit(10).all();
+  const rcc = caseCounts(db, running.map((r) => r.id));
+  const inProgress = running.map((r) => ({ runId: r.id, suite: r.suite, branch: r.branch, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: rcc.get(r.id)?.cases ?? 0, jobId: r.jobId }));
+  return { branches, openByKind, health, healthBranch, inProgress };
+}

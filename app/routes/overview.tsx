@@ -6,6 +6,8 @@ import { Field, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { benchJobPayload, enqueueJob, listJobs } from "~/models/jobs.server";
 import { overviewCounts } from "~/models/overview.server";
+import { overviewState } from "~/models/runs.server";
+import { OverviewPanels } from "~/components/charts/OverviewState";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
 import { roleAtLeast, ROLE_DESCRIPTIONS } from "~/services/roles";
@@ -22,7 +24,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     status: j.status,
     createdAt: j.createdAt,
   }));
-  return { role: user.role, counts: overviewCounts(db), jobs };
+  return { role: user.role, counts: overviewCounts(db), jobs, state: overviewState(db) };
 }
 
 /** Engineers queue a benchmark job for a suite (the job worker runs it). */
@@ -48,7 +50,7 @@ function Stat({ label, value, testId }: { label: string; value: number; testId: 
 }
 
 export default function Overview({ loaderData, actionData }: Route.ComponentProps) {
-  const { counts, role, jobs } = loaderData;
+  const { counts, role, jobs, state } = loaderData;
   const busy = useNavigation().state === "submitting";
   return (
     <div className="space-y-8">
@@ -66,6 +68,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
         <Stat label="Reference problems" value={counts.problems} testId="count-problems" />
         <Stat label="Open regressions" value={counts.openRegressions} testId="count-open-regressions" />
       </div>
+      <OverviewPanels state={state} />
       {counts.latestRun ? (
         <section className="card p-5">
           <h2 className="font-semibold">Latest run</h2>
