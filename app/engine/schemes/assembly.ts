@@ -148,6 +148,12 @@ export class Assembly {
   /** ω per site output (length = total outputs). */
   private readonly omega: Float64Array;
   private readonly wBuf: Float64Array;
+  /** Per-site views of Z, F, J, H and of wBuf (length nOut), made once: a subarray per site and call allocated ~3 objects per site per evaluation. */
+  private readonly zView: Float64Array[];
+  private readonly fView: Float64Array[];
+  private readonly jView: Float64Array[];
+  private readonly hView: Float64Array[];
+  private readonly wView: Float64Array[];
   private readonly siteScaled: Uint8Array;
 
   // input maps, flattened per site input
@@ -221,6 +227,21 @@ export class Assembly {
     let maxOut = 1;
     for (const s of sites) maxOut = Math.max(maxOut, s.fn.nOut);
     this.wBuf = new Float64Array(maxOut);
+    this.zView = [];
+    this.fView = [];
+    this.jView = [];
+    this.hView = [];
+    this.wView = [];
+    const wByOut = new Map<number, Float64Array>();
+    for (let s = 0; s < nSite; s++) {
+      const nOut = sites[s].fn.nOut;
+      this.zView.push(this.Z.subarray(this.zOff[s], this.zOff[s + 1]));
+      this.fView.push(this.F.subarray(this.fOff[s], this.fOff[s + 1]));
+      this.jView.push(this.J.subarray(this.jOff[s], this.jOff[s + 1]));
+      this.hView.push(this.H.subarray(this.hOff[s], this.hOff[s + 1]));
+      if (!wByOut.has(nOut)) wByOut.set(nOut, this.wBuf.subarray(0, nOut));
+      this.wView.push(wByOut.get(nOut)!);
+    }
 
     // flattened input maps
     const nInTot = this.zOff[nSite];
@@ -458,7 +479,7 @@ export class Assembly {
     }
     if (this.haveF && (!needJ || this.haveJ)) return;
     const sites = this.spec.sites;
-    const { Z, F, J, inStart, inVar, inCoef, inConst } = this;
+    const { Z, inStart, inVar, inCoef, inConst } = this;
     if (!this.haveF) {
       for (let g = 0; g < Z.length; g++) {
         let v = inConst[g];
@@ -468,9 +489,9 @@ export class Assembly {
     }
     for (let s = 0; s < this.nSite; s++) {
       const fn = sites[s].fn;
-      const z = Z.subarray(this.zOff[s], this.zOff[s + 1]);
-      if (!this.haveF) fn.eval(z, F.subarray(this.fOff[s], this.fOff[s + 1]));
-      if (needJ && !this.haveJ) fn.jac(z, J.subarray(this.jOff[s], this.jOff[s + 1]));
+      const z = this.zView[s];
+      if (!this.haveF) fn.eval(z, this.fView[s]);
+      if (needJ && !this.haveJ) fn.jac(z, this.jView[s]);
     }
     this.haveF = true;
     if (needJ) this.haveJ = true;
@@ -530,15 +551,15 @@ export class Assembly {
       const fn = sites[s].fn;
       if (fn.hessRows.length === 0) continue;
       const f0 = this.fOff[s];
-      const w = this.wBuf.subarray(0, fn.nOut);
+      const w = this.wView[s];
       const fac = this.siteScaled[s] ? T : 1;
       let any = false;
       for (let i = 0; i < fn.nOut; i++) {
         w[i] = fac * om[f0 + i];
         if (w[i] !== 0) any = true;
       }
-      const h = this.H.subarray(this.hOff[s], this.hOff[s + 1]);
-      if (any) fn.hess(this.Z.subarray(this.zOff[s], this.zOff[s + 1]), w, h);
+      const h = this.hView[s];
+      if (any) fn.hess(this.zView[s], w, h);
       else h.fill(0);
     }
     out.fill(0);
