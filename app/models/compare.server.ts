@@ -22,6 +22,12 @@ import { SCHEMES } from "./problems.server";
 export const ERROR_METRICS = ["objective", "state"] as const;
 export type ErrorMetric = (typeof ERROR_METRICS)[number];
 
+/**
+ * Errors below this are round-off, not discretisation error (a scheme exact for the problem):
+ * left out of the order fit (common practice, no source).
+ */
+export const FIT_NOISE_FLOOR = 1e-13;
+
 /** Smallest accuracy cost (an exact answer stays a positive, finite cost). */
 export const ACCURACY_FLOOR = 1e-16;
 
@@ -167,7 +173,8 @@ export function buildViews(points: ComparePoint[], tol: number): Omit<CompareVie
   const ok = (p: ComparePoint) => p.solved && p.error !== null && Number.isFinite(p.error);
   const convergence: SchemeConvergence[] = schemes.map((s) => {
     const pts = points.filter((p) => p.scheme === s && ok(p) && p.error! > 0).map((p) => ({ intervals: p.intervals, error: p.error! }));
-    const fit = problems.length === 1 ? fitConvergenceOrder(pts.map((p) => p.intervals), pts.map((p) => p.error)) : null;
+    const fitPts = pts.filter((p) => p.error >= FIT_NOISE_FLOOR);
+    const fit = problems.length === 1 ? fitConvergenceOrder(fitPts.map((p) => p.intervals), fitPts.map((p) => p.error)) : null;
     return { scheme: s, theoreticalOrder: theoretical(s), fittedOrder: fit?.order ?? null, fitConstant: fit?.constant ?? null, points: pts };
   });
   const cheapest: CheapestRow[] = problems.map((pid) => {

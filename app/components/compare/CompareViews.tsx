@@ -144,7 +144,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes; dashed: the theoretical slope from the coarsest point.</p>
+          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); dashed: the theoretical slope from the coarsest point.</p>
         </section>
       ) : null}
       <section className="card space-y-2 p-4" data-testid="work-precision">
