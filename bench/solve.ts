@@ -103,8 +103,13 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
 const fmt = (v: number | null | undefined, digits = 3) => (v === null || v === undefined ? "—" : Number.isFinite(v) ? v.toExponential(digits) : String(v));
 const fix = (v: number | null | undefined, digits = 10) => (v === null || v === undefined ? "—" : v.toPrecision(digits));
 
+/** Column heads of Arcwatch's iteration log (our own layout: see DEVELOPERS.md, Command line). */
+export const LOG_HEAD = " step ph        objective  primal viol    dual viol   barrier μ    |step x|   hess reg   α primal     α dual  tries  notes";
+
 function logLine(r: IterationRecord): string {
-  return `${String(r.iter).padStart(4)}${r.phase === "restoration" ? "r" : " "} ${r.f.toExponential(7).padStart(15)} ${r.infPr.toExponential(2).padStart(9)} ${r.infDu.toExponential(2).padStart(9)} ${Math.log10(Math.max(r.mu, 1e-300)).toFixed(1).padStart(6)} ${r.normD.toExponential(2).padStart(9)} ${(r.deltaW > 0 ? Math.log10(r.deltaW).toFixed(1) : "-").padStart(5)} ${r.alphaDu.toExponential(2).padStart(9)} ${r.alphaPr.toExponential(2).padStart(9)}${String(r.lsTrials).padStart(3)} ${r.info}`;
+  const e = (v: number, w = 11) => (Number.isFinite(v) ? v.toExponential(2) : String(v)).padStart(w);
+  const phase = r.phase === "restoration" ? "rs" : "  ";
+  return `${String(r.iter).padStart(5)} ${phase} ${r.f.toExponential(8).padStart(16)} ${e(r.infPr, 12)} ${e(r.infDu, 12)} ${e(r.mu)} ${e(r.normD)} ${r.deltaW > 0 ? e(r.deltaW, 10) : "0".padStart(10)} ${e(r.alphaPr, 10)} ${e(r.alphaDu, 10)} ${String(r.lsTrials).padStart(6)}  ${r.info}`;
 }
 
 function summary(rep: SolveReport, title: string): string {
@@ -154,7 +159,7 @@ function main(): number {
   if (args.maxIter !== undefined) nlp.maxIter = args.maxIter;
   if (!args.quiet) {
     process.stderr.write(`solving ${problem.id} with ${scheme}, ${mesh.intervals} intervals${mesh.degree ? ` × degree ${mesh.degree}` : ""}\n`);
-    process.stderr.write(" iter       objective     inf_pr    inf_du  lg(mu)   ||d||   lg(rg)  alpha_du  alpha_pr ls\n");
+    process.stderr.write(`${LOG_HEAD}\n`);
     nlp.onIteration = (r) => process.stderr.write(`${logLine(r)}\n`);
   }
   const rep = solveProblem(problem, scheme, mesh, { nlp, resimulate: args.resim });

@@ -12,6 +12,7 @@ import { getScheme } from "./schemes/index";
 import { DEFAULT_LGR_DEGREE } from "./schemes/lgr";
 import { resimulate } from "./analysis/resimulate";
 import { solutionErrors, type SolutionErrors } from "./analysis/errors";
+import { detectArcs, type ArcStructure } from "./arcs/index";
 
 export interface SolveTrajectory {
   t: number[];
@@ -42,6 +43,8 @@ export interface SolveReport {
   constraintViolation: number | null;
   errors: SolutionErrors;
   trajectory: SolveTrajectory | null;
+  /** Arc structure of a converged solution, from the scheme's own Solution (path multipliers included). */
+  arcs: ArcStructure | null;
   log: IterationRecord[];
 }
 
@@ -51,6 +54,8 @@ export interface SolveOptions {
   resimulate?: boolean;
   /** Include the trajectory in the report (default true). */
   keepTrajectory?: boolean;
+  /** Detect the arc structure of converged solutions (default true). */
+  arcs?: boolean;
 }
 
 const NO_ERRORS: SolutionErrors = {
@@ -81,6 +86,7 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     constraintViolation: null,
     errors: { ...NO_ERRORS },
     trajectory: null,
+    arcs: null,
     log: [],
   };
   const tA = performance.now();
@@ -124,6 +130,13 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     if (options.resimulate !== false) {
       const r = resimulate(problem, sol);
       report.resim = { finalMiss: r.finalMiss, maxPathViolation: r.maxPathViolation };
+    }
+    if (options.arcs !== false) {
+      try {
+        report.arcs = detectArcs(problem, sol);
+      } catch (e) {
+        report.message += `; arc detection failed: ${(e as Error).message}`;
+      }
     }
   }
   if (options.keepTrajectory !== false) report.trajectory = trajectoryOf(problem, sol);

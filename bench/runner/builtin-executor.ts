@@ -22,10 +22,12 @@ export const createExecutor: CreateExecutor = (context) => ({
     const problem = loaded.problem;
     return {
       solve: (): CaseReport => solveProblem(problem, spec.scheme, mesh),
-      // Arc structure for the "structure" rule, after timing, for converged solves only.
+      // Arc structure for the "structure" rule: the engine's own (from the scheme's Solution), or,
+      // when a report carries none, rebuilt from its trajectory after timing.
       finish: (report: CaseReport): CaseReport => {
         const r = report as ReturnType<typeof solveProblem>;
         if (r.status !== "optimal" && r.status !== "acceptable") return report;
+        if (r.arcs) return report;
         const arcs = arcsOfReport(problem, spec.scheme, r.trajectory, r.objective);
         return arcs ? { ...report, arcs } : report;
       },
