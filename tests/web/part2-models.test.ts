@@ -123,6 +123,22 @@ describe("adding a problem", () => {
     if (!broken.ok) expect(broken.errors.states).toMatch(/line 1/);
   });
 
+  it("a builder submission compiles, and a compiler error lands at the builder field", async () => {
+    const fd = new FormData();
+    const fields: Record<string, string> = { mode: "form", id: "plover-built", title: "Plover built", tags: "smooth", constants: "k = 2 ; 1/s", states: "x, m, , , 0, 1\nv, m/s, , , 0, 0", controls: "u, m/s^2, -k*10, k*10", dynamics: "x' = v\nv' = uu", t0: "0", tfKind: "fixed", tf: "1", sense: "min", running: "u^2/2", refObjective: "6", refTolerance: "1e-9", refKind: "analytic", refDetail: "u = 6 - 12t" };
+    for (const [k, v] of Object.entries(fields)) fd.set(k, v);
+    const bad = await problemsModel.readProblemSubmission(fd);
+    expect(bad.files).toBeNull();
+    expect(bad.errors.dynamics).toMatch(/dynamics\.v, column 1: unknown name 'uu' — did you mean 'u'\?/);
+    expect(bad.values.dynamics).toBe(fields.dynamics);
+    fd.set("dynamics", "x' = v\nv' = u");
+    const good = await problemsModel.readProblemSubmission(fd);
+    expect(good.errors).toEqual({});
+    const json = JSON.parse(good.files!.problemJson);
+    expect(json.controls).toEqual([{ name: "u", unit: "m/s^2", lower: "-k*10", upper: "k*10" }]);
+    expect(json.final).toEqual({ x: 1, v: 0 });
+  });
+
   it("trial-solves, saves a version, and an edit makes a new version without touching old results", async () => {
     const files = { problemJson: JSON.stringify(PLOVER, null, 2) };
     const trial = await problemsModel.trialSolve(files, "plover-cart", "hermite-simpson", 10);
