@@ -16,15 +16,15 @@ export function OverviewPanels({ state }: { state: OverviewState }) {
         <h2 id="branches-title" className="mb-2 font-semibold">Last run per branch</h2>
         {branches.length === 0 ? <p className="text-sm text-muted">No runs on any branch yet.</p> : (
           <table className="w-full text-sm">
-            <thead className="text-left text-muted"><tr><th className="py-1">Branch</th><th>Commit</th><th>Suite</th><th className="text-right">Solved</th><th className="text-right">Regressions</th><th>Started</th></tr></thead>
+            <thead className="text-left text-muted"><tr><th className="py-1 pr-3">Branch</th><th className="pr-3">Commit</th><th className="pr-3">Suite</th><th className="pr-3 text-right">Solved</th><th className="pr-3 text-right">Regressions</th><th>Started</th></tr></thead>
             <tbody>
               {branches.map((b) => (
                 <tr key={b.branch} className="border-t border-line/60">
                   <td className="py-1.5"><span className="flex items-center gap-2"><Link className="font-medium text-accent hover:underline" to={`/runs?branch=${encodeURIComponent(b.branch)}`}>{b.branch}</Link><DemoBadge show={b.isDemo} /></span></td>
                   <td><Link to={`/runs/${b.runId}`} className="hover:underline"><code className="num">{b.commitHash.slice(0, 10)}</code></Link> <span className="text-xs text-muted">{b.commitSubject?.slice(0, 50)}</span></td>
                   <td>{b.suite}</td>
-                  <td className="num text-right">{b.solved}/{b.cases}</td>
-                  <td className={`num text-right ${b.regressions ? "font-semibold text-bad" : "text-muted"}`}>{b.regressions}</td>
+                  <td className="num pr-3 text-right">{b.solved}/{b.cases}</td>
+                  <td className={`num pr-3 text-right ${b.regressions ? "font-semibold text-bad" : "text-muted"}`}>{b.regressions}</td>
                   <td className="num text-xs">{fmtDate(b.startedAt)}{b.status !== "complete" ? ` · ${b.status}` : ""}</td>
                 </tr>
               ))}

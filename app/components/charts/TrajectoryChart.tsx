@@ -12,6 +12,13 @@ function points(s: Series | null, name: string): { t: number; v: number }[] {
   return s.t.map((t, i) => ({ t, v: col[i]! })).filter((p) => Number.isFinite(p.t) && Number.isFinite(p.v));
 }
 
+/** Axis ticks in at most 4 significant digits. */
+function tick(v: number): string {
+  if (!Number.isFinite(v)) return "";
+  const a = Math.abs(v);
+  return a !== 0 && (a >= 1e5 || a < 1e-3) ? v.toExponential(2) : String(Number(v.toPrecision(4)));
+}
+
 export function TrajectoryChart({ name, solution, reference, referenceName, width = 420, height = 220, step = false }: { name: string; solution: Series | null; reference: Series | null; referenceName?: string; width?: number; height?: number; step?: boolean }) {
   const sol = points(solution, name);
   const ref = points(reference, referenceName ?? name);
@@ -20,8 +27,8 @@ export function TrajectoryChart({ name, solution, reference, referenceName, widt
       <figcaption className="mb-1 text-sm font-medium">{name}</figcaption>
       <LineChart width={width} height={height} margin={{ top: 5, right: 12, bottom: 5, left: 0 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
-        <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} allowDuplicatedCategory={false} />
-        <YAxis type="number" domain={["auto", "auto"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={56} />
+        <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={tick} allowDuplicatedCategory={false} />
+        <YAxis type="number" domain={["auto", "auto"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={tick} width={64} />
         <Tooltip contentStyle={{ background: "var(--aw-surface)", border: "1px solid var(--aw-line)", fontSize: 12 }} formatter={(v) => (typeof v === "number" ? v.toPrecision(6) : String(v))} labelFormatter={(t) => `t = ${typeof t === "number" ? t.toPrecision(5) : t}`} />
         <Legend wrapperStyle={{ fontSize: 11 }} />
         {ref.length ? <Line data={ref} dataKey="v" name="reference" stroke="var(--aw-muted)" strokeDasharray="5 4" dot={false} isAnimationActive={false} /> : null}
