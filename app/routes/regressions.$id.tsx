@@ -23,7 +23,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 const BEFORE = "#1f6feb";
 const AFTER = "#b3261e";
 const REF = "#4d5966";
-const num = (v: number | null | undefined) => (v === null || v === undefined ? "—" : Math.abs(v) < 1e-3 || Math.abs(v) >= 1e4 ? v.toExponential(3) : v.toPrecision(5));
+const num = (v: number | null | undefined) => (v === null || v === undefined ? "—" : Number.isInteger(v) ? String(v) : Math.abs(v) < 1e-3 || Math.abs(v) >= 1e4 ? v.toExponential(3) : v.toPrecision(5));
 const when = (ms: number) => new Date(ms).toISOString().replace("T", " ").slice(0, 19);
 
 type ApiResult = { ok?: boolean; errors?: Record<string, string>; error?: string };
