@@ -1,4 +1,5 @@
-import { data, Link } from "react-router";
+import { data, Link, useSearchParams } from "react-router";
+import { Notice } from "~/components/Field";
 import type { Route } from "./+types/problems.$id";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { formatError, SchemeStateCell } from "~/components/problems/SchemeState";
@@ -23,6 +24,7 @@ const when = (ms: number) => (ms ? new Date(ms).toISOString().replace("T", " ").
 
 export default function ProblemPage({ loaderData }: Route.ComponentProps) {
   const { detail: d, canEdit } = loaderData;
+  const saved = useSearchParams()[0].get("saved");
   const tex = d.tex;
   const dyn = d.stateNames.filter((s) => tex[`dynamics.${s}`] !== undefined);
   const inter = Object.keys(tex).filter((k) => k.startsWith("intermediates."));
@@ -59,6 +61,7 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
         </div>
       </div>
 
+      <Notice message={saved ? `Saved: version ${saved}. Suites that select its tags include it from their next run on.` : null} />
       <section className="card space-y-3 p-5" data-testid="equations">
         <h2 className="text-lg font-semibold">Equations</h2>
         <p>
@@ -176,12 +179,12 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
         <table className="w-full text-left text-sm" data-testid="best-results">
           <thead className="text-muted">
             <tr>
-              <th className="font-medium">scheme</th>
-              <th className="font-medium">latest run</th>
-              <th className="font-medium">best mesh</th>
-              <th className="text-right font-medium">rel. objective error</th>
-              <th className="text-right font-medium">median time</th>
-              <th className="font-medium">commit</th>
+              <th className="pr-4 font-medium">scheme</th>
+              <th className="pr-4 font-medium">latest run</th>
+              <th className="pr-4 font-medium">best mesh</th>
+              <th className="pr-4 text-right font-medium">rel. objective error</th>
+              <th className="pr-4 text-right font-medium">median time</th>
+              <th className="pl-4 font-medium">commit</th>
             </tr>
           </thead>
           <tbody>
@@ -195,8 +198,8 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
                   </td>
                   <td className="num py-2">{b ? `${b.intervals}${b.degree ? `×${b.degree}` : ""}` : "—"}</td>
                   <td className="num py-2 text-right">{b ? formatError(b.errorRel) : "—"}</td>
-                  <td className="num py-2 text-right">{b?.medianSeconds != null ? `${(b.medianSeconds * 1000).toFixed(1)} ms` : "—"}</td>
-                  <td className="num py-2">{b ? <Link to={`/cases/${b.caseId}`} className="hover:underline">{b.commitHash.slice(0, 10)}</Link> : ""}</td>
+                  <td className="num py-2 pr-4 text-right">{b?.medianSeconds != null ? `${(b.medianSeconds * 1000).toFixed(1)} ms` : "—"}</td>
+                  <td className="num py-2 pl-4">{b ? <Link to={`/cases/${b.caseId}`} className="hover:underline">{b.commitHash.slice(0, 10)}</Link> : ""}</td>
                 </tr>
               );
             })}
