@@ -111,6 +111,22 @@ describe.runIf(run)("running a suite from the browser", () => {
     await screenshot(page, "runs-table");
   }, 300_000);
 
+  it("an engineer cancels a running job, and the worker stops it", async () => {
+    await page.goto(url(`/run-suite?ref=${encodeURIComponent(BRANCH)}`));
+    await hydrated(page);
+    await page.selectOption("[data-testid=suite-picker]", "tiny");
+    await Promise.all([page.waitForURL(/job=\d+/), page.click("[data-testid=start-run]")]);
+    await hydrated(page);
+    await page.waitForSelector("[data-testid=job-panel][data-status=running]", { timeout: 60_000 });
+    await page.click("[data-testid=job-cancel]");
+    await page.waitForSelector("[data-testid=job-panel][data-status=cancelled]", { timeout: 30_000 });
+    await screenshot(page, "run-suite-cancelled");
+    const jobId = new URL(page.url()).searchParams.get("job");
+    await expect
+      .poll(async () => page.evaluate(async (id) => ((await (await fetch(`/api/jobs/${id}`)).json()) as { job: { finishedAt: number | null } }).job.finishedAt, jobId), { timeout: 30_000 })
+      .not.toBeNull();
+  }, 120_000);
+
   it("a viewer sees the pages without the start button, and a forged start gets 403", async () => {
     await signInAs("viewer");
     await page.goto(url(`/run-suite?ref=${encodeURIComponent(BRANCH)}`));
@@ -131,7 +147,13 @@ describe.runIf(run)("running a suite from the browser", () => {
     expect(await page.locator("[data-testid=matrix-cell]").count()).toBe(2);
     await page.goto(url("/history"));
     await hydrated(page);
-    await page.waitForSelector("[data-testid=history-chart] svg", { timeout: 20_000 });
+    await page.waitForSelector("[data-testid=history-point]", { timeout: 20_000 });
+    await page.hover("[data-testid=history-point]");
+    await page.waitForSelector("[data-testid=history-tooltip]");
+    expect(await page.textContent("[data-testid=history-tooltip]")).toContain("Two-case suite for the browser test");
     await screenshot(page, "history-viewer");
+    await page.click("[data-testid=history-point]");
+    await page.waitForSelector("[data-testid=run-matrix]", { timeout: 20_000 });
+    expect(page.url()).toBe(runUrl);
   }, 120_000);
 });
