@@ -66,12 +66,20 @@ export interface ProfileView {
   profile: PerformanceProfile | null;
 }
 
+export interface ProblemOrders {
+  problemId: string;
+  /** Fitted order per scheme (null: fewer than two meshes above the noise floor). */
+  orders: Record<string, number | null>;
+}
+
 export interface CompareView {
   commit: string | null;
   commitSubject: string | null;
   runIds: string[];
   points: ComparePoint[];
   convergence: SchemeConvergence[];
+  /** Fitted order per problem and scheme (every problem of the selection). */
+  ordersByProblem: ProblemOrders[];
   cheapest: CheapestRow[];
   timeProfile: ProfileView;
   accuracyProfile: ProfileView;
@@ -177,6 +185,15 @@ export function buildViews(points: ComparePoint[], tol: number): Omit<CompareVie
     const fit = problems.length === 1 ? fitConvergenceOrder(fitPts.map((p) => p.intervals), fitPts.map((p) => p.error)) : null;
     return { scheme: s, theoreticalOrder: theoretical(s), fittedOrder: fit?.order ?? null, fitConstant: fit?.constant ?? null, points: pts };
   });
+  const ordersByProblem: ProblemOrders[] = problems.map((pid) => ({
+    problemId: pid,
+    orders: Object.fromEntries(
+      schemes.map((s) => {
+        const pts = points.filter((p) => p.problemId === pid && p.scheme === s && ok(p) && p.error! >= FIT_NOISE_FLOOR);
+        return [s, fitConvergenceOrder(pts.map((p) => p.intervals), pts.map((p) => p.error!))?.order ?? null];
+      }),
+    ),
+  }));
   const cheapest: CheapestRow[] = problems.map((pid) => {
     let best: ComparePoint | null = null;
     for (const p of points) {
@@ -204,6 +221,7 @@ export function buildViews(points: ComparePoint[], tol: number): Omit<CompareVie
   const profile = (cost: (number | null)[][]) => (problems.length && schemes.length ? performanceProfile(cost) : null);
   return {
     convergence,
+    ordersByProblem,
     cheapest,
     timeProfile: { schemes, problems, profile: profile(timeCost) },
     accuracyProfile: { schemes, problems, profile: profile(accCost) },

@@ -157,5 +157,12 @@ describe.runIf(run)("adding a problem and comparing schemes in the browser", () 
     await page.waitForSelector("[data-testid=convergence] svg circle");
     await page.waitForSelector("[data-testid=profile-time] svg path", { state: "attached" });
     await screenshot(page, "part2-compare");
+
+    // The whole library at the same commit: fitted orders per problem, profiles over problems.
+    await page.goto(`${server.url}/compare?a=${commit}`);
+    await hydrated(page);
+    expect(await page.textContent("[data-testid=orders-by-problem]")).toContain("plover-cart");
+    expect(await page.locator("[data-testid=profile-accuracy] [data-profile-scheme]").count()).toBe(2);
+    await screenshot(page, "part2-compare-library");
   });
 });

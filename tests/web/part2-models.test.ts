@@ -235,6 +235,8 @@ describe("comparison", () => {
     expect(two.accuracyProfile.profile!.ratio[1]).toEqual([1, Infinity]);
     expect(two.accuracyProfile.profile!.robustness).toEqual([1, 0.5]);
     expect(two.cheapest.find((c) => c.problemId === "p2")!.scheme).toBeNull();
+    expect(two.ordersByProblem[0]!.orders.trapezoidal).toBeCloseTo(2, 10);
+    expect(two.ordersByProblem[1]!.orders).toEqual({ trapezoidal: null, "hermite-simpson": null });
   });
 });
 

@@ -146,7 +146,41 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
           </table>
           <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); dashed: the theoretical slope from the coarsest point.</p>
         </section>
-      ) : null}
+      ) : (
+        <section className="card space-y-2 overflow-x-auto p-4" data-testid="orders-by-problem">
+          <h3 className="font-medium">Fitted convergence order per problem ({metricLabel})</h3>
+          <table className="text-sm">
+            <thead className="text-muted">
+              <tr>
+                <th className="pr-4 text-left font-medium">problem</th>
+                {view.convergence.map((c) => (
+                  <th key={c.scheme} className="pr-4 text-right font-medium">
+                    {c.scheme}
+                    <span className="block text-xs font-normal">theory {c.theoreticalOrder ?? "spectral"}</span>
+                  </th>
+                ))}
+              </tr>
+            </thead>
+            <tbody>
+              {view.ordersByProblem.map((row) => (
+                <tr key={row.problemId} className="border-t border-line">
+                  <td className="pr-4">
+                    <Link to={`/compare?problem=${encodeURIComponent(row.problemId)}${view.commit ? `&a=${view.commit}` : ""}`} className="hover:underline">
+                      {row.problemId}
+                    </Link>
+                  </td>
+                  {view.convergence.map((c) => (
+                    <td key={c.scheme} className="num pr-4 text-right">
+                      {row.orders[c.scheme] == null ? "—" : row.orders[c.scheme]!.toFixed(2)}
+                    </td>
+                  ))}
+                </tr>
+              ))}
+            </tbody>
+          </table>
+          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions.</p>
+        </section>
+      )}
       <section className="card space-y-2 p-4" data-testid="work-precision">
         <h3 className="font-medium">Work–precision: {metricLabel} against median solve time</h3>
         <PlotSvg series={wp} xLabel="median solve time (s)" yLabel={metricLabel} logX logY />
