@@ -8,7 +8,7 @@ import fs from "node:fs";
 import path from "node:path";
 import { and, desc, eq, sql } from "drizzle-orm";
 import { databasePath, type Db } from "~/db/client.server";
-import { caseResults, problemVersions, problems, runs } from "~/db/schema";
+import { caseResults, problemReferences, problemVersions, problems, runs } from "~/db/schema";
 import { compileProblemSource, type ProblemSourceFiles } from "~/engine/problem/compile";
 import type { ProblemError } from "~/engine/problem/errors";
 import { loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
@@ -363,6 +363,29 @@ export function saveUploadedProblem(db: Db, id: string, files: ProblemSourceFile
       .run();
     const r = tx.insert(problemVersions).values({ problemId: id, contentHash: p.versionHash, json: files.problemJson }).onConflictDoNothing().run();
     newVersion = r.changes > 0;
+    // The version's trusted answers, so that they outlive a later edit of the files.
+    const version = tx.select({ id: problemVersions.id }).from(problemVersions).where(and(eq(problemVersions.problemId, id), eq(problemVersions.contentHash, p.versionHash))).get()!;
+    const ref = p.reference;
+    tx.insert(problemReferences)
+      .values({
+        problemVersionId: version.id,
+        source: "file",
+        objective: ref.objective?.value ?? null,
+        objectiveTolerance: ref.objective?.tolerance ?? null,
+        finalTime: ref.finalTime?.value ?? null,
+        finalTimeTolerance: ref.finalTime?.tolerance ?? null,
+        switchingTimesJson: ref.switchingTimes?.values ?? null,
+        arcsJson: ref.arcs ?? null,
+        trajectoryJson: ref.trajectory ? { t: Array.from(ref.trajectory.t), columns: Object.fromEntries(Object.entries(ref.trajectory.columns).map(([k, v]) => [k, Array.from(v)])) } : null,
+        provenanceJson: {
+          ...(ref.objective ? { objective: ref.objective.provenance } : {}),
+          ...(ref.finalTime ? { finalTime: ref.finalTime.provenance } : {}),
+          ...(ref.switchingTimes ? { switchingTimes: ref.switchingTimes.provenance } : {}),
+          ...(ref.trajectory ? { trajectory: ref.trajectory.provenance } : {}),
+        },
+      })
+      .onConflictDoNothing()
+      .run();
   });
   return { ok: true, id, versionHash: p.versionHash, newVersion };
 }

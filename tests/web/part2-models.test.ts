@@ -175,6 +175,9 @@ describe("adding a problem", () => {
     expect(detail.detail.versions.find((v) => v.contentHash === first.versionHash)!.results).toBe(1);
     expect(detail.detail.versions.find((v) => v.contentHash === second.versionHash)!.results).toBe(0);
     expect(detail.detail.tex["dynamics.v"]).toBe("u");
+    const refs = db.select().from(schema.problemReferences).all();
+    expect(refs.map((r) => r.objective)).toEqual([6, 6]); // one per version
+    expect(refs[0]!.provenanceJson).toEqual({ objective: { kind: "analytic", detail: "u = 6 − 12t" } });
     expect(detail.detail.best[0]).toMatchObject({ scheme: "hermite-simpson", intervals: 10 });
 
     const lib = problemsModel.listProblemLibrary(db);
