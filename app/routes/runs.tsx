@@ -21,7 +21,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 const STATUS_TONE: Record<string, string> = { complete: "text-good", running: "text-accent", interrupted: "text-warn", failed: "text-bad" };
 
 const COLUMNS: ServerColumn<RunListItem>[] = [
-  { id: "startedAt", header: "Started", sortKey: "startedAt", cell: (r) => <Link to={`/runs/${r.id}`} className="num font-medium text-accent hover:underline" data-testid="run-link">{fmtDate(r.startedAt)}</Link> },
+  { id: "startedAt", header: "Started (UTC)", sortKey: "startedAt", cell: (r) => <Link to={`/runs/${r.id}`} className="num whitespace-nowrap font-medium text-accent hover:underline" data-testid="run-link">{fmtDate(r.startedAt).replace(" UTC", "")}</Link> },
   {
     id: "commit",
     header: "Commit",
@@ -29,13 +29,13 @@ const COLUMNS: ServerColumn<RunListItem>[] = [
     cell: (r) => (
       <span className="flex flex-col">
         <code className="num">{r.commitHash.slice(0, 10)}</code>
-        <span className="max-w-[22rem] truncate text-xs text-muted" title={r.commitSubject ?? ""}>{r.commitSubject}</span>
+        <span className="max-w-[16rem] truncate text-xs text-muted" title={r.commitSubject ?? ""}>{r.commitSubject}</span>
       </span>
     ),
   },
-  { id: "branch", header: "Branch", sortKey: "branch", cell: (r) => <span className="flex items-center gap-2">{r.branch ?? <span className="text-muted">(detached)</span>}<DemoBadge show={r.isDemo} /></span> },
+  { id: "branch", header: "Branch", sortKey: "branch", cell: (r) => <span className="flex flex-wrap items-center gap-1">{r.branch ?? <span className="text-muted">(detached)</span>}<DemoBadge show={r.isDemo} /></span> },
   { id: "suite", header: "Suite", sortKey: "suite", cell: (r) => r.suite },
-  { id: "machine", header: "Machine", sortKey: "machine", cell: (r) => <span className="text-xs" title={r.machineKey}>{r.machine}</span> },
+  { id: "machine", header: "Machine", sortKey: "machine", cell: (r) => <span className="block max-w-[9rem] truncate text-xs" title={`${r.machine} · ${r.machineKey}`}>{r.machine}</span> },
   { id: "duration", header: "Duration", sortKey: "duration", align: "right", cell: (r) => fmtSeconds(r.durationSeconds) },
   { id: "solved", header: "Solved", sortKey: "solved", align: "right", cell: (r) => <span className="text-good">{r.solved}</span> },
   { id: "failed", header: "Failed", sortKey: "failed", align: "right", cell: (r) => <span className={r.failed ? "text-bad" : "text-muted"}>{r.failed}</span> },

@@ -25,7 +25,7 @@ function post(role: string, fields: Record<string, string>) {
 
 async function act(role: string, fields: Record<string, string>): Promise<{ status: number; data: { errors: Record<string, string>; notice: string | null } }> {
   try {
-    const out = (await settings.action({ request: post(role, fields), params: {}, context: {} } as never)) as { data: never; init?: { status?: number } };
+    const out = (await settings.action({ request: post(role, fields), params: {}, context: {} } as never)) as unknown as { data: never; init?: { status?: number } };
     return { status: out.init?.status ?? 200, data: out.data };
   } catch (e) {
     if (e instanceof Response) return { status: e.status, data: { errors: {}, notice: null } };

@@ -70,7 +70,7 @@ export function ServerTable<T extends RowData>({ columns, rows, rowKey, sort, di
                   <th
                     key={header.id}
                     scope="col"
-                    className={`px-3 py-2 font-semibold ${col.align === "right" ? "text-right" : ""}`}
+                    className={`whitespace-nowrap px-3 py-2 font-semibold ${col.align === "right" ? "text-right" : ""}`}
                     aria-sort={active ? (dir === "asc" ? "ascending" : "descending") : undefined}
                   >
                     {col.sortKey ? (
@@ -91,7 +91,7 @@ export function ServerTable<T extends RowData>({ columns, rows, rowKey, sort, di
           {table.getRowModel().rows.map((row) => (
             <tr key={row.id} className="border-b border-line/60 last:border-0 hover:bg-raised/40">
               {row.getAllCells().map((cell) => (
-                <td key={cell.id} className={`px-3 py-2 align-top ${byId.get(cell.column.id)?.align === "right" ? "num text-right" : ""}`}>
+                <td key={cell.id} className={`px-3 py-2 align-top ${byId.get(cell.column.id)?.align === "right" ? "num whitespace-nowrap text-right" : ""}`}>
                   <table.FlexRender cell={cell} />
                 </td>
               ))}
