@@ -8,11 +8,11 @@ export function formatError(e: number | null | undefined): string {
 }
 
 export function SchemeStateCell({ state }: { state: SchemeState | undefined }) {
-  if (!state) return <span className="text-muted">not run</span>;
+  if (!state) return <span className="whitespace-nowrap text-muted">not run</span>;
   const all = state.solved === state.cases;
   const none = state.solved === 0;
   return (
-    <Link to={`/runs/${state.runId}`} className="block text-xs hover:underline" data-scheme-state={all ? "solved" : none ? "failed" : "partial"}>
+    <Link to={`/runs/${state.runId}`} className="block whitespace-nowrap text-xs hover:underline" data-scheme-state={all ? "solved" : none ? "failed" : "partial"}>
       <span className={all ? "text-good" : none ? "text-bad" : "text-warn"}>
         {state.solved}/{state.cases} solved
       </span>
