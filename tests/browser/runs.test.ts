@@ -155,5 +155,10 @@ describe.runIf(run)("running a suite from the browser", () => {
     await page.click("[data-testid=history-point]");
     await page.waitForSelector("[data-testid=run-matrix]", { timeout: 20_000 });
     expect(page.url()).toBe(runUrl);
+    await page.goto(url("/settings"));
+    await hydrated(page);
+    await page.waitForSelector("[data-testid=thresholds-tiny]");
+    expect(await page.locator("button:has-text('Propose')").count()).toBe(0);
+    await screenshot(page, "settings-viewer");
   }, 120_000);
 });
