@@ -186,3 +186,8 @@ export function jobView(db: Db, id: number, logTail = 20_000): JobView | null {
 export function labelJobRuns(db: Db, jobId: number, branch: string): void {
   db.update(runs).set({ branch }).where(and(eq(runs.jobId, jobId), sql`${runs.branch} is null`)).run();
 }
+
+/** Records the pid of the job's bench child process (killed at start-up if a restart orphaned it). */
+export function setJobPid(db: Db, id: number, pid: number | null): void {
+  db.update(jobs).set({ pid }).where(eq(jobs.id, id)).run();
+}

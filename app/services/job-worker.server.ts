@@ -14,10 +14,11 @@
  * At start-up, jobs left "running" by an earlier process are marked "died" (models/jobs.server.ts).
  */
 import { spawn, type ChildProcess } from "node:child_process";
+import fs from "node:fs";
 import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { databasePath, getDb, type Db } from "~/db/client.server";
-import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, markDeadJobs, runOfJob, type BenchProgress } from "~/models/jobs.server";
+import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, markDeadJobs, runOfJob, setJobPid, type BenchProgress } from "~/models/jobs.server";
 import { expandCases, loadSuite, suitePath } from "../../bench/runner/suite";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
@@ -38,6 +39,15 @@ export function parseProgressLine(line: string): { done: number; total: number; 
   const m = PROGRESS_LINE.exec(line);
   if (!m) return null;
   return { done: Number(m[1]), total: Number(m[2]), elapsed: seconds(m[3]!), eta: seconds(m[4]!), key: m[5]!, status: m[6]! };
+}
+
+/** True when `pid` is a bench command (so a reused pid of some other program is never signalled). */
+function isBenchProcess(pid: number): boolean {
+  try {
+    return fs.readFileSync(`/proc/${pid}/cmdline`, "utf8").includes("bench/run.ts");
+  } catch {
+    return false;
+  }
 }
 
 interface WorkerState {
@@ -62,7 +72,7 @@ export function startJobWorker(): void {
   g[key] = state;
   const db = getDb();
   for (const d of markDeadJobs(db)) {
-    if (d.pid) {
+    if (d.pid && isBenchProcess(d.pid)) {
       try {
         process.kill(d.pid, "SIGTERM");
       } catch {
@@ -123,6 +133,7 @@ async function tick(db: Db, state: WorkerState): Promise<void> {
     append(`$ cd <worktree> && node ${args.join(" ")}\n`);
     const child = spawn(process.execPath, args, { cwd: worktree, env: { ...process.env, ARCWATCH_DB: databasePath(), ARCWATCH_JOB_WORKER: "0", FORCE_COLOR: "0" }, stdio: ["ignore", "pipe", "pipe"] });
     state.child = child;
+    if (child.pid) setJobPid(db, job.id, child.pid);
     let partial = "";
     const onData = (d: Buffer) => {
       const text = d.toString("utf8");
