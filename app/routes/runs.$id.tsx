@@ -1,4 +1,5 @@
-import { data, Link, useSearchParams } from "react-router";
+import { useEffect } from "react";
+import { data, Link, useRevalidator, useSearchParams } from "react-router";
 import type { Route } from "./+types/runs.$id";
 import { DemoBadge, FlightCaution, fmt, fmtDate, fmtSeconds } from "~/components/Caution";
 import { RouteErrorBoundary } from "~/components/ErrorView";
@@ -35,6 +36,15 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
   const { run: detail } = loaderData;
   const { run, cases, regressions } = detail;
   const [params, setParams] = useSearchParams();
+  const revalidator = useRevalidator();
+  // A run still recording: refresh its matrix every 3 s until it ends.
+  useEffect(() => {
+    if (run.status !== "running") return;
+    const t = setInterval(() => {
+      if (revalidator.state === "idle") void revalidator.revalidate();
+    }, 3000);
+    return () => clearInterval(t);
+  }, [run.status, revalidator]);
   const mode = params.get("colour") === "time" ? "time" : "error";
   const problems = [...new Set(cases.map((c) => c.problemId))];
   const columns = [...new Map(cases.map((c) => [`${c.scheme}/${meshLabel(c)}`, { scheme: c.scheme, mesh: meshLabel(c) }])).entries()].sort((a, b) => a[0].localeCompare(b[0]));

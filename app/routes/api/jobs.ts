@@ -3,11 +3,19 @@ import type { Route } from "./+types/jobs";
 import { getDb } from "~/db/client.server";
 import { enqueueJob, enqueueJobInput, listJobs } from "~/models/jobs.server";
 import { requireRole, requireUser } from "~/services/auth.server";
+import { csvResponse, wantsCsv } from "~/services/export.server";
 
-/** GET /api/jobs (viewer): the latest 50 jobs, newest first. */
+/** GET /api/jobs (viewer): the latest 50 jobs, newest first; `format=csv` for a CSV file. */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
-  return Response.json({ jobs: listJobs(getDb()) });
+  const list = listJobs(getDb());
+  if (wantsCsv(request)) {
+    return csvResponse("arcwatch-jobs", ["id", "kind", "status", "suite", "ref", "commit", "createdAt", "startedAt", "finishedAt", "error"], list.map((j) => {
+      const p = (j.payloadJson ?? {}) as { suite?: string; ref?: string; commit?: string };
+      return { ...j, suite: p.suite, ref: p.ref, commit: p.commit, createdAt: j.createdAt.toISOString(), startedAt: j.startedAt?.toISOString(), finishedAt: j.finishedAt?.toISOString() };
+    }));
+  }
+  return Response.json({ jobs: list });
 }
 
 /**
