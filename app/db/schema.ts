@@ -292,6 +292,8 @@ export const caseResults = sqliteTable(
     uniqueIndex("case_results_run_case_unique").on(t.runId, t.caseKey),
     index("case_results_case_key_idx").on(t.caseKey),
     index("case_results_problem_scheme_idx").on(t.problemId, t.scheme),
+    /** Solved/failed counts per run (runs table, sorted by them) read from this index alone. */
+    index("case_results_run_status_idx").on(t.runId, t.status),
     check("case_results_intervals_check", sql`${t.intervals} > 0`),
     check("case_results_sample_count_check", sql`${t.sampleCount} >= 0`),
   ],

@@ -1,0 +1,1 @@
+CREATE INDEX `case_results_run_status_idx` ON `case_results` (`run_id`,`status`);
