@@ -4,12 +4,13 @@
  */
 import { Link } from "react-router";
 import type { CompareView, ProfileView } from "~/models/compare.server";
-import { colourOf, PlotSvg, type PlotSeries } from "./PlotSvg";
+import { SchemeChart, type ChartSeries } from "./SchemeChart";
+import { colourOf } from "./scheme-colours";
 
 const sci = (v: number | null | undefined, digits = 2) => (v === null || v === undefined || !Number.isFinite(v) ? "—" : v.toExponential(digits));
 const ms = (s: number | null | undefined) => (s === null || s === undefined ? "—" : `${(s * 1000).toFixed(s < 0.01 ? 2 : 1)} ms`);
 
-function profileSeries(view: ProfileView): { series: PlotSeries[]; rM: number } | null {
+function profileSeries(view: ProfileView): { series: ChartSeries[]; rM: number } | null {
   const p = view.profile;
   if (!p) return null;
   const series = view.schemes.map((s, k) => {
@@ -29,7 +30,7 @@ export function ProfileChart({ view, title, testId }: { view: ProfileView; title
       <h3 className="font-medium">{title}</h3>
       {ps ? (
         <>
-          <PlotSvg series={ps.series} xLabel="τ (ratio to the best scheme)" yLabel="ρ(τ) share of problems" logX xDomain={[1, ps.rM]} yDomain={[0, 1]} width={440} height={260} />
+          <SchemeChart series={ps.series} title={title} xLabel="τ (ratio to the best scheme)" yLabel="ρ(τ) share of problems" logX xDomain={[1, ps.rM]} yDomain={[0, 1]} width={560} height={260} />
           <table className="text-xs" data-profile-table>
             <thead className="text-muted">
               <tr>
@@ -104,17 +105,25 @@ export function CheapestTable({ rows, tol }: { rows: CompareView["cheapest"]; to
 export function CompareViews({ view, singleProblem, metricLabel }: { view: CompareView; singleProblem: boolean; metricLabel: string }) {
   if (!view.commit) return <p className="text-muted">No runs for this commit.</p>;
   if (view.points.length === 0) return <p className="text-muted">No cases for this selection at {view.commit.slice(0, 10)}.</p>;
-  const conv: PlotSeries[] = [];
+  const conv: ChartSeries[] = [];
   for (const c of view.convergence) {
-    conv.push({ name: c.scheme, colour: colourOf(c.scheme), points: c.points.map((p) => ({ x: p.intervals, y: p.error })), style: "line" });
+    const colour = colourOf(c.scheme);
+    conv.push({ name: c.scheme, colour, points: c.points.map((p) => ({ x: p.intervals, y: p.error })), style: "markers" });
+    const ns = c.points.map((p) => p.intervals);
+    const nMin = Math.min(...ns);
+    const nMax = Math.max(...ns);
+    // Fitted line e = Ĉ N^(−p̂) over the meshes measured (convergence-order.ts).
+    if (c.fittedOrder !== null && c.fitConstant !== null && nMax > nMin) {
+      const line = (n: number) => ({ x: n, y: c.fitConstant! * n ** -c.fittedOrder! });
+      conv.push({ name: `${c.scheme}-fit`, label: `fitted order ${c.fittedOrder.toFixed(2)} (${c.scheme})`, colour, style: "fit", points: [line(nMin), line(nMax)] });
+    }
     const first = [...c.points].sort((a, b) => a.intervals - b.intervals)[0];
-    const last = [...c.points].sort((a, b) => b.intervals - a.intervals)[0];
-    if (c.theoreticalOrder && first && last && last.intervals > first.intervals) {
+    if (c.theoreticalOrder && first && nMax > nMin) {
       const p = c.theoreticalOrder;
-      conv.push({ name: `${c.scheme}-theory`, label: `slope −${p} (${c.scheme})`, colour: colourOf(c.scheme), style: "guide", points: [{ x: first.intervals, y: first.error }, { x: last.intervals, y: first.error * (last.intervals / first.intervals) ** -p }] });
+      conv.push({ name: `${c.scheme}-theory`, label: `slope −${p} (${c.scheme})`, colour, style: "guide", points: [{ x: first.intervals, y: first.error }, { x: nMax, y: first.error * (nMax / first.intervals) ** -p }] });
     }
   }
-  const wp: PlotSeries[] = view.convergence.map((c) => ({
+  const wp: ChartSeries[] = view.convergence.map((c) => ({
     name: c.scheme,
     colour: colourOf(c.scheme),
     style: singleProblem ? "line" : "markers",
@@ -125,7 +134,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
       {singleProblem ? (
         <section className="card space-y-2 p-4" data-testid="convergence">
           <h3 className="font-medium">Convergence: {metricLabel} against intervals</h3>
-          <PlotSvg series={conv} xLabel="mesh intervals N" yLabel={metricLabel} logX logY />
+          <SchemeChart series={conv} title={`Convergence: ${metricLabel} against mesh intervals`} xLabel="mesh intervals N" yLabel={metricLabel} logX logY />
           <table className="text-sm" data-testid="orders">
             <thead className="text-muted">
               <tr>
@@ -144,7 +153,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); dashed: the theoretical slope from the coarsest point.</p>
+          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point.</p>
         </section>
       ) : (
         <section className="card space-y-2 overflow-x-auto p-4" data-testid="orders-by-problem">
@@ -183,7 +192,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
       )}
       <section className="card space-y-2 p-4" data-testid="work-precision">
         <h3 className="font-medium">Work–precision: {metricLabel} against median solve time</h3>
-        <PlotSvg series={wp} xLabel="median solve time (s)" yLabel={metricLabel} logX logY />
+        <SchemeChart series={wp} title={`Work–precision: ${metricLabel} against median solve time`} xLabel="median solve time (s)" yLabel={metricLabel} logX logY />
       </section>
       <ProfileChart view={view.timeProfile} title="Performance profile: time to meet the tolerance" testId="profile-time" />
       <ProfileChart view={view.accuracyProfile} title="Performance profile: best accuracy" testId="profile-accuracy" />
