@@ -4,11 +4,10 @@
  * folder of this checkout when its version hash matches the case's, otherwise left out and
  * said so). Series are thinned to at most `MAX_POINTS` points for the charts.
  */
-import path from "node:path";
 import { eq } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, runs, suites, timingSamples } from "~/db/schema";
-import { loadProblem } from "~/engine/problem/load";
+import { loadAnyProblem } from "./problems.server";
 import { SOLVED_STATUSES } from "../../bench/runner/types";
 
 export const MAX_POINTS = 400;
@@ -108,8 +107,9 @@ function referenceFor(problemId: string): { hash: string; series: Series | null;
   if (referenceCache.has(problemId)) return referenceCache.get(problemId)!;
   let out: { hash: string; series: Series | null; states: string[]; controls: string[] } | null = null;
   try {
-    const r = loadProblem(problemId, path.resolve(process.env.ARCWATCH_PROBLEMS ?? "problems"));
-    if (r.ok) {
+    // The checkout's library first, then problems added from the browser (app/models/problems.server.ts).
+    const r = loadAnyProblem(problemId)?.result;
+    if (r?.ok) {
       const tr = r.problem.reference.trajectory;
       out = {
         hash: r.problem.versionHash,
@@ -132,7 +132,7 @@ export function getCaseTrajectory(db: Db, id: number): CaseTrajectory | null {
   const ref = referenceFor(row.problemId);
   let referenceNote: string | null = null;
   let reference: Series | null = null;
-  if (!ref) referenceNote = `The problem ${row.problemId} is not in this checkout's problems/ folder, so no reference is drawn.`;
+  if (!ref) referenceNote = `The problem ${row.problemId} is neither in this checkout's problems/ folder nor among the uploaded problems, so no reference is drawn.`;
   else if (!ref.series) referenceNote = `The problem ${row.problemId} has no reference trajectory.`;
   else {
     reference = ref.series;

@@ -19,6 +19,7 @@ import { createRun, ensureSuite, finishRun, recordCase } from "./record";
 import { expandCases, loadSuite, suitePath, type LoadedSuite } from "./suite";
 import { isSolved, type CaseOutcome } from "./types";
 import { sendRegressionAlerts, type AlertResult } from "./alerts";
+import { effectiveThresholds } from "../../app/models/settings.server";
 
 export interface RunSuiteOptions {
   /** Suite name (bench/suites/<name>.json under root) or a path to a suite file. */
@@ -172,7 +173,7 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   let detection: Detection | null = null;
   let alerts: AlertResult | null = null;
   if (status === "complete") {
-    detection = detectRegressions(db, runId, { thresholds: suite.thresholds, baseline, referenceArcs: referenceArcs(problemsDir, [...new Set(cases.map((c) => c.problemId))]) });
+    detection = detectRegressions(db, runId, { thresholds: effectiveThresholds(db, def.name, suite.thresholds), baseline, referenceArcs: referenceArcs(problemsDir, [...new Set(cases.map((c) => c.problemId))]) });
     if (opts.alerts !== false && detection.newRegressions > 0) {
       alerts = await sendRegressionAlerts(db, {
         runId,
