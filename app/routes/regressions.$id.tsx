@@ -1,6 +1,6 @@
 import { data, Link, useFetcher } from "react-router";
 import type { Route } from "./+types/regressions.$id";
-import { PlotSvg, type PlotSeries } from "~/components/compare/PlotSvg";
+import { SchemeChart, type ChartSeries } from "~/components/compare/SchemeChart";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { FormError } from "~/components/Field";
 import { getDb } from "~/db/client.server";
@@ -20,9 +20,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return { detail, commits: between.commits, commitsNote: between.note, canTriage: roleAtLeast(user.role, "engineer") };
 }
 
-const BEFORE = "#1f6feb";
-const AFTER = "#b3261e";
-const REF = "#4d5966";
+/** Theme colours (app/app.css): baseline, flagged run and the reference. */
+const BEFORE = "var(--aw-focus)";
+const AFTER = "var(--aw-bad)";
+const REF = "var(--aw-muted)";
 const num = (v: number | null | undefined) => (v === null || v === undefined ? "—" : Number.isInteger(v) ? String(v) : Math.abs(v) < 1e-3 || Math.abs(v) >= 1e4 ? v.toExponential(3) : v.toPrecision(5));
 const when = (ms: number) => new Date(ms).toISOString().replace("T", " ").slice(0, 19);
 
@@ -33,12 +34,54 @@ function useApi(id: number) {
   return { f, action: `/api/regressions/${id}` };
 }
 
+/** Half-height of a median mark around its strip row (rows sit at y = 1 and y = 2). */
+const MEDIAN_HALF = 0.35;
+
+/**
+ * One-dimensional strip of solve times in ms: baseline samples on row 1, flagged samples on
+ * row 2, each row's median (the stored medianSeconds) marked by a short vertical dashed line.
+ */
 function SamplesPlot({ before, after }: { before: SideCase | null; after: SideCase | null }) {
-  const series: PlotSeries[] = [];
-  if (before?.samples.length) series.push({ name: "before", label: `baseline (${before.samples.length} samples)`, colour: BEFORE, points: before.samples.map((s) => ({ x: s * 1000, y: 1 })) });
-  if (after?.samples.length) series.push({ name: "after", label: `flagged (${after.samples.length} samples)`, colour: AFTER, points: after.samples.map((s) => ({ x: s * 1000, y: 2 })) });
+  const series: ChartSeries[] = [];
+  const rows: [SideCase | null, string, string, string, number][] = [
+    [before, "before", "baseline", BEFORE, 1],
+    [after, "after", "flagged", AFTER, 2],
+  ];
+  for (const [c, name, word, colour, row] of rows) {
+    if (!c?.samples.length) continue;
+    series.push({ name, label: `${word} (${c.samples.length} samples)`, colour, points: c.samples.map((s) => ({ x: s * 1000, y: row })) });
+    if (c.medianSeconds !== null && Number.isFinite(c.medianSeconds)) {
+      const m = c.medianSeconds * 1000;
+      series.push({
+        name: `${name}-median`,
+        label: `${word} median ${num(m)} ms`,
+        colour,
+        style: "guide",
+        points: [
+          { x: m, y: row - MEDIAN_HALF },
+          { x: m, y: row + MEDIAN_HALF },
+        ],
+      });
+    }
+  }
   if (!series.length) return <p className="text-sm text-muted">No timing samples recorded.</p>;
-  return <PlotSvg series={series} xLabel="solve time (ms)  ·  row 1 baseline, row 2 flagged" yLabel="run" yDomain={[0.5, 2.5]} width={520} height={160} testId="timing-samples" />;
+  return (
+    <SchemeChart
+      series={series}
+      title="Solve-time samples, baseline and flagged"
+      xLabel="solve time (ms)"
+      yLabel="run"
+      yDomain={[0.5, 2.5]}
+      yTicks={[
+        { at: 1, label: "baseline" },
+        { at: 2, label: "flagged" },
+      ]}
+      yAxisWidth={76}
+      width={560}
+      height={180}
+      testId="timing-samples"
+    />
+  );
 }
 
 function TrajectoryPlots({ before, after }: { before: SideCase | null; after: SideCase | null }) {
@@ -48,22 +91,19 @@ function TrajectoryPlots({ before, after }: { before: SideCase | null; after: Si
   const pts = (s: { t: number[]; columns: Record<string, number[]> } | null | undefined, n: string) => (s?.columns[n] ? s.t.map((t, i) => ({ x: t, y: s.columns[n]![i]! })) : []);
   return (
     <div className="flex flex-wrap gap-3" data-testid="trajectories">
-      {names.map(({ n, kind }) => (
-        <div key={`${kind}-${n}`} className="card p-2">
-          <p className="text-sm font-medium">{n}</p>
-          <PlotSvg
-            width={360}
-            height={200}
-            xLabel="t"
-            yLabel={n}
-            series={[
-              { name: "reference", colour: REF, style: "guide", points: pts(tr.reference, n) },
-              { name: "baseline", colour: BEFORE, style: "line", points: pts(before?.trajectory?.solution[kind], n) },
-              { name: "flagged", colour: AFTER, style: "line", points: pts(after?.trajectory?.solution[kind], n) },
-            ].filter((s) => s.points.length > 0) as PlotSeries[]}
-          />
-        </div>
-      ))}
+      {names.map(({ n, kind }) => {
+        const series: ChartSeries[] = [
+          { name: "reference", colour: REF, style: "guide", points: pts(tr.reference, n) },
+          { name: "baseline", colour: BEFORE, style: "line", points: pts(before?.trajectory?.solution[kind], n) },
+          { name: "flagged", colour: AFTER, style: "line", points: pts(after?.trajectory?.solution[kind], n) },
+        ];
+        return (
+          <div key={`${kind}-${n}`} className="card w-full max-w-[25rem] p-2">
+            <p className="text-sm font-medium">{n}</p>
+            <SchemeChart width={380} height={220} title={`${n} against t: reference, baseline and flagged`} xLabel="t" yLabel={n} series={series.filter((s) => s.points.length > 0)} />
+          </div>
+        );
+      })}
       {tr.referenceNote ? <p className="w-full text-xs text-muted">{tr.referenceNote}</p> : null}
     </div>
   );

@@ -111,9 +111,9 @@ describe.runIf(run)("inspecting and triaging a regression in the browser", () =>
     await Promise.all([page.waitForURL(/\/regressions\/\d+$/), link.click()]);
     await hydrated(page);
     expect(Number(await page.textContent("[data-testid=ratio]"))).toBeGreaterThan(1.2);
-    await page.waitForSelector("[data-testid=timing-samples] circle");
-    expect(await page.locator("[data-testid=timing-samples] [data-series=after] circle").count()).toBe(12);
-    await page.waitForSelector("[data-testid=trajectories] [data-series=reference] path", { state: "attached" });
+    await page.waitForSelector("[data-testid=timing-samples] circle[data-series=after]");
+    expect(await page.locator("[data-testid=timing-samples] circle[data-series=after]").count()).toBe(12);
+    await page.waitForSelector("[data-testid=trajectories] .aw-series-reference path", { state: "attached" });
     expect(await page.locator("[data-testid=trajectories] [data-series=flagged]").count()).toBeGreaterThan(0);
     const commit = page.locator(`[data-commit='${slowHash}']`);
     expect(await commit.textContent()).toMatch(/Solve every case four times.*Wren Halloran.*M app\/engine\/solve\.ts/s);

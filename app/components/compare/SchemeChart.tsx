@@ -5,7 +5,8 @@
  * (performance profiles). Log axes plot log10 values with power-of-ten tick labels
  * (./log-axis.ts). Fixed height, width measured on the client up to `width` (recharts renders
  * an empty wrapper on the server and draws after hydration). The legend is plain HTML under
- * the chart.
+ * the chart. Each line's layer carries the class `aw-series-<name>` and each marker
+ * `data-series=<name>`, so that a page (or a test) can find a series' drawing.
  */
 import { CartesianGrid, ComposedChart, Line, ResponsiveContainer, Scatter, Tooltip, XAxis, YAxis } from "recharts";
 import { logDomain, loggable, logTickLabel, logTicks } from "./log-axis";
@@ -51,7 +52,13 @@ function linearTick(v: number): string {
   return a !== 0 && (a >= 1e5 || a < 1e-3) ? v.toExponential(1) : String(Number(v.toPrecision(4)));
 }
 
-function axisPlan(values: number[], log: boolean, fixed: [number, number] | undefined): AxisPlan | null {
+/** A labelled tick of a linear axis (e.g. the rows of a one-dimensional strip chart). */
+export interface NamedTick {
+  at: number;
+  label: string;
+}
+
+function axisPlan(values: number[], log: boolean, fixed: [number, number] | undefined, named?: NamedTick[]): AxisPlan | null {
   if (log) {
     const domain = fixed ? ([Math.log10(fixed[0]), Math.log10(fixed[1])] as [number, number]) : logDomain(values);
     if (!domain) return null;
@@ -62,6 +69,10 @@ function axisPlan(values: number[], log: boolean, fixed: [number, number] | unde
   if (fin.length === 0) return null;
   let [lo, hi] = fixed ?? [Math.min(...fin), Math.max(...fin)];
   if (hi === lo) [lo, hi] = [lo - 1, hi + 1];
+  if (named?.length) {
+    const labelAt = (t: number) => named.find((n) => Math.abs(n.at - t) < 1e-9)?.label ?? linearTick(t);
+    return { domain: [lo, hi], ticks: named.map((n) => n.at), fmt: labelAt, from: (t) => t, to: (v) => v, ok: Number.isFinite };
+  }
   return { domain: [lo, hi], ticks: undefined, fmt: linearTick, from: (t) => t, to: (v) => v, ok: Number.isFinite };
 }
 
@@ -102,6 +113,8 @@ export function SchemeChart({
   logY = false,
   xDomain,
   yDomain,
+  yTicks,
+  yAxisWidth = 62,
   width = 640,
   height = 300,
   testId,
@@ -116,6 +129,10 @@ export function SchemeChart({
   /** Fixed x domain in data units (not log10). */
   xDomain?: [number, number];
   yDomain?: [number, number];
+  /** Ticks with their own labels on a linear y axis (ignored when logY), e.g. the rows of a strip chart. */
+  yTicks?: NamedTick[];
+  /** Width in px reserved for the y tick labels. */
+  yAxisWidth?: number;
   /** Largest width in px (the chart fills its container up to this). */
   width?: number;
   height?: number;
@@ -130,6 +147,7 @@ export function SchemeChart({
     series.flatMap((s) => s.points.map((p) => p.y)),
     logY,
     yDomain,
+    yTicks,
   );
   if (!xPlan || !yPlan) {
     return (
@@ -175,7 +193,7 @@ export function SchemeChart({
               interval={0}
               tick={tick}
               stroke="var(--aw-line)"
-              width={62}
+              width={yAxisWidth}
               label={{ value: yLabel, angle: -90, position: "insideLeft", offset: 4, style: { textAnchor: "middle" }, ...axisLabel }}
             />
             <Tooltip shared={false} cursor={false} content={<PointTooltip xLabel={xLabel} yLabel={yLabel} />} />
@@ -190,6 +208,7 @@ export function SchemeChart({
                 out.push(
                   <Line
                     key={`${s.name}-step`}
+                    className={`aw-series-${s.name}`}
                     data={held}
                     dataKey="y"
                     name={s.label || s.name}
@@ -206,6 +225,7 @@ export function SchemeChart({
                 out.push(
                   <Line
                     key={`${s.name}-line`}
+                    className={`aw-series-${s.name}`}
                     data={d}
                     dataKey="y"
                     name={s.label || s.name}
