@@ -40,6 +40,8 @@ const MEDIAN_HALF = 0.35;
 /**
  * One-dimensional strip of solve times in ms: baseline samples on row 1, flagged samples on
  * row 2, each row's median (the stored medianSeconds) marked by a short vertical dashed line.
+ * The time axis is logarithmic, so that a slowdown by a factor r is the same shift log10 r
+ * wherever the samples sit.
  */
 function SamplesPlot({ before, after }: { before: SideCase | null; after: SideCase | null }) {
   const series: ChartSeries[] = [];
@@ -71,6 +73,7 @@ function SamplesPlot({ before, after }: { before: SideCase | null; after: SideCa
       title="Solve-time samples, baseline and flagged"
       xLabel="solve time (ms)"
       yLabel="run"
+      logX
       yDomain={[0.5, 2.5]}
       yTicks={[
         { at: 1, label: "baseline" },

@@ -6,8 +6,11 @@
  * (pad = max(0.15, 0.06 · span) decades each side; a single value gets one decade each side);
  * the arithmetic is written beside each case. Positions are compared to 1e-12 decade (round-off
  * of log10 on doubles is ~1e-16; 1e-12 leaves room, common practice, no source).
+ * The linear companion (app/components/compare/linear-axis.ts, 1-2-5 steps) is checked at the end
+ * the same way.
  */
 import { describe, expect, it } from "vitest";
+import { niceLinear } from "~/components/compare/linear-axis";
 import { logDomain, loggable, logTickLabel, logTicks } from "~/components/compare/log-axis";
 
 const TOL_DIGITS = 12; // toBeCloseTo(x, 12): |Δ| < 5e-13
@@ -124,5 +127,32 @@ describe("logTicks and logTickLabel", () => {
     expect(logTickLabel(Math.log10(3000))).toBe("");
     expect(logTickLabel(Math.log10(3000), true)).toBe("3000");
     expect(logTickLabel(Math.log10(7e5), true)).toBe("7·10⁵");
+  });
+});
+
+describe("niceLinear (the linear axis next to it)", () => {
+  it("picks the smallest 1-2-5 step with at most five steps and widens to whole steps", () => {
+    // [0, 17.89]: span/5 = 3.578, base 10^0; 1 → 17.9 steps, 2 → 8.9, 5 → 3.6 ≤ 5 → step 5,
+    // ⌈17.89/5⌉ = 4 → [0, 20]
+    expect(niceLinear(0, 17.89)).toEqual({ step: 5, domain: [0, 20], ticks: [0, 5, 10, 15, 20] });
+    // [0, 4.472]: base 10^−1; 0.1, 0.2, 0.5 give 44.7, 22.4, 8.9 steps; 1 gives 4.5 → step 1, [0, 5]
+    expect(niceLinear(0, 4.472)).toEqual({ step: 1, domain: [0, 5], ticks: [0, 1, 2, 3, 4, 5] });
+    // [0, 40]: base 1; 1, 2, 5 give 40, 20, 8 steps; 10 gives 4 → [0, 40]
+    expect(niceLinear(0, 40)).toEqual({ step: 10, domain: [0, 40], ticks: [0, 10, 20, 30, 40] });
+    // [−0.5, 0.5]: span/5 = 0.2, base 0.1; 0.1 → 10 steps, 0.2 → exactly 5 → step 0.2;
+    // ⌊−2.5⌋ = −3, ⌈2.5⌉ = 3 → [−0.6, 0.6]
+    expect(niceLinear(-0.5, 0.5)).toEqual({ step: 0.2, domain: [-0.6, 0.6], ticks: [-0.6, -0.4, -0.2, 0, 0.2, 0.4, 0.6] });
+  });
+
+  it("does not add a step when the data ends on one, and widens a single value by 1 each side", () => {
+    // [0, 1]: step 0.2, 1/0.2 = 5 (4.999… in doubles) must snap to 5 → [0, 1]
+    expect(niceLinear(0, 1).domain).toEqual([0, 1]);
+    // [3, 3] → [2, 4]: span/5 = 0.4, base 0.1; 0.1 → 20, 0.2 → 10, 0.5 → 4 steps → step 0.5
+    expect(niceLinear(3, 3)).toEqual({ step: 0.5, domain: [2, 4], ticks: [2, 2.5, 3, 3.5, 4] });
+  });
+
+  it("refuses non-finite or reversed ends", () => {
+    expect(() => niceLinear(Number.NaN, 1)).toThrow(/finite lo ≤ hi/);
+    expect(() => niceLinear(2, 1)).toThrow(/\[2, 1\]/);
   });
 });

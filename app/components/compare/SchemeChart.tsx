@@ -3,12 +3,14 @@
  * logarithmic axes — measured points (markers, with a tooltip), lines through them, fitted
  * lines, dashed guide lines (theoretical slopes) and right-continuous step functions
  * (performance profiles). Log axes plot log10 values with power-of-ten tick labels
- * (./log-axis.ts). Fixed height, width measured on the client up to `width` (recharts renders
+ * (./log-axis.ts); a linear axis without a fixed domain is widened to round
+ * 1-2-5 steps (./linear-axis.ts). Fixed height, width measured on the client up to `width` (recharts renders
  * an empty wrapper on the server and draws after hydration). The legend is plain HTML under
  * the chart. Each line's layer carries the class `aw-series-<name>` and each marker
  * `data-series=<name>`, so that a page (or a test) can find a series' drawing.
  */
 import { CartesianGrid, ComposedChart, Line, ResponsiveContainer, Scatter, Tooltip, XAxis, YAxis } from "recharts";
+import { niceLinear } from "./linear-axis";
 import { logDomain, loggable, logTickLabel, logTicks } from "./log-axis";
 
 export interface ChartSeries {
@@ -73,7 +75,9 @@ function axisPlan(values: number[], log: boolean, fixed: [number, number] | unde
     const labelAt = (t: number) => named.find((n) => Math.abs(n.at - t) < 1e-9)?.label ?? linearTick(t);
     return { domain: [lo, hi], ticks: named.map((n) => n.at), fmt: labelAt, from: (t) => t, to: (v) => v, ok: Number.isFinite };
   }
-  return { domain: [lo, hi], ticks: undefined, fmt: linearTick, from: (t) => t, to: (v) => v, ok: Number.isFinite };
+  if (fixed) return { domain: [lo, hi], ticks: undefined, fmt: linearTick, from: (t) => t, to: (v) => v, ok: Number.isFinite };
+  const nice = niceLinear(lo, hi);
+  return { domain: nice.domain, ticks: nice.ticks, fmt: linearTick, from: (t) => t, to: (v) => v, ok: Number.isFinite };
 }
 
 const fmtRaw = (v: number) => (Math.abs(v) >= 1e-2 && Math.abs(v) < 1e4 ? String(Number(v.toPrecision(4))) : v.toExponential(2));
