@@ -37,6 +37,11 @@ const NUMBER_LABELS: Record<string, string> = {
 };
 const SECONDS = new Set(["medianSeconds", "meanSeconds", "stddevSeconds", "minSeconds"]);
 const LOG_COLUMNS = ["iter", "f", "infPr", "infDu", "mu", "normD", "deltaW", "alphaPr", "alphaDu", "lsTrials", "phase", "info"] as const;
+/** Column heads in Arcwatch's own words (the same as the solve command's log). */
+const LOG_HEADS: Record<(typeof LOG_COLUMNS)[number], string> = {
+  iter: "step", f: "objective", infPr: "primal viol", infDu: "dual viol", mu: "barrier μ", normD: "|step x|",
+  deltaW: "hess reg", alphaPr: "α primal", alphaDu: "α dual", lsTrials: "tries", phase: "phase", info: "notes",
+};
 
 export default function CasePage({ loaderData }: Route.ComponentProps) {
   const { c } = loaderData;
@@ -125,7 +130,7 @@ export default function CasePage({ loaderData }: Route.ComponentProps) {
           <div className="card max-h-[32rem] overflow-auto">
             <table className="w-full text-xs" data-testid="iteration-log">
               <thead className="sticky top-0 bg-raised text-left">
-                <tr>{LOG_COLUMNS.map((k) => <th key={k} scope="col" className="px-2 py-1">{k}</th>)}</tr>
+                <tr>{LOG_COLUMNS.map((k) => <th key={k} scope="col" className="px-2 py-1">{LOG_HEADS[k]}</th>)}</tr>
               </thead>
               <tbody>
                 {c.log.map((r, i) => (

@@ -28,8 +28,12 @@ function meshLabel(c: Pick<MatrixCell, "intervals" | "degree">) {
 function cellPosition(c: MatrixCell, mode: "error" | "time", tMin: number, tMax: number): number {
   if (!c.solved) return 1;
   if (mode === "time") return tMax > tMin && c.medianSeconds !== null ? logPosition(c.medianSeconds, tMin, tMax) : 0;
-  const e = Math.max(c.objectiveErrorRel ?? 0, c.stateError ?? 0);
-  return logPosition(e, ERROR_LO, ERROR_HI);
+  return logPosition(cellError(c), ERROR_LO, ERROR_HI);
+}
+
+/** The error a cell is coloured by and shows: the larger of the objective and state errors. */
+function cellError(c: MatrixCell): number {
+  return Math.max(c.objectiveErrorRel ?? 0, c.stateError ?? 0);
 }
 
 export default function RunPage({ loaderData }: Route.ComponentProps) {
@@ -123,7 +127,7 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
                             title={`${c.caseKey}: ${c.status}${c.message ? ` — ${c.message}` : ""}`}
                           >
                             <span className="block font-semibold">{c.status}{regs.some((r) => r.direction === "regression") ? " ▲" : regs.length ? " ▽" : ""}</span>
-                            <span className="num block">err {fmt(c.objectiveErrorRel)}</span>
+                            <span className="num block" title={`objective ${fmt(c.objectiveErrorRel)}, state ${fmt(c.stateError)}`}>err {c.objectiveErrorRel === null && c.stateError === null ? fmt(null) : fmt(cellError(c))}</span>
                             <span className="num block">{fmtSeconds(c.medianSeconds)}</span>
                           </Link>
                         </td>
