@@ -11,6 +11,7 @@
  * did not (or the direct solve failed), 2 for a bad problem file or option.
  */
 import { loadProblem } from "../app/engine/problem/load";
+import { numberFlagParser } from "./cli/number-flag";
 import { formatProblemError } from "../app/engine/problem/errors";
 import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/index";
 import type { SchemeId } from "../app/engine/schemes/types";
@@ -28,18 +29,7 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
   const errors: string[] = [];
   const a: Partial<Args> = { json: false };
   const positional: string[] = [];
-  const num = (flag: string, v: string | undefined, integer: boolean, min: number): number | undefined => {
-    if (v === undefined || v.startsWith("--")) {
-      errors.push(`${flag}: a value is required`);
-      return undefined;
-    }
-    const x = Number(v);
-    if (!Number.isFinite(x) || (integer && !Number.isInteger(x)) || x < min) {
-      errors.push(`${flag}: expected ${integer ? "an integer" : "a number"} ≥ ${min}, got "${v}"`);
-      return undefined;
-    }
-    return x;
-  };
+  const num = numberFlagParser(errors);
   for (let i = 0; i < argv.length; i++) {
     const s = argv[i];
     switch (s) {

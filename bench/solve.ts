@@ -11,6 +11,7 @@
 import { existsSync, readFileSync } from "node:fs";
 import path from "node:path";
 import { loadProblem } from "../app/engine/problem/load";
+import { numberFlagParser } from "./cli/number-flag";
 import { compileProblemSource } from "../app/engine/problem/compile";
 import { formatProblemError } from "../app/engine/problem/errors";
 import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/index";
@@ -38,18 +39,7 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
   const errors: string[] = [];
   const a: Partial<Args> = { json: false, quiet: false, resim: true };
   const positional: string[] = [];
-  const num = (flag: string, v: string | undefined, integer: boolean, min: number): number | undefined => {
-    if (v === undefined || v.startsWith("--")) {
-      errors.push(`${flag}: a value is required`);
-      return undefined;
-    }
-    const x = Number(v);
-    if (!Number.isFinite(x) || (integer && !Number.isInteger(x)) || x < min) {
-      errors.push(`${flag}: expected ${integer ? "an integer" : "a number"} ≥ ${min}, got "${v}"`);
-      return undefined;
-    }
-    return x;
-  };
+  const num = numberFlagParser(errors);
   for (let i = 0; i < argv.length; i++) {
     const s = argv[i];
     switch (s) {
