@@ -9,6 +9,7 @@ import type { Db } from "~/db/client.server";
 import { caseResults, runs, suites, timingSamples } from "~/db/schema";
 import { loadAnyProblem } from "./problems.server";
 import { SOLVED_STATUSES } from "../../bench/runner/types";
+import { caseNumbers } from "../../bench/runner/payload";
 
 export const MAX_POINTS = 400;
 
@@ -78,20 +79,7 @@ export function getCase(db: Db, id: number): CaseDetail | null {
     solved: SOLVED_STATUSES.has(c.status),
     message: c.message,
     numbers: {
-      objective: c.objective,
-      objectiveErrorAbs: c.objectiveErrorAbs,
-      objectiveErrorRel: c.objectiveErrorRel,
-      finalTime: c.finalTime,
-      finalTimeError: c.finalTimeError,
-      stateError: c.stateError,
-      controlError: c.controlError,
-      resimMiss: c.resimMiss,
-      constraintViolation: c.constraintViolation,
-      iterations: c.iterations,
-      medianSeconds: c.medianSeconds,
-      meanSeconds: c.meanSeconds,
-      stddevSeconds: c.stddevSeconds,
-      minSeconds: c.minSeconds,
+      ...caseNumbers(c),
       sampleCount: c.sampleCount,
     },
     extra: (logJson.extra ?? {}) as Record<string, unknown>,

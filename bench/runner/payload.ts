@@ -13,6 +13,21 @@ import { toPlain } from "./record";
 
 export const PAYLOAD_FORMAT = "arcwatch-run/1";
 
+/** The per-case numbers stored, uploaded and shown alike (same names in the table and the payload). */
+export const CASE_NUMBER_FIELDS = [
+  "objective", "objectiveErrorAbs", "objectiveErrorRel", "finalTime", "finalTimeError", "stateError", "controlError",
+  "resimMiss", "constraintViolation", "iterations", "medianSeconds", "meanSeconds", "stddevSeconds", "minSeconds",
+] as const;
+export type CaseNumberField = (typeof CASE_NUMBER_FIELDS)[number];
+
+/** The CASE_NUMBER_FIELDS of a case row or payload case. */
+export function caseNumbers<T extends Record<CaseNumberField, number | null | undefined>>(c: T): Pick<T, CaseNumberField> {
+  const out = {} as Pick<T, CaseNumberField>;
+  for (const k of CASE_NUMBER_FIELDS) out[k] = c[k];
+  return out;
+}
+
+
 const finite = z.number().finite();
 const nullableNum = finite.nullable();
 
@@ -113,20 +128,7 @@ export function buildRunPayload(db: Db, runId: string): RunPayload {
       intervals: c.intervals,
       degree: c.degree,
       status: c.status,
-      objective: c.objective,
-      objectiveErrorAbs: c.objectiveErrorAbs,
-      objectiveErrorRel: c.objectiveErrorRel,
-      finalTime: c.finalTime,
-      finalTimeError: c.finalTimeError,
-      stateError: c.stateError,
-      controlError: c.controlError,
-      resimMiss: c.resimMiss,
-      constraintViolation: c.constraintViolation,
-      iterations: c.iterations,
-      medianSeconds: c.medianSeconds,
-      meanSeconds: c.meanSeconds,
-      stddevSeconds: c.stddevSeconds,
-      minSeconds: c.minSeconds,
+      ...caseNumbers(c),
       samples: samples ?? [],
       arcs: c.arcsJson ?? undefined,
       trajectory: c.trajectoryJson ?? undefined,
@@ -193,20 +195,7 @@ export function ingestRunPayload(db: Db, input: unknown, options: { jobId?: numb
           intervals: c.intervals,
           degree: c.degree,
           status: c.status,
-          objective: c.objective,
-          objectiveErrorAbs: c.objectiveErrorAbs,
-          objectiveErrorRel: c.objectiveErrorRel,
-          finalTime: c.finalTime,
-          finalTimeError: c.finalTimeError,
-          stateError: c.stateError,
-          controlError: c.controlError,
-          resimMiss: c.resimMiss,
-          constraintViolation: c.constraintViolation,
-          iterations: c.iterations,
-          medianSeconds: c.medianSeconds,
-          meanSeconds: c.meanSeconds,
-          stddevSeconds: c.stddevSeconds,
-          minSeconds: c.minSeconds,
+          ...caseNumbers(c),
           sampleCount: c.samples.length,
           arcsJson: toPlain(c.arcs ?? null),
           trajectoryJson: toPlain(c.trajectory ?? null),
