@@ -1,6 +1,6 @@
 /**
  * Hock–Schittkowski problems (W. Hock and K. Schittkowski, Test Examples for Nonlinear
- * Programming Codes, Lecture Notes in Economics and Mathematical Systems 187, Springer, 1981;
+ * Programming Codes, Lect. Notes Econ. Math. Syst. 187, Springer, 1981;
  * formulations and optimal values recalled from memory, see helpers/hock-schittkowski.ts).
  *
  * Each problem: (1) the hand-written derivatives agree with central differences (relative

@@ -1,6 +1,6 @@
 /**
  * Problems of W. Hock and K. Schittkowski, "Test Examples for Nonlinear Programming Codes",
- * Lecture Notes in Economics and Mathematical Systems 187, Springer, 1981, numbered as there.
+ * Lect. Notes Econ. Math. Syst. 187, Springer, 1981, numbered as there.
  * Formulations, starting points and optimal objective values are recalled from memory
  * (the book's problem pages); derivatives are written by hand and checked against finite
  * differences in tests/nlp/hock-schittkowski.test.ts. Constraints "≥ 0" become gL = 0, gU = ∞.
