@@ -105,8 +105,17 @@ export function latestRunBranch(db: Db): string | null {
 /** Case keys and branches available for the history pickers. */
 export function historyOptions(db: Db, branch: string): { caseKeys: string[]; branches: string[] } {
   const branches = db.selectDistinct({ b: runs.branch }).from(runs).all().map((r) => r.b).filter((b): b is string => !!b).sort();
-  // Case keys of the latest run on the branch (cheap: one run's cases).
-  const latest = db.select({ id: runs.id }).from(runs).where(eq(runs.branch, branch)).orderBy(sql`${runs.startedAt} desc`).limit(1).get();
+  // Case keys of the latest complete run on the branch (cheap: one run's cases). A cancelled or
+  // interrupted run may hold only some cases, or none, so it is used only when nothing completed.
+  const latestOf = (complete: boolean) =>
+    db
+      .select({ id: runs.id })
+      .from(runs)
+      .where(complete ? and(eq(runs.branch, branch), eq(runs.status, "complete")) : eq(runs.branch, branch))
+      .orderBy(sql`${runs.startedAt} desc`)
+      .limit(1)
+      .get();
+  const latest = latestOf(true) ?? latestOf(false);
   const caseKeys = latest
     ? db.select({ k: caseResults.caseKey }).from(caseResults).where(eq(caseResults.runId, latest.id)).orderBy(asc(caseResults.caseKey)).all().map((r) => r.k)
     : [];

@@ -37,17 +37,34 @@ function TooltipBody({ active, payload }: { active?: boolean; payload?: { payloa
   );
 }
 
+/**
+ * Y domain: recharts' rounded "auto" domain, except when every value is the same (one run, or a
+ * metric that did not move), where a log or linear scale would collapse to a single point and draw
+ * nothing; the domain is then opened around that value (a factor 2 on a log axis).
+ */
+function yDomain(values: number[], logScale: boolean): [number, number] | ["auto", "auto"] {
+  if (values.length === 0) return ["auto", "auto"];
+  const lo = Math.min(...values);
+  const hi = Math.max(...values);
+  if (hi > lo) return ["auto", "auto"];
+  if (logScale) return [lo / 2, hi * 2];
+  const pad = Math.max(Math.abs(lo) * 0.5, 1e-12);
+  return [lo - pad, hi + pad];
+}
+
 export function HistoryChart({ points, label, log, width = 900, height = 320 }: { points: HistoryPoint[]; label: string; log: boolean; width?: number; height?: number }) {
   const navigate = useNavigate();
   const data = points.map((p, i) => ({ ...p, i }));
   const positive = data.every((p) => p.value === null || p.value > 0);
+  const logScale = log && positive;
+  const values = data.flatMap((p) => (p.value !== null && Number.isFinite(p.value) ? [p.value] : []));
   return (
     <figure className="card p-3" data-testid="history-chart">
       <figcaption className="mb-1 text-sm font-medium">{label}</figcaption>
       <LineChart width={width} height={height} data={data} margin={{ top: 10, right: 16, bottom: 10, left: 8 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
         <XAxis dataKey="i" type="number" domain={[0, Math.max(1, data.length - 1)]} tickFormatter={(i: number) => data[i]?.commitHash.slice(0, 7) ?? ""} tick={{ fontSize: 10, fill: "var(--aw-muted)" }} />
-        <YAxis type="number" scale={log && positive ? "log" : "auto"} domain={["auto", "auto"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={72} tickFormatter={(v: number) => v.toPrecision(3)} />
+        <YAxis type="number" scale={logScale ? "log" : "auto"} domain={yDomain(values, logScale)} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={72} tickFormatter={(v: number) => v.toPrecision(3)} />
         <Tooltip content={<TooltipBody />} />
         <Line dataKey="value" stroke="var(--aw-accent)" isAnimationActive={false} connectNulls dot={(props: { cx?: number; cy?: number; payload?: unknown; index?: number }) => <MarkDot key={(props.payload as HistoryPoint | undefined)?.runId ?? props.index} cx={props.cx} cy={props.cy} payload={props.payload as DotProps["payload"]} onOpen={(p) => navigate(`/runs/${p.runId}`)} />} activeDot={false} />
       </LineChart>
