@@ -6,7 +6,8 @@
  * with a reason and finds the change in the history with who made it. Screenshots go to
  * tests/screenshots/.
  */
-import { execFileSync, spawn } from "node:child_process";
+import { execFileSync } from "node:child_process";
+import { runBenchJson } from "../helpers/bench-cli";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
@@ -19,23 +20,7 @@ const COPY = ["app", "bench", "problems", "drizzle", "tsconfig.json", "package.j
 const GIT_ENV = { ...process.env, GIT_AUTHOR_NAME: "Wren Halloran", GIT_AUTHOR_EMAIL: "wren@example.com", GIT_COMMITTER_NAME: "Wren Halloran", GIT_COMMITTER_EMAIL: "wren@example.com" };
 const git = (cwd: string, ...args: string[]) => execFileSync("git", args, { cwd, encoding: "utf8", env: GIT_ENV }).trim();
 
-function bench(cwd: string, db: string): Promise<{ code: number | null; json: { runId: string; findings: { kind: string; direction: string; caseKey: string }[] } }> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ["--import", "tsx", "bench/run.ts", "--suite", "slowdown", "--db", db, "--json", "--no-alerts"], { cwd, stdio: ["ignore", "pipe", "pipe"] });
-    let out = "";
-    let err = "";
-    child.stdout.on("data", (c) => (out += c));
-    child.stderr.on("data", (c) => (err += c));
-    child.on("error", reject);
-    child.on("exit", (code) => {
-      try {
-        resolve({ code, json: JSON.parse(out) });
-      } catch {
-        reject(new Error(`bench output is not JSON (exit ${code}):\n${out}\n${err}`));
-      }
-    });
-  });
-}
+const bench = (cwd: string, db: string) => runBenchJson<{ runId: string; findings: { kind: string; direction: string; caseKey: string }[] }>(cwd, "slowdown", db);
 
 const run = chromiumAvailable();
 

@@ -6,7 +6,8 @@
  * reruns of an unchanged commit must flag nothing. The false-alarm rate is printed.
  */
 import { describe, expect, it } from "vitest";
-import { execFileSync, spawn } from "node:child_process";
+import { execFileSync } from "node:child_process";
+import { runBenchJson } from "../helpers/bench-cli";
 import fs from "node:fs";
 import path from "node:path";
 import Database from "better-sqlite3";
@@ -28,23 +29,7 @@ interface BenchJson {
   counts: { solved: number };
 }
 
-function bench(cwd: string, db: string): Promise<{ code: number | null; json: BenchJson; stderr: string }> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ["--import", "tsx", "bench/run.ts", "--suite", "e2e", "--db", db, "--json", "--no-alerts"], { cwd, stdio: ["ignore", "pipe", "pipe"] });
-    let out = "";
-    let err = "";
-    child.stdout.on("data", (c) => (out += c));
-    child.stderr.on("data", (c) => (err += c));
-    child.on("error", reject);
-    child.on("exit", (code) => {
-      try {
-        resolve({ code, json: JSON.parse(out) as BenchJson, stderr: err });
-      } catch {
-        reject(new Error(`bench output is not JSON (exit ${code}):\n${out}\n${err}`));
-      }
-    });
-  });
-}
+const bench = (cwd: string, db: string) => runBenchJson<BenchJson>(cwd, "e2e", db);
 
 describe("end to end in a temporary git repository", () => {
   it("flags a slowdown and an accuracy loss on the right commits and nothing on unchanged reruns", { timeout: 240_000 }, async () => {
