@@ -40,6 +40,10 @@ export type RunStatus = (typeof RUN_STATUSES)[number];
 export const REGRESSION_KINDS = ["accuracy", "robustness", "speed", "structure", "drift"] as const;
 export type RegressionKind = (typeof REGRESSION_KINDS)[number];
 
+/** Scope of a regression row: one case, or a pooled group of cases (app/runs/pooled.ts). */
+export const REGRESSION_SCOPES = ["case", "scheme", "problem", "suite"] as const;
+export type RegressionScope = (typeof REGRESSION_SCOPES)[number];
+
 export const REGRESSION_DIRECTIONS = ["regression", "improvement"] as const;
 export type RegressionDirection = (typeof REGRESSION_DIRECTIONS)[number];
 
@@ -340,6 +344,8 @@ export const regressions = sqliteTable(
     fixingCommit: text("fixing_commit"),
     createdAt: createdAt(),
     updatedAt: integer("updated_at", { mode: "timestamp_ms" }),
+    /** "case", or the group of a pooled finding ("scheme", "problem", "suite"; case_key is "<scope>:<name>"). */
+    scope: text("scope", { enum: REGRESSION_SCOPES }).notNull().default("case"),
   },
   (t) => [
     index("regressions_status_idx").on(t.status),
@@ -350,6 +356,46 @@ export const regressions = sqliteTable(
     check("regressions_status_check", sql`${t.status} in (${inList(REGRESSION_STATUSES)})`),
     check("regressions_p_value_check", sql`${t.pValue} is null or (${t.pValue} >= 0 and ${t.pValue} <= 1)`),
   ],
+);
+
+/** The member cases of a group regression (scope ≠ "case"), each with its own median ratio. */
+export const regressionMembers = sqliteTable(
+  "regression_members",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    regressionId: integer("regression_id")
+      .notNull()
+      .references(() => regressions.id, { onDelete: "cascade" }),
+    caseKey: text("case_key").notNull(),
+    problemId: text("problem_id").notNull(),
+    ratio: real("ratio"),
+  },
+  (t) => [uniqueIndex("regression_members_unique").on(t.regressionId, t.caseKey)],
+);
+
+/**
+ * Every run a regression was seen in: the run that found it, and later runs of the same branch
+ * (consecutive commits) whose same finding was folded into it instead of opening a new one, so
+ * its triage carries over.
+ */
+export const regressionSightings = sqliteTable(
+  "regression_sightings",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    regressionId: integer("regression_id")
+      .notNull()
+      .references(() => regressions.id, { onDelete: "cascade" }),
+    runId: text("run_id")
+      .notNull()
+      .references(() => runs.id, { onDelete: "cascade" }),
+    commitHash: text("commit_hash").notNull(),
+    ratio: real("ratio"),
+    ciLow: real("ci_low"),
+    ciHigh: real("ci_high"),
+    pValue: real("p_value"),
+    seenAt: createdAt("seen_at"),
+  },
+  (t) => [uniqueIndex("regression_sightings_unique").on(t.regressionId, t.runId), index("regression_sightings_run_idx").on(t.runId)],
 );
 
 /** Triage history: one row per status change or note on a regression. */

@@ -6,15 +6,24 @@
  * the reference arcs from the database (the suite row and the problem versions the run solved),
  * so its answer depends only on what is stored.
  *
+ * Besides the per-case rules, pooled group findings (app/runs/pooled.ts) judge each scheme, problem
+ * and the suite from all their cases; a group row carries its member cases (regression_members).
+ *
  * A finding is "new" unless a row with the same case, kind, metric and direction already exists
- * for a run of the same commit (reruns of one commit do not re-alert). Each new row gets a first
- * regression_events row carrying the evidence in words. An improvement of the same case, kind and
- * metric marks earlier open regressions of the suite on the machine "fixed" (fixing_commit = this one).
+ * for a run of the same commit (reruns of one commit do not re-alert). A regression already open
+ * (open, acknowledged or expected) for the same case, kind, metric and direction on an earlier run
+ * of the same branch, suite and machine is the SAME regression seen on a later commit: the run is
+ * added to its sightings (regression_sightings) with a note, no new row is opened, and its triage
+ * (status, assignee, reason) carries over. Each new row gets a first regression_events row
+ * carrying the evidence in words, and its first sighting. An improvement of the same case, kind
+ * and metric marks earlier open regressions of the suite on the machine "fixed" (fixing_commit =
+ * this one).
  */
 import { and, desc, eq, inArray, ne } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
-import { caseResults, problemVersions, regressionEvents, regressions, runs, suites, timingSamples } from "~/db/schema";
+import { caseResults, problemVersions, regressionEvents, regressionMembers, regressions, regressionSightings, runs, suites, timingSamples } from "~/db/schema";
 import { referenceArcsOfJson } from "~/engine/problem/library";
+import { pooledFindings } from "~/runs/pooled";
 import { caseCalibration, compareCases, driftFinding, runCalibration, type CaseSnapshot, type DriftPoint, type Finding, type ReferenceArcs } from "~/runs/rules";
 import { isSolved, type Thresholds } from "~/runs/types";
 import { effectiveThresholds } from "./settings.server";
@@ -28,6 +37,8 @@ export interface Detection {
   newRegressions: number;
   /** Open regressions of earlier runs that this run's improvements resolve (marked "fixed"). */
   fixed: number[];
+  /** Findings folded into a regression already open on the branch (seen again, triage kept). */
+  carried: { id: number; finding: Finding }[];
 }
 
 type RunRow = typeof runs.$inferSelect;
@@ -73,6 +84,7 @@ export function loadCases(db: Db, runId: string): Map<string, CaseSnapshot> {
       caseKey: caseResults.caseKey,
       problemId: caseResults.problemId,
       status: caseResults.status,
+      scheme: caseResults.scheme,
       iterations: caseResults.iterations,
       objectiveErrorRel: caseResults.objectiveErrorRel,
       finalTimeError: caseResults.finalTimeError,
@@ -179,7 +191,11 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
     const calNow = runCalibration(run);
     const calBase = runCalibration(baseline);
     const factor = t.calibrate && calNow && calBase ? calNow / calBase : 1;
-    findings.push(...compareCases(loadCases(db, runId), loadCases(db, baseline.id), t, factor, options.referenceArcs ?? referenceArcsOfRun(db, runId)));
+    const now = loadCases(db, runId);
+    const base = loadCases(db, baseline.id);
+    // Group findings first: pages and e-mails show them before their member cases.
+    findings.push(...pooledFindings(now, base, t, factor));
+    findings.push(...compareCases(now, base, t, factor, options.referenceArcs ?? referenceArcsOfRun(db, runId)));
   }
   const speedFlagged = new Set(findings.filter((f) => f.kind === "speed").map((f) => f.caseKey));
   findings.push(...detectDrift(db, run, suiteName, t, speedFlagged));
@@ -198,8 +214,21 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
   );
   const fresh = findings.filter((f) => !known.has(`${f.caseKey}|${f.kind}|${f.metric}|${f.direction}`));
   const fixed: number[] = [];
+  const carried: { id: number; finding: Finding }[] = [];
+  const sight = (tx: Pick<Db, "insert">, regressionId: number, f: Finding) =>
+    tx.insert(regressionSightings).values({ regressionId, runId, commitHash: run.commitHash, ratio: finiteOrNull(f.ratio), ciLow: f.ciLow, ciHigh: f.ciHigh, pValue: f.pValue }).onConflictDoNothing().run();
   const inserted = db.transaction((tx) => {
-    const rows = fresh.map((f) => {
+    const rows: { id: number; finding: Finding }[] = [];
+    for (const f of fresh) {
+      const open = f.direction === "regression" && run.branch ? openOnBranch(tx as unknown as Db, { runId, branch: run.branch, suiteName, machineKey: run.machineKey }, f) : null;
+      if (open) {
+        sight(tx, open, f);
+        tx.insert(regressionEvents)
+          .values({ regressionId: open, userId: null, fromStatus: null, toStatus: null, note: `Seen again by run ${runId} at ${run.commitHash.slice(0, 10)} on ${run.branch}: ${f.detail}` })
+          .run();
+        carried.push({ id: open, finding: f });
+        continue;
+      }
       const row = tx
         .insert(regressions)
         .values({
@@ -216,15 +245,18 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
           ciLow: f.ciLow,
           ciHigh: f.ciHigh,
           status: f.direction === "improvement" ? "acknowledged" : "open",
+          scope: f.scope ?? "case",
         })
         .returning({ id: regressions.id })
         .get();
+      for (const m of f.members ?? []) tx.insert(regressionMembers).values({ regressionId: row.id, caseKey: m.caseKey, problemId: m.problemId, ratio: finiteOrNull(m.ratio) }).run();
+      sight(tx, row.id, f);
       // The evidence in words (statuses, medians, interval, change point) as the first triage event.
       tx.insert(regressionEvents)
         .values({ regressionId: row.id, userId: null, fromStatus: null, toStatus: f.direction === "improvement" ? "acknowledged" : "open", note: `Found by run ${runId} at ${run.commitHash.slice(0, 10)}: ${f.detail}` })
         .run();
-      return { id: row.id, finding: f };
-    });
+      rows.push({ id: row.id, finding: f });
+    }
     // An improvement of the same case, kind and metric resolves the open regressions of earlier
     // runs of this suite on this machine: they become "fixed" with this commit as the fix.
     for (const f of findings) {
@@ -251,7 +283,39 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
     inserted,
     newRegressions: inserted.filter((i) => i.finding.direction === "regression").length,
     fixed,
+    carried,
   };
+}
+
+const finiteOrNull = (v: number | null) => (v !== null && Number.isFinite(v) ? v : null);
+
+/**
+ * The regression still open (open, acknowledged or expected) for the finding's case, kind, metric
+ * and direction on an earlier run of the same branch, suite and machine; null when there is none.
+ */
+export function openOnBranch(db: Db, at: { runId: string; branch: string; suiteName: string; machineKey: string }, f: Pick<Finding, "caseKey" | "kind" | "metric" | "direction">): number | null {
+  const row = db
+    .select({ id: regressions.id })
+    .from(regressions)
+    .innerJoin(runs, eq(runs.id, regressions.runId))
+    .innerJoin(suites, eq(suites.id, runs.suiteId))
+    .where(
+      and(
+        eq(regressions.caseKey, f.caseKey),
+        eq(regressions.kind, f.kind),
+        eq(regressions.metric, f.metric),
+        eq(regressions.direction, f.direction),
+        inArray(regressions.status, ["open", "acknowledged", "expected"]),
+        eq(runs.branch, at.branch),
+        eq(suites.name, at.suiteName),
+        eq(runs.machineKey, at.machineKey),
+        ne(regressions.runId, at.runId),
+      ),
+    )
+    .orderBy(desc(regressions.id))
+    .limit(1)
+    .get();
+  return row?.id ?? null;
 }
 
 /**

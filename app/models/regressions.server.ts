@@ -9,12 +9,21 @@ import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { simpleGit } from "simple-git";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
-import { caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressions, runs, subscriptions, timingSamples, users, type RegressionStatus } from "~/db/schema";
+import { caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressionMembers, regressions, regressionSightings, runs, subscriptions, timingSamples, users, type RegressionScope, type RegressionStatus } from "~/db/schema";
+import { parseGroupKey } from "~/runs/pooled";
 import { getCaseTrajectory, type CaseTrajectory } from "~/models/cases.server";
 import { repoRoot } from "~/services/git.server";
 import { loadAnyProblem } from "./problems.server";
 
-export const problemOfCaseKey = (key: string) => key.split("/")[0] ?? key;
+/** The problem of a case key; a problem group's problem; the group key itself for other groups. */
+export function problemOfCaseKey(key: string): string {
+  const g = parseGroupKey(key);
+  if (g) return g.scope === "problem" ? g.name : key;
+  return key.split("/")[0] ?? key;
+}
+
+/** Group findings (a scheme, a problem, the suite) before the single cases they summarise. */
+const groupsFirst = sql`case when ${regressions.scope} = 'case' then 1 else 0 end`;
 
 export interface RegressionListItem {
   id: number;
@@ -23,6 +32,8 @@ export interface RegressionListItem {
   kind: string;
   direction: string;
   metric: string;
+  /** "case" or the group of a pooled finding ("scheme", "problem", "suite"). */
+  scope: RegressionScope;
   before: number | null;
   after: number | null;
   ratio: number | null;
@@ -57,7 +68,7 @@ export function listRegressions(db: Db, q: RegressionListQuery): RegressionListI
     .innerJoin(runs, eq(runs.id, regressions.runId))
     .leftJoin(users, eq(users.id, regressions.assigneeId))
     .where(where.length ? and(...where) : undefined)
-    .orderBy(desc(regressions.createdAt), desc(regressions.id))
+    .orderBy(desc(runs.startedAt), groupsFirst, desc(regressions.id))
     .limit(q.limit)
     .all();
   return rows.map(({ r, commitHash, commitSubject, assignee }) => ({
@@ -67,6 +78,7 @@ export function listRegressions(db: Db, q: RegressionListQuery): RegressionListI
     kind: r.kind,
     direction: r.direction,
     metric: r.metric,
+    scope: r.scope,
     before: r.before,
     after: r.after,
     ratio: r.ratio,
@@ -110,6 +122,10 @@ export interface RegressionDetail {
   before: SideCase | null;
   after: SideCase | null;
   events: RegressionEvent[];
+  /** A group finding's member cases with their own median ratios. */
+  members: { caseKey: string; problemId: string; ratio: number | null }[];
+  /** The runs (commits) it was seen in, oldest first: the one that found it, then later commits of its branch. */
+  sightings: { runId: string; commitHash: string; commitSubject: string | null; ratio: number | null; ciLow: number | null; ciHigh: number | null; at: number }[];
   comments: { id: number; user: string; body: string; at: number }[];
   assignable: { id: number; name: string }[];
   subscribed: boolean;
@@ -179,8 +195,19 @@ export function getRegressionDetail(db: Db, id: number, viewerId: number): Regre
     .from(subscriptions)
     .where(and(eq(subscriptions.userId, viewerId), eq(subscriptions.problemId, item.problemId)))
     .get();
+  const members = db.select({ caseKey: regressionMembers.caseKey, problemId: regressionMembers.problemId, ratio: regressionMembers.ratio }).from(regressionMembers).where(eq(regressionMembers.regressionId, id)).orderBy(asc(regressionMembers.caseKey)).all();
+  const sightings = db
+    .select({ s: regressionSightings, subject: runs.commitSubject })
+    .from(regressionSightings)
+    .innerJoin(runs, eq(runs.id, regressionSightings.runId))
+    .where(eq(regressionSightings.regressionId, id))
+    .orderBy(asc(runs.startedAt))
+    .all()
+    .map(({ s, subject }) => ({ runId: s.runId, commitHash: s.commitHash, commitSubject: subject, ratio: s.ratio, ciLow: s.ciLow, ciHigh: s.ciHigh, at: new Date(s.seenAt).getTime() }));
   return {
     regression: { ...item, ciLow: r.ciLow, ciHigh: r.ciHigh, reason: r.reason, fixingCommit: r.fixingCommit, assigneeId: r.assigneeId, baselineRunId: r.baselineRunId },
+    members,
+    sightings,
     before: sideCase(db, r.baselineRunId, r.caseKey),
     after: sideCase(db, r.runId, r.caseKey),
     events,
@@ -200,7 +227,7 @@ function listRegressionsById(db: Db, ids: number[]): RegressionListItem[] {
     .where(inArray(regressions.id, ids))
     .all();
   return rows.map(({ r, commitHash, commitSubject, assignee }) => ({
-    id: r.id, caseKey: r.caseKey, problemId: problemOfCaseKey(r.caseKey), kind: r.kind, direction: r.direction, metric: r.metric,
+    id: r.id, caseKey: r.caseKey, problemId: problemOfCaseKey(r.caseKey), kind: r.kind, direction: r.direction, metric: r.metric, scope: r.scope,
     before: r.before, after: r.after, ratio: r.ratio, pValue: r.pValue, status: r.status, assignee, runId: r.runId, commitHash, commitSubject,
     createdAt: new Date(r.createdAt).getTime(),
   }));

@@ -3,6 +3,7 @@ import type { Route } from "./+types/regressions.$id";
 import { SchemeChart, type ChartSeries } from "~/components/compare/SchemeChart";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { FormError } from "~/components/Field";
+import { MemberCases, Sightings } from "~/components/regressions/GroupAndSightings";
 import { getDb } from "~/db/client.server";
 import { commitsBetween, getRegressionDetail, type SideCase } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
@@ -234,6 +235,9 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
           </sub.f.Form>
         </div>
       </div>
+
+      <MemberCases members={detail.members} />
+      <Sightings sightings={detail.sightings} />
 
       <section className="card overflow-x-auto p-4" data-testid="evidence">
         <h2 className="mb-2 text-lg font-semibold">Before and after</h2>

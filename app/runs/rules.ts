@@ -48,6 +48,10 @@ export interface Finding {
   ciHigh: number | null;
   /** Human summary of the evidence (used in the summary table and e-mails). */
   detail: string;
+  /** "case" (default) or the group a pooled finding is about (./pooled.ts). */
+  scope?: "case" | "scheme" | "problem" | "suite";
+  /** A group finding's member cases with their own median ratios. */
+  members?: { caseKey: string; problemId: string; ratio: number | null }[];
 }
 
 /** Calibration seconds of a run: mean of the before/after measurements when both exist. */
@@ -68,6 +72,8 @@ export interface CaseSnapshot {
   id: number;
   caseKey: string;
   problemId: string;
+  /** The case's scheme (read from the key when absent). */
+  scheme?: string;
   status: string;
   iterations: number | null;
   objectiveErrorRel: number | null;

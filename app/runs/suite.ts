@@ -26,6 +26,8 @@ export const DEFAULT_THRESHOLDS: Thresholds = {
   driftMinShift: Math.log(1.1),
   driftMinHistory: 6,
   calibrate: false,
+  pooledSpeedRatio: 1.05,
+  pooledMinCases: 3,
 };
 
 const meshSchema = z
@@ -103,6 +105,8 @@ export const suiteSchema = z
         driftMinShift: z.number().min(0),
         driftMinHistory: z.number().int().min(4),
         calibrate: z.boolean(),
+        pooledSpeedRatio: z.number().gt(1),
+        pooledMinCases: z.number().int().min(2),
       })
       .partial()
       .strict()

@@ -91,6 +91,10 @@ export interface Thresholds {
   driftMinHistory: number;
   /** Divide times by the calibration workload's time so that machines' load states compare. */
   calibrate: boolean;
+  /** Pooled speed rule (app/runs/pooled.ts): flag a scheme/problem/suite whose pooled ratio exceeds this... */
+  pooledSpeedRatio: number;
+  /** ...when it has at least this many timed cases (and its interval excludes 1). */
+  pooledMinCases: number;
 }
 
 /** Statuses that count as "solved" for the robustness rule. */

@@ -46,7 +46,10 @@ export function alertBody(input: AlertInput, items: { id: number; finding: Findi
     "",
   ];
   for (const { id, finding: f } of items) {
-    lines.push(`- ${f.kind} on ${f.caseKey}: ${f.detail}`);
+    if (f.members?.length) {
+      lines.push(`- ${f.kind}, ${f.detail}`);
+      lines.push(`  cases: ${f.members.map((m) => `${m.caseKey}${m.ratio !== null ? ` ×${m.ratio.toFixed(2)}` : ""}`).join(", ")}`);
+    } else lines.push(`- ${f.kind} on ${f.caseKey}: ${f.detail}`);
     lines.push(`  ${base}/regressions/${id}`);
   }
   lines.push("", "You receive this because you subscribed to the problem or the suite in Arcwatch.");
@@ -56,7 +59,9 @@ export function alertBody(input: AlertInput, items: { id: number; finding: Findi
 export async function sendRegressionAlerts(db: Db, input: AlertInput): Promise<AlertResult> {
   const result: AlertResult = { sent: [], errors: [] };
   if (input.regressions.length === 0) return result;
-  const problemIds = [...new Set(input.regressions.map((r) => r.finding.problemId))];
+  // A group finding concerns every problem of its member cases.
+  const problemsOf = (f: Finding) => (f.members?.length ? f.members.map((m) => m.problemId) : [f.problemId]);
+  const problemIds = [...new Set(input.regressions.flatMap((r) => problemsOf(r.finding)))];
   const subs = db
     .select({ email: users.email, problemId: subscriptions.problemId, suiteName: subscriptions.suiteName })
     .from(subscriptions)
@@ -65,14 +70,15 @@ export async function sendRegressionAlerts(db: Db, input: AlertInput): Promise<A
     .all();
   const perUser = new Map<string, { id: number; finding: Finding }[]>();
   for (const s of subs) {
-    const mine = s.suiteName === input.suiteName ? input.regressions : input.regressions.filter((r) => r.finding.problemId === s.problemId);
+    const mine = s.suiteName === input.suiteName ? input.regressions : input.regressions.filter((r) => s.problemId !== null && problemsOf(r.finding).includes(s.problemId));
     const list = perUser.get(s.email) ?? [];
     for (const r of mine) if (!list.includes(r)) list.push(r);
     perUser.set(s.email, list);
   }
   for (const [to, items] of perUser) {
     if (items.length === 0) continue;
-    items.sort((a, b) => a.id - b.id);
+    // Groups first (a scheme, a problem, the suite), then single cases, each in the order found.
+    items.sort((a, b) => Number(!a.finding.members?.length) - Number(!b.finding.members?.length) || a.id - b.id);
     const subject = alertSubject(input.suiteName, input.commit, items);
     try {
       await sendMail(db, { to, subject, text: alertBody(input, items) });
