@@ -8,15 +8,13 @@
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  */
 import { parseArgs } from "node:util";
-import { closeDb, getDb, openDatabase } from "../app/db/client.server";
-import { stopStandin } from "../app/services/mail.server";
-import { runSuite, tally, type RunSummary } from "./runner/run-suite";
+import { isEntryScript } from "./cli/entry";
+import type { RunSummary, tally as Tally } from "./runner/run-suite";
 import { renderTable, fmtNum } from "./runner/table";
-import { uploadRun } from "./runner/upload";
 
 const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
 
-function summaryText(s: RunSummary): string {
+function summaryText(s: RunSummary, t: ReturnType<typeof Tally>): string {
   const rows = s.outcomes.map((o) => [
     o.spec.key,
     o.status,
@@ -27,7 +25,6 @@ function summaryText(s: RunSummary): string {
     o.samples.length ? `${fmtNum([...o.samples].sort((a, b) => a - b)[o.samples.length >> 1])} s` : "—",
   ]);
   const parts = [renderTable(["case", "status", "objective", "obj err", "state err", "iter", "median"], rows)];
-  const t = tally(s.outcomes);
   parts.push(
     "",
     `run ${s.runId} · ${s.status} · suite ${s.suite.name} (${s.suite.contentHash.slice(0, 12)}) · commit ${s.commit.commitHash.slice(0, 10)}${s.commit.dirty ? " (dirty)" : ""} on ${s.commit.branch ?? "(detached)"}`,
@@ -54,10 +51,11 @@ function summaryText(s: RunSummary): string {
   return parts.join("\n");
 }
 
-async function main(): Promise<number> {
+export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
   let args;
   try {
     args = parseArgs({
+      args: argv,
       options: {
         suite: { type: "string" },
         baseline: { type: "string" },
@@ -99,6 +97,13 @@ async function main(): Promise<number> {
     process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
     return 2;
   }
+  // the database, the runner and the engine are loaded only now, so that --help answers at once
+  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite, tally }, { uploadRun }] = await Promise.all([
+    import("../app/db/client.server"),
+    import("../app/services/mail.server"),
+    import("./runner/run-suite"),
+    import("./runner/upload"),
+  ]);
   const db = args.db ? openDatabase(args.db) : getDb();
   const controller = new AbortController();
   const onSignal = (sig: string) => {
@@ -144,7 +149,7 @@ async function main(): Promise<number> {
       };
       process.stdout.write(`${JSON.stringify(out, null, 2)}\n`);
     } else {
-      process.stdout.write(`${summaryText(summary)}\n`);
+      process.stdout.write(`${summaryText(summary, tally(summary.outcomes))}\n`);
       if (uploaded) process.stdout.write(`uploaded to ${uploaded.url} (HTTP ${uploaded.status})\n`);
     }
     return summary.exitCode;
@@ -158,10 +163,12 @@ async function main(): Promise<number> {
   }
 }
 
-main().then(
-  (code) => process.exit(code),
-  (err) => {
-    process.stderr.write(`bench: ${(err as Error).stack ?? err}\n`);
-    process.exit(1);
-  },
-);
+if (isEntryScript(import.meta.url)) {
+  main().then(
+    (code) => process.exit(code),
+    (err) => {
+      process.stderr.write(`bench: ${(err as Error).stack ?? err}\n`);
+      process.exit(1);
+    },
+  );
+}

@@ -29,6 +29,12 @@ if (state !== "fresh") {
   run("build", [path.join(root, "node_modules", "@react-router", "dev", "bin.js"), "build"]);
 }
 
+const cli = await import("./build-cli.mjs");
+if (cli.cliState(root) !== "fresh") {
+  const seconds = await cli.buildCli(root);
+  console.log(`[arcwatch] command line (arcwatch solve|bench|refine) built in ${seconds.toFixed(1)} s`);
+}
+
 run("database migrate + seed", ["--import", "tsx", path.join(root, "scripts", "seed.ts")]);
 
 const { startServer } = await import("./serve.mjs");
