@@ -10,6 +10,7 @@ import { overviewState } from "~/models/runs.server";
 import { OverviewPanels } from "~/components/charts/OverviewState";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
+import { checkBenchJob } from "~/services/job-check.server";
 import { roleAtLeast, ROLE_DESCRIPTIONS } from "~/services/roles";
 
 export const meta: Route.MetaFunction = () => [{ title: "Overview · Arcwatch" }];
@@ -34,7 +35,9 @@ export async function action({ request }: Route.ActionArgs) {
   const values = { suite: String(form.get("suite") ?? "") };
   const parsed = benchJobPayload.safeParse(values);
   if (!parsed.success) return data({ errors: fieldErrors<"suite">(parsed.error) as FieldErrors<"suite">, values, notice: null }, { status: 400 });
-  const job = enqueueJob(getDb(), { kind: "bench", payload: parsed.data }, user.id);
+  const checked = await checkBenchJob(parsed.data);
+  if (!checked.ok) return data({ errors: { suite: checked.message } as FieldErrors<"suite">, values, notice: null }, { status: 400 });
+  const job = enqueueJob(getDb(), { kind: "bench", payload: checked.payload }, user.id);
   return data({ errors: {} as FieldErrors<"suite">, values, notice: `Queued job ${job.id}: bench suite ${parsed.data.suite}.` });
 }
 
