@@ -2,6 +2,7 @@ import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/overview";
 import { RoleBadge } from "~/components/AppShell";
 import { RouteErrorBoundary } from "~/components/ErrorView";
+import { useAutoRefresh } from "~/components/useAutoRefresh";
 import { Field, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { benchJobPayload, enqueueJob, listJobs } from "~/models/jobs.server";
@@ -52,8 +53,14 @@ function Stat({ label, value, testId }: { label: string; value: number; testId: 
   );
 }
 
+/** Refresh intervals of the overview: quick while something runs, slow otherwise (a new run shows up). */
+const REFRESH_ACTIVE_MS = 3000;
+const REFRESH_IDLE_MS = 15000;
+
 export default function Overview({ loaderData, actionData }: Route.ComponentProps) {
   const { counts, role, jobs, state } = loaderData;
+  const active = state.inProgress.length > 0 || jobs.some((j) => j.status === "queued" || j.status === "running");
+  useAutoRefresh(active ? REFRESH_ACTIVE_MS : REFRESH_IDLE_MS);
   const busy = useNavigation().state === "submitting";
   return (
     <div className="space-y-8">
