@@ -6,15 +6,27 @@
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
  * `--job <id>` links the run to a jobs row (the server's job worker runs this command in a worktree).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
+ * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
+ * (app/runs/events.ts; the job worker reads it).
  */
+
+/** The events sink named by ARCWATCH_EVENTS_FD, or null. */
+function eventsSink(envName: string): { write(line: string): void } | null {
+  const raw = process.env[envName];
+  if (!raw) return null;
+  const fd = Number(raw);
+  if (!Number.isInteger(fd) || fd < 3) return null;
+  return { write: (line) => void fs.writeSync(fd, line) };
+}
+import fs from "node:fs";
 import { parseArgs } from "node:util";
 import { isEntryScript } from "./cli/entry";
-import type { RunSummary, tally as Tally } from "./runner/run-suite";
-import { renderTable, fmtNum } from "./runner/table";
+import type { RunSummary } from "./runner/run-suite";
+import { renderTable, fmtNum, tally } from "./runner/table";
 
 const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
 
-function summaryText(s: RunSummary, t: ReturnType<typeof Tally>): string {
+function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
   const rows = s.outcomes.map((o) => [
     o.spec.key,
     o.status,
@@ -98,11 +110,12 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
     return 2;
   }
   // the database, the runner and the engine are loaded only now, so that --help answers at once
-  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite, tally }, { uploadRun }] = await Promise.all([
+  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV }] = await Promise.all([
     import("../app/db/client.server"),
     import("../app/services/mail.server"),
     import("./runner/run-suite"),
     import("./runner/upload"),
+    import("../app/runs/events"),
   ]);
   const db = args.db ? openDatabase(args.db) : getDb();
   const controller = new AbortController();
@@ -121,6 +134,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
       jobs,
       signal: controller.signal,
       progress: args.json ? null : process.stderr,
+      events: eventsSink(RUN_EVENTS_FD_ENV),
       alerts: !args["no-alerts"],
       baseUrl: args["base-url"],
       jobId,

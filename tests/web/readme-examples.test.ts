@@ -20,8 +20,8 @@ import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
 import { openDatabase, type Db } from "~/db/client.server";
 import { caseResults, regressions, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
-import { loadSuite, suitePath } from "../../bench/runner/suite";
-import { PAYLOAD_FORMAT, type RunPayload } from "../../bench/runner/payload";
+import { loadSuite, suitePath } from "~/runs/suite";
+import { PAYLOAD_FORMAT, type RunPayload } from "~/runs/payload";
 
 const README = fs.readFileSync(path.join(ROOT, "README.md"), "utf8");
 const DOC_URL = "http://127.0.0.1:3000";
