@@ -10,12 +10,11 @@
  * junction times, refined trajectory, provenance. Exit status: 0 when Newton converged, 1 when it
  * did not (or the direct solve failed), 2 for a bad problem file or option.
  */
-import { loadProblem } from "../app/engine/problem/load";
 import { numberFlagParser } from "./cli/number-flag";
-import { formatProblemError } from "../app/engine/problem/errors";
-import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/index";
+import { isEntryScript } from "./cli/entry";
+import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/ids";
 import type { SchemeId } from "../app/engine/schemes/types";
-import { refineProblem, type RefineProblemOptions, type RefineProblemReport } from "../app/engine/shooting/refine-problem";
+import type { RefineProblemOptions, RefineProblemReport } from "../app/engine/shooting/refine-problem";
 
 const USAGE = `usage: npm run --silent refine -- <problem folder | problem.json | id> [--scheme <${SCHEME_IDS.join("|")}>]
        [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--json]`;
@@ -93,8 +92,8 @@ function summary(r: RefineProblemReport, title: string): string {
   return L.join("\n");
 }
 
-function main(): number {
-  const parsed = parseArgs(process.argv.slice(2));
+export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
+  const parsed = parseArgs(argv);
   if (!parsed.args) {
     const onlyHelp = parsed.errors.length === 1 && parsed.errors[0] === "help";
     if (!onlyHelp) for (const e of parsed.errors.filter((x) => x !== "help")) process.stderr.write(`error: ${e}\n`);
@@ -102,6 +101,12 @@ function main(): number {
     return onlyHelp ? 0 : 2;
   }
   const args = parsed.args;
+  // the engine is loaded only now, so that usage errors and --help answer at once
+  const [{ loadProblem }, { formatProblemError }, { refineProblem }] = await Promise.all([
+    import("../app/engine/problem/load"),
+    import("../app/engine/problem/errors"),
+    import("../app/engine/shooting/refine-problem"),
+  ]);
   const loaded = loadProblem(args.target);
   if (!loaded.ok) {
     for (const e of loaded.errors) process.stderr.write(`${formatProblemError(e)}\n`);
@@ -122,4 +127,4 @@ function main(): number {
   return r.converged ? 0 : 1;
 }
 
-process.exitCode = main();
+if (isEntryScript(import.meta.url)) process.exitCode = await main();

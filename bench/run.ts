@@ -11,8 +11,8 @@
  */
 
 /** The events sink named by ARCWATCH_EVENTS_FD, or null. */
-function eventsSink(): { write(line: string): void } | null {
-  const raw = process.env[RUN_EVENTS_FD_ENV];
+function eventsSink(envName: string): { write(line: string): void } | null {
+  const raw = process.env[envName];
   if (!raw) return null;
   const fd = Number(raw);
   if (!Number.isInteger(fd) || fd < 3) return null;
@@ -20,15 +20,13 @@ function eventsSink(): { write(line: string): void } | null {
 }
 import fs from "node:fs";
 import { parseArgs } from "node:util";
-import { closeDb, getDb, openDatabase } from "../app/db/client.server";
-import { stopStandin } from "../app/services/mail.server";
-import { RUN_EVENTS_FD_ENV } from "../app/runs/events";
+import { isEntryScript } from "./cli/entry";
 import type { RunSummary } from "./runner/run-suite";
 import { renderTable, fmtNum, tally } from "./runner/table";
 
 const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
 
-function summaryText(s: RunSummary): string {
+function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
   const rows = s.outcomes.map((o) => [
     o.spec.key,
     o.status,
@@ -39,7 +37,6 @@ function summaryText(s: RunSummary): string {
     o.samples.length ? `${fmtNum([...o.samples].sort((a, b) => a - b)[o.samples.length >> 1])} s` : "—",
   ]);
   const parts = [renderTable(["case", "status", "objective", "obj err", "state err", "iter", "median"], rows)];
-  const t = tally(s.outcomes);
   parts.push(
     "",
     `run ${s.runId} · ${s.status} · suite ${s.suite.name} (${s.suite.contentHash.slice(0, 12)}) · commit ${s.commit.commitHash.slice(0, 10)}${s.commit.dirty ? " (dirty)" : ""} on ${s.commit.branch ?? "(detached)"}`,
@@ -66,10 +63,11 @@ function summaryText(s: RunSummary): string {
   return parts.join("\n");
 }
 
-async function main(): Promise<number> {
+export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
   let args;
   try {
     args = parseArgs({
+      args: argv,
       options: {
         suite: { type: "string" },
         baseline: { type: "string" },
@@ -111,9 +109,14 @@ async function main(): Promise<number> {
     process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
     return 2;
   }
-  // Loaded after the arguments are checked: a usage error answers at once.
-  const { runSuite } = await import("./runner/run-suite");
-  const { uploadRun } = await import("./runner/upload");
+  // the database, the runner and the engine are loaded only now, so that --help answers at once
+  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV }] = await Promise.all([
+    import("../app/db/client.server"),
+    import("../app/services/mail.server"),
+    import("./runner/run-suite"),
+    import("./runner/upload"),
+    import("../app/runs/events"),
+  ]);
   const db = args.db ? openDatabase(args.db) : getDb();
   const controller = new AbortController();
   const onSignal = (sig: string) => {
@@ -131,7 +134,7 @@ async function main(): Promise<number> {
       jobs,
       signal: controller.signal,
       progress: args.json ? null : process.stderr,
-      events: eventsSink(),
+      events: eventsSink(RUN_EVENTS_FD_ENV),
       alerts: !args["no-alerts"],
       baseUrl: args["base-url"],
       jobId,
@@ -160,7 +163,7 @@ async function main(): Promise<number> {
       };
       process.stdout.write(`${JSON.stringify(out, null, 2)}\n`);
     } else {
-      process.stdout.write(`${summaryText(summary)}\n`);
+      process.stdout.write(`${summaryText(summary, tally(summary.outcomes))}\n`);
       if (uploaded) process.stdout.write(`uploaded to ${uploaded.url} (HTTP ${uploaded.status})\n`);
     }
     return summary.exitCode;
@@ -174,10 +177,12 @@ async function main(): Promise<number> {
   }
 }
 
-main().then(
-  (code) => process.exit(code),
-  (err) => {
-    process.stderr.write(`bench: ${(err as Error).stack ?? err}\n`);
-    process.exit(1);
-  },
-);
+if (isEntryScript(import.meta.url)) {
+  main().then(
+    (code) => process.exit(code),
+    (err) => {
+      process.stderr.write(`bench: ${(err as Error).stack ?? err}\n`);
+      process.exit(1);
+    },
+  );
+}

@@ -10,12 +10,10 @@
  */
 import { existsSync, readFileSync } from "node:fs";
 import path from "node:path";
-import { loadProblem } from "../app/engine/problem/load";
 import { numberFlagParser } from "./cli/number-flag";
-import { compileProblemSource } from "../app/engine/problem/compile";
-import { formatProblemError } from "../app/engine/problem/errors";
-import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/index";
-import { isConverged, solveProblem, type SolveReport } from "../app/engine/solve";
+import { isEntryScript } from "./cli/entry";
+import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/ids";
+import type { SolveReport } from "../app/engine/solve";
 import type { IterationRecord, NlpOptions } from "../app/engine/nlp/types";
 import type { Mesh } from "../app/engine/schemes/types";
 
@@ -120,8 +118,8 @@ function summary(rep: SolveReport, title: string): string {
   return L.join("\n");
 }
 
-function main(): number {
-  const parsed = parseArgs(process.argv.slice(2));
+export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
+  const parsed = parseArgs(argv);
   if (!parsed.args) {
     const onlyHelp = parsed.errors.length === 1 && parsed.errors[0] === "help";
     if (!onlyHelp) for (const e of parsed.errors.filter((x) => x !== "help")) process.stderr.write(`error: ${e}\n`);
@@ -129,6 +127,13 @@ function main(): number {
     return onlyHelp ? 0 : 2;
   }
   const args = parsed.args;
+  // the engine is loaded only now, so that usage errors and --help answer at once
+  const [{ loadProblem }, { compileProblemSource }, { formatProblemError }, { isConverged, solveProblem }] = await Promise.all([
+    import("../app/engine/problem/load"),
+    import("../app/engine/problem/compile"),
+    import("../app/engine/problem/errors"),
+    import("../app/engine/solve"),
+  ]);
   // a problem.json (or its folder, or an id) goes through the library loader; any other .json file
   // (e.g. a test fixture) is compiled on its own, with its file name as the id
   const loose = args.target.endsWith(".json") && path.basename(args.target) !== "problem.json" && existsSync(args.target);
@@ -162,4 +167,4 @@ function main(): number {
   return isConverged(rep.status) ? 0 : 1;
 }
 
-process.exitCode = main();
+if (isEntryScript(import.meta.url)) process.exitCode = await main();

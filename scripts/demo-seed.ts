@@ -30,6 +30,8 @@ import { median } from "~/engine/stats/summary";
 import { compareCases } from "~/runs/rules";
 import { loadSuite, suitePath } from "~/runs/suite";
 import { runSuite } from "../bench/runner/run-suite";
+import { demoSeedWanted, writeDemoProgress, type DemoProgress } from "~/models/demo-progress.server";
+import { parseRunEvent } from "~/runs/events";
 
 export const DEMO_BRANCH = "demo/heron-mesh-study";
 export const DEMO_COMMITS = 12;
@@ -77,13 +79,13 @@ export interface DemoSeedOptions {
   suite?: string;
   /** Stream for the runner's progress bar (default stderr). */
   progress?: NodeJS.WriteStream | null;
+  /** The runner's machine-readable progress (app/runs/events.ts), one JSON line per call. */
+  events?: { write(line: string): void } | null;
+  /** Called when the real run has ended and the demo history is being written. */
+  onHistory?: () => void;
 }
 
-export function demoSeedWanted(db: Db): boolean {
-  if (process.env.ARCWATCH_DEMO_SEED === "0") return false;
-  if (process.env.VITEST && process.env.ARCWATCH_DEMO_SEED !== "1") return false;
-  return (db.select({ n: sql<number>`count(*)` }).from(runs).get()?.n ?? 0) === 0;
-}
+export { demoSeedWanted } from "~/models/demo-progress.server";
 
 export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Promise<{ realRunId: string; demoRunIds: string[]; regressions: number }> {
   const log = options.log ?? (() => {});
@@ -91,7 +93,8 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
   const suiteName = options.suite ?? "quick";
   const t0 = Date.now();
   log(`running the ${suiteName} suite on the current checkout (real results; progress below)`);
-  const summary = await runSuite({ suite: suiteName, db, root, alerts: false, progress: options.progress === undefined ? process.stderr : options.progress });
+  const summary = await runSuite({ suite: suiteName, db, root, alerts: false, progress: options.progress === undefined ? process.stderr : options.progress, events: options.events ?? null });
+  options.onHistory?.();
   log(`real run ${summary.runId}: ${summary.status}, ${summary.outcomes.length} cases in ${summary.elapsedSeconds.toFixed(1)} s`);
   const thresholds = loadSuite(suitePath(suiteName, root)).thresholds;
 
@@ -194,11 +197,30 @@ export const demoResults: Seeder = {
   name: "demo results",
   async run(db, log) {
     if (!demoSeedWanted(db)) return;
+    // progress for the overview (app/models/demo-progress.server.ts): cases done of the real run
+    const progress: DemoProgress = { state: "running", done: 0, total: 0, pid: process.pid, startedAt: Date.now(), message: null };
+    const save = (patch: Partial<DemoProgress>) => {
+      Object.assign(progress, patch);
+      try {
+        writeDemoProgress(progress);
+      } catch {
+        /* progress is a courtesy; the seeding goes on */
+      }
+    };
+    save({});
+    const events = {
+      write(line: string) {
+        const e = parseRunEvent(line);
+        if (e) save({ done: e.done, total: e.total });
+      },
+    };
     try {
-      await seedDemoResults(db, { log });
+      await seedDemoResults(db, { log, events, suite: process.env.ARCWATCH_DEMO_SUITE?.trim() || undefined, onHistory: () => save({ state: "history" }) });
+      save({ state: "done" });
     } catch (err) {
       // The app is usable without demo results; say why they are missing and go on.
       log(`skipped: ${(err as Error).message} (run \`npm run bench -- --suite quick\` to record results)`);
+      save({ state: "failed", message: (err as Error).message.slice(0, 500) });
     }
   },
 };

@@ -408,6 +408,8 @@ export const regressionEvents = sqliteTable(
       .references(() => regressions.id, { onDelete: "cascade" }),
     /** Null for changes made by the system (e.g. marked fixed by a later run). */
     userId: integer("user_id").references(() => users.id, { onDelete: "set null" }),
+    /** The API token the change was made with (null: a browser session or the system). */
+    apiTokenId: integer("api_token_id").references(() => apiTokens.id, { onDelete: "set null" }),
     at: createdAt("at"),
     fromStatus: text("from_status", { enum: REGRESSION_STATUSES }),
     toStatus: text("to_status", { enum: REGRESSION_STATUSES }),
@@ -433,6 +435,8 @@ export const comments = sqliteTable(
     /** Regression id, run uuid, problem id or case result id, as text. */
     targetId: text("target_id").notNull(),
     body: text("body").notNull(),
+    /** The API token the comment was posted with (null: a browser session). */
+    apiTokenId: integer("api_token_id").references(() => apiTokens.id, { onDelete: "set null" }),
     createdAt: createdAt(),
     editedAt: integer("edited_at", { mode: "timestamp_ms" }),
   },

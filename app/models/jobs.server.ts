@@ -99,10 +99,18 @@ export function heartbeatJob(db: Db, id: number, progress: BenchProgress | null,
   });
 }
 
-/** Final status; a job cancelled meanwhile stays "cancelled". */
+/** What a cancelled job's error reads, however its process ended (exit 130, or killed). */
+export const CANCELLED_MESSAGE = "Cancelled: the finished cases are kept and the run is marked interrupted.";
+
+/** Final status; a job cancelled meanwhile stays "cancelled", and its error says so. */
 export function finishJob(db: Db, id: number, status: "done" | "failed" | "cancelled", error: string | null): void {
   db.update(jobs)
-    .set({ status: sql`case when ${jobs.status} = 'cancelled' then 'cancelled' else ${status} end`, finishedAt: new Date(), error, pid: null })
+    .set({
+      status: sql`case when ${jobs.status} = 'cancelled' then 'cancelled' else ${status} end`,
+      error: sql`case when ${jobs.status} = 'cancelled' or ${status} = 'cancelled' then ${CANCELLED_MESSAGE} else ${error} end`,
+      finishedAt: new Date(),
+      pid: null,
+    })
     .where(eq(jobs.id, id))
     .run();
 }

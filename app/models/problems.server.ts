@@ -470,6 +470,7 @@ export interface TrialResult {
 
 /** Largest mesh a trial solve may use (it runs inside a web request). */
 export const TRIAL_MAX_INTERVALS = 60;
+export const TRIAL_MIN_INTERVALS = 2;
 /** Wall-clock limit of a trial solve (seconds). */
 export const TRIAL_MAX_SECONDS = 20;
 
@@ -478,7 +479,7 @@ export async function trialSolve(files: ProblemSourceFiles, id: string, scheme: 
   const compiled = compileProblemSource(id || "new-problem", files);
   if (!compiled.ok) return { error: "The problem does not compile." };
   const p = compiled.problem;
-  const n = Math.max(2, Math.min(TRIAL_MAX_INTERVALS, Math.round(intervals) || 20));
+  const n = Math.max(TRIAL_MIN_INTERVALS, Math.min(TRIAL_MAX_INTERVALS, Math.round(intervals) || 20));
   const report = solveProblem(p, scheme, { intervals: n, ...(scheme === "lgr" ? { degree: p.defaults?.degree ?? 4 } : {}) }, { nlp: { maxSeconds: TRIAL_MAX_SECONDS, maxIter: 500 } });
   const tr = report.trajectory;
   const ref = p.reference.trajectory;

@@ -9,7 +9,7 @@ import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { simpleGit } from "simple-git";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
-import { caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressionMembers, regressions, regressionSightings, runs, subscriptions, timingSamples, users, type RegressionScope, type RegressionStatus } from "~/db/schema";
+import { apiTokens, caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressionMembers, regressions, regressionSightings, runs, subscriptions, timingSamples, users, type RegressionScope, type RegressionStatus } from "~/db/schema";
 import { parseGroupKey } from "~/runs/pooled";
 import { getCaseTrajectory, type CaseTrajectory } from "~/models/cases.server";
 import { repoRoot } from "~/services/git.server";
@@ -112,6 +112,8 @@ export interface RegressionEvent {
   id: number;
   at: number;
   user: string | null;
+  /** The API token the change was made with, else null. */
+  token: string | null;
   fromStatus: string | null;
   toStatus: string | null;
   note: string | null;
@@ -126,7 +128,8 @@ export interface RegressionDetail {
   members: { caseKey: string; problemId: string; ratio: number | null }[];
   /** The runs (commits) it was seen in, oldest first: the one that found it, then later commits of its branch. */
   sightings: { runId: string; commitHash: string; commitSubject: string | null; ratio: number | null; ciLow: number | null; ciHigh: number | null; at: number }[];
-  comments: { id: number; user: string; body: string; at: number }[];
+  /** `token`: the name of the API token the comment was posted with, else null. */
+  comments: { id: number; user: string; token: string | null; body: string; at: number }[];
   assignable: { id: number; name: string }[];
   subscribed: boolean;
 }
@@ -169,21 +172,23 @@ export function getRegressionDetail(db: Db, id: number, viewerId: number): Regre
   const r = db.select().from(regressions).where(eq(regressions.id, id)).get();
   if (!item || !r) return null;
   const events = db
-    .select({ e: regressionEvents, user: users.name })
+    .select({ e: regressionEvents, user: users.name, token: apiTokens.name })
     .from(regressionEvents)
     .leftJoin(users, eq(users.id, regressionEvents.userId))
+    .leftJoin(apiTokens, eq(apiTokens.id, regressionEvents.apiTokenId))
     .where(eq(regressionEvents.regressionId, id))
     .orderBy(asc(regressionEvents.at), asc(regressionEvents.id))
     .all()
-    .map(({ e, user }) => ({ id: e.id, at: new Date(e.at).getTime(), user, fromStatus: e.fromStatus, toStatus: e.toStatus, note: e.note }));
+    .map(({ e, user, token }) => ({ id: e.id, at: new Date(e.at).getTime(), user, token, fromStatus: e.fromStatus, toStatus: e.toStatus, note: e.note }));
   const cs = db
-    .select({ c: comments, user: users.name })
+    .select({ c: comments, user: users.name, token: apiTokens.name })
     .from(comments)
     .innerJoin(users, eq(users.id, comments.userId))
+    .leftJoin(apiTokens, eq(apiTokens.id, comments.apiTokenId))
     .where(and(eq(comments.targetType, "regression"), eq(comments.targetId, String(id))))
     .orderBy(asc(comments.createdAt), asc(comments.id))
     .all()
-    .map(({ c, user }) => ({ id: c.id, user, body: c.body, at: new Date(c.createdAt).getTime() }));
+    .map(({ c, user, token }) => ({ id: c.id, user, token, body: c.body, at: new Date(c.createdAt).getTime() }));
   const assignable = db
     .select({ id: users.id, name: users.name })
     .from(users)
@@ -322,7 +327,7 @@ export type TriageInput = z.infer<typeof triageSchema>;
 export type TriageOutcome = { ok: true; status: RegressionStatus } | { ok: false; status: 400 | 404; errors: Record<string, string> };
 
 /** Applies one triage change and records it as an event (one transaction). */
-export function triageRegression(db: Db, id: number, userId: number, input: TriageInput): TriageOutcome {
+export function triageRegression(db: Db, id: number, userId: number, input: TriageInput, apiTokenId: number | null = null): TriageOutcome {
   const r = db.select().from(regressions).where(eq(regressions.id, id)).get();
   if (!r) return { ok: false, status: 404, errors: { form: "No such regression." } };
   const from = r.status;
@@ -366,16 +371,16 @@ export function triageRegression(db: Db, id: number, userId: number, input: Tria
   set.status = to;
   db.transaction((tx) => {
     tx.update(regressions).set(set).where(eq(regressions.id, id)).run();
-    tx.insert(regressionEvents).values({ regressionId: id, userId, fromStatus: from, toStatus: to, note }).run();
+    tx.insert(regressionEvents).values({ regressionId: id, userId, apiTokenId, fromStatus: from, toStatus: to, note }).run();
   });
   return { ok: true, status: to };
 }
 
 export const commentSchema = z.object({ body: z.string().trim().min(1, "Write a comment first.").max(5000, "At most 5000 characters.") });
 
-export function addRegressionComment(db: Db, id: number, userId: number, body: string): boolean {
+export function addRegressionComment(db: Db, id: number, userId: number, body: string, apiTokenId: number | null = null): boolean {
   if (!db.select({ id: regressions.id }).from(regressions).where(eq(regressions.id, id)).get()) return false;
-  db.insert(comments).values({ userId, targetType: "regression", targetId: String(id), body }).run();
+  db.insert(comments).values({ userId, apiTokenId, targetType: "regression", targetId: String(id), body }).run();
   return true;
 }
 

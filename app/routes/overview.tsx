@@ -2,14 +2,17 @@ import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/overview";
 import { RoleBadge } from "~/components/AppShell";
 import { RouteErrorBoundary } from "~/components/ErrorView";
+import { useAutoRefresh } from "~/components/useAutoRefresh";
 import { Field, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { benchJobPayload, enqueueJob, listJobs } from "~/models/jobs.server";
 import { overviewCounts } from "~/models/overview.server";
+import { readDemoProgress, type DemoProgressView } from "~/models/demo-progress.server";
 import { overviewState } from "~/models/runs.server";
 import { OverviewPanels } from "~/components/charts/OverviewState";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
+import { checkBenchJob } from "~/services/job-check.server";
 import { roleAtLeast, ROLE_DESCRIPTIONS } from "~/services/roles";
 
 export const meta: Route.MetaFunction = () => [{ title: "Overview · Arcwatch" }];
@@ -24,7 +27,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     status: j.status,
     createdAt: j.createdAt,
   }));
-  return { role: user.role, counts: overviewCounts(db), jobs, state: overviewState(db) };
+  return { role: user.role, counts: overviewCounts(db), jobs, state: overviewState(db), demo: readDemoProgress() };
 }
 
 /** Engineers queue a benchmark job for a suite (the job worker runs it). */
@@ -34,7 +37,9 @@ export async function action({ request }: Route.ActionArgs) {
   const values = { suite: String(form.get("suite") ?? "") };
   const parsed = benchJobPayload.safeParse(values);
   if (!parsed.success) return data({ errors: fieldErrors<"suite">(parsed.error) as FieldErrors<"suite">, values, notice: null }, { status: 400 });
-  const job = enqueueJob(getDb(), { kind: "bench", payload: parsed.data }, user.id);
+  const checked = await checkBenchJob(parsed.data);
+  if (!checked.ok) return data({ errors: { suite: checked.message } as FieldErrors<"suite">, values, notice: null }, { status: 400 });
+  const job = enqueueJob(getDb(), { kind: "bench", payload: checked.payload }, user.id);
   return data({ errors: {} as FieldErrors<"suite">, values, notice: `Queued job ${job.id}: bench suite ${parsed.data.suite}.` });
 }
 
@@ -49,11 +54,47 @@ function Stat({ label, value, testId }: { label: string; value: number; testId: 
   );
 }
 
+/** The first start's background seeding (scripts/demo-seed.ts): how far it is, in cases. */
+function DemoProgressCard({ demo }: { demo: DemoProgressView }) {
+  const pct = demo.total ? Math.round((100 * demo.done) / demo.total) : 0;
+  const text =
+    demo.state === "running"
+      ? demo.total
+        ? `Preparing demo data: ${demo.done} of ${demo.total} cases`
+        : "Preparing demo data: starting the quick suite"
+      : demo.state === "history"
+        ? `Preparing demo data: ${demo.total} of ${demo.total} cases measured, writing the demo history`
+        : demo.state === "failed"
+          ? `The demo data could not be prepared: ${demo.message ?? "unknown error"}`
+          : `Demo data preparation stopped at ${demo.done} of ${demo.total} cases (the server was stopped while it ran).`;
+  return (
+    <section className="card space-y-2 p-5" aria-labelledby="demo-progress-title" data-testid="demo-progress" data-state={demo.state}>
+      <h2 id="demo-progress-title" className="font-semibold" aria-live="polite">{text}</h2>
+      {demo.state === "running" || demo.state === "history" ? (
+        <>
+          <div className="h-3 w-full overflow-hidden rounded bg-raised" role="progressbar" aria-valuemin={0} aria-valuemax={demo.total} aria-valuenow={demo.done} aria-label="Demo cases done">
+            <div className="h-full bg-accent transition-all" style={{ width: `${pct}%` }} />
+          </div>
+          <p className="text-sm text-muted">A real run of the quick suite on this machine, then an invented history labelled "demo data". Pages fill in as it goes; this card updates itself.</p>
+        </>
+      ) : null}
+    </section>
+  );
+}
+
+/** Refresh intervals of the overview: quick while something runs, slow otherwise (a new run shows up). */
+const REFRESH_ACTIVE_MS = 3000;
+const REFRESH_IDLE_MS = 15000;
+
 export default function Overview({ loaderData, actionData }: Route.ComponentProps) {
-  const { counts, role, jobs, state } = loaderData;
+  const { counts, role, jobs, state, demo } = loaderData;
+  const demoActive = demo?.state === "running" || demo?.state === "history";
+  const active = demoActive || state.inProgress.length > 0 || jobs.some((j) => j.status === "queued" || j.status === "running");
+  useAutoRefresh(active ? REFRESH_ACTIVE_MS : REFRESH_IDLE_MS);
   const busy = useNavigation().state === "submitting";
   return (
     <div className="space-y-8">
+      {demo && demo.state !== "done" ? <DemoProgressCard demo={demo} /> : null}
       <div className="flex flex-wrap items-end justify-between gap-4">
         <div>
           <h1 className="text-3xl font-semibold tracking-tight">Overview</h1>

@@ -1,3 +1,4 @@
+import { useEffect, useRef } from "react";
 import { data, Link, useFetcher } from "react-router";
 import type { Route } from "./+types/regressions.$id";
 import { SchemeChart, type ChartSeries } from "~/components/compare/SchemeChart";
@@ -191,12 +192,22 @@ function Triage({ id, detail }: { id: number; detail: Route.ComponentProps["load
   );
 }
 
+/** Beside a person's name: the API token an action was taken with, if any. */
+function TokenNote({ name }: { name: string | null | undefined }) {
+  return name ? <span data-token-note> (with API token “{name}”)</span> : null;
+}
+
 export default function RegressionPage({ loaderData }: Route.ComponentProps) {
   const { detail, commits, commitsNote, canTriage } = loaderData;
   const r = detail.regression;
   const { before, after } = detail;
   const comment = useApi(r.id);
   const sub = useApi(r.id);
+  // a posted comment leaves the box empty (the list above now shows it)
+  const commentForm = useRef<HTMLFormElement>(null);
+  useEffect(() => {
+    if (comment.f.state === "idle" && comment.f.data?.ok) commentForm.current?.reset();
+  }, [comment.f.state, comment.f.data]);
   const rows: [string, (c: SideCase) => number | null | string][] = [
     ["status", (c) => c.status],
     ["objective", (c) => c.objective],
@@ -312,7 +323,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
         <ol className="space-y-1 text-sm">
           {detail.events.map((e) => (
             <li key={e.id} data-event={e.toStatus ?? ""}>
-              <span className="num text-muted">{when(e.at)}</span> · {e.user ?? "Arcwatch"} · {e.fromStatus ?? "—"} → {e.toStatus ?? "—"}
+              <span className="num text-muted">{when(e.at)}</span> · {e.user ?? "Arcwatch"}<TokenNote name={e.token} /> · {e.fromStatus ?? "—"} → {e.toStatus ?? "—"}
               {e.note ? <span className="block pl-4">{e.note}</span> : null}
             </li>
           ))}
@@ -325,13 +336,13 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
           {detail.comments.map((c) => (
             <li key={c.id}>
               <span className="text-muted">
-                {c.user} · <span className="num">{when(c.at)}</span>
+                {c.user}<TokenNote name={c.token} /> · <span className="num">{when(c.at)}</span>
               </span>
               <p className="whitespace-pre-wrap">{c.body}</p>
             </li>
           ))}
         </ul>
-        <comment.f.Form method="post" action={comment.action} className="space-y-2">
+        <comment.f.Form ref={commentForm} method="post" action={comment.action} className="space-y-2">
           <input type="hidden" name="intent" value="comment" />
           <textarea name="body" className="input min-h-20" aria-label="Comment" />
           {comment.f.data?.errors?.body ? <FormError message={comment.f.data.errors.body} /> : null}

@@ -126,6 +126,18 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
   const errors = (actionData?.errors ?? {}) as FieldErrors<StartField>;
   const values = actionData?.values;
   const busy = useNavigation().state === "submitting";
+  // the recent-jobs list follows the jobs' live status (the same rows the job panel polls)
+  const live = useFetcher<{ jobs: { id: number; status: string }[] }>();
+  const liveStatus = new Map((live.data?.jobs ?? []).map((j) => [j.id, j.status]));
+  const statusOf = (j: { id: number; status: string }) => liveStatus.get(j.id) ?? j.status;
+  const anyActive = jobs.some((j) => ACTIVE.has(statusOf(j)));
+  useEffect(() => {
+    if (!anyActive) return;
+    const t = setInterval(() => {
+      if (live.state === "idle") live.load("/api/jobs");
+    }, 1000);
+    return () => clearInterval(t);
+  }, [anyActive, live]);
   return (
     <div className="space-y-6">
       <div>
@@ -181,7 +193,7 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
             {jobs.map((j) => (
               <li key={j.id} className="flex items-center justify-between px-4 py-2">
                 <Link className="text-accent hover:underline" to={`/run-suite?ref=${encodeURIComponent(j.ref || ref)}&job=${j.id}`}>Job {j.id} · {j.suite} on {j.ref || "?"}</Link>
-                <span className="num text-muted">{j.status} · {fmtDate(j.createdAt)}</span>
+                <span className="num text-muted"><span data-job-list-status={j.id}>{statusOf(j)}</span> · {fmtDate(j.createdAt)}</span>
               </li>
             ))}
           </ul>

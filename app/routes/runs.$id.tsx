@@ -6,6 +6,7 @@ import { RouteErrorBoundary } from "~/components/ErrorView";
 import { inkOn, logPosition, scaleColour } from "~/components/charts/scale";
 import { getDb } from "~/db/client.server";
 import { getRun, type MatrixCell } from "~/models/runs.server";
+import { getJob } from "~/models/jobs.server";
 import { requireUser } from "~/services/auth.server";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Run ${data?.run.run.commitHash.slice(0, 10) ?? ""} · Arcwatch` }];
@@ -14,7 +15,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   await requireUser(request);
   const run = getRun(getDb(), params.id);
   if (!run) throw data({ message: `There is no run ${params.id}. It may have been removed; pick one from the runs table.` }, { status: 404 });
-  return { run };
+  const job = run.run.jobId ? getJob(getDb(), run.run.jobId) : undefined;
+  return { run, jobStatus: job?.status ?? null };
 }
 
 /** Error bounds of the colour scale: 1e-8 (as good as references get) to 1e-1 (wrong). */
@@ -37,7 +39,7 @@ function cellError(c: MatrixCell): number {
 }
 
 export default function RunPage({ loaderData }: Route.ComponentProps) {
-  const { run: detail } = loaderData;
+  const { run: detail, jobStatus } = loaderData;
   const { run, cases, regressions } = detail;
   const [params, setParams] = useSearchParams();
   const revalidator = useRevalidator();
@@ -59,6 +61,8 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
   const regByCase = new Map<string, typeof regressions>();
   for (const r of regressions) regByCase.set(r.caseKey, [...(regByCase.get(r.caseKey) ?? []), r]);
   const solved = cases.filter((c) => c.solved).length;
+  // why a run ended early, in words: cancelled from the job panel, or stopped otherwise
+  const stopped = run.status === "interrupted" ? (jobStatus === "cancelled" ? "cancelled" : jobStatus === "died" ? "stopped with its server" : "interrupted") : null;
   return (
     <div className="space-y-6">
       <div className="flex flex-wrap items-start justify-between gap-4">
@@ -92,7 +96,9 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
           </div>
         </div>
         {cases.length === 0 ? (
-          <p className="card p-6 text-muted">This run has no finished cases yet{run.status === "running" ? "; it is still running, reload in a moment." : "."}</p>
+          <p className="card p-6 text-muted" data-testid="run-empty">
+            {stopped ? `This run was ${stopped} before any case finished.` : `This run has no finished cases yet${run.status === "running" ? "; it is still running, reload in a moment." : "."}`}
+          </p>
         ) : (
           <div className="card overflow-x-auto">
             <table className="text-xs" data-testid="run-matrix">
@@ -143,7 +149,11 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
       </section>
       <section className="space-y-2" aria-labelledby="regs-title">
         <h2 id="regs-title" className="text-xl font-semibold">Regressions and improvements found</h2>
-        {regressions.length === 0 ? (
+        {regressions.length === 0 && run.status !== "complete" ? (
+          <p className="text-muted" data-testid="run-not-checked">
+            Not checked: only complete runs are compared with a baseline{stopped ? `, and this one was ${stopped} (${cases.length} case${cases.length === 1 ? "" : "s"} finished, kept above)` : run.status === "running" ? ", and this one is still running" : ""}.
+          </p>
+        ) : regressions.length === 0 ? (
           <p className="text-muted">None: either nothing moved beyond the suite's thresholds, or there was no baseline run to compare with.</p>
         ) : (
           <div className="card overflow-x-auto">

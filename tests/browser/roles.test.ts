@@ -161,9 +161,13 @@ describe.runIf(run)("roles in the browser", () => {
     await expect.poll(() => page.locator("[data-job-row]").count()).toBe(1);
     await screenshot(page, "overview-engineer");
 
-    const api = await pageFetch("/api/jobs", { method: "POST", json: { kind: "bench", payload: { suite: "full", commit: "abc1234" } } });
+    // a commit that is not in the repository is refused at once (README: 400 with the field errors)
+    const unknown = await pageFetch("/api/jobs", { method: "POST", json: { kind: "bench", payload: { suite: "full", commit: "abc1234" } } });
+    expect(unknown.status).toBe(400);
+    expect(JSON.parse(unknown.text).fields["payload.commit"][0]).toMatch(/abc1234 is not a commit/);
+    const api = await pageFetch("/api/jobs", { method: "POST", json: { kind: "bench", payload: { suite: "full" } } });
     expect(api.status).toBe(201);
-    expect(JSON.parse(api.text).job).toMatchObject({ id: 2, kind: "bench", status: "queued", payloadJson: { suite: "full", commit: "abc1234" } });
+    expect(JSON.parse(api.text).job).toMatchObject({ id: 2, kind: "bench", status: "queued", payloadJson: { suite: "full", commit: expect.stringMatching(/^[0-9a-f]{40}$/) } });
     const bad = await pageFetch("/api/jobs", { method: "POST", json: { kind: "bench", payload: { suite: "" } } });
     expect(bad.status).toBe(400);
 
@@ -243,7 +247,7 @@ describe.runIf(run)("roles in the browser", () => {
     const queued = await fetch(url("/api/jobs"), {
       method: "POST",
       headers: { ...bearer, "Content-Type": "application/json" },
-      body: JSON.stringify({ kind: "bench", payload: { suite: "nightly" } }),
+      body: JSON.stringify({ kind: "bench", payload: { suite: "quick" } }),
     });
     expect(queued.status).toBe(201);
 

@@ -10,7 +10,7 @@ useTempDatabase("jobs");
 
 const { getDb } = await import("~/db/client.server");
 const { jobs, runs, suites } = await import("~/db/schema");
-const { enqueueJob, claimNextJob, cancelJob, markDeadJobs, finishJob, heartbeatJob, jobView, labelJobRuns, MAX_JOB_LOG } = await import("~/models/jobs.server");
+const { enqueueJob, claimNextJob, cancelJob, markDeadJobs, finishJob, heartbeatJob, jobView, labelJobRuns, MAX_JOB_LOG, CANCELLED_MESSAGE } = await import("~/models/jobs.server");
 const { applyRunEvent } = await import("~/services/job-worker.server");
 const { parseRunEvent } = await import("~/runs/events");
 const { Progress } = await import("../../bench/runner/progress");
@@ -50,6 +50,24 @@ describe("queue", () => {
     expect(heartbeatJob(db(), r.id, null, "line\n")).toBe("cancelled");
     finishJob(db(), r.id, "done", null);
     expect(jobView(db(), r.id)!.status).toBe("cancelled");
+  });
+
+  it("a cancelled job's error says it was cancelled, however its process ended", () => {
+    for (const [status, error] of [["failed", "bench exited with code null"], ["cancelled", "Interrupted."], ["done", null]] as const) {
+      const j = enqueueJob(db(), { kind: "bench", payload: { suite: "quick" } }, null);
+      claimNextJob(db(), 1);
+      expect(cancelJob(db(), j.id).ok).toBe(true);
+      finishJob(db(), j.id, status, error);
+      const v = jobView(db(), j.id)!;
+      expect(v.status).toBe("cancelled");
+      expect(v.error).toBe(CANCELLED_MESSAGE);
+      expect(v.error).not.toMatch(/code null/);
+    }
+    // a failure that is not a cancellation keeps its own message
+    const f = enqueueJob(db(), { kind: "bench", payload: { suite: "quick" } }, null);
+    claimNextJob(db(), 1);
+    finishJob(db(), f.id, "failed", "bench exited with code 1");
+    expect(jobView(db(), f.id)!.error).toBe("bench exited with code 1");
   });
 
   it("keeps only the tail of a long log", () => {

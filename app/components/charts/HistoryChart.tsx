@@ -3,6 +3,7 @@
  * drawn as red triangles, improvements as teal diamonds. Hovering shows the commit, clicking a
  * point opens its run. Fixed size, drawn after hydration.
  */
+import { niceTicks } from "./ticks";
 import { useNavigate } from "react-router";
 import { CartesianGrid, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
 import type { HistoryPoint } from "~/models/history.server";
@@ -58,13 +59,15 @@ export function HistoryChart({ points, label, log, width = 900, height = 320 }: 
   const positive = data.every((p) => p.value === null || p.value > 0);
   const logScale = log && positive;
   const values = data.flatMap((p) => (p.value !== null && Number.isFinite(p.value) ? [p.value] : []));
+  // a linear axis gets round ticks whose labels differ even for a nearly flat series (charts/ticks.ts)
+  const linear = !logScale && values.length ? niceTicks(Math.min(...values), Math.max(...values), 5) : null;
   return (
     <figure className="card p-3" data-testid="history-chart">
       <figcaption className="mb-1 text-sm font-medium">{label}</figcaption>
       <LineChart width={width} height={height} data={data} margin={{ top: 10, right: 16, bottom: 10, left: 8 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
         <XAxis dataKey="i" type="number" domain={[0, Math.max(1, data.length - 1)]} tickFormatter={(i: number) => data[i]?.commitHash.slice(0, 7) ?? ""} tick={{ fontSize: 10, fill: "var(--aw-muted)" }} />
-        <YAxis type="number" scale={logScale ? "log" : "auto"} domain={yDomain(values, logScale)} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={72} tickFormatter={(v: number) => v.toPrecision(3)} />
+        <YAxis type="number" scale={logScale ? "log" : "auto"} domain={linear?.domain ?? yDomain(values, logScale)} ticks={linear?.ticks} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={72} tickFormatter={linear?.format ?? ((v: number) => v.toPrecision(3))} />
         <Tooltip content={<TooltipBody />} />
         <Line dataKey="value" stroke="var(--aw-accent)" isAnimationActive={false} connectNulls dot={(props: { cx?: number; cy?: number; payload?: unknown; index?: number }) => <MarkDot key={(props.payload as HistoryPoint | undefined)?.runId ?? props.index} cx={props.cx} cy={props.cy} payload={props.payload as DotProps["payload"]} onOpen={(p) => navigate(`/runs/${p.runId}`)} />} activeDot={false} />
       </LineChart>

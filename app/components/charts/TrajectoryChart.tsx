@@ -5,6 +5,7 @@
  */
 import { CartesianGrid, Legend, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
 import type { Series } from "~/models/cases.server";
+import { niceTicks } from "./ticks";
 
 function points(s: Series | null, name: string): { t: number; v: number }[] {
   const col = s?.columns[name];
@@ -12,41 +13,32 @@ function points(s: Series | null, name: string): { t: number; v: number }[] {
   return s.t.map((t, i) => ({ t, v: col[i]! })).filter((p) => Number.isFinite(p.t) && Number.isFinite(p.v));
 }
 
-/** Axis ticks in at most 4 significant digits. */
-function tick(v: number): string {
-  if (!Number.isFinite(v)) return "";
-  const a = Math.abs(v);
-  return a !== 0 && (a >= 1e5 || a < 1e-3) ? v.toExponential(2) : String(Number(v.toPrecision(4)));
-}
-
-/**
- * Y domain: recharts' own rounded "auto" domain, except for a nearly constant series (a costate
- * of a state that does not enter the dynamics), which gets a span of 1e-3 of its magnitude so
- * that it draws flat with distinct 4-digit ticks instead of repeating one tick label.
- */
-function yDomain(series: { v: number }[]): [number, number] | ["auto", "auto"] {
-  if (series.length === 0) return ["auto", "auto"];
+/** Bounds of a list of points' times or values. */
+function bounds(xs: number[]): [number, number] | null {
   let lo = Infinity;
   let hi = -Infinity;
-  for (const p of series) {
-    if (p.v < lo) lo = p.v;
-    if (p.v > hi) hi = p.v;
+  for (const x of xs) {
+    if (x < lo) lo = x;
+    if (x > hi) hi = x;
   }
-  const mid = 0.5 * (lo + hi);
-  const minSpan = Math.max(1e-3 * Math.abs(mid), 1e-9);
-  return hi - lo >= minSpan ? ["auto", "auto"] : [mid - minSpan, mid + minSpan];
+  return lo <= hi ? [lo, hi] : null;
 }
 
 export function TrajectoryChart({ name, solution, reference, referenceName, width = 420, height = 220, step = false }: { name: string; solution: Series | null; reference: Series | null; referenceName?: string; width?: number; height?: number; step?: boolean }) {
   const sol = points(solution, name);
   const ref = points(reference, referenceName ?? name);
+  // round ticks with labels that differ (a nearly constant costate included): charts/ticks.ts
+  const tb = bounds([...sol, ...ref].map((p) => p.t));
+  const vb = bounds([...sol, ...ref].map((p) => p.v));
+  const xPlan = tb ? niceTicks(tb[0], tb[1], 6, true) : null;
+  const yPlan = vb ? niceTicks(vb[0], vb[1], 5) : null;
   return (
     <figure className="card p-3" data-testid="trajectory-chart" data-series={name}>
       <figcaption className="mb-1 text-sm font-medium">{name}</figcaption>
       <LineChart width={width} height={height} margin={{ top: 5, right: 12, bottom: 5, left: 0 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
-        <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={tick} allowDuplicatedCategory={false} />
-        <YAxis type="number" domain={yDomain([...sol, ...ref])} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={tick} width={64} />
+        <XAxis dataKey="t" type="number" domain={xPlan?.domain ?? ["dataMin", "dataMax"]} ticks={xPlan?.ticks} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={xPlan?.format} allowDuplicatedCategory={false} />
+        <YAxis type="number" domain={yPlan?.domain ?? ["auto", "auto"]} ticks={yPlan?.ticks} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={yPlan?.format} width={72} />
         <Tooltip contentStyle={{ background: "var(--aw-surface)", border: "1px solid var(--aw-line)", fontSize: 12 }} formatter={(v) => (typeof v === "number" ? v.toPrecision(6) : String(v))} labelFormatter={(t) => `t = ${typeof t === "number" ? t.toPrecision(5) : t}`} />
         <Legend wrapperStyle={{ fontSize: 11 }} />
         {ref.length ? <Line data={ref} dataKey="v" name="reference" stroke="var(--aw-muted)" strokeDasharray="5 4" dot={false} isAnimationActive={false} /> : null}

@@ -180,7 +180,8 @@ export function ProblemEditor({ values, errors, idLocked, saveLabel }: { values:
           <label htmlFor="field-trialIntervals" className="block text-sm font-medium">
             Intervals (≤ 60)
           </label>
-          <input id="field-trialIntervals" name="trialIntervals" defaultValue="20" className="input w-24" inputMode="numeric" />
+          <input id="field-trialIntervals" name="trialIntervals" defaultValue="20" className="input w-24" inputMode="numeric" aria-invalid={e("trialIntervals") ? true : undefined} />
+          <FieldError name="trialIntervals" error={e("trialIntervals")} />
         </div>
         <button type="button" className="btn-quiet" onClick={runTrial} disabled={trial.state !== "idle"} data-testid="trial-solve">
           {trial.state !== "idle" ? "Solving…" : "Trial solve"}

@@ -8,7 +8,8 @@
  * The rules are those of Dag.derivative; constant folding and the identities x+0, x·1, x·0, x−x,
  * x/1, x^1, x^0 are applied on the way (the "simplification").
  */
-import { ConstantNode, FunctionNode, OperatorNode, ParenthesisNode, SymbolNode, type MathNode } from "mathjs";
+import type { MathNode } from "mathjs";
+import { ConstantNode, FunctionNode, OperatorNode, ParenthesisNode, SymbolNode } from "./math";
 import { Dag, isBinaryFn, isUnaryFn } from "./dag";
 import { toDag } from "./compile";
 

@@ -11,7 +11,8 @@
  * MAX_BRACKET_NESTING nested brackets before parsing and MAX_TREE_DEPTH levels in the tree;
  * any exception from the parser (including stack exhaustion) becomes an issue.
  */
-import { parse, type MathNode } from "mathjs";
+import type { MathNode } from "mathjs";
+import { parse } from "./math";
 import { foldLookalikes, nearestName } from "./suggest";
 
 export const MAX_EXPRESSION_LENGTH = 4000;

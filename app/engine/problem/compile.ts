@@ -10,7 +10,8 @@
  * Input layouts (types.ts): point functions z = [t, x_1..x_nx, u_1..u_nu];
  * endpoint functions e = [t0, x(t0)_1..nx, tf, x(tf)_1..nx].
  */
-import { parse, type MathNode } from "mathjs";
+import type { MathNode } from "mathjs";
+import { parse } from "../expr/math";
 import type { $ZodIssue } from "zod/v4/core";
 import type {
   CompiledProblem,

@@ -5,6 +5,7 @@ import { trapezoidal } from "./trapezoidal";
 import { hermiteSimpson } from "./hermite-simpson";
 import { lgr } from "./lgr";
 import { rk4Shooting } from "./rk4-shooting";
+import { SCHEME_IDS, isSchemeId } from "./ids";
 
 export const schemes: Record<SchemeId, Scheme> = {
   euler,
@@ -14,11 +15,7 @@ export const schemes: Record<SchemeId, Scheme> = {
   "rk4-shooting": rk4Shooting,
 };
 
-export const SCHEME_IDS = Object.keys(schemes) as SchemeId[];
-
-export function isSchemeId(id: string): id is SchemeId {
-  return Object.prototype.hasOwnProperty.call(schemes, id);
-}
+export { SCHEME_IDS, isSchemeId } from "./ids";
 
 /** The scheme with this id; throws an error listing the known ids otherwise. */
 export function getScheme(id: string): Scheme {

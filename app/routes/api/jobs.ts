@@ -1,8 +1,8 @@
-import { z } from "zod";
 import type { Route } from "./+types/jobs";
 import { getDb } from "~/db/client.server";
 import { enqueueJob, enqueueJobInput, listJobs } from "~/models/jobs.server";
 import { requireRole, requireUser } from "~/services/auth.server";
+import { checkBenchJob } from "~/services/job-check.server";
 import { csvResponse, wantsCsv } from "~/services/export.server";
 
 /** GET /api/jobs (viewer): the latest 50 jobs, newest first; `format=csv` for a CSV file. */
@@ -18,9 +18,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   return Response.json({ jobs: list });
 }
 
+/** 400 `{ error, fields: { "<dotted path>": [messages] }, issues: [{ path, message }] }`. */
+function invalidJob(issues: { path: string; message: string }[]): Response {
+  const fields: Record<string, string[]> = {};
+  for (const i of issues) (fields[i.path] ??= []).push(i.message);
+  return Response.json({ error: "Invalid job.", fields, issues }, { status: 400 });
+}
+
 /**
- * POST /api/jobs (engineer): queue a job. Body JSON `{ "kind": "bench", "payload": { "suite": "quick" } }`.
- * 201 with the job; 400 with `{ error, fields }` for bad input.
+ * POST /api/jobs (engineer): queue a job. Body JSON `{ "kind": "bench", "payload": { "suite": "quick" } }`,
+ * optionally `commit` (7–40 hex digits) or `ref` (a branch); neither means the repository's HEAD.
+ * 201 with the job (its payload names the resolved commit); 400 with `{ error, fields, issues }`
+ * for a malformed body, a commit not in the repository or a suite the commit does not have.
  */
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, "engineer");
@@ -33,8 +42,12 @@ export async function action({ request }: Route.ActionArgs) {
   }
   const parsed = enqueueJobInput.safeParse(body);
   if (!parsed.success) {
-    return Response.json({ error: "Invalid job.", fields: z.flattenError(parsed.error).fieldErrors, issues: parsed.error.issues.map((i) => ({ path: i.path.join("."), message: i.message })) }, { status: 400 });
+    return invalidJob(parsed.error.issues.map((i) => ({ path: i.path.join(".") || "(body)", message: i.message })));
   }
-  const job = enqueueJob(getDb(), parsed.data, user.id > 0 ? user.id : null);
+  const checked = await checkBenchJob(parsed.data.payload);
+  if (!checked.ok) {
+    return invalidJob([{ path: `payload.${checked.field}`, message: checked.message }]);
+  }
+  const job = enqueueJob(getDb(), { kind: "bench", payload: checked.payload }, user.id > 0 ? user.id : null);
   return Response.json({ job }, { status: 201 });
 }

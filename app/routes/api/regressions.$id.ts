@@ -1,6 +1,7 @@
 import { z } from "zod";
 import type { Route } from "./+types/regressions.$id";
 import { getDb } from "~/db/client.server";
+import { repoRoot, resolveRef } from "~/services/git.server";
 import { addRegressionComment, commentSchema, commitsBetween, getRegressionDetail, setProblemSubscription, triageRegression, triageSchema } from "~/models/regressions.server";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors } from "~/services/forms.server";
@@ -41,7 +42,14 @@ export async function action({ request, params }: Route.ActionArgs) {
     const user = await requireRole(request, "engineer");
     const parsed = triageSchema.safeParse(b);
     if (!parsed.success) return Response.json({ intent, errors: fieldErrors(parsed.error) }, { status: 400 });
-    const r = triageRegression(db, id, user.id, parsed.data);
+    let input = parsed.data;
+    if (input.intent === "fixed") {
+      // a fix names a commit of the repository the runs come from, not any hex string
+      const commit = await resolveRef(input.fixingCommit);
+      if (!commit) return Response.json({ intent, errors: { fixingCommit: `No commit ${input.fixingCommit} in the repository (${repoRoot()}).` } }, { status: 400 });
+      input = { ...input, fixingCommit: commit };
+    }
+    const r = triageRegression(db, id, user.id, input, user.tokenId ?? null);
     if (!r.ok) return Response.json({ intent, errors: r.errors }, { status: r.status });
     return Response.json({ ok: true, intent, status: r.status });
   }
@@ -49,7 +57,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (intent === "comment") {
     const parsed = commentSchema.safeParse(b);
     if (!parsed.success) return Response.json({ intent, errors: fieldErrors(parsed.error) }, { status: 400 });
-    if (!addRegressionComment(db, id, user.id, parsed.data.body)) return Response.json({ error: "No such regression." }, { status: 404 });
+    if (!addRegressionComment(db, id, user.id, parsed.data.body, user.tokenId ?? null)) return Response.json({ error: "No such regression." }, { status: 404 });
     return Response.json({ ok: true, intent });
   }
   if (intent === "subscribe" || intent === "unsubscribe") {
