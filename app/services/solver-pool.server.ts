@@ -239,8 +239,13 @@ export function deserializeForm(entries: SerializedForm): FormData {
 /** Largest problem a trial solve takes, checked before any work (a trial runs for a person waiting at a form). */
 export const TRIAL_MAX_STATES = 40;
 export const TRIAL_MAX_CONTROLS = 20;
-/** Hard wall-clock limits (ms): the trial's 20 s solver limit covers iterations only, not compiling or assembling. */
-export const TRIAL_WALL_MS = (TRIAL_MAX_SECONDS + 10) * 1000;
+/**
+ * Hard wall-clock limit of a trial (ms): the trial's 20 s solver limit covers iterations only,
+ * not compiling or assembling. ARCWATCH_TRIAL_WALL_SECONDS overrides it (tests, slow machines).
+ */
+export function trialWallMs(): number {
+  return envInt("ARCWATCH_TRIAL_WALL_SECONDS", TRIAL_MAX_SECONDS + 10, 1, 3600) * 1000;
+}
 export const SUBMISSION_WALL_MS = 20_000;
 
 /** Field errors for a problem too large to try, from the submitted JSON alone (no compiling). */
@@ -292,7 +297,7 @@ export async function trialOffThread(form: FormData, scheme: string, intervals: 
     const sub = failedSubmission(entries, "The problem is too large for a trial solve.");
     return { sub: { ...sub, errors: tooBig } };
   }
-  const out = await solverPool().run<{ sub: Submission; trial?: TrialResult | { error: string } }>({ kind: "trial", form: entries, scheme, intervals }, TRIAL_WALL_MS);
+  const out = await solverPool().run<{ sub: Submission; trial?: TrialResult | { error: string } }>({ kind: "trial", form: entries, scheme, intervals }, trialWallMs());
   if (!out.ok) return { sub: failedSubmission(entries, ""), error: out.reason === "timeout" ? `The trial solve was stopped: ${out.message}` : out.message };
   const { sub, trial } = out.value;
   if (trial && "error" in trial) return { sub, error: trial.error };
