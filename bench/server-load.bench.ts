@@ -13,6 +13,7 @@
  * (seeding runs the quick suite, minutes on a shared machine). Timings on a shared machine are
  * noisy: the idle and loaded figures are measured in the same run, one after the other.
  */
+import { chainProblem } from "../tests/helpers/load-problem";
 import { startTestServer } from "../tests/helpers/server";
 
 const args = process.argv.slice(2);
@@ -38,30 +39,6 @@ async function signIn(email: string, password: string): Promise<string> {
   return c.split(";")[0]!;
 }
 const cookie = await signIn("engineer@arcwatch.test", "engineer-demo-pass");
-
-/** A coupled chain of n states driven by ⌈n/10⌉ controls, minimum control energy, fixed end time. */
-function chainProblem(n: number): string {
-  const m = Math.ceil(n / 10);
-  const states = Array.from({ length: n }, (_, i) => ({ name: `s${i + 1}`, scale: 1 }));
-  const controls = Array.from({ length: m }, (_, j) => ({ name: `u${j + 1}`, lower: -10, upper: 10, scale: 1 }));
-  const dynamics = Object.fromEntries(states.map((s, i) => [s.name, `${i > 0 ? `sin(s${i})` : "0"} - s${i + 1} + ${i + 1 < n ? `0.5*s${i + 2}` : "0"} + u${Math.floor(i / 10) + 1}`]));
-  return JSON.stringify({
-    format: "arcwatch-problem/1",
-    title: `Load chain ${n}`,
-    description: "Benchmark load only.",
-    tags: [],
-    constants: {},
-    states,
-    controls,
-    dynamics,
-    horizon: { initialTime: 0, finalTime: { fixed: 5 } },
-    initial: Object.fromEntries(states.map((s) => [s.name, 1])),
-    final: Object.fromEntries(states.map((s) => [s.name, 0])),
-    objective: { sense: "min", running: controls.map((c) => `${c.name}^2`).join(" + ") },
-    guess: { kind: "linear" },
-    defaults: { intervals: 60, degree: 4 },
-  });
-}
 
 function trial(problemJson: string, id: string) {
   const t0 = performance.now();
