@@ -18,8 +18,8 @@
  * Concurrency: `reserveAttempt` counts the attempt as a failure BEFORE the password is
  * checked, inside one IMMEDIATE transaction that first refuses if any key is locked. Parallel
  * attempts are therefore serialised by SQLite's write lock (across processes too) and at most
- * `limit` of them reach the password check. `settleAttempt` then, on success, clears the
- * pair and account keys and gives the address back its reserved failure.
+ * `limit` wrong passwords reach the check. `settleAttempt` then, on success, gives back that
+ * attempt's own reservation; earlier failures stay counted until their window closes.
  */
 import { eq } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
@@ -129,21 +129,23 @@ export function reserveAttempt(db: Db, keys: string[], now = Date.now()): Reserv
 }
 
 /**
- * After the password check: a failure stays counted. A success clears the pair and account
- * keys and takes the reserved failure back from the address key.
+ * After the password check: a failure stays counted. A success takes its own reserved
+ * failure back from every key (unlocking a key that only this reservation had locked), and
+ * leaves the other attempts' failures counted: clearing them would reopen the limit to
+ * attempts still in flight beside a correct one.
  */
 export function settleAttempt(db: Db, reservation: { keys: string[] }, success: boolean): void {
   if (!success) return;
   db.transaction(
     (tx) => {
       for (const key of reservation.keys) {
-        if (!key.startsWith("ip:")) {
-          tx.delete(authThrottle).where(eq(authThrottle.key, key)).run();
-          continue;
-        }
         const row = tx.select().from(authThrottle).where(eq(authThrottle.key, key)).get();
         if (!row) continue;
         const failures = Math.max(0, row.failures - 1);
+        if (failures === 0) {
+          tx.delete(authThrottle).where(eq(authThrottle.key, key)).run();
+          continue;
+        }
         const lockedUntil = failures >= policyFor(key).limit ? row.lockedUntil : null;
         tx.update(authThrottle).set({ failures, lockedUntil }).where(eq(authThrottle.key, key)).run();
       }

@@ -10,7 +10,9 @@ import http from "node:http";
 import path from "node:path";
 import Database from "better-sqlite3";
 import { createCookie, createCookieSessionStorage } from "react-router";
+import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { chromiumAvailable, hydrated, launchBrowser } from "../helpers/browser";
 import { chainProblem } from "../helpers/load-problem";
 import { REDIRECT_BYPASSES } from "../helpers/redirect-bypasses";
 import { ROOT, startTestServer, type RunningServer } from "../helpers/server";
@@ -58,6 +60,8 @@ async function get(p: string, cookie?: string) {
   const r = await fetch(`${server.url}${p}`, { headers: cookie ? { Cookie: cookie } : {}, redirect: "manual" });
   return { status: r.status, location: r.headers.get("location"), headers: r.headers, text: await r.text() };
 }
+/** An admin session kept from the first test, for checks that need a signed-in caller. */
+let adminCookie = "";
 const meStatus = async (cookie: string) => (await get("/api/me", cookie)).status;
 
 describe("1. no public default secret", () => {
@@ -70,6 +74,7 @@ describe("1. no public default secret", () => {
 
   it("refuses cookies signed with any constant found in the repository", async () => {
     const cookie = await cookieOf(DEMO.admin, "192.0.2.1");
+    adminCookie = cookie;
     expect(await meStatus(cookie)).toBe(200);
     const [, value] = cookie.split("=");
     const id = JSON.parse(Buffer.from(decodeURIComponent(value!).split(".")[0]!, "base64").toString("utf8")) as string;
@@ -152,19 +157,26 @@ describe("4. throttling under parallel requests", () => {
     expect((await signIn(DEMO.engineer, "203.0.113.9")).status).toBe(302);
   });
 
-  it("29 wrong and the right one at once: at most 5 reach the password check", async () => {
+  it("29 wrong and the right one at once: at most 5 wrong passwords reach the check", async () => {
     const tries = Array.from({ length: 30 }, (_, i) => (i === 17 ? DEMO.admin[1] : `wrong-pass-${i}`));
     const rs = await Promise.all(tries.map((p) => signIn([DEMO.admin[0], p], "198.51.100.8")));
-    expect(rs.filter((r) => r.status !== 429)).toHaveLength(5);
+    const checkedWrong = rs.filter((r) => r.status === 401).length;
+    const signedIn = rs.filter((r) => r.status === 302).length;
+    expect(checkedWrong).toBeLessThanOrEqual(5);
+    // The right one may arrive among the first five (then it gives its own place back) or be refused.
+    expect(checkedWrong + signedIn).toBeLessThanOrEqual(6);
+    expect(rs.filter((r) => r.status === 429).length).toBeGreaterThanOrEqual(24);
   });
 
   it("failures spread over many addresses lock the account briefly (slower back-off)", async () => {
-    for (let i = 0; i < 10; i++) expect((await signIn([DEMO.admin[0], `spread-${i}-pass`], `198.51.100.${100 + i}`)).status).toBe(401);
-    const r = await signIn(DEMO.admin, "203.0.113.50");
+    const account = "someone-else@arcwatch.test";
+    for (let i = 0; i < 10; i++) expect((await signIn([account, `spread-${i}-pass`], `198.51.100.${100 + i}`)).status).toBe(401);
+    const r = await signIn([account, "any-password-1"], "203.0.113.50");
     expect(r.status).toBe(429);
     const db = new Database(server.dbFile, { readonly: true });
     try {
-      const row = db.prepare("select locked_until from auth_throttle where key = ?").get("account:admin@arcwatch.test") as { locked_until: number };
+      const row = db.prepare("select locked_until from auth_throttle where key = ?").get(`account:${account}`) as { locked_until: number };
+      expect(row.locked_until - Date.now()).toBeGreaterThan(0);
       expect(row.locked_until - Date.now()).toBeLessThanOrEqual(2 * 60_000);
     } finally {
       db.close();
@@ -201,13 +213,21 @@ describe("5. no open redirect", () => {
 function rawRequest(p: string, headers: Record<string, string>, feed?: (req: http.ClientRequest) => void): Promise<{ status: number; body: string; sent: number }> {
   return new Promise((resolve, reject) => {
     let sent = 0;
+    let answered = false;
     const u = new URL(p, server.url);
     const req = http.request({ host: u.hostname, port: u.port, path: u.pathname, method: "POST", headers: { Origin: server.url, ...headers } }, (res) => {
+      answered = true;
       let body = "";
       res.on("data", (d) => (body += d));
-      res.on("end", () => resolve({ status: res.statusCode ?? 0, body, sent }));
+      const done = () => resolve({ status: res.statusCode ?? 0, body, sent });
+      res.on("end", done);
+      res.on("close", done);
+      res.on("error", done);
     });
-    req.on("error", reject);
+    // The server closes the connection after refusing; a write in flight may then fail.
+    req.on("error", (err) => {
+      if (!answered) reject(err);
+    });
     const write = req.write.bind(req);
     (req as unknown as { write: (chunk: Buffer) => boolean }).write = (chunk: Buffer) => {
       sent += chunk.length;
@@ -225,8 +245,7 @@ describe("6. bodies bounded before they are read", () => {
     expect(form.sent).toBe(0);
     const anon = await rawRequest("/api/regressions/1", { "Content-Type": "application/json", "Content-Length": String(64 * 1024 * 1024) });
     expect(anon.status).toBe(401);
-    const c = await cookieOf(DEMO.admin, "203.0.113.60");
-    const big = await rawRequest("/api/regressions/1", { Cookie: c, "Content-Type": "application/json", "Content-Length": String(64 * 1024 * 1024) });
+    const big = await rawRequest("/api/regressions/1", { Cookie: adminCookie, "Content-Type": "application/json", "Content-Length": String(64 * 1024 * 1024) });
     expect(big.status).toBe(413);
   });
 
@@ -286,7 +305,7 @@ describe("2. trial solves off the request thread", () => {
     const small = await trial(chainProblem(2), "chain-2");
     expect(small.status, JSON.stringify(small.body).slice(0, 300)).toBe(200);
     expect(small.body.trial?.status).toBeTruthy();
-  });
+  }, 300_000);
 });
 
 describe("9. standard headers", () => {
@@ -305,5 +324,61 @@ describe("9. standard headers", () => {
     const scripts = [...a.text.matchAll(/<script\b[^>]*>/g)].map((m) => m[0]);
     expect(scripts.length).toBeGreaterThan(1);
     for (const s of scripts) expect(s).toContain(`nonce="${nonce}"`);
+  });
+});
+
+describe.runIf(chromiumAvailable())("5 and 9 in the browser: redirects and the content security policy", () => {
+  let context: BrowserContext;
+  let close: () => Promise<void>;
+  let page: Page;
+  const violations: string[] = [];
+  beforeAll(async () => {
+    const b = await launchBrowser();
+    context = b.context;
+    close = b.close;
+    page = context.pages()[0] ?? (await context.newPage());
+    page.on("console", (m) => {
+      if (/Content Security Policy/i.test(m.text())) violations.push(m.text());
+    });
+  });
+  afterAll(async () => {
+    await close?.();
+  });
+
+  it("signs in and stays on this server whatever redirectTo says", async () => {
+    for (const v of ["/\t/evil.example", "/.//evil.example", "//evil.example", "/\\evil.example", "https://evil.example", "javascript:alert(1)"]) {
+      await context.clearCookies();
+      await page.goto(`${server.url}/signin?redirectTo=${encodeURIComponent(v)}`);
+      await hydrated(page);
+      await page.fill("input[name=email]", "viewer@arcwatch.test");
+      await page.fill("input[name=password]", "viewer-new-pass-1");
+      await Promise.all([page.waitForURL((u) => !u.pathname.startsWith("/signin")), page.click("button[type=submit]")]);
+      expect(new URL(page.url()).origin, JSON.stringify(v)).toBe(server.url);
+      expect(new URL(page.url()).pathname).toBe("/");
+    }
+  });
+
+  it("runs the app's own scripts under the policy and blocks an injected inline script", async () => {
+    await page.goto(`${server.url}/account`);
+    await hydrated(page);
+    expect(violations).toEqual([]);
+    const ran = await page.evaluate(async () => {
+      const seen = new Promise<string>((resolve) => document.addEventListener("securitypolicyviolation", (e) => resolve(e.violatedDirective), { once: true }));
+      const s = document.createElement("script");
+      s.textContent = "window.__injected = true";
+      document.body.appendChild(s);
+      const directive = await Promise.race([seen, new Promise<string>((r) => setTimeout(() => r("none"), 2000))]);
+      return { injected: (window as unknown as { __injected?: boolean }).__injected ?? false, directive };
+    });
+    expect(ran.injected).toBe(false);
+    expect(ran.directive).toMatch(/^script-src/);
+  });
+
+  it("cannot be framed by another origin", async () => {
+    await page.setContent(`<iframe id="f" src="${server.url}/signin"></iframe>`);
+    await page.waitForTimeout(1500);
+    const frame = page.frames().find((f) => f !== page.mainFrame());
+    const text = frame ? await frame.content().catch(() => "") : "";
+    expect(text).not.toContain("Sign in");
   });
 });
