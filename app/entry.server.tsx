@@ -1,7 +1,9 @@
 /**
  * React Router's default Node entry, plus one start-up step: the job worker
  * (app/services/job-worker.server.ts) starts when the server build is loaded, which marks jobs
- * left running by an earlier process as died and then runs the queue.
+ * left running by an earlier process as died and then runs the queue. The page is rendered
+ * with the request's content-security-policy nonce (app/nonce.ts), so React Router's inline
+ * scripts and ours run under the policy scripts/serve.mjs sends.
  */
 import { PassThrough } from "node:stream";
 import type { EntryContext } from "react-router";
@@ -10,6 +12,7 @@ import { ServerRouter } from "react-router";
 import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
+import { CSP_NONCE_HEADER, NonceContext } from "./nonce";
 import { startJobWorker } from "./services/job-worker.server";
 
 startJobWorker();
@@ -23,7 +26,15 @@ export default function handleRequest(request: Request, responseStatusCode: numb
     const userAgent = request.headers.get("user-agent");
     const readyOption: keyof RenderToPipeableStreamOptions = (userAgent && isbot(userAgent)) || routerContext.isSpaMode ? "onAllReady" : "onShellReady";
     let timeoutId: ReturnType<typeof setTimeout> | undefined = setTimeout(() => abort(), streamTimeout + 1000);
-    const { pipe, abort } = renderToPipeableStream(<ServerRouter context={routerContext} url={request.url} />, {
+    // Only Arcwatch's server sets the header (overwriting any client value); elsewhere no policy is sent.
+    const nonce = process.env.ARCWATCH_SERVER_SETS_ADDRESS === "1" ? (request.headers.get(CSP_NONCE_HEADER) ?? undefined) : undefined;
+    const app = (
+      <NonceContext.Provider value={nonce ?? ""}>
+        <ServerRouter context={routerContext} url={request.url} nonce={nonce} />
+      </NonceContext.Provider>
+    );
+    const { pipe, abort } = renderToPipeableStream(app, {
+      nonce,
       [readyOption]() {
         shellRendered = true;
         const body = new PassThrough({

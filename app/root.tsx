@@ -3,6 +3,7 @@ import { data, isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestora
 import type { Route } from "./+types/root";
 import "./app.css";
 import { ErrorView } from "./components/ErrorView";
+import { useNonce } from "./nonce";
 import { themeBootScript } from "./components/ThemeToggle";
 import { checkSameOrigin } from "./services/csrf.server";
 
@@ -31,6 +32,7 @@ export const meta: Route.MetaFunction = () => [
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 
 export function Layout({ children }: { children: React.ReactNode }) {
+  const nonce = useNonce();
   useEffect(() => {
     document.documentElement.dataset.hydrated = "true";
   }, []);
@@ -39,7 +41,7 @@ export function Layout({ children }: { children: React.ReactNode }) {
       <head>
         <meta charSet="utf-8" />
         <meta name="viewport" content="width=device-width, initial-scale=1" />
-        <script dangerouslySetInnerHTML={{ __html: themeBootScript }} />
+        <script nonce={nonce} dangerouslySetInnerHTML={{ __html: themeBootScript }} />
         <Meta />
         <Links />
       </head>
@@ -51,8 +53,8 @@ export function Layout({ children }: { children: React.ReactNode }) {
             verification.
           </footer>
         </div>
-        <ScrollRestoration />
-        <Scripts />
+        <ScrollRestoration nonce={nonce} />
+        <Scripts nonce={nonce} />
       </body>
     </html>
   );

@@ -1,21 +1,35 @@
 /**
  * Arcwatch's HTTP server for the built app: the same stack as @react-router/serve
- * (express, compression, static assets, request log) plus one addition the Fetch API
- * cannot give the app: the client's address, written into the `x-arcwatch-client-address`
- * header (any value sent by the client is overwritten) for per-address sign-in throttling.
- * With ARCWATCH_TRUST_PROXY=1 the address is the last hop of X-Forwarded-For, as added by
- * the reverse proxy in front of Arcwatch, and the forwarded scheme and host are trusted.
+ * (express, compression, static assets, request log) plus what the Fetch API cannot give the
+ * app, done before any route code runs:
+ *
+ * - Client address: written into the `x-arcwatch-client-address` header (any value sent by
+ *   the client is overwritten) for per-address sign-in throttling. With ARCWATCH_TRUST_PROXY=1
+ *   the address is the last hop of X-Forwarded-For, as added by the reverse proxy in front of
+ *   Arcwatch, and the forwarded scheme and host are trusted.
+ * - Standard security headers through helmet: a content security policy whose scripts need
+ *   this response's nonce (handed to the app in `x-arcwatch-csp-nonce`, overwritten likewise),
+ *   frame-ancestors 'none', nosniff, Referrer-Policy same-origin, and helmet's other defaults.
+ * - Request bodies bounded before they are read (./body-limits.mjs): a caller without any
+ *   credential is refused on the API, a declared length over the route's cap gets 413 at
+ *   once, an upload without a length gets 413, and a body without a length elsewhere is
+ *   counted while it streams and cut off at the cap with 413.
  *
  * Usage: node scripts/serve.mjs [build/server/index.js]   (HOST, PORT from the environment)
  */
-import { createRequestHandler } from "@react-router/express";
+import { randomBytes } from "node:crypto";
+import { createReadableStreamFromReadable, writeReadableStreamToWritable } from "@react-router/node";
 import compression from "compression";
 import express from "express";
+import helmet from "helmet";
 import morgan from "morgan";
 import path from "node:path";
 import url from "node:url";
+import { createRequestHandler } from "react-router";
+import { bodyPolicy, BodyTooLarge, limitedReadable } from "./body-limits.mjs";
 
 export const CLIENT_ADDRESS_HEADER = "x-arcwatch-client-address";
+export const CSP_NONCE_HEADER = "x-arcwatch-csp-nonce";
 
 function clientAddressOf(req) {
   if (process.env.ARCWATCH_TRUST_PROXY === "1") {
@@ -26,6 +40,91 @@ function clientAddressOf(req) {
     if (hops.length > 0) return hops[hops.length - 1];
   }
   return req.socket.remoteAddress ?? "unknown";
+}
+
+/** helmet with Arcwatch's policy; `res.locals.cspNonce` must be set before it runs. */
+function securityHeaders() {
+  return helmet({
+    contentSecurityPolicy: {
+      useDefaults: true,
+      directives: {
+        defaultSrc: ["'self'"],
+        scriptSrc: ["'self'", (_req, res) => `'nonce-${res.locals.cspNonce}'`],
+        // React and the chart library set style attributes; no script can run from a style.
+        styleSrc: ["'self'", "'unsafe-inline'"],
+        imgSrc: ["'self'", "data:"],
+        fontSrc: ["'self'", "data:"],
+        connectSrc: ["'self'"],
+        objectSrc: ["'none'"],
+        baseUri: ["'self'"],
+        formAction: ["'self'"],
+        frameAncestors: ["'none'"],
+        // Plain-http deployments (ARCWATCH_INSECURE_COOKIE=1) must keep loading their assets.
+        upgradeInsecureRequests: null,
+      },
+    },
+    referrerPolicy: { policy: "same-origin" },
+    // frame-ancestors above is the standard; X-Frame-Options for older browsers.
+    xFrameOptions: { action: "deny" },
+  });
+}
+
+/** Sends a small plain-text or JSON refusal and closes the connection (the body is not read). */
+function refuse(req, res, status, message) {
+  res.setHeader("Connection", "close");
+  if (req.path.startsWith("/api/")) res.status(status).json({ error: message });
+  else res.status(status).type("text/plain").send(message);
+  // Whatever of the body is still in flight is not read.
+  res.once("finish", () => req.destroy());
+}
+
+/** React Router's request handler with the body counted against the route's cap. */
+function appHandler(build, mode) {
+  const handleRequest = createRequestHandler(build, mode);
+  return async (req, res, next) => {
+    try {
+      const policy = bodyPolicy(req.method, req.path);
+      const state = { tooLarge: false };
+      const controller = new AbortController();
+      let active = controller;
+      res.on("finish", () => (active = null));
+      res.on("close", () => active?.abort());
+      const [, hostPortStr] = req.get("host")?.split(":") ?? [];
+      const [, fwdPortStr] = req.app.enabled("trust proxy") ? (req.get("X-Forwarded-Host")?.split(":") ?? []) : [];
+      const port = Number.parseInt(fwdPortStr ?? hostPortStr, 10);
+      const hostname = req.hostname.split(/[\\/?#@]/)[0] || "localhost";
+      const href = new URL(`${req.protocol}://${hostname}${Number.isSafeInteger(port) ? `:${port}` : ""}${req.originalUrl}`).href;
+      const headers = new Headers();
+      for (const [key, values] of Object.entries(req.headers)) {
+        if (Array.isArray(values)) for (const v of values) headers.append(key, v);
+        else if (values) headers.set(key, values);
+      }
+      const init = { method: req.method, headers, signal: controller.signal };
+      if (req.method !== "GET" && req.method !== "HEAD") {
+        init.body = createReadableStreamFromReadable(limitedReadable(req, policy.limit, () => (state.tooLarge = true)));
+        init.duplex = "half";
+      }
+      const response = await handleRequest(new Request(href, init));
+      if (state.tooLarge) {
+        await response.body?.cancel().catch(() => {});
+        return refuse(req, res, 413, `The request body is larger than ${policy.limit} bytes, the limit for ${policy.label}.`);
+      }
+      if (res.destroyed || res.writableEnded) return void (await response.body?.cancel());
+      res.statusMessage = response.statusText;
+      res.status(response.status);
+      for (const [key, value] of response.headers.entries()) res.append(key, value);
+      if (response.body) {
+        try {
+          await writeReadableStreamToWritable(response.body, res);
+        } catch (err) {
+          if (!(res.destroyed || res.writableEnded)) throw err;
+        }
+      } else res.end();
+    } catch (err) {
+      if (err instanceof BodyTooLarge && !res.headersSent) return refuse(req, res, 413, err.message);
+      next(err);
+    }
+  };
 }
 
 /**
@@ -46,15 +145,26 @@ export async function startServer(options = {}) {
   // Behind a reverse proxy: take scheme and host from X-Forwarded-Proto / X-Forwarded-Host,
   // so the request URL (and with it the same-origin check) is the public one.
   if (process.env.ARCWATCH_TRUST_PROXY === "1") app.set("trust proxy", true);
+  app.use((req, res, next) => {
+    res.locals.cspNonce = randomBytes(16).toString("base64");
+    req.headers[CSP_NONCE_HEADER] = res.locals.cspNonce;
+    req.headers[CLIENT_ADDRESS_HEADER] = clientAddressOf(req);
+    next();
+  });
+  app.use(securityHeaders());
   app.use(compression());
   app.use("/assets", express.static(path.join(clientDir, "assets"), { immutable: true, maxAge: "1y" }));
   app.use(express.static(clientDir, { maxAge: "1h" }));
   if (!options.quiet) app.use(morgan("tiny"));
-  app.use((req, _res, next) => {
-    req.headers[CLIENT_ADDRESS_HEADER] = clientAddressOf(req);
+  // Bodies: refuse by caller and declared size before anything reads them.
+  app.use((req, res, next) => {
+    const policy = bodyPolicy(req.method, req.path);
+    if (!policy.hasBody) return next();
+    const verdict = policy.check(req.headers);
+    if (!verdict.ok) return refuse(req, res, verdict.status, verdict.message);
     next();
   });
-  app.all("*", createRequestHandler({ build, mode: process.env.NODE_ENV }));
+  app.all("*", appHandler(build, process.env.NODE_ENV));
 
   return await new Promise((resolve, reject) => {
     const server = app.listen(port, host);

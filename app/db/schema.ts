@@ -98,8 +98,7 @@ export const users = sqliteTable(
 
 /**
  * Failed sign-in counters, one row per throttle key: `account:<email>` or `ip:<address>`.
- * Sessions themselves live in a signed cookie (see app/services/session.server.ts), so no
- * session table is needed; revocation goes through `users.session_version`.
+ * Sessions live in the `sessions` table below (the cookie carries only their id).
  */
 export const authThrottle = sqliteTable("auth_throttle", {
   key: text("key").primaryKey(),
@@ -110,6 +109,33 @@ export const authThrottle = sqliteTable("auth_throttle", {
   /** While in the future, sign-in attempts for this key are refused without checking the password. */
   lockedUntil: integer("locked_until", { mode: "timestamp_ms" }),
 });
+
+/**
+ * Server-side sign-in sessions. The cookie holds only a random 256-bit session id (signed);
+ * the row is keyed by the id's SHA-256, so a copy of the database does not hand out live
+ * sessions. Signing out deletes the row; a session ends at `expires_at` (absolute) or after
+ * an idle period since `last_seen_at` (app/services/session.server.ts).
+ */
+export const sessions = sqliteTable(
+  "sessions",
+  {
+    /** Hex SHA-256 of the session id in the cookie. */
+    idHash: text("id_hash").primaryKey(),
+    userId: integer("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    createdAt: createdAt(),
+    /** Refreshed at most once a minute. */
+    lastSeenAt: integer("last_seen_at", { mode: "timestamp_ms" }).notNull(),
+    /** Absolute end of the session. */
+    expiresAt: integer("expires_at", { mode: "timestamp_ms" }).notNull(),
+    /** User-Agent at sign-in (at most 300 characters), to recognise the session in the list. */
+    userAgent: text("user_agent"),
+    /** Client address at sign-in. */
+    address: text("address"),
+  },
+  (t) => [index("sessions_user_idx").on(t.userId)],
+);
 
 export const apiTokens = sqliteTable(
   "api_tokens",
@@ -551,6 +577,7 @@ export const thresholdSettings = sqliteTable(
 export type UserRow = typeof users.$inferSelect;
 export type NewUser = typeof users.$inferInsert;
 export type AuthThrottleRow = typeof authThrottle.$inferSelect;
+export type SessionRow = typeof sessions.$inferSelect;
 export type ApiTokenRow = typeof apiTokens.$inferSelect;
 export type NewApiToken = typeof apiTokens.$inferInsert;
 export type ProblemRow = typeof problems.$inferSelect;

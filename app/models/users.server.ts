@@ -3,6 +3,7 @@ import { and, asc, count, eq, isNull, sql } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { ROLES, users, type Role, type UserRow } from "~/db/schema";
 import { hashPassword } from "~/services/password.server";
+import { endUserSessions } from "~/services/session.server";
 
 /** The fields safe to hand to the UI or the API (never the password hash). */
 export type PublicUser = Pick<UserRow, "id" | "email" | "name" | "role" | "createdAt" | "lastSignInAt" | "disabledAt">;
@@ -98,7 +99,7 @@ export class SelfDisableError extends Error {
  * Refuses to disable the acting admin or the last enabled admin.
  */
 export function setDisabled(db: Db, id: number, disabled: boolean, actingUserId: number): PublicUser | undefined {
-  return db.transaction((tx) => {
+  const updated = db.transaction((tx) => {
     const current = tx.select().from(users).where(eq(users.id, id)).get();
     if (!current) return undefined;
     if (disabled && id === actingUserId) throw new SelfDisableError();
@@ -122,10 +123,16 @@ export function setDisabled(db: Db, id: number, disabled: boolean, actingUserId:
       .returning(publicColumns)
       .get();
   });
+  if (updated && disabled) endUserSessions(db, id);
+  return updated;
 }
 
-/** Sets a new password and bumps the session version (signs the user out elsewhere). Returns the new version. */
-export async function setPassword(db: Db, id: number, password: string): Promise<number> {
+/**
+ * Sets a new password, bumps the session version and ends every server-side session of the
+ * user except `keepSessionIdHash` (the session that made the change, if any). Returns the
+ * new version.
+ */
+export async function setPassword(db: Db, id: number, password: string, keepSessionIdHash?: string): Promise<number> {
   const passwordHash = await hashPassword(password);
   const row = db
     .update(users)
@@ -134,6 +141,7 @@ export async function setPassword(db: Db, id: number, password: string): Promise
     .returning({ v: users.sessionVersion })
     .get();
   if (!row) throw new Error(`User ${id} not found`);
+  endUserSessions(db, id, keepSessionIdHash);
   return row.v;
 }
 

@@ -5,11 +5,10 @@ import { RouteErrorBoundary } from "~/components/ErrorView";
 import { Field, FormError, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { getUserById, setPassword, updateName } from "~/models/users.server";
-import { requireUser } from "~/services/auth.server";
+import { checkCurrentPassword, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
-import { verifyPassword } from "~/services/password.server";
 import { ROLE_DESCRIPTIONS } from "~/services/roles";
-import { getSession, sessionStorage } from "~/services/session.server";
+import { endOneSession, listUserSessions } from "~/services/session.server";
 import { changeNameSchema, changePasswordSchema } from "~/services/user-forms.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Account · Arcwatch" }];
@@ -21,6 +20,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     user: { name: user.name, email: user.email, role: user.role },
     createdAt: row?.createdAt ?? null,
     lastSignInAt: row?.lastSignInAt ?? null,
+    sessions: listUserSessions(getDb(), user.id, user.sessionIdHash ?? null),
   };
 }
 
@@ -50,17 +50,18 @@ export async function action({ request }: Route.ActionArgs) {
       confirmPassword: form.get("confirmPassword") ?? "",
     });
     if (!parsed.success) return data<ActionResult>({ intent: "password", errors: fieldErrors<PasswordField>(parsed.error) }, { status: 400 });
-    const row = getUserById(db, user.id);
-    if (!row || !(await verifyPassword(row.passwordHash, parsed.data.currentPassword)))
-      return data<ActionResult>({ intent: "password", errors: { currentPassword: "That is not your current password." } }, { status: 400 });
-    const version = await setPassword(db, user.id, parsed.data.newPassword);
-    // Other sessions are now invalid; keep this one by re-issuing its cookie with the new version.
-    const session = await getSession(request);
-    session.set("sessionVersion", version);
-    return data<ActionResult>(
-      { intent: "done", notice: "Password changed. Other sessions have been signed out." },
-      { headers: { "Set-Cookie": await sessionStorage().commitSession(session) } },
-    );
+    const wrong = await checkCurrentPassword(request, user.id, parsed.data.currentPassword);
+    if (wrong) return data<ActionResult>({ intent: "password", errors: { currentPassword: wrong } }, { status: wrong.startsWith("Too many") ? 429 : 400 });
+    // Ends every other session; this one keeps its id, so its cookie stays valid as it is
+    // (nothing to re-issue, which a form post without JavaScript could lose).
+    await setPassword(db, user.id, parsed.data.newPassword, user.sessionIdHash);
+    return data<ActionResult>({ intent: "done", notice: "Password changed. Other sessions have been signed out." });
+  }
+  if (intent === "end-session") {
+    const idHash = String(form.get("session") ?? "");
+    if (idHash === user.sessionIdHash) return data<ActionResult>({ intent: "done", notice: "That is this session: use Sign out to end it." }, { status: 400 });
+    const ended = endOneSession(db, user.id, idHash);
+    return data<ActionResult>({ intent: "done", notice: ended ? "Session ended." : "That session had already ended." });
   }
   throw data({ message: "Unknown action." }, { status: 400 });
 }
@@ -109,7 +110,64 @@ export default function Account({ loaderData, actionData }: Route.ComponentProps
           </Form>
         </section>
       </div>
+      <SessionList sessions={loaderData.sessions} busy={busy} />
     </div>
+  );
+}
+
+const when = (d: Date | string) => new Date(d).toISOString().slice(0, 16).replace("T", " ") + " UTC";
+
+function SessionList({ sessions, busy }: { sessions: Route.ComponentProps["loaderData"]["sessions"]; busy: boolean }) {
+  return (
+    <section className="card space-y-4 p-6" aria-label="Signed-in sessions">
+      <div>
+        <h2 className="text-lg font-semibold">Signed-in sessions</h2>
+        <p className="text-sm text-muted">
+          Every browser signed in to this account. A session ends after 24 hours without use or 7 days after sign-in. API
+          tokens are listed by an admin, not here.
+        </p>
+      </div>
+      <table className="w-full text-left text-sm">
+        <thead className="text-muted">
+          <tr>
+            <th className="py-1 pr-3 font-medium">Browser</th>
+            <th className="py-1 pr-3 font-medium">Address</th>
+            <th className="py-1 pr-3 font-medium">Signed in</th>
+            <th className="py-1 pr-3 font-medium">Last seen</th>
+            <th className="py-1 pr-3 font-medium">Ends by</th>
+            <th className="py-1 font-medium">
+              <span className="sr-only">Action</span>
+            </th>
+          </tr>
+        </thead>
+        <tbody>
+          {sessions.map((s) => (
+            <tr key={s.idHash} className="border-t border-line" data-session={s.current ? "current" : "other"}>
+              <td className="max-w-xs truncate py-2 pr-3" title={s.userAgent ?? ""}>
+                {s.userAgent || "unknown"}
+              </td>
+              <td className="num py-2 pr-3">{s.address ?? "unknown"}</td>
+              <td className="num py-2 pr-3">{when(s.createdAt)}</td>
+              <td className="num py-2 pr-3">{when(s.lastSeenAt)}</td>
+              <td className="num py-2 pr-3">{when(s.expiresAt)}</td>
+              <td className="py-2">
+                {s.current ? (
+                  <span className="text-muted">this session</span>
+                ) : (
+                  <Form method="post" aria-label="End session">
+                    <input type="hidden" name="intent" value="end-session" />
+                    <input type="hidden" name="session" value={s.idHash} />
+                    <button type="submit" className="btn" disabled={busy}>
+                      End
+                    </button>
+                  </Form>
+                )}
+              </td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </section>
   );
 }
 

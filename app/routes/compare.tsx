@@ -4,8 +4,8 @@ import type { Route } from "./+types/compare";
 import { CheapestTable, CompareViews } from "~/components/compare/CompareViews";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { getDb } from "~/db/client.server";
-import { compare, listComparableCommits, parseCompareQuery, type compare as CompareFn } from "~/models/compare.server";
-import { listProblemLibrary } from "~/models/problems.server";
+import { parseCompareQuery, type compare as CompareFn } from "~/models/compare.server";
+import { cachedCompare, cachedComparableCommits, cachedProblemLibrary } from "~/services/data-cache.server";
 import { requireUser } from "~/services/auth.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Compare schemes · Arcwatch" }];
@@ -14,7 +14,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
   const db = getDb();
   const q = parseCompareQuery(new URL(request.url).searchParams);
-  return { result: compare(db, q), commits: listComparableCommits(db), problems: listProblemLibrary(db).map((p) => ({ id: p.id, title: p.title })) };
+  return { result: cachedCompare(db, q), commits: cachedComparableCommits(db), problems: cachedProblemLibrary(db).map((p) => ({ id: p.id, title: p.title })) };
 }
 
 type Result = ReturnType<typeof CompareFn>;

@@ -3,7 +3,7 @@ import type { Route } from "./+types/problems";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { SchemeStateCell } from "~/components/problems/SchemeState";
 import { getDb } from "~/db/client.server";
-import { listProblemLibrary } from "~/models/problems.server";
+import { cachedProblemLibrary } from "~/services/data-cache.server";
 import { SCHEMES } from "~/components/problems/schemes";
 import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
@@ -15,7 +15,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const tag = url.searchParams.get("tag") ?? undefined;
   const q = url.searchParams.get("q") ?? undefined;
-  const all = listProblemLibrary(getDb());
+  const all = cachedProblemLibrary(getDb());
   const tags = [...new Set(all.flatMap((p) => p.tags))].sort();
   const entries = all.filter((e) => (!tag || e.tags.includes(tag)) && (!q || e.id.includes(q.toLowerCase()) || e.title.toLowerCase().includes(q.toLowerCase())));
   return { entries, tags, canAdd: roleAtLeast(user.role, "engineer") };

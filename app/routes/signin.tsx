@@ -9,14 +9,14 @@ export const meta: Route.MetaFunction = () => [{ title: "Sign in · Arcwatch" }]
 
 export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
-  const redirectTo = safeRedirectTo(url.searchParams.get("redirectTo"));
+  const redirectTo = safeRedirectTo(url.searchParams.get("redirectTo"), "/", url.origin);
   if (await getOptionalUser(request)) throw redirect(redirectTo);
   return { redirectTo };
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const form = await request.clone().formData();
-  const redirectTo = safeRedirectTo(form.get("redirectTo"));
+  const redirectTo = safeRedirectTo(form.get("redirectTo"), "/", new URL(request.url).origin);
   const outcome = await signIn(request);
   if (!outcome.ok) return data({ errors: outcome.errors, values: outcome.values }, { status: outcome.status });
   return redirect(redirectTo, { headers: outcome.headers });

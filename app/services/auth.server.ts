@@ -15,15 +15,8 @@ import { findUserByEmail, getUserById, markSignedIn, normaliseEmail } from "~/mo
 import { clientAddress } from "./client-address.server";
 import { decoyPasswordHash, hashPassword, needsRehash, verifyPassword } from "./password.server";
 import { ROLE_RANK } from "./roles";
-import { getSession, sessionStorage } from "./session.server";
-import {
-  accountKey,
-  addressKey,
-  clearKey,
-  describeWait,
-  lockedFor,
-  recordFailure,
-} from "./throttle.server";
+import { createUserSession, currentSession, destroyRequestSession } from "./session.server";
+import { attemptKeys, describeWait, reserveAttempt, settleAttempt } from "./throttle.server";
 import { authenticateToken, bearerToken } from "./tokens.server";
 
 export interface AuthUser {
@@ -33,6 +26,8 @@ export interface AuthUser {
   role: Role;
   via: "session" | "token";
   tokenId?: number;
+  /** The server-side session's id hash (sessions only). */
+  sessionIdHash?: string;
 }
 
 /** The one message for an unknown e-mail and a wrong password alike. */
@@ -85,38 +80,43 @@ export async function signIn(request: Request): Promise<SignInOutcome> {
     return { ok: false, status: 400, values, errors: { email: flat.email?.[0], password: flat.password?.[0] } };
   }
   const db = getDb();
-  const keys = [accountKey(parsed.data.email), addressKey(clientAddress(request))];
-  const wait = lockedFor(db, keys);
-  if (wait > 0) {
-    return {
-      ok: false,
-      status: 429,
-      values,
-      errors: { form: `Too many failed sign-in attempts. Try again in ${describeWait(wait)}.` },
-    };
-  }
+  const reservation = reserveAttempt(db, attemptKeys(parsed.data.email, clientAddress(request)));
+  if (!reservation.ok) return { ok: false, status: 429, values, errors: { form: tooManyMessage(reservation.waitMs) } };
   let user: AuthUser;
   try {
     user = await getAuthenticator().authenticate("form", request);
   } catch (err) {
     if (!(err instanceof InvalidCredentials)) throw err;
-    recordFailure(db, keys);
     return { ok: false, status: 401, values, errors: { form: GENERIC_SIGNIN_ERROR } };
   }
-  clearKey(db, keys[0]!);
-  const row = getUserById(db, user.id)!;
-  const session = await getSession(request);
-  session.set("userId", user.id);
-  session.set("sessionVersion", row.sessionVersion);
-  session.set("signedInAt", Date.now());
-  const headers = new Headers({ "Set-Cookie": await sessionStorage().commitSession(session) });
+  settleAttempt(db, reservation, true);
+  const cookie = await createUserSession(db, user.id, { userAgent: request.headers.get("user-agent"), address: clientAddress(request) });
+  const headers = new Headers({ "Set-Cookie": cookie });
   return { ok: true, user, headers };
 }
 
-/** Set-Cookie header that ends the session. */
+function tooManyMessage(waitMs: number): string {
+  return `Too many failed sign-in attempts. Try again in ${describeWait(waitMs)}.`;
+}
+
+/**
+ * Checks a signed-in user's current password (account page) under the same throttle as
+ * sign-in: null when right, else the field message (wrong, or locked out for a while).
+ */
+export async function checkCurrentPassword(request: Request, userId: number, password: string): Promise<string | null> {
+  const db = getDb();
+  const row = getUserById(db, userId);
+  if (!row) return "That is not your current password.";
+  const reservation = reserveAttempt(db, attemptKeys(row.email, clientAddress(request)));
+  if (!reservation.ok) return tooManyMessage(reservation.waitMs);
+  const ok = await verifyPassword(row.passwordHash, password);
+  settleAttempt(db, reservation, ok);
+  return ok ? null : "That is not your current password.";
+}
+
+/** Ends the request's server-side session; returns the Set-Cookie header that clears the cookie. */
 export async function signOutHeaders(request: Request): Promise<Headers> {
-  const session = await getSession(request);
-  return new Headers({ "Set-Cookie": await sessionStorage().destroySession(session) });
+  return new Headers({ "Set-Cookie": await destroyRequestSession(request) });
 }
 
 export function isApiRequest(request: Request): boolean {
@@ -133,12 +133,11 @@ async function resolveUser(request: Request): Promise<AuthUser | null> {
     if (!t) throw new BadToken();
     return t;
   }
-  const session = await getSession(request);
-  const userId = session.get("userId");
-  if (typeof userId !== "number") return null;
-  const row = getUserById(db, userId);
-  if (!row || row.disabledAt || row.sessionVersion !== session.get("sessionVersion")) return null;
-  return { id: row.id, email: row.email, name: row.name, role: row.role, via: "session" };
+  const session = await currentSession(request, db);
+  if (!session) return null;
+  const row = getUserById(db, session.userId);
+  if (!row || row.disabledAt) return null;
+  return { id: row.id, email: row.email, name: row.name, role: row.role, via: "session", sessionIdHash: session.idHash };
 }
 
 /** The signed-in user, or null. A bad bearer token on the API throws 401. */
@@ -151,11 +150,32 @@ export async function getOptionalUser(request: Request): Promise<AuthUser | null
   }
 }
 
-/** A safe in-app path to return to after signing in (never another origin). */
-export function safeRedirectTo(value: unknown, fallback = "/"): string {
-  if (typeof value !== "string" || !value.startsWith("/") || value.startsWith("//") || value.startsWith("/\\")) return fallback;
-  if (value.startsWith("/signin") || value.startsWith("/signout")) return fallback;
-  return value;
+/** Placeholder origin for `safeRedirectTo` when the caller does not pass its own. */
+const LOCAL_ORIGIN = "http://arcwatch.invalid";
+
+/**
+ * A safe in-app path to return to after signing in (never another origin). The value must
+ * be a path starting with a single "/", free of control characters (C0, DEL, C1) and
+ * backslashes; it is then resolved with the WHATWG URL parser against `origin` (this
+ * server's origin) and accepted only when it stays on that origin. The path returned is
+ * the parser's normalised one, so dot segments cannot turn it into `//host` afterwards.
+ * Sign-in and sign-out pages give `fallback` (no loops).
+ */
+export function safeRedirectTo(value: unknown, fallback = "/", origin = LOCAL_ORIGIN): string {
+  if (typeof value !== "string" || value.length === 0 || value.length > 2048) return fallback;
+  if (/[\u0000-\u001f\u007f-\u009f\\]/.test(value)) return fallback;
+  if (!value.startsWith("/") || value.startsWith("//")) return fallback;
+  let url: URL;
+  try {
+    url = new URL(value, origin);
+  } catch {
+    return fallback;
+  }
+  if (url.origin !== new URL(origin).origin) return fallback;
+  const path = url.pathname + url.search + url.hash;
+  if (!path.startsWith("/") || path.startsWith("//")) return fallback;
+  if (/^\/(signin|signout)(?:[/?#.]|$)/i.test(url.pathname + "/")) return fallback;
+  return path;
 }
 
 /** The page a request is for, without React Router's `.data` suffix of client navigations. */

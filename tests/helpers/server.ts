@@ -67,16 +67,21 @@ export interface RunningServer {
  * Migrates and seeds a fresh database (demo accounts), then starts the server on it.
  * `seedDb` may add more rows before the server starts.
  */
-export async function startTestServer(options: { env?: Record<string, string> } = {}): Promise<RunningServer> {
+export async function startTestServer(options: { env?: Record<string, string>; dbTemplate?: string } = {}): Promise<RunningServer> {
   await ensureBuild();
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-browser-"));
   const dbFile = path.join(dir, "arcwatch.db");
-  const seedRun = spawnSync(process.execPath, ["--import", "tsx", path.join(ROOT, "scripts/seed.ts")], {
-    cwd: ROOT,
-    encoding: "utf8",
-    env: { ...process.env, ARCWATCH_DB: dbFile },
-  });
-  if (seedRun.status !== 0) throw new Error(`seeding failed:\n${seedRun.stdout}\n${seedRun.stderr}`);
+  if (options.dbTemplate) {
+    // A copy of an already seeded database (benchmarks reuse one; seeding runs the quick suite).
+    fs.copyFileSync(options.dbTemplate, dbFile);
+  } else {
+    const seedRun = spawnSync(process.execPath, ["--import", "tsx", path.join(ROOT, "scripts/seed.ts")], {
+      cwd: ROOT,
+      encoding: "utf8",
+      env: { ...process.env, ARCWATCH_DB: dbFile },
+    });
+    if (seedRun.status !== 0) throw new Error(`seeding failed:\n${seedRun.stdout}\n${seedRun.stderr}`);
+  }
   const port = await freePort();
   let output = "";
   const child = spawn(process.execPath, [path.join(ROOT, "scripts/serve.mjs"), path.join(ROOT, "build/server/index.js")], {

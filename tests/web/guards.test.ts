@@ -1,4 +1,5 @@
 import { beforeAll, describe, expect, it } from "vitest";
+import { REDIRECT_BYPASSES, REDIRECT_KEEPS } from "../helpers/redirect-bypasses";
 import { formPost, useTempDatabase } from "../helpers/temp-db";
 
 useTempDatabase("guards");
@@ -180,5 +181,10 @@ describe("safeRedirectTo", () => {
     expect(safeRedirectTo("/\\evil.example")).toBe("/");
     expect(safeRedirectTo("/signin?redirectTo=/x")).toBe("/");
     expect(safeRedirectTo(null)).toBe("/");
+  });
+
+  it("refuses every known bypass and keeps same-origin paths exactly", () => {
+    for (const v of REDIRECT_BYPASSES) expect(safeRedirectTo(v, "/", BASE), JSON.stringify(v)).toBe("/");
+    for (const [v, want] of REDIRECT_KEEPS) expect(safeRedirectTo(v, "/", BASE)).toBe(want);
   });
 });

@@ -1,3 +1,6 @@
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
 import { afterEach, describe, expect, it, vi } from "vitest";
 import { chromiumAvailable } from "../helpers/browser";
 
@@ -9,32 +12,44 @@ afterEach(() => {
 });
 
 describe("session cookie settings", () => {
-  it("warns loudly exactly once when SESSION_SECRET is unset, and not when it is set", async () => {
-    delete process.env.SESSION_SECRET;
-    const warn = vi.spyOn(console, "warn").mockImplementation(() => {});
-    const mod = await import("~/services/session.server");
-    mod.sessionSecrets();
-    mod.sessionStorage();
-    expect(warn).toHaveBeenCalledTimes(1);
-    expect(String(warn.mock.calls[0]![0])).toMatch(/SESSION_SECRET is not set/);
+  it("without SESSION_SECRET generates a random secret beside the database (mode 600) and reuses it", async () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-secret-"));
+    try {
+      delete process.env.SESSION_SECRET;
+      process.env.ARCWATCH_DB = path.join(dir, "arcwatch.db");
+      const log = vi.spyOn(console, "log").mockImplementation(() => {});
+      const mod = await import("~/services/session.server");
+      const [first] = mod.sessionSecrets();
+      const file = path.join(dir, mod.SECRET_FILE_NAME);
+      expect(fs.statSync(file).mode & 0o777).toBe(0o600);
+      expect(first).toMatch(/^[A-Za-z0-9_-]{43}$/);
+      expect(fs.readFileSync(file, "utf8").trim()).toBe(first);
+      expect(String(log.mock.calls[0]![0])).toMatch(/generated a random session secret/);
+      // A later start (fresh module) reuses it; another database gets another secret.
+      vi.resetModules();
+      const again = await import("~/services/session.server");
+      expect(again.sessionSecrets()).toEqual([first]);
+      process.env.ARCWATCH_DB = path.join(dir, "other", "arcwatch.db");
+      expect(again.sessionSecrets()[0]).not.toBe(first);
+      // A file left readable by others is tightened.
+      fs.chmodSync(file, 0o644);
+      vi.spyOn(console, "warn").mockImplementation(() => {});
+      process.env.ARCWATCH_DB = path.join(dir, "arcwatch.db");
+      vi.resetModules();
+      expect((await import("~/services/session.server")).sessionSecrets()).toEqual([first]);
+      expect(fs.statSync(file).mode & 0o777).toBe(0o600);
 
-    vi.resetModules();
-    warn.mockClear();
-    process.env.SESSION_SECRET = "new-secret, old-secret";
-    const fresh = await import("~/services/session.server");
-    expect(fresh.sessionSecrets()).toEqual(["new-secret", "old-secret"]);
-    expect(warn).not.toHaveBeenCalled();
+      process.env.SESSION_SECRET = "new-secret, old-secret";
+      expect(again.sessionSecrets()).toEqual(["new-secret", "old-secret"]);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
   });
 
   it("sets HttpOnly and SameSite=Lax always, Secure in production unless opted out", async () => {
     process.env.SESSION_SECRET = "s3cret-for-this-test";
     const mod = await import("~/services/session.server");
-    const cookieOf = async () => {
-      const st = mod.sessionStorage();
-      const session = await st.getSession();
-      session.set("userId", 1);
-      return st.commitSession(session);
-    };
+    const cookieOf = () => mod.sessionCookie().serialize("x".repeat(43));
     process.env.NODE_ENV = "production";
     const prod = await cookieOf();
     expect(prod).toMatch(/HttpOnly/);
@@ -53,14 +68,14 @@ describe("session cookie settings", () => {
   it("a cookie signed with another secret is not accepted", async () => {
     process.env.SESSION_SECRET = "first-secret";
     const a = await import("~/services/session.server");
-    const st = a.sessionStorage();
-    const s = await st.getSession();
-    s.set("userId", 7);
-    const cookie = (await st.commitSession(s)).split(";")[0]!;
+    const id = "A".repeat(43);
+    const cookie = (await a.sessionCookie().serialize(id)).split(";")[0]!;
+    const req = () => new Request("http://127.0.0.1/", { headers: { Cookie: cookie } });
+    expect(await a.sessionIdOf(req())).toBe(id);
     process.env.SESSION_SECRET = "second-secret";
-    expect((await a.sessionStorage().getSession(cookie)).get("userId")).toBeUndefined();
+    expect(await a.sessionIdOf(req())).toBeNull();
     process.env.SESSION_SECRET = "second-secret,first-secret"; // rotation: old cookies still verify
-    expect((await a.sessionStorage().getSession(cookie)).get("userId")).toBe(7);
+    expect(await a.sessionIdOf(req())).toBe(id);
   });
 });
 

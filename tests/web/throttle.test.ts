@@ -18,12 +18,15 @@ beforeAll(async () => {
 });
 
 describe("throttle arithmetic", () => {
-  it("locks an account key at its limit with doubling lock times, capped", () => {
+  // Behaviour changed on purpose: the 5-failure, 60 s doubling lock now applies to one
+  // account from one address (the pair key); the account as a whole has a slower back-off.
+  it("locks an (account, address) pair at its limit with doubling lock times, capped", () => {
     const db = getDb();
-    const key = T.accountKey("Arith@Example.test ");
-    expect(key).toBe("account:arith@example.test");
+    const key = T.pairKey("Arith@Example.test ", "192.0.2.1");
+    expect(key).toBe("pair:arith@example.test|192.0.2.1");
+    expect(T.accountKey("Arith@Example.test ")).toBe("account:arith@example.test");
     const t0 = 1_000_000_000_000;
-    for (let i = 1; i < T.ACCOUNT_LIMIT; i++) expect(T.recordFailure(db, [key], t0 + i)).toBe(0);
+    for (let i = 1; i < T.PAIR_LIMIT; i++) expect(T.recordFailure(db, [key], t0 + i)).toBe(0);
     expect(T.lockedFor(db, [key], t0 + 10)).toBe(0);
     // failure number ACCOUNT_LIMIT: lock BASE_LOCK_MS * 2^0
     expect(T.recordFailure(db, [key], t0 + 100)).toBe(T.BASE_LOCK_MS);
@@ -33,6 +36,35 @@ describe("throttle arithmetic", () => {
     for (let i = 0; i < 10; i++) T.recordFailure(db, [key], t0 + 400 + i);
     expect(T.lockedFor(db, [key], t0 + 409)).toBe(T.MAX_LOCK_MS);
     expect(T.lockedFor(db, [key], t0 + 409 + T.MAX_LOCK_MS + 1)).toBe(0);
+  });
+
+  it("locks the account as a whole later and for shorter than a pair", () => {
+    const db = getDb();
+    const key = T.accountKey("slow@example.test");
+    const t0 = 1_050_000_000_000;
+    for (let i = 1; i < T.ACCOUNT_LIMIT; i++) expect(T.recordFailure(db, [key], t0 + i)).toBe(0);
+    expect(T.recordFailure(db, [key], t0 + 100)).toBe(T.ACCOUNT_BASE_LOCK_MS);
+    for (let i = 0; i < 20; i++) T.recordFailure(db, [key], t0 + 200 + i);
+    expect(T.lockedFor(db, [key], t0 + 219)).toBe(T.ACCOUNT_MAX_LOCK_MS);
+    expect(T.ACCOUNT_LIMIT).toBeGreaterThan(T.PAIR_LIMIT);
+    expect(T.ACCOUNT_MAX_LOCK_MS).toBeLessThan(T.MAX_LOCK_MS);
+  });
+
+  it("reserves attempts atomically: a locked key refuses without counting, success gives back the reservation", () => {
+    const db = getDb();
+    const keys = T.attemptKeys("reserve@example.test", "192.0.2.9");
+    const t0 = 1_070_000_000_000;
+    for (let i = 0; i < T.PAIR_LIMIT; i++) expect(T.reserveAttempt(db, keys, t0 + i).ok).toBe(true);
+    const refused = T.reserveAttempt(db, keys, t0 + 10);
+    expect(refused).toEqual({ ok: false, waitMs: T.BASE_LOCK_MS - 6 });
+    // Refused attempts are not counted: the address still has PAIR_LIMIT failures.
+    expect(db.$client.prepare("select failures from auth_throttle where key = ?").get(T.addressKey("192.0.2.9"))).toEqual({ failures: T.PAIR_LIMIT });
+    const other = T.attemptKeys("owner@example.test", "192.0.2.9");
+    const r = T.reserveAttempt(db, other, t0 + 20);
+    expect(r.ok).toBe(true);
+    if (r.ok) T.settleAttempt(db, r, true);
+    expect(db.$client.prepare("select failures from auth_throttle where key = ?").get(T.addressKey("192.0.2.9"))).toEqual({ failures: T.PAIR_LIMIT });
+    expect(T.lockedFor(db, [T.pairKey("owner@example.test", "192.0.2.9"), T.accountKey("owner@example.test")], t0 + 20)).toBe(0);
   });
 
   it("starts a new window after WINDOW_MS without failures", () => {

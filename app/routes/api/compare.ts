@@ -1,6 +1,7 @@
 import type { Route } from "./+types/compare";
 import { getDb } from "~/db/client.server";
-import { compare, parseCompareQuery } from "~/models/compare.server";
+import { parseCompareQuery } from "~/models/compare.server";
+import { cachedCompare } from "~/services/data-cache.server";
 import { requireUser } from "~/services/auth.server";
 
 /**
@@ -11,5 +12,5 @@ import { requireUser } from "~/services/auth.server";
  */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
-  return Response.json(compare(getDb(), parseCompareQuery(new URL(request.url).searchParams)));
+  return Response.json(cachedCompare(getDb(), parseCompareQuery(new URL(request.url).searchParams)));
 }

@@ -1,0 +1,116 @@
+/**
+ * The server under load, through HTTP against the built server (npx tsx bench/server-load.bench.ts):
+ *
+ * 1. Trial solves off the request thread: 4 heavy trial solves (POST /api/problems/trial, a
+ *    40-state problem on 60 intervals, the largest a trial accepts) are posted at once; while
+ *    they run, /api/health and the overview (/) are requested one after another. Prints their
+ *    p50 / p95 / max latency, the same figures with the server idle, and p95 / 100 ms (the goal).
+ *    A 150-state trial is posted too: it must be refused by the size check at once.
+ * 2. Many readers: 200 concurrent GETs of each heavy page (/compare, /problems, /), after one
+ *    warm-up request. Prints p50 / p95 / max and p95 / 2 s (the goal).
+ *
+ * Data: the demo database (`npm run seed`); pass `--db <file>` to reuse an already seeded copy
+ * (seeding runs the quick suite, minutes on a shared machine). Timings on a shared machine are
+ * noisy: the idle and loaded figures are measured in the same run, one after the other.
+ */
+import { chainProblem } from "../tests/helpers/load-problem";
+import { startTestServer } from "../tests/helpers/server";
+
+const args = process.argv.slice(2);
+const dbTemplate = args.includes("--db") ? args[args.indexOf("--db") + 1] : undefined;
+/** `--only trials` or `--only pages` runs one part. */
+const only = args.includes("--only") ? args[args.indexOf("--only") + 1] : undefined;
+const READERS = 200;
+const HEALTH_GOAL_MS = 100;
+const PAGE_GOAL_MS = 2000;
+
+const server = await startTestServer({ dbTemplate, env: { ARCWATCH_JOB_WORKER: "0" } });
+const base = server.url;
+
+async function signIn(email: string, password: string): Promise<string> {
+  const r = await fetch(`${base}/signin`, {
+    method: "POST",
+    headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded" },
+    body: new URLSearchParams({ email, password }),
+    redirect: "manual",
+  });
+  const c = r.headers.get("set-cookie");
+  if (r.status !== 302 || !c) throw new Error(`sign-in failed: ${r.status}`);
+  return c.split(";")[0]!;
+}
+const cookie = await signIn("engineer@arcwatch.test", "engineer-demo-pass");
+
+function trial(problemJson: string, id: string) {
+  const t0 = performance.now();
+  return fetch(`${base}/api/problems/trial`, {
+    method: "POST",
+    headers: { Origin: base, Cookie: cookie },
+    body: new URLSearchParams({ mode: "upload", id, problemJson, trialScheme: "hermite-simpson", trialIntervals: "60" }),
+  }).then(async (r) => {
+    const body = (await r.json()) as { trial?: { status: string; solveSeconds: number }; errors?: Record<string, string>; error?: string };
+    return { status: r.status, ms: performance.now() - t0, outcome: body.trial?.status ?? body.error ?? Object.values(body.errors ?? {})[0]?.slice(0, 70) };
+  });
+}
+
+async function timed(path: string): Promise<number> {
+  const t0 = performance.now();
+  const r = await fetch(`${base}${path}`, { headers: { Cookie: cookie } });
+  await r.arrayBuffer();
+  if (r.status !== 200) throw new Error(`${path}: ${r.status}`);
+  return performance.now() - t0;
+}
+
+function pct(xs: number[], p: number): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.min(s.length - 1, Math.ceil((p / 100) * s.length) - 1)]!;
+}
+const fmt = (xs: number[]) => `${pct(xs, 50).toFixed(0).padStart(7)} ${pct(xs, 95).toFixed(0).padStart(7)} ${Math.max(...xs).toFixed(0).padStart(7)}`;
+
+try {
+  // ---- 1. trial solves ------------------------------------------------------------------
+  if (only !== "pages") {
+  const idle = { health: [] as number[], overview: [] as number[] };
+  await timed("/api/health");
+  await timed("/");
+  for (let i = 0; i < 20; i++) {
+    idle.health.push(await timed("/api/health"));
+    idle.overview.push(await timed("/"));
+  }
+  const oversize = await trial(chainProblem(150), "load-chain-150");
+  const heavy = chainProblem(40);
+  let running = true;
+  const trials = Promise.all([1, 2, 3, 4].map((i) => trial(heavy, `load-chain-${i}`))).finally(() => (running = false));
+  const loaded = { health: [] as number[], overview: [] as number[] };
+  await new Promise((r) => setTimeout(r, 300));
+  while (running) {
+    loaded.health.push(await timed("/api/health"));
+    loaded.overview.push(await timed("/"));
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  const results = await trials;
+  console.log(`\n1. Requests while 4 heavy trial solves run (40 states × 60 intervals, Hermite–Simpson); machine shared`);
+  console.log(`   trials: ${results.map((r) => `${r.status} ${r.outcome} in ${(r.ms / 1000).toFixed(1)} s`).join("; ")}`);
+  console.log(`   150-state trial: ${oversize.status} in ${oversize.ms.toFixed(0)} ms (${oversize.outcome})`);
+  console.log(`   ${"route".padEnd(28)} ${"n".padStart(4)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/100ms".padStart(10)}`);
+  for (const [label, xs] of [
+    ["/api/health, idle", idle.health],
+    ["/api/health, 4 trials", loaded.health],
+    ["/ (overview), idle", idle.overview],
+    ["/ (overview), 4 trials", loaded.overview],
+  ] as const)
+    console.log(`   ${label.padEnd(28)} ${String(xs.length).padStart(4)} ${fmt(xs)} ${(pct(xs, 95) / HEALTH_GOAL_MS).toFixed(2).padStart(10)}`);
+
+  }
+  // ---- 2. many readers ------------------------------------------------------------------
+  if (only !== "trials") {
+  console.log(`\n2. ${READERS} concurrent GETs per page (after one warm-up request)`);
+  console.log(`   ${"page".padEnd(28)} ${"first ms".padStart(8)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/2s".padStart(7)}`);
+  for (const page of ["/compare", "/problems", "/"]) {
+    const first = await timed(page);
+    const xs = await Promise.all(Array.from({ length: READERS }, () => timed(page)));
+    console.log(`   ${page.padEnd(28)} ${first.toFixed(0).padStart(8)} ${fmt(xs)} ${(pct(xs, 95) / PAGE_GOAL_MS).toFixed(2).padStart(7)}`);
+  }
+  }
+} finally {
+  await server.stop();
+}
