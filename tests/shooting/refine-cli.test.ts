@@ -39,3 +39,20 @@ describe("npm run refine", () => {
     expect(r.stderr).toMatch(/unknown scheme/);
   });
 });
+
+describe("--help", () => {
+  // Issue 17 item 6: help used to exit 2 with "a problem folder, file or id is required".
+  const solve = (args: string[]) =>
+    spawnSync(process.execPath, ["node_modules/tsx/dist/cli.mjs", "bench/solve.ts", ...args], { encoding: "utf8", timeout: 120_000 });
+  it.each([
+    ["refine", run],
+    ["solve", solve],
+  ])("%s --help prints the usage on stdout and exits 0", (_name, cmd) => {
+    for (const flag of ["--help", "-h"]) {
+      const r = cmd([flag]);
+      expect(r.status).toBe(0);
+      expect(r.stdout).toMatch(/^usage: npm run --silent/);
+      expect(r.stderr).not.toMatch(/error:/);
+    }
+  });
+});
