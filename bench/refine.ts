@@ -1,14 +1,17 @@
 /**
  * The refine command:
  *   npm run --silent refine -- <problem folder, problem.json or id> [--scheme S] [--intervals N]
- *        [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--json]
+ *        [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--no-retry] [--json]
  *
  * Direct solve with the scheme (default hermite-simpson) at the mesh (default: the problem's
  * defaults, else 50 intervals), arc detection, then indirect multiple shooting
  * (app/engine/shooting/refine-problem.ts). The Newton history goes to stderr; stdout gets a
  * readable summary, or with --json one object: status, residual, objective, final time, arcs with
- * junction times, refined trajectory, provenance. Exit status: 0 when Newton converged, 1 when it
- * did not (or the direct solve failed), 2 for a bad problem file or option.
+ * junction times, refined trajectory, provenance. --no-retry stops after the first attempt (no
+ * boundary arc added for a violated constraint, no doubled segments). Exit status: 0 when the refinement converged
+ * (Newton converged AND the structure is confirmed: no bound or path constraint exceeded), 1
+ * otherwise (status says why; or the direct solve failed), 2 for a bad problem file or option;
+ * --help prints the usage and exits 0.
  */
 import { loadProblem } from "../app/engine/problem/load";
 import { numberFlagParser } from "./cli/number-flag";
@@ -18,7 +21,7 @@ import type { SchemeId } from "../app/engine/schemes/types";
 import { refineProblem, type RefineProblemOptions, type RefineProblemReport } from "../app/engine/shooting/refine-problem";
 
 const USAGE = `usage: npm run --silent refine -- <problem folder | problem.json | id> [--scheme <${SCHEME_IDS.join("|")}>]
-       [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--json]`;
+       [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--no-retry] [--json]`;
 
 interface Args extends RefineProblemOptions {
   target: string;
@@ -59,6 +62,9 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
       case "--json":
         a.json = true;
         break;
+      case "--no-retry":
+        a.retry = false;
+        break;
       case "--help":
       case "-h":
         errors.push("help");
@@ -89,6 +95,7 @@ function summary(r: RefineProblemReport, title: string): string {
   L.push(`  structure    ${r.signature || "—"} (${r.structureConfirmed ? "confirmed" : "not confirmed"})`);
   for (const a of r.arcs) L.push(`    ${a.kinds.join(", ").padEnd(24)} ${fix(a.t0)} → ${fix(a.t1)}`);
   for (const v of r.violations) L.push(`  violation    ${v}`);
+  for (const a of r.attempts) L.push(`  attempt      ${a}`);
   L.push(`  time         ${r.seconds.toFixed(2)} s, ${r.rhsEvaluations} right-hand-side evaluations`);
   return L.join("\n");
 }
