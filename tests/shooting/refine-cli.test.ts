@@ -72,5 +72,5 @@ describe("--help", () => {
       expect(r.stdout).toMatch(/^usage: npm run --silent/);
       expect(r.stderr).not.toMatch(/error:/);
     }
-  });
+  }, 240_000);
 });
