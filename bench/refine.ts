@@ -1,14 +1,17 @@
 /**
  * The refine command:
  *   npm run --silent refine -- <problem folder, problem.json or id> [--scheme S] [--intervals N]
- *        [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--json]
+ *        [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--no-retry] [--json]
  *
  * Direct solve with the scheme (default hermite-simpson) at the mesh (default: the problem's
  * defaults, else 50 intervals), arc detection, then indirect multiple shooting
  * (app/engine/shooting/refine-problem.ts). The Newton history goes to stderr; stdout gets a
  * readable summary, or with --json one object: status, residual, objective, final time, arcs with
- * junction times, refined trajectory, provenance. Exit status: 0 when Newton converged, 1 when it
- * did not (or the direct solve failed), 2 for a bad problem file or option.
+ * junction times, refined trajectory, provenance. --no-retry stops after the first attempt (no
+ * boundary arc added for a violated constraint, no doubled segments). Exit status: 0 when the refinement converged
+ * (Newton converged AND the structure is confirmed: no bound or path constraint exceeded), 1
+ * otherwise (status says why; or the direct solve failed), 2 for a bad problem file or option;
+ * --help prints the usage and exits 0.
  */
 import { numberFlagParser } from "./cli/number-flag";
 import { isEntryScript } from "./cli/entry";
@@ -17,7 +20,7 @@ import type { SchemeId } from "../app/engine/schemes/types";
 import type { RefineProblemOptions, RefineProblemReport } from "../app/engine/shooting/refine-problem";
 
 const USAGE = `usage: npm run --silent refine -- <problem folder | problem.json | id> [--scheme <${SCHEME_IDS.join("|")}>]
-       [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--json]`;
+       [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--no-retry] [--json]`;
 
 interface Args extends RefineProblemOptions {
   target: string;
@@ -58,6 +61,9 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
       case "--json":
         a.json = true;
         break;
+      case "--no-retry":
+        a.retry = false;
+        break;
       case "--help":
       case "-h":
         errors.push("help");
@@ -88,6 +94,7 @@ function summary(r: RefineProblemReport, title: string): string {
   L.push(`  structure    ${r.signature || "—"} (${r.structureConfirmed ? "confirmed" : "not confirmed"})`);
   for (const a of r.arcs) L.push(`    ${a.kinds.join(", ").padEnd(24)} ${fix(a.t0)} → ${fix(a.t1)}`);
   for (const v of r.violations) L.push(`  violation    ${v}`);
+  for (const a of r.attempts) L.push(`  attempt      ${a}`);
   L.push(`  time         ${r.seconds.toFixed(2)} s, ${r.rhsEvaluations} right-hand-side evaluations`);
   return L.join("\n");
 }
@@ -95,9 +102,10 @@ function summary(r: RefineProblemReport, title: string): string {
 export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
   const parsed = parseArgs(argv);
   if (!parsed.args) {
-    const onlyHelp = parsed.errors.length === 1 && parsed.errors[0] === "help";
+    // --help prints the usage and succeeds, whatever else is (or is not) on the line
+    const onlyHelp = parsed.errors.includes("help");
     if (!onlyHelp) for (const e of parsed.errors.filter((x) => x !== "help")) process.stderr.write(`error: ${e}\n`);
-    process.stderr.write(`${USAGE}\n`);
+    (onlyHelp ? process.stdout : process.stderr).write(`${USAGE}\n`);
     return onlyHelp ? 0 : 2;
   }
   const args = parsed.args;

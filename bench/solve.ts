@@ -121,9 +121,10 @@ function summary(rep: SolveReport, title: string): string {
 export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
   const parsed = parseArgs(argv);
   if (!parsed.args) {
-    const onlyHelp = parsed.errors.length === 1 && parsed.errors[0] === "help";
+    // --help prints the usage and succeeds, whatever else is (or is not) on the line
+    const onlyHelp = parsed.errors.includes("help");
     if (!onlyHelp) for (const e of parsed.errors.filter((x) => x !== "help")) process.stderr.write(`error: ${e}\n`);
-    process.stderr.write(`${USAGE}\n`);
+    (onlyHelp ? process.stdout : process.stderr).write(`${USAGE}\n`);
     return onlyHelp ? 0 : 2;
   }
   const args = parsed.args;

@@ -96,6 +96,23 @@ describe("classic checks", () => {
   });
 });
 
+describe("constraint added on retry (issue 17 item 2)", () => {
+  it("Goddard v ≤ 0.1 from RK4 shooting at 240 intervals: the missed boundary arc is added, same optimum as from trapezoidal", () => {
+    // The seed stays about 1e-5 below the limit, so detection finds upper|singular|lower; Newton
+    // converges to the unconstrained optimum (v up to 0.1333), which is rejected, and the retry with
+    // a boundary arc of v reaches the constrained optimum. Checked against the refinement from the
+    // trapezoidal seed (which detects the boundary arc itself), tolerance 1e-9.
+    const viaRetry = refine(classic("goddard-cops-speed-limit"), "rk4-shooting", 240);
+    const direct = refine(classic("goddard-cops-speed-limit"), "trapezoidal", 60);
+    expect(viaRetry.detectedSignature).toBe("upper|singular|lower");
+    expect(viaRetry.status, viaRetry.attempts.join("\n")).toBe("converged");
+    expect(viaRetry.signature).toBe("upper|singular|boundary:v|lower");
+    expect(viaRetry.attempts[0]).toMatch(/constraint_violated/);
+    expect(Math.abs(viaRetry.objective - direct.objective)).toBeLessThan(1e-9);
+    viaRetry.junctions.forEach((tj, k) => expect(Math.abs(tj - direct.junctions[k])).toBeLessThan(1e-8));
+  });
+});
+
 describe("costate sign convention", () => {
   it("orbit raising from negated costate estimates: refined after the sign retry, same radius", () => {
     // No bang arc, so arc detection cannot tell the sign; a scheme with the opposite convention

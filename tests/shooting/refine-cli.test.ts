@@ -27,6 +27,24 @@ describe("npm run refine", () => {
     expect(Object.keys(out.trajectory.states)).toEqual(["x1", "x2"]);
   });
 
+  it("exits 1 when the refined solution exceeds a state bound (Goddard v ≤ 0.1 from RK4 at 240)", () => {
+    // Issue 17 item 2, the reported case: the RK4 seed stays just below the limit, arc detection
+    // misses the boundary arc, and Newton (without retries) converges to the unconstrained
+    // optimum, whose speed peaks at 0.1333 at t = 0.0727 (numbers measured in the issue, outside
+    // this code; the first crossing was at t = 0.0601). Tolerances 1e-3 (the issue's digits).
+    const r = run(["tests/fixtures/classic/goddard-cops-speed-limit", "--scheme", "rk4-shooting", "--intervals", "240", "--no-retry", "--json"]);
+    expect(r.status).toBe(1);
+    const out = JSON.parse(r.stdout);
+    expect(out.status).toBe("constraint_violated");
+    expect(out.newtonStatus).toBe("converged");
+    expect(out.converged).toBe(false);
+    expect(out.reference).toBeNull();
+    expect(out.worstViolation.name).toBe("v");
+    expect(Math.abs(out.worstViolation.value - 0.1333)).toBeLessThan(1e-3);
+    expect(Math.abs(out.worstViolation.t - 0.0727)).toBeLessThan(1e-3);
+    expect(Math.abs(out.worstViolation.tIn - 0.0601)).toBeLessThan(1e-3);
+  });
+
   it("exits with 2 for a problem that does not exist", () => {
     const r = run(["tests/fixtures/classic/no-such-problem"]);
     expect(r.status).toBe(2);
@@ -38,4 +56,21 @@ describe("npm run refine", () => {
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/unknown scheme/);
   });
+});
+
+describe("--help", () => {
+  // Issue 17 item 6: help used to exit 2 with "a problem folder, file or id is required".
+  const solve = (args: string[]) =>
+    spawnSync(process.execPath, ["node_modules/tsx/dist/cli.mjs", "bench/solve.ts", ...args], { encoding: "utf8", timeout: 120_000 });
+  it.each([
+    ["refine", run],
+    ["solve", solve],
+  ])("%s --help prints the usage on stdout and exits 0", (_name, cmd) => {
+    for (const flag of ["--help", "-h"]) {
+      const r = cmd([flag]);
+      expect(r.status).toBe(0);
+      expect(r.stdout).toMatch(/^usage: npm run --silent/);
+      expect(r.stderr).not.toMatch(/error:/);
+    }
+  }, 240_000);
 });

@@ -7,8 +7,13 @@
  *   controlMax   = the same for controls (the solution's control interpolant, Solution.controlAt)
  *   costateMax   = the same for columns lambda_<state>, the solution's costate series linearly
  *                  interpolated (no extrapolation outside its own grid)
- *   switchingTimes = max over reference switching times of the distance to the nearest bound
- *                  event of the solution (a control or a bounded state entering or leaving a bound)
+ *   switchingTimes = max over reference switching times of the distance to the nearest junction
+ *                  of the solution's detected arc structure (app/engine/arcs/detect.ts: switching-
+ *                  function zeros between bang arcs, departures from a bang arc measured from
+ *                  the control's own barrier offset, boundary-arc entries and exits from the
+ *                  constraint's activity), pooled over all controls. Null when no junction is
+ *                  detected. A structure with a missing junction still gets a number (the distance
+ *                  to the nearest one); the structure itself is compared separately (arcs).
  * The solution is sampled at the reference's own time points (no interpolation of the reference);
  * with a free final time both are compared at equal normalised time τ = (t − t0)/(tf − t0).
  * Every field is null when the reference has no such value.
@@ -16,6 +21,7 @@
 import type { CompiledProblem } from "../problem/types";
 import type { Solution } from "../schemes/types";
 import { linearAt } from "../schemes/interpolation";
+import { detectArcs } from "../arcs/detect";
 
 export interface SolutionErrors {
   objectiveAbs: number | null;
@@ -77,7 +83,7 @@ export function solutionErrors(problem: CompiledProblem, sol: Solution): Solutio
     out.costateMax = lMax;
   }
   if (ref.switchingTimes && ref.switchingTimes.values.length > 0) {
-    const ev = boundEvents(problem, sol);
+    const ev = detectedJunctions(problem, sol);
     if (ev.length > 0) {
       let worst = 0;
       for (const ts of ref.switchingTimes.values) {
@@ -89,6 +95,15 @@ export function solutionErrors(problem: CompiledProblem, sol: Solution): Solutio
     }
   }
   return out;
+}
+
+/** Junction times of the detected arc structure, all controls pooled and sorted (empty on failure). */
+export function detectedJunctions(problem: CompiledProblem, sol: Solution): number[] {
+  try {
+    return detectArcs(problem, sol).controls.flatMap((c) => c.junctions).sort((a, b) => a - b);
+  } catch {
+    return [];
+  }
 }
 
 /**

@@ -90,7 +90,8 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
     };
     const junctions: number[] = [];
     for (let r = 0; r + 1 < runs.length; r++) {
-      const tj = junctionTime(ctx, runs[r].label, runs[r].k1, runs[r + 1].label, runs[r + 1].k0);
+      const bangRun = runs[r].label === "lower" || runs[r].label === "upper" ? runs[r] : runs[r + 1];
+      const tj = junctionTime(ctx, runs[r].label, runs[r].k1, runs[r + 1].label, runs[r + 1].k0, bangRun);
       junctions.push(Math.max(tj, junctions.length ? junctions[junctions.length - 1] : sol.t0));
     }
     const arcs: Arc[] = runs.map((run, r) => {

@@ -4,7 +4,11 @@
  *   two opposite bang arcs:     zero of the switching function σ (Bryson and Ho 1975, §3.9:
  *                               the control switches where σ changes sign), or, without
  *                               costates, the crossing of the mid-range value (a + b)/2;
- *   a bang arc and another:     crossing of the distance to that bound through its tolerance;
+ *   a bang arc and another:     crossing of the distance to that bound through its tolerance
+ *                               above the bang arc's own offset (an interior-point solver leaves
+ *                               a "bang" control a barrier-sized distance δ inside its bound, up to
+ *                               a few 1e-3 of its range; the control leaves the bang arc where
+ *                               it departs from δ, not from the bound itself);
  *   a boundary arc and another: crossing of the constraint distance through its threshold;
  *   otherwise (singular/interior): the midpoint of the gap.
  * When several grid intervals cross, the one nearest the middle of the gap is used.
@@ -46,8 +50,23 @@ function crossingIn(tu: Float64Array, d: ArrayLike<number>, i: number, m: number
   return best;
 }
 
-/** Junction time between the run ending at grid point i (label a) and the run starting at m (label b). */
-export function junctionTime(ctx: JunctionContext, a: string, i: number, b: string, m: number): number {
+/**
+ * Barrier offset of a bang run on grid points k0..k1: the median of side·(u − bound) over the run
+ * (≥ 0; side = +1 for the lower bound, −1 for the upper).
+ */
+export function bangOffset(u: Float64Array, k0: number, k1: number, bound: number, side: 1 | -1): number {
+  const d: number[] = [];
+  for (let k = k0; k <= k1; k++) d.push(Math.max(0, side * (u[k] - bound)));
+  d.sort((x, y) => x - y);
+  return d.length ? d[d.length >> 1] : 0;
+}
+
+/**
+ * Junction time between the run ending at grid point i (label a) and the run starting at m
+ * (label b). `bangRun` gives the grid extent of the bang run when one of the two is bang (for its
+ * barrier offset); without it the offset is taken as 0.
+ */
+export function junctionTime(ctx: JunctionContext, a: string, i: number, b: string, m: number, bangRun?: { k0: number; k1: number }): number {
   const { tu, u } = ctx;
   const boundaryName = a.startsWith("boundary:") ? a.slice(9) : b.startsWith("boundary:") ? b.slice(9) : null;
   if (boundaryName !== null) {
@@ -63,10 +82,11 @@ export function junctionTime(ctx: JunctionContext, a: string, i: number, b: stri
   if (bang !== null) {
     const bound = bang === "lower" ? ctx.lower : ctx.upper;
     const side = bang === "lower" ? 1 : -1;
+    const offset = bangRun ? bangOffset(u, bangRun.k0, bangRun.k1, bound, side) : 0;
     const d = new Float64Array(m - i + 1);
     for (let k = i; k <= m; k++) d[k - i] = side * (u[k] - bound);
     const sub = tu.subarray(i, m + 1);
-    return crossingIn(sub, d, 0, m - i, ctx.tolU);
+    return crossingIn(sub, d, 0, m - i, offset + ctx.tolU);
   }
   return 0.5 * (tu[i] + tu[m]);
 }

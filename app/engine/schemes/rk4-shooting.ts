@@ -17,8 +17,20 @@
  *   stage rows   y_i − x_k − h_k T Σ_{j<i} a_ij f(t_k + c_j h_k T, y_j, u(c_j)) = 0,   y_1 = x_k
  *   step rows    x_{k+1} − x_k − h_k T Σ_i b_i f(t_k + c_i h_k T, y_i, u(c_i)) = 0
  *   cost         ∫L ≈ Σ_k h_k T Σ_i b_i L(stage i)  (the RK4 quadrature of the cost integral)
- *   path         at the nodes (k = 0..N) and at the stage points with 0 < c_i < 1 (stage state,
- *                midpoint control): every point where the scheme pairs a state with a control.
+ *   path         at the nodes (k = 0..N) and once per interval at its midpoint, with the midpoint
+ *                control u_{k+½} and the state of RK4's continuous extension at θ = ½,
+ *                  x_{k+½} = (y_2 + y_3)/2 + (y_4 − x_{k+1})/4
+ *                (the weights b_i(½) = 5/24, 1/6, 1/6, −1/24 of the dense output of the classical
+ *                method, order 3, local error O(h⁴): Hairer, Nørsett and Wanner, Solving Ordinary
+ *                Differential Equations I, 2nd ed., 1993, §II.6, eq. (6.7) and Table 6.1 context;
+ *                rewritten in the stage states). The two stages with c = ½ share the control
+ *                u_{k+½} but their states y_2, y_3 differ by O(h²) from x(t_{k+½}) and from each
+ *                other; imposing a mixed constraint c(x, u) ≤ 0 at both made the control satisfy
+ *                the worse of the two, an O(h²) error in u on a boundary arc of a mixed
+ *                constraint, which held the scheme at order 2 there (measured: errors 2.1e-3,
+ *                5.5e-4, 1.4e-4, 3.6e-5 at N = 10…80 on tests/fixtures/analytic/capped-growth).
+ *                At the dense-output midpoint state the control error is O(h⁴) and the order
+ *                is 4 again (issue 17 item 5; tests/schemes/rk4-mixed-constraint.test.ts).
  * Between nodes the state is reported by the cubic Hermite interpolant of (x_k, f_k, x_{k+1}, f_{k+1}).
  *
  * Costates: Hager 2000 shows the multiplier of the step equation of interval k approximates the
@@ -57,11 +69,13 @@ export const rk4Shooting: Scheme = {
       if (c === 0.5) return um[k];
       throw new Error(`rk4-shooting: stage abscissa ${c} has no control value (supported: 0, 1/2, 1)`);
     };
+    if (tab !== RK4_CLASSICAL) throw new Error("rk4-shooting: the midpoint dense-output weights belong to the classical tableau");
     const steps: number[] = [];
     const innerPathRows: number[][] = [];
     for (let k = 0; k < N; k++) {
       const h = tau[k + 1] - tau[k];
       const stagePts: PointRef[] = [];
+      const stageStates: number[] = [xs[k]];
       for (let i = 0; i < S; i++) {
         const ti = tau[k] + tab.c[i] * h;
         const ui = nu > 0 ? { start: controlFor(k, tab.c[i]) } : null;
@@ -70,6 +84,7 @@ export const rk4Shooting: Scheme = {
           continue;
         }
         const yi = b.addStates(ti, `interval ${k} stage ${i + 1}`);
+        stageStates.push(yi);
         stagePts.push(b.point(ti, { start: yi }, ui));
         const dyn = [];
         for (let j = 0; j < i; j++) if (tab.a[i][j] !== 0) dyn.push({ point: stagePts[j], weight: -h * tab.a[i][j] });
@@ -84,11 +99,18 @@ export const rk4Shooting: Scheme = {
       );
       stagePts.forEach((p, i) => b.addRunningCost(p, h * tab.b[i]));
       b.addPath(nodes[k], `node ${k}`);
-      const inner: number[] = [];
-      stagePts.forEach((p, i) => {
-        if (tab.c[i] > 0 && tab.c[i] < 1) inner.push(b.addPath(p, `interval ${k} stage ${i + 1}`));
-      });
-      innerPathRows.push(inner);
+      // Midpoint state of the continuous extension (see the header) from the stage states y_2, y_3,
+      // y_4 and the next node x_{k+1}.
+      const stageState = (i: number) => stageStates[i];
+      const mid = b.point(0.5 * (tau[k] + tau[k + 1]), {
+        combo: [
+          { start: stageState(1), coef: 0.5 },
+          { start: stageState(2), coef: 0.5 },
+          { start: stageState(3), coef: 0.25 },
+          { start: xs[k + 1], coef: -0.25 },
+        ],
+      }, nu > 0 ? { start: um[k] } : null);
+      innerPathRows.push([b.addPath(mid, `interval ${k} midpoint`)]);
     }
     b.addPath(nodes[N], `node ${N}`);
     b.setEndpoints(xs[0], xs[N]);

@@ -4,8 +4,13 @@
  * problem (conditions.ts) → multiple shooting (multiple-shooting.ts) solved by damped Newton
  * (newton.ts), seeded with the direct solution's states, costate estimates and junction times.
  * After convergence the structure is checked against the necessary conditions (structure
- * confirmation): bang arcs have the switching function's sign, singular and interior controls stay
- * within their bounds, constraints hold on every arc, inactive endpoint inequalities hold.
+ * confirmation, confirm.ts): bang arcs have the switching function's sign, singular and interior
+ * controls stay within their bounds, constraints hold on every arc, inactive endpoint inequalities
+ * hold. A Newton solution that fails any of these is NOT converged: its status says why
+ * ("constraint_violated", "structure_not_confirmed") and it is never stored as a reference. When a
+ * state bound or path constraint is exceeded, the refinement is retried with a boundary arc of
+ * that constraint inserted where it was exceeded (augmentStructure), as the necessary conditions
+ * of the state-constrained problem require (Bryson and Ho 1975, §3.11).
  */
 import type { CompiledProblem } from "../problem/types";
 import type { Solution } from "../schemes/types";
@@ -17,7 +22,18 @@ import { MultipleShooting, type ShootingArc, type ShootingOptions } from "./mult
 import { dampedNewton, type NewtonRecord, type NewtonStatus } from "./newton";
 import { arcControlLabel, combineStructure, combinedSignature } from "./structure";
 import { integrateSegment } from "./integrate";
+import { confirmStructure, describeViolation, type ConstraintViolation } from "./confirm";
+import { structureSignature, type Arc } from "../arcs/types";
 import { SingularValueDecomposition } from "ml-matrix";
+
+/**
+ * Outcome of a refinement. "converged": Newton met its tolerance AND the structure is confirmed;
+ * "constraint_violated": Newton converged on the assumed structure but the solution exceeds a
+ * state bound or path constraint (worstViolation says which, where and by how much);
+ * "structure_not_confirmed": Newton converged but another necessary condition fails (see
+ * violations); otherwise Newton's own failure.
+ */
+export type RefineStatus = NewtonStatus | "setup_failed" | "constraint_violated" | "structure_not_confirmed";
 
 export interface RefineOptions extends ShootingOptions {
   /** Newton tolerance: ‖F‖∞ ≤ tol · (1 + ‖z0‖∞), z0 the seeded unknowns. Default 1e-11. */
@@ -27,7 +43,10 @@ export interface RefineOptions extends ShootingOptions {
   /** Use this structure instead of detecting it (e.g. from the problem's reference arcs). */
   structure?: ArcStructure;
   onIteration?: (rec: NewtonRecord) => void;
-  /** Retry once with twice the segments when Newton fails. Default true. */
+  /**
+   * Retry when the first attempt is not converged: with a boundary arc for a violated constraint,
+   * with twice the segments, with the costate estimates negated. Default true.
+   */
   retry?: boolean;
 }
 
@@ -48,7 +67,10 @@ export interface RefinedTrajectory {
 export interface RefineReport {
   problemId: string;
   problemVersion: string;
-  status: NewtonStatus | "setup_failed";
+  status: RefineStatus;
+  /** Newton's own status on the returned attempt ("converged" although status may not be). */
+  newtonStatus: NewtonStatus | "setup_failed";
+  /** status === "converged": Newton converged and the structure is confirmed. */
   converged: boolean;
   message: string;
   residual: number;
@@ -64,6 +86,10 @@ export interface RefineReport {
   detectedSignature: string;
   structureConfirmed: boolean;
   violations: string[];
+  /** The largest excess over a state bound or path constraint on the refined trajectory, or null. */
+  worstViolation: ConstraintViolation | null;
+  /** What was tried, in order, one line each (structure, segments, sign, outcome). */
+  attempts: string[];
   /** Endpoint multipliers ν of the active endpoint rows, by row name. */
   endpointMultipliers: Record<string, number>;
   /** Costate jumps π at boundary-arc entries. */
@@ -87,31 +113,137 @@ function costateGuess(sol: Solution, sign: number): (t: number, out: Float64Arra
 }
 
 /**
- * Refines a direct solution. When Newton does not converge, or the structure is not confirmed,
- * with the default number of shooting segments, it is tried once more with twice as many
- * (shorter segments tame the growth of the state–costate flow), and, when arc detection could not
- * decide the costate sign convention, with the costate estimates negated; unless options.retry
- * is false.
+ * Refines a direct solution. Attempts, in order, until one converges (Newton converged and the
+ * structure confirmed), unless options.retry is false:
+ *   1. the detected structure with the requested segments;
+ *   2. while the last Newton-converged attempt exceeds a state bound or path constraint (at most
+ *      three constraints): the structure with a boundary arc of the worst one inserted
+ *      (augmentStructure), with the requested and then twice the segments;
+ *   3. the detected structure with twice the segments (shorter segments tame the growth of the
+ *      state–costate flow);
+ *   4. when arc detection could not decide the costate sign convention, the estimates negated.
+ * The returned report is the converged attempt, else the first one; `attempts` lists them all.
  */
 export function refineFromSolution(problem: CompiledProblem, sol: Solution, options: RefineOptions = {}): RefineReport {
-  const good = (r: RefineReport) => r.converged && r.structureConfirmed;
-  const first = refineOnce(problem, sol, options, 0);
-  if (good(first) || first.status === "setup_failed" || options.retry === false) return first;
-  const segments = 2 * (options.segments ?? 12);
-  let spent = first.seconds;
-  const second = refineOnce(problem, sol, { ...options, segments }, 0);
-  spent += second.seconds;
-  if (good(second)) {
-    return { ...second, message: `${second.message} (with ${segments} segments after ${first.status} with ${options.segments ?? 12})`, seconds: spent };
+  let detected: ArcStructure;
+  try {
+    detected = options.structure ?? detectArcs(problem, sol, options.arcOptions);
+  } catch (err) {
+    return setupFailure(problem, err instanceof Error ? err.message : String(err), "", 0);
   }
+  const attempts: string[] = [];
+  let spent = 0;
+  const segments = options.segments ?? 12;
+  const attempt = (label: string, structure: ArcStructure, segs: number, sign: -1 | 0 | 1): RefineReport => {
+    const r = refineOnce(problem, sol, { ...options, structure, segments: segs }, sign);
+    spent += r.seconds;
+    const cond = Number.isFinite(r.jacobianCondition) ? `, Jacobian condition ${r.jacobianCondition.toExponential(1)}` : "";
+    attempts.push(`${label}, ${segs} segments: ${r.status} (residual ${r.residual.toExponential(1)} after ${r.iterations} Newton iterations${cond})`);
+    return r;
+  };
+  const finish = (r: RefineReport, note?: string): RefineReport => ({
+    ...r,
+    message: note ? `${r.message} (${note})` : r.message,
+    detectedSignature: detected.signature,
+    attempts,
+    seconds: spent,
+  });
+  const first = attempt(`structure ${detected.signature}`, detected, segments, 0);
+  if (first.converged || first.status === "setup_failed" || options.retry === false) return finish(first);
+
+  // A Newton solution beyond a constraint: the structure lacks that boundary arc.
+  let last = first;
+  let structure = detected;
+  for (let added = 0; added < 3 && last.status === "constraint_violated" && last.worstViolation; added++) {
+    const v = last.worstViolation;
+    const augmented = augmentStructure(structure, v, last, sol);
+    if (augmented.signature === structure.signature) break;
+    structure = augmented;
+    let next: RefineReport | null = null;
+    for (const segs of [segments, 2 * segments]) {
+      next = attempt(`structure ${structure.signature} (boundary arc of ${v.name} added)`, structure, segs, 0);
+      if (next.converged) return finish(next, `after adding a boundary arc of ${v.name}`);
+      if (next.status === "constraint_violated") break;
+    }
+    if (!next || next.newtonStatus !== "converged") break;
+    last = next;
+  }
+  const second = attempt(`structure ${detected.signature}`, detected, 2 * segments, 0);
+  if (second.converged) return finish(second, `with ${2 * segments} segments after ${first.status} with ${segments}`);
   // When the bang points could not tell the scheme's costate sign convention, try the other one.
-  const structure = options.structure ?? detectArcs(problem, sol, options.arcOptions);
-  if (structure.costateSign === 0) {
-    const third = refineOnce(problem, sol, { ...options, structure }, -1);
-    spent += third.seconds;
-    if (good(third)) return { ...third, message: `${third.message} (with the costate estimates negated)`, seconds: spent };
+  if (detected.costateSign === 0) {
+    const third = attempt(`structure ${detected.signature}, costate estimates negated`, detected, segments, -1);
+    if (third.converged) return finish(third, "with the costate estimates negated");
   }
-  return { ...first, seconds: spent };
+  return finish(first, `${attempts.length} attempts, none converged`);
+}
+
+/**
+ * The refined structure (the arcs Newton converged on, which may differ from the detected ones:
+ * junctions move) with a boundary arc of the violated constraint on the interval where the refined
+ * trajectory exceeded it. Times are mapped to the direct solution's by normalised time (a free
+ * final time differs between the two). Every control's arcs are clipped to [t0, t_in] and
+ * [t_out, tf] and a boundary arc fills the gap.
+ */
+export function augmentStructure(s: ArcStructure, v: ConstraintViolation, refined: RefineReport, sol: Solution): ArcStructure {
+  const T0 = refined.arcs.length ? refined.arcs[0].t0 : sol.t0;
+  const Tf = Number.isFinite(refined.finalTime) ? refined.finalTime : sol.tf;
+  const map = (t: number) => sol.t0 + ((t - T0) / (Tf - T0)) * (sol.tf - sol.t0);
+  const tIn = map(v.tIn);
+  const tOut = map(v.tOut);
+  const fromLabel = (label: string, control: string, t0: number, t1: number): Arc =>
+    label.startsWith("boundary:")
+      ? { kind: "boundary", control, constraint: label.slice(9), t0, t1 }
+      : { kind: label as Arc["kind"], control, t0, t1 };
+  const controls = s.controls.map((c, j) => {
+    const source: Arc[] = refined.arcs.length
+      ? refined.arcs.map((a) => fromLabel(a.kinds[j], c.control, map(a.t0), map(a.t1)))
+      : c.arcs;
+    const arcs: Arc[] = [];
+    for (const a of source) if (a.t1 > sol.t0 && a.t0 < tIn) arcs.push({ ...a, t1: Math.min(a.t1, tIn) });
+    arcs.push({ kind: "boundary", control: c.control, constraint: v.name, t0: tIn, t1: tOut });
+    for (const a of source) if (a.t1 > tOut) arcs.push({ ...a, t0: Math.max(a.t0, tOut) });
+    const merged: Arc[] = [];
+    for (const a of arcs) {
+      const prev = merged[merged.length - 1];
+      if (prev && prev.kind === a.kind && prev.constraint === a.constraint) prev.t1 = a.t1;
+      else if (a.t1 > a.t0) merged.push(a);
+    }
+    merged[0].t0 = sol.t0;
+    merged[merged.length - 1].t1 = sol.tf;
+    return { control: c.control, arcs: merged, junctions: merged.slice(1).map((a) => a.t0) };
+  });
+  return { ...s, controls, signature: structureSignature(controls), notes: [...s.notes, `boundary arc of ${v.name} added where the refinement exceeded it`] };
+}
+
+function setupFailure(problem: CompiledProblem, message: string, detectedSignature: string, seconds: number): RefineReport {
+  return {
+    problemId: problem.id,
+    problemVersion: problem.versionHash,
+    history: [],
+    endpointMultipliers: {},
+    jumps: [],
+    trajectory: null,
+    violations: [],
+    worstViolation: null,
+    attempts: [],
+    rhsEvaluations: 0,
+    jacobianCondition: NaN,
+    status: "setup_failed",
+    newtonStatus: "setup_failed",
+    converged: false,
+    message,
+    residual: Infinity,
+    iterations: 0,
+    objective: NaN,
+    finalTime: NaN,
+    junctions: [],
+    arcs: [],
+    signature: "",
+    detectedSignature,
+    structureConfirmed: false,
+    seconds,
+  };
 }
 
 /** One refinement; forcedSign ±1 overrides the costate sign convention (0: from arc detection). */
@@ -125,6 +257,8 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
     jumps: [] as number[],
     trajectory: null as RefinedTrajectory | null,
     violations: [] as string[],
+    worstViolation: null as ConstraintViolation | null,
+    attempts: [] as string[],
     rhsEvaluations: 0,
   };
   const structure = options.structure ?? detectArcs(problem, sol, options.arcOptions);
@@ -133,6 +267,7 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
     ...base,
     jacobianCondition: NaN,
     status: "setup_failed",
+    newtonStatus: "setup_failed",
     converged: false,
     message,
     residual: Infinity,
@@ -179,7 +314,7 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
   );
   const z = result.z;
   const T = ms.times(z);
-  const converged = result.status === "converged";
+  const newtonConverged = result.status === "converged";
   const signature = combinedSignature(problem, ms.arcs);
   const arcs: RefinedArc[] = ms.arcs.map((arc, a) => ({
     kinds: arc.kinds.map((_, j) => arcControlLabel(arc, j)),
@@ -188,7 +323,9 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
   }));
   const Fz = ms.evaluate(z);
   const traj = ms.trajectory(z);
-  const violations = traj ? confirm(problem, oc, ms, traj) : ["the refined trajectory could not be integrated"];
+  const confirmation = traj ? confirmStructure(problem, oc, ms, traj) : { messages: ["the refined trajectory could not be integrated"], constraints: [] };
+  const violations = confirmation.messages;
+  const worstViolation = confirmation.constraints[0] ?? null;
   // Well-posedness: as many conditions as unknowns, and a Jacobian of full rank at the solution.
   let jacobianCondition = NaN;
   if (Fz) {
@@ -220,11 +357,22 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
         costates: Object.fromEntries(problem.states.map((s, i) => [s.name, traj.lambda.map((v) => v[i])])),
       }
     : null;
+  const confirmed = newtonConverged && violations.length === 0;
+  const status: RefineStatus = !newtonConverged ? result.status : confirmed ? "converged" : worstViolation ? "constraint_violated" : "structure_not_confirmed";
+  const iterationsText = `${result.history.length - 1} Newton iterations`;
+  const message = !newtonConverged
+    ? `Newton stopped: ${result.status}`
+    : confirmed
+      ? `converged in ${iterationsText}`
+      : worstViolation
+        ? `Newton converged in ${iterationsText} on ${signature}, but the solution is not optimal: ${describeViolation(worstViolation)}`
+        : `Newton converged in ${iterationsText} on ${signature}, but the structure is not confirmed: ${violations[0]}`;
   return {
     ...base,
-    status: result.status,
-    converged,
-    message: converged ? `converged in ${result.history.length - 1} Newton iterations` : `Newton stopped: ${result.status}`,
+    status,
+    newtonStatus: result.status,
+    converged: confirmed,
+    message,
     residual: result.residual,
     iterations: Math.max(0, result.history.length - 1),
     history: result.history,
@@ -234,8 +382,9 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
     arcs,
     signature,
     detectedSignature: structure.signature,
-    structureConfirmed: converged && violations.length === 0,
+    structureConfirmed: confirmed,
     violations,
+    worstViolation,
     endpointMultipliers,
     jumps,
     trajectory,
@@ -320,96 +469,4 @@ function objectiveValue(problem: CompiledProblem, ms: MultipleShooting, z: Float
     phi = v[0];
   }
   return phi + integral;
-}
-
-/** Violations of the necessary conditions on the refined trajectory (empty: structure confirmed). */
-function confirm(
-  problem: CompiledProblem,
-  oc: OptimalityConditions,
-  ms: MultipleShooting,
-  traj: { t: number[]; x: number[][]; lambda: number[][]; u: number[][]; arc: number[] },
-): string[] {
-  const { nx, nu } = problem;
-  const out: string[] = [];
-  const w = new Float64Array(oc.nW);
-  const hu = new Float64Array(nu);
-  const huJacBuf = new Float64Array(oc.hu.jacRows.length);
-  const huJac = new Float64Array(nu * oc.nW);
-  const np = problem.pathInfo.length;
-  const c = new Float64Array(np);
-  const zc = new Float64Array(1 + nx + nu);
-  const T0 = traj.t[0];
-  const span = traj.t[traj.t.length - 1] - T0;
-  const seen = new Set<string>();
-  const report = (key: string, msg: string) => {
-    if (!seen.has(key)) {
-      seen.add(key);
-      out.push(msg);
-    }
-  };
-  for (let p = 0; p < traj.t.length; p++) {
-    const a = traj.arc[p];
-    const arc: ShootingArc = ms.arcs[a];
-    w.fill(0);
-    w[0] = traj.t[p];
-    for (let i = 0; i < nx; i++) {
-      w[1 + i] = traj.x[p][i];
-      w[oc.iL + i] = traj.lambda[p][i];
-    }
-    for (let j = 0; j < nu; j++) w[oc.iU + j] = traj.u[p][j];
-    oc.hu.eval(w, hu);
-    // Legendre–Clebsch on interior arcs: ∂²H/∂u_j² > 0 (Bryson and Ho 1975, eq. (2.5.6) with ≥).
-    if (arc.kinds.some((k) => k === "interior") && !arc.constraint) {
-      denseJacobian(oc.hu, w, huJacBuf, huJac);
-      for (let j = 0; j < nu; j++) {
-        if (arc.kinds[j] === "interior" && !(huJac[j * oc.nW + oc.iU + j] > 0)) {
-          report(`lc${a}${j}`, `arc ${a + 1}: ∂²H/∂${problem.controls[j].name}² ≤ 0 at t = ${traj.t[p].toPrecision(8)} (a maximum of H, not a minimum)`);
-        }
-      }
-    }
-    let huScale = 1e-300;
-    for (const v of hu) huScale = Math.max(huScale, Math.abs(v));
-    for (let j = 0; j < nu; j++) {
-      const info = problem.controls[j];
-      const k = arc.kinds[j];
-      const range = Number.isFinite(info.upper - info.lower) ? info.upper - info.lower : 1;
-      const tolSigma = 1e-7 * Math.max(1, huScale);
-      if (k === "lower" && hu[j] < -tolSigma) report(`sigma${a}${j}`, `arc ${a + 1}: ${info.name} on its lower bound but ∂H/∂u < 0 at t = ${traj.t[p].toPrecision(8)}`);
-      if (k === "upper" && hu[j] > tolSigma) report(`sigma${a}${j}`, `arc ${a + 1}: ${info.name} on its upper bound but ∂H/∂u > 0 at t = ${traj.t[p].toPrecision(8)}`);
-      const u = traj.u[p][j];
-      if (!Number.isFinite(u)) report(`nan${a}`, `arc ${a + 1}: control law failed at t = ${traj.t[p].toPrecision(8)}`);
-      if (u < info.lower - 1e-9 * range || u > info.upper + 1e-9 * range) {
-        report(`bound${a}${j}`, `arc ${a + 1}: ${k} control ${info.name} = ${u.toPrecision(8)} leaves [${info.lower}, ${info.upper}] at t = ${traj.t[p].toPrecision(8)}`);
-      }
-    }
-    zc.set(w.subarray(0, 1 + nx + nu));
-    if (np > 0) {
-      problem.path.eval(zc, c);
-      problem.pathInfo.forEach((info, m) => {
-        const scale = 1e-8 * (1 + Math.abs(Number.isFinite(info.upper) ? info.upper : info.lower));
-        if (c[m] < info.lower - scale || c[m] > info.upper + scale) report(`path${m}`, `path constraint ${info.name} violated at t = ${traj.t[p].toPrecision(8)} (value ${c[m].toPrecision(10)})`);
-      });
-    }
-    problem.states.forEach((s, i) => {
-      const v = traj.x[p][i];
-      const scale = 1e-8 * (1 + Math.abs(Number.isFinite(s.upper) ? s.upper : Number.isFinite(s.lower) ? s.lower : 0));
-      if (v < s.lower - scale || v > s.upper + scale) report(`state${i}`, `state bound of ${s.name} violated at t = ${traj.t[p].toPrecision(8)} (value ${v.toPrecision(10)})`);
-    });
-  }
-  // Endpoint inequalities.
-  const nE = 2 + 2 * nx;
-  const e = new Float64Array(nE);
-  const last = traj.t.length - 1;
-  e[0] = traj.t[0];
-  e.set(traj.x[0], 1);
-  e[1 + nx] = traj.t[last];
-  e.set(traj.x[last], 2 + nx);
-  const b = new Float64Array(problem.endpointInfo.length);
-  if (b.length) problem.endpoint.eval(e, b);
-  problem.endpointInfo.forEach((info, r) => {
-    const scale = 1e-8 * (1 + Math.abs(Number.isFinite(info.upper) ? info.upper : Number.isFinite(info.lower) ? info.lower : 0));
-    if (b[r] < info.lower - scale || b[r] > info.upper + scale) out.push(`endpoint constraint ${info.name} violated (value ${b[r].toPrecision(10)})`);
-  });
-  void span;
-  return out;
 }
