@@ -271,7 +271,7 @@ export const MAX_INGEST_BYTES = 32 * 1024 * 1024;
 
 export type IngestOutcome =
   | { ok: true; created: boolean; runId: string; newRegressions: number }
-  | { ok: false; status: 400 | 413; error: string; issues?: { path: string; message: string }[] };
+  | { ok: false; status: 400 | 403 | 413; error: string; issues?: { path: string; message: string }[] };
 
 /** Reads a request body up to `limit` bytes; null when it is larger. */
 export async function readLimited(request: Request, limit = MAX_INGEST_BYTES): Promise<string | null> {
@@ -300,7 +300,7 @@ export async function readLimited(request: Request, limit = MAX_INGEST_BYTES): P
  * `ingestRunPayload`, and better-sqlite3 runs one transaction at a time, so two concurrent
  * posts of one id store it once). New complete runs are checked for regressions against main.
  */
-export function ingestRun(db: Db, text: string): IngestOutcome {
+export function ingestRun(db: Db, text: string, by: { tokenId?: number | null; suiteName?: string | null } = {}): IngestOutcome {
   let body: unknown;
   try {
     body = JSON.parse(text);
@@ -311,10 +311,14 @@ export function ingestRun(db: Db, text: string): IngestOutcome {
   if (!parsed.success) {
     return { ok: false, status: 400, error: "Invalid run payload.", issues: parsed.error.issues.slice(0, 50).map((i) => ({ path: i.path.join(".") || "(root)", message: i.message })) };
   }
+  if (by.suiteName && parsed.data.suite.name !== by.suiteName) {
+    return { ok: false, status: 403, error: `This token may only upload runs of the suite "${by.suiteName}", not "${parsed.data.suite.name}".` };
+  }
   const id = parsed.data.run.id;
   if (db.select({ id: runs.id }).from(runs).where(eq(runs.id, id)).get()) return { ok: true, created: false, runId: id, newRegressions: 0 };
   try {
     ingestRunPayload(db, parsed.data);
+    if (by.tokenId) db.update(runs).set({ uploadedByTokenId: by.tokenId }).where(eq(runs.id, id)).run();
   } catch (err) {
     const msg = (err as Error).message;
     if (/already uploaded/.test(msg)) return { ok: true, created: false, runId: id, newRegressions: 0 };
