@@ -5,6 +5,9 @@
  * Runs a suite on the current checkout, records it in SQLite (ARCWATCH_DB or --db), compares it
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
  * `--job <id>` links the run to a jobs row (the server's job worker runs this command in a worktree).
+ * `--shard k/n` runs part k of n of the suite (app/runs/shards.ts; the plan is frozen per suite
+ * version and machine class in the database); `--plan` prints the plan of all n parts and exits.
+ * `--machine-class <label>` names the class timings are compared within (default: the machine key).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  */
 import { parseArgs } from "node:util";
@@ -13,8 +16,10 @@ import { stopStandin } from "../app/services/mail.server";
 import { runSuite, tally, type RunSummary } from "./runner/run-suite";
 import { renderTable, fmtNum } from "./runner/table";
 import { uploadRun } from "./runner/upload";
+import { parseShard, renderPlan } from "../app/runs/shards";
+import { MACHINE_CLASS_PATTERN, shardPlanForSuite } from "./runner/shard-plan";
 
-const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
+const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]";
 
 function summaryText(s: RunSummary): string {
   const rows = s.outcomes.map((o) => [
@@ -69,6 +74,10 @@ async function main(): Promise<number> {
         "no-alerts": { type: "boolean", default: false },
         "base-url": { type: "string" },
         job: { type: "string" },
+        shard: { type: "string" },
+        plan: { type: "boolean", default: false },
+        pipeline: { type: "string" },
+        "machine-class": { type: "string" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -99,7 +108,39 @@ async function main(): Promise<number> {
     process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
     return 2;
   }
+  let shard: { index: number; count: number } | null = null;
+  if (args.shard !== undefined) {
+    try {
+      shard = parseShard(args.shard);
+    } catch (err) {
+      process.stderr.write(`${(err as Error).message}\n`);
+      return 2;
+    }
+  }
+  if (args.plan && !shard) {
+    process.stderr.write(`--plan needs --shard k/n (it prints the plan of all n shards)\n${USAGE}\n`);
+    return 2;
+  }
+  const machineClassLabel = args["machine-class"] ?? process.env.ARCWATCH_MACHINE_CLASS;
+  if (machineClassLabel !== undefined && !MACHINE_CLASS_PATTERN.test(machineClassLabel)) {
+    process.stderr.write(`--machine-class must be 1-64 letters, digits, dots, dashes or underscores, got "${machineClassLabel}"\n`);
+    return 2;
+  }
   const db = args.db ? openDatabase(args.db) : getDb();
+  if (args.plan && shard) {
+    try {
+      const p = shardPlanForSuite(db, args.suite, shard.count, machineClassLabel);
+      if (args.json) process.stdout.write(`${JSON.stringify({ ...p.plan, machineClass: p.machineClass, frozenAt: p.plan.frozenAt }, null, 2)}\n`);
+      else process.stdout.write(`suite ${p.suiteName} (${p.contentHash.slice(0, 12)}) · machine class ${/^[0-9a-f]{64}$/.test(p.machineClass) ? `${p.machineClass.slice(0, 12)} (fingerprint)` : p.machineClass} · plan ${p.plan.reused ? "frozen" : "made"} ${p.plan.frozenAt.toISOString()}\n${renderPlan(p.plan, shard.index)}\n`);
+      return 0;
+    } catch (err) {
+      process.stderr.write(`bench: ${(err as Error).message}\n`);
+      return 1;
+    } finally {
+      if (args.db) db.$client.close();
+      else closeDb();
+    }
+  }
   const controller = new AbortController();
   const onSignal = (sig: string) => {
     if (controller.signal.aborted) return;
