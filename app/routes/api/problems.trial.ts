@@ -20,3 +20,8 @@ export async function action({ request }: Route.ActionArgs) {
   if ("error" in trial) return Response.json({ errors: { form: trial.error }, values: sub.values }, { status: 400 });
   return Response.json({ values: sub.values, trial, errors: {} });
 }
+
+/** GET /api/problems/trial: a trial is a POST (405 naming the method, never a server error). */
+export async function loader() {
+  return Response.json({ error: "POST a problem submission to try it (multipart or url-encoded form fields)." }, { status: 405, headers: { Allow: "POST" } });
+}
