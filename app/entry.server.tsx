@@ -11,8 +11,11 @@ import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { startJobWorker } from "./services/job-worker.server";
+import { startHousekeeping } from "./services/housekeeping.server";
 
 startJobWorker();
+// Runs whose recorder died → interrupted; sharded runs past their deadline → closed incomplete.
+startHousekeeping();
 
 export const streamTimeout = 5_000;
 
