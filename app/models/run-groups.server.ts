@@ -23,7 +23,7 @@
  * stay and no regression check is made on a part of a suite.
  */
 import { createHash } from "node:crypto";
-import { and, asc, eq, isNotNull, lt } from "drizzle-orm";
+import { and, asc, eq, inArray, isNotNull, lt, sql } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, runShards, runs, suites, type RunStatus } from "~/db/schema";
 
@@ -255,5 +255,18 @@ export function closeOverdueGroups(db: Db, now = new Date()): { runId: string; m
     });
     if (closed) out.push({ runId: r.id, missing: closed });
   }
+  return out;
+}
+
+/** Shards in and expected per sharded run, for lists (the overview's runs in progress). */
+export function shardProgress(db: Db, runIds: string[]): Map<string, { in: number; count: number }> {
+  const out = new Map<string, { in: number; count: number }>();
+  if (runIds.length === 0) return out;
+  const rows = db
+    .select({ id: runs.id, count: runs.shardCount, n: sql<number>`(select count(*) from run_shards s where s.run_id = ${runs.id} and s.state = 'received')` })
+    .from(runs)
+    .where(and(inArray(runs.id, runIds), isNotNull(runs.shardCount)))
+    .all();
+  for (const r of rows) out.set(r.id, { in: r.n, count: r.count! });
   return out;
 }

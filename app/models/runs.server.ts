@@ -13,6 +13,7 @@ import { caseResults, regressions, runs, suites, RUN_STATUSES, type RunRow } fro
 import { ingestRunPayload, runPayloadSchema } from "../../bench/runner/payload";
 import { detectRegressions } from "../../bench/runner/detect";
 import { effectiveThresholds } from "./settings.server";
+import { shardProgress } from "./run-groups.server";
 import type { Thresholds } from "../../bench/runner/types";
 import { SOLVED_STATUSES } from "../../bench/runner/types";
 
@@ -342,7 +343,7 @@ export interface OverviewState {
   openByKind: { kind: string; total: number; small: number; medium: number; large: number }[];
   health: { runId: string; commitHash: string; startedAt: number; cases: number; solved: number; regressions: number }[];
   healthBranch: string;
-  inProgress: { runId: string; suite: string; branch: string | null; commitHash: string; startedAt: number; cases: number; jobId: number | null }[];
+  inProgress: { runId: string; suite: string; branch: string | null; commitHash: string; startedAt: number; cases: number; jobId: number | null; shards: { in: number; count: number } | null }[];
 }
 
 /**
@@ -374,6 +375,7 @@ export function overviewState(db: Db): OverviewState {
   const health = recent.map((r) => ({ runId: r.id, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: hc.get(r.id)?.cases ?? 0, solved: hc.get(r.id)?.solved ?? 0, regressions: hr.get(r.id)?.regressions ?? 0 }));
   const running = db.select({ id: runs.id, suite: suites.name, branch: runs.branch, commitHash: runs.commitHash, startedAt: runs.startedAt, jobId: runs.jobId }).from(runs).innerJoin(suites, eq(suites.id, runs.suiteId)).where(eq(runs.status, "running")).orderBy(desc(runs.startedAt)).limit(10).all();
   const rcc = caseCounts(db, running.map((r) => r.id));
-  const inProgress = running.map((r) => ({ runId: r.id, suite: r.suite, branch: r.branch, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: rcc.get(r.id)?.cases ?? 0, jobId: r.jobId }));
+  const sp = shardProgress(db, running.map((r) => r.id));
+  const inProgress = running.map((r) => ({ runId: r.id, suite: r.suite, branch: r.branch, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: rcc.get(r.id)?.cases ?? 0, jobId: r.jobId, shards: sp.get(r.id) ?? null }));
   return { branches, openByKind, health, healthBranch, inProgress };
 }
