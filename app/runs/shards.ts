@@ -21,6 +21,9 @@
  */
 import { createHash } from "node:crypto";
 
+/** A runner-set machine class label: what CI systems allow in a runner label, kept short. */
+export const MACHINE_CLASS_PATTERN = /^[A-Za-z0-9._-]{1,64}$/;
+
 /** The fields of a suite case the planner reads. */
 export interface PlanCase {
   key: string;

@@ -7,17 +7,23 @@ import path from "node:path";
 import type { Db } from "../../app/db/client.server";
 import { shardPlanFor } from "../../app/models/shard-plans.server";
 import type { ShardPlan } from "../../app/runs/shards";
-import { runnerLibraryDir, uploadedProblemsDirFor } from "./library-dir";
+import { problemLibraryFor } from "../../app/models/library.server";
+import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
+import type { CaseSpec } from "../../app/runs/types";
 import { machineInfo, machineKey } from "./machine";
-import { expandCases, loadSuite, suitePath } from "./suite";
-import type { CaseSpec } from "./types";
 
-/** A runner-set machine class: what CI systems allow in a runner label, kept short. */
-export const MACHINE_CLASS_PATTERN = /^[A-Za-z0-9._-]{1,64}$/;
 
 /** The class timings are compared within: the runner's label, else this machine's key. */
 export function machineClassOf(label: string | undefined | null): string {
   return label ?? machineKey(machineInfo());
+}
+
+/**
+ * The machine key a run is stored and compared under: with a class label, `class:<label>` (every
+ * runner of the class compares with every other), else the fingerprint's key.
+ */
+export function runMachineKey(label: string | undefined | null): string {
+  return label ? `class:${label}` : machineKey(machineInfo());
 }
 
 export interface SuiteShardPlan {
@@ -31,7 +37,7 @@ export interface SuiteShardPlan {
 export function shardPlanForSuite(db: Db, suite: string, count: number, machineClassLabel?: string | null, root = process.cwd()): SuiteShardPlan {
   const dir = path.resolve(root);
   const loaded = loadSuite(suitePath(suite, dir));
-  const cases = expandCases(loaded.definition, runnerLibraryDir(dir, uploadedProblemsDirFor(db.$client.name)));
+  const cases = expandCases(loaded.definition, problemLibraryFor(db, dir));
   const machineClass = machineClassOf(machineClassLabel);
   const plan = shardPlanFor(db, {
     suiteContentHash: loaded.contentHash,

@@ -8,13 +8,14 @@ import path from "node:path";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { useTempDatabase } from "../helpers/temp-db";
-import { expandCases, loadSuite, suitePath } from "../../bench/runner/suite";
+import { expandCases, loadSuite, suitePath } from "~/runs/suite";
+import { ProblemLibrary } from "~/engine/problem/library";
 import { meshPoints, parseShard, planShards, type PlanCase, type ShardPlan } from "~/runs/shards";
 
 useTempDatabase("shards");
 const ROOT = path.resolve(import.meta.dirname, "..", "..");
 const full = loadSuite(suitePath("full", ROOT));
-const fullCases: PlanCase[] = expandCases(full.definition, path.join(ROOT, "problems"));
+const fullCases: PlanCase[] = expandCases(full.definition, new ProblemLibrary([path.join(ROOT, "problems")]));
 
 function checkPlan(plan: ShardPlan, cases: PlanCase[], n: number) {
   expect(plan.shards).toHaveLength(n);

@@ -10,8 +10,8 @@ import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
 import { openDatabase, type Db } from "~/db/client.server";
 import { apiTokens, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
-import { canonicalJson, loadSuite, sha256, suitePath } from "../../bench/runner/suite";
-import { PAYLOAD_FORMAT, type RunPayload } from "../../bench/runner/payload";
+import { canonicalJson, loadSuite, sha256, suitePath } from "~/runs/suite";
+import { PAYLOAD_FORMAT, type RunPayload } from "~/runs/payload";
 
 let server: RunningServer;
 let db: Db;
