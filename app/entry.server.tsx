@@ -14,8 +14,11 @@ import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { CSP_NONCE_HEADER, NonceContext } from "./nonce";
 import { startJobWorker } from "./services/job-worker.server";
+import { startHousekeeping } from "./services/housekeeping.server";
 
 startJobWorker();
+// Runs whose recorder died → interrupted; sharded runs past their deadline → closed incomplete.
+startHousekeeping();
 
 export const streamTimeout = 5_000;
 

@@ -5,6 +5,9 @@
  * Runs a suite on the current checkout, records it in SQLite (ARCWATCH_DB or --db), compares it
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
  * `--job <id>` links the run to a jobs row (the server's job worker runs this command in a worktree).
+ * `--shard k/n` runs part k of n of the suite (app/runs/shards.ts; the plan is frozen per suite
+ * version and machine class in the database); `--plan` prints the plan of all n parts and exits.
+ * `--machine-class <label>` names the class timings are compared within (default: the machine key).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
  * (app/runs/events.ts; the job worker reads it).
@@ -23,8 +26,9 @@ import { parseArgs } from "node:util";
 import { isEntryScript } from "./cli/entry";
 import type { RunSummary } from "./runner/run-suite";
 import { renderTable, fmtNum, tally } from "./runner/table";
+import { MACHINE_CLASS_PATTERN, parseShard, renderPlan } from "../app/runs/shards";
 
-const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
+const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]";
 
 function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
   const rows = s.outcomes.map((o) => [
@@ -79,6 +83,10 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         "no-alerts": { type: "boolean", default: false },
         "base-url": { type: "string" },
         job: { type: "string" },
+        shard: { type: "string" },
+        plan: { type: "boolean", default: false },
+        pipeline: { type: "string" },
+        "machine-class": { type: "string" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -109,6 +117,24 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
     process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
     return 2;
   }
+  let shard: { index: number; count: number } | null = null;
+  if (args.shard !== undefined) {
+    try {
+      shard = parseShard(args.shard);
+    } catch (err) {
+      process.stderr.write(`${(err as Error).message}\n`);
+      return 2;
+    }
+  }
+  if (args.plan && !shard) {
+    process.stderr.write(`--plan needs --shard k/n (it prints the plan of all n shards)\n${USAGE}\n`);
+    return 2;
+  }
+  const machineClassLabel = args["machine-class"] ?? process.env.ARCWATCH_MACHINE_CLASS;
+  if (machineClassLabel !== undefined && !MACHINE_CLASS_PATTERN.test(machineClassLabel)) {
+    process.stderr.write(`--machine-class must be 1-64 letters, digits, dots, dashes or underscores, got "${machineClassLabel}"\n`);
+    return 2;
+  }
   // the database, the runner and the engine are loaded only now, so that --help answers at once
   const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV }] = await Promise.all([
     import("../app/db/client.server"),
@@ -117,7 +143,22 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
     import("./runner/upload"),
     import("../app/runs/events"),
   ]);
+  const { shardPlanForSuite } = await import("./runner/shard-plan");
   const db = args.db ? openDatabase(args.db) : getDb();
+  if (args.plan && shard) {
+    try {
+      const p = shardPlanForSuite(db, args.suite, shard.count, machineClassLabel);
+      if (args.json) process.stdout.write(`${JSON.stringify({ ...p.plan, machineClass: p.machineClass, frozenAt: p.plan.frozenAt }, null, 2)}\n`);
+      else process.stdout.write(`suite ${p.suiteName} (${p.contentHash.slice(0, 12)}) · machine class ${/^[0-9a-f]{64}$/.test(p.machineClass) ? `${p.machineClass.slice(0, 12)} (fingerprint)` : p.machineClass} · plan ${p.plan.reused ? "frozen" : "made"} ${p.plan.frozenAt.toISOString()}\n${renderPlan(p.plan, shard.index)}\n`);
+      return 0;
+    } catch (err) {
+      process.stderr.write(`bench: ${(err as Error).message}\n`);
+      return 1;
+    } finally {
+      if (args.db) db.$client.close();
+      else closeDb();
+    }
+  }
   const controller = new AbortController();
   const onSignal = (sig: string) => {
     if (controller.signal.aborted) return;

@@ -53,6 +53,14 @@ export type RegressionStatus = (typeof REGRESSION_STATUSES)[number];
 export const JOB_STATUSES = ["queued", "running", "done", "failed", "cancelled", "died"] as const;
 export type JobStatus = (typeof JOB_STATUSES)[number];
 
+/** "full": acts with its role everywhere; "upload": may only upload runs and read its own uploads (a CI runner). */
+export const TOKEN_SCOPES = ["full", "upload"] as const;
+export type TokenScope = (typeof TOKEN_SCOPES)[number];
+
+/** States of one shard of a sharded run: uploaded, or never came before the group's deadline. */
+export const SHARD_STATES = ["received", "missing"] as const;
+export type ShardState = (typeof SHARD_STATES)[number];
+
 export const COMMENT_TARGETS = ["regression", "run", "problem", "case"] as const;
 export type CommentTarget = (typeof COMMENT_TARGETS)[number];
 
@@ -152,6 +160,13 @@ export const apiTokens = sqliteTable(
     createdAt: createdAt(),
     lastUsedAt: integer("last_used_at", { mode: "timestamp_ms" }),
     revokedAt: integer("revoked_at", { mode: "timestamp_ms" }),
+    /**
+     * "upload": a runner token (uploads runs, reads its own uploads, nothing else). No CHECK here:
+     * adding one would rebuild the table; tokens.server.ts writes only TOKEN_SCOPES values.
+     */
+    scope: text("scope", { enum: TOKEN_SCOPES }).notNull().default("full"),
+    /** When set, an upload token may only upload runs of the suite with this name. */
+    suiteName: text("suite_name"),
   },
   (t) => [
     uniqueIndex("api_tokens_hash_unique").on(t.tokenHash),
@@ -267,8 +282,31 @@ export const runs = sqliteTable(
     /** The job that produced this run, when started from the browser. */
     jobId: integer("job_id").references(() => jobs.id, { onDelete: "set null" }),
     createdAt: createdAt(),
+    /** The API token that uploaded this run (an upload token may read back its own runs). */
+    uploadedByTokenId: integer("uploaded_by_token_id").references(() => apiTokens.id, { onDelete: "set null" }),
+    /**
+     * Sharded runs: `<commit>:<suite content hash>:<pipeline id>`; every shard upload with this key
+     * becomes a part of this one run (see run_shards). Null for a run recorded in one piece.
+     */
+    groupKey: text("group_key"),
+    /** Number of shards the run was split into (null: not sharded). */
+    shardCount: integer("shard_count"),
+    /** A sharded run still waiting after this time is closed as incomplete, naming the missing shards. */
+    shardDeadlineAt: integer("shard_deadline_at", { mode: "timestamp_ms" }),
+    /** Machine class timings are compared within: a label set by the runner, else the machine key. */
+    machineClass: text("machine_class"),
+    /** False when the shards of a merged run came from different machine classes: accuracy is checked, timings are not compared. */
+    timingsCompared: integer("timings_compared", { mode: "boolean" }).notNull().default(true),
+    /** Where the recording process runs (host name and pid), for the heartbeat check; never shown to viewers as more than "host". */
+    runnerHost: text("runner_host"),
+    runnerPid: integer("runner_pid"),
+    /** Refreshed by a running recorder; a "running" run whose heartbeat stopped is marked interrupted. */
+    heartbeatAt: integer("heartbeat_at", { mode: "timestamp_ms" }),
+    /** Why a run ended as it did when the status alone does not say (heartbeat lost, shards missing). */
+    statusNote: text("status_note"),
   },
   (t) => [
+    uniqueIndex("runs_group_key_unique").on(t.groupKey).where(sql`${t.groupKey} is not null`),
     index("runs_suite_machine_started_idx").on(t.suiteId, t.machineKey, t.startedAt),
     index("runs_commit_idx").on(t.commitHash),
     index("runs_started_idx").on(t.startedAt),
@@ -327,6 +365,63 @@ export const caseResults = sqliteTable(
     check("case_results_intervals_check", sql`${t.intervals} > 0`),
     check("case_results_sample_count_check", sql`${t.sampleCount} >= 0`),
   ],
+);
+
+/**
+ * One shard of a sharded run: which part of the suite (index of count), the machine it ran on and
+ * its own timing, and the client's run id (a second upload of the same shard is recognised by it
+ * or by the index and stores nothing).
+ */
+export const runShards = sqliteTable(
+  "run_shards",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    runId: text("run_id")
+      .notNull()
+      .references(() => runs.id, { onDelete: "cascade" }),
+    /** 1-based. */
+    shardIndex: integer("shard_index").notNull(),
+    shardCount: integer("shard_count").notNull(),
+    state: text("state", { enum: SHARD_STATES }).notNull().default("received"),
+    /** The run id the shard had on its runner (payload run.id). */
+    sourceRunId: text("source_run_id"),
+    machineJson: text("machine_json", { mode: "json" }).$type<unknown>(),
+    machineKey: text("machine_key"),
+    machineClass: text("machine_class"),
+    startedAt: integer("started_at", { mode: "timestamp_ms" }),
+    finishedAt: integer("finished_at", { mode: "timestamp_ms" }),
+    /** The shard's own status as its runner ended it (complete, interrupted, failed). */
+    sourceStatus: text("source_status"),
+    caseCount: integer("case_count").notNull().default(0),
+    calibrationSeconds: real("calibration_seconds"),
+    tokenId: integer("token_id").references(() => apiTokens.id, { onDelete: "set null" }),
+    receivedAt: createdAt("received_at"),
+  },
+  (t) => [
+    uniqueIndex("run_shards_run_index_unique").on(t.runId, t.shardIndex),
+    check("run_shards_state_check", sql`${t.state} in (${inList(SHARD_STATES)})`),
+    check("run_shards_index_check", sql`${t.shardIndex} >= 1 and ${t.shardIndex} <= ${t.shardCount}`),
+  ],
+);
+
+/**
+ * A shard plan frozen the first time it was made, so that a case stays in its shard while the
+ * suite (its content hash and the cases it expands to) and the machine class do not change.
+ */
+export const shardPlans = sqliteTable(
+  "shard_plans",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    suiteContentHash: text("suite_content_hash").notNull(),
+    /** SHA-256 of the sorted case keys the suite expanded to. */
+    caseSetHash: text("case_set_hash").notNull(),
+    machineClass: text("machine_class").notNull(),
+    shardCount: integer("shard_count").notNull(),
+    /** `{ shards: string[][], expectedSeconds: Record<caseKey, number>, basis: Record<caseKey, "history" | "mesh"> }`. */
+    planJson: text("plan_json", { mode: "json" }).$type<unknown>().notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("shard_plans_key_unique").on(t.suiteContentHash, t.caseSetHash, t.machineClass, t.shardCount)],
 );
 
 /**
@@ -606,5 +701,8 @@ export type OutboxRow = typeof outbox.$inferSelect;
 export type NewOutbox = typeof outbox.$inferInsert;
 export type JobRow = typeof jobs.$inferSelect;
 export type NewJob = typeof jobs.$inferInsert;
+export type RunShardRow = typeof runShards.$inferSelect;
+export type NewRunShard = typeof runShards.$inferInsert;
+export type ShardPlanRow = typeof shardPlans.$inferSelect;
 export type ThresholdSettingRow = typeof thresholdSettings.$inferSelect;
 export type NewThresholdSetting = typeof thresholdSettings.$inferInsert;

@@ -115,6 +115,9 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
   report.message = result.message;
   report.iterations = result.iterations;
   report.log = result.log;
+  // invalid_model: the solver stopped before its first iterate, so x is the starting guess;
+  // its objective, final time, violation and trajectory would be the guess's, not a result.
+  if (result.status === "invalid_model") return report;
   report.constraintViolation = violation(nlp, result);
   let sol: Solution;
   try {

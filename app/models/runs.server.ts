@@ -14,6 +14,7 @@ import { runPayloadSchema } from "~/runs/payload";
 import { SOLVED_STATUSES } from "~/runs/types";
 import { afterRun } from "./detection.server";
 import { storeRunPayload } from "./recording.server";
+import { shardProgress } from "./run-groups.server";
 
 export const RUN_SORT_KEYS = ["startedAt", "commit", "branch", "suite", "machine", "duration", "solved", "failed", "regressions", "status"] as const;
 export type RunSortKey = (typeof RUN_SORT_KEYS)[number];
@@ -270,7 +271,7 @@ export const MAX_INGEST_BYTES = 32 * 1024 * 1024;
 
 export type IngestOutcome =
   | { ok: true; created: boolean; runId: string; newRegressions: number }
-  | { ok: false; status: 400 | 413; error: string; issues?: { path: string; message: string }[] };
+  | { ok: false; status: 400 | 403 | 413; error: string; issues?: { path: string; message: string }[] };
 
 /** Reads a request body up to `limit` bytes; null when it is larger. */
 export async function readLimited(request: Request, limit = MAX_INGEST_BYTES): Promise<string | null> {
@@ -299,7 +300,7 @@ export async function readLimited(request: Request, limit = MAX_INGEST_BYTES): P
  * `ingestRunPayload`, and better-sqlite3 runs one transaction at a time, so two concurrent
  * posts of one id store it once). New complete runs are checked for regressions against main.
  */
-export function ingestRun(db: Db, text: string): IngestOutcome {
+export function ingestRun(db: Db, text: string, by: { tokenId?: number | null; suiteName?: string | null } = {}): IngestOutcome {
   let body: unknown;
   try {
     body = JSON.parse(text);
@@ -310,10 +311,14 @@ export function ingestRun(db: Db, text: string): IngestOutcome {
   if (!parsed.success) {
     return { ok: false, status: 400, error: "Invalid run payload.", issues: parsed.error.issues.slice(0, 50).map((i) => ({ path: i.path.join(".") || "(root)", message: i.message })) };
   }
+  if (by.suiteName && parsed.data.suite.name !== by.suiteName) {
+    return { ok: false, status: 403, error: `This token may only upload runs of the suite "${by.suiteName}", not "${parsed.data.suite.name}".` };
+  }
   const id = parsed.data.run.id;
   if (db.select({ id: runs.id }).from(runs).where(eq(runs.id, id)).get()) return { ok: true, created: false, runId: id, newRegressions: 0 };
   try {
     storeRunPayload(db, parsed.data);
+    if (by.tokenId) db.update(runs).set({ uploadedByTokenId: by.tokenId }).where(eq(runs.id, id)).run();
   } catch (err) {
     const msg = (err as Error).message;
     if (/already uploaded/.test(msg)) return { ok: true, created: false, runId: id, newRegressions: 0 };
@@ -333,7 +338,7 @@ export interface OverviewState {
   openByKind: { kind: string; total: number; small: number; medium: number; large: number }[];
   health: { runId: string; commitHash: string; startedAt: number; cases: number; solved: number; regressions: number }[];
   healthBranch: string;
-  inProgress: { runId: string; suite: string; branch: string | null; commitHash: string; startedAt: number; cases: number; jobId: number | null }[];
+  inProgress: { runId: string; suite: string; branch: string | null; commitHash: string; startedAt: number; cases: number; jobId: number | null; shards: { in: number; count: number } | null }[];
 }
 
 /**
@@ -365,7 +370,8 @@ export function overviewState(db: Db): OverviewState {
   const health = recent.map((r) => ({ runId: r.id, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: hc.get(r.id)?.cases ?? 0, solved: hc.get(r.id)?.solved ?? 0, regressions: hr.get(r.id)?.regressions ?? 0 }));
   const running = db.select({ id: runs.id, suite: suites.name, branch: runs.branch, commitHash: runs.commitHash, startedAt: runs.startedAt, jobId: runs.jobId }).from(runs).innerJoin(suites, eq(suites.id, runs.suiteId)).where(eq(runs.status, "running")).orderBy(desc(runs.startedAt)).limit(10).all();
   const rcc = caseCounts(db, running.map((r) => r.id));
-  const inProgress = running.map((r) => ({ runId: r.id, suite: r.suite, branch: r.branch, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: rcc.get(r.id)?.cases ?? 0, jobId: r.jobId }));
+  const sp = shardProgress(db, running.map((r) => r.id));
+  const inProgress = running.map((r) => ({ runId: r.id, suite: r.suite, branch: r.branch, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: rcc.get(r.id)?.cases ?? 0, jobId: r.jobId, shards: sp.get(r.id) ?? null }));
   return { branches, openByKind, health, healthBranch, inProgress };
 }
 

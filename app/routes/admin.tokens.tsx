@@ -4,7 +4,7 @@ import { RoleBadge } from "~/components/AppShell";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { Field, FormError, Notice } from "~/components/Field";
 import { getDb } from "~/db/client.server";
-import { ROLES } from "~/db/schema";
+import { ROLES, TOKEN_SCOPES } from "~/db/schema";
 import { requireRole } from "~/services/auth.server";
 import { fieldErrors, formValues, type FieldErrors } from "~/services/forms.server";
 import { createApiToken, listApiTokens, revokeApiToken } from "~/services/tokens.server";
@@ -17,8 +17,14 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { tokens: listApiTokens(getDb()) };
 }
 
+type TokenField = "name" | "role" | "scope" | "suite";
+const SCOPE_LABELS: Record<(typeof TOKEN_SCOPES)[number], string> = {
+  full: "full: acts with its role everywhere",
+  upload: "upload only: a CI runner (uploads runs, reads its own uploads)",
+};
+
 type ActionResult =
-  | { intent: "create"; errors: FieldErrors<"name" | "role">; values: { name: string; role: string }; token?: undefined; notice?: undefined }
+  | { intent: "create"; errors: FieldErrors<TokenField>; values: Record<TokenField, string>; token?: undefined; notice?: undefined }
   | { intent: "created"; token: string; name: string; notice: string; errors?: undefined }
   | { intent: "done"; notice: string; errors?: undefined; token?: undefined };
 
@@ -28,12 +34,15 @@ export async function action({ request }: Route.ActionArgs) {
   const form = await request.formData();
   const intent = form.get("intent");
   if (intent === "create") {
-    const values = formValues(form, ["name", "role"] as const);
-    const parsed = createTokenSchema.safeParse(values);
+    const values = formValues(form, ["name", "role", "scope", "suite"] as const);
+    const parsed = createTokenSchema.safeParse({ ...values, scope: values.scope || undefined });
     if (!parsed.success)
-      return data<ActionResult>({ intent: "create", errors: fieldErrors<"name" | "role">(parsed.error), values }, { status: 400 });
-    const { token, row } = createApiToken(db, { ...parsed.data, createdById: admin.id });
-    return data<ActionResult>({ intent: "created", token, name: row.name, notice: `Created token “${row.name}” (${row.role}).` });
+      return data<ActionResult>({ intent: "create", errors: fieldErrors<TokenField>(parsed.error), values }, { status: 400 });
+    const { name, role, scope, suite } = parsed.data;
+    // An upload token needs the engineer role to upload; its scope keeps it off every other route.
+    const { token, row } = createApiToken(db, { name, role: scope === "upload" ? "engineer" : role, scope, suiteName: suite || null, createdById: admin.id });
+    const what = row.scope === "upload" ? `upload only${row.suiteName ? `, suite ${row.suiteName}` : ""}` : row.role;
+    return data<ActionResult>({ intent: "created", token, name: row.name, notice: `Created token “${row.name}” (${what}).` });
   }
   if (intent === "revoke") {
     const parsed = revokeTokenSchema.safeParse({ tokenId: form.get("tokenId") });
@@ -58,7 +67,9 @@ export default function AdminTokens({ loaderData, actionData }: Route.ComponentP
         <h1 className="text-3xl font-semibold tracking-tight">API tokens</h1>
         <p className="text-muted">
           For programs that call the API (CI runners uploading results, scripts). Send as{" "}
-          <code className="num">Authorization: Bearer aw_…</code>. A token acts with its role, never above its creator's.
+          <code className="num">Authorization: Bearer aw_…</code>. A token acts with its role, never above its creator's. An
+          upload-only token is for CI runners: it can upload runs (optionally of one suite) and read back what it uploaded, and
+          every other page and API refuses it.
         </p>
       </div>
       <Notice message={actionData?.notice} />
@@ -77,6 +88,7 @@ export default function AdminTokens({ loaderData, actionData }: Route.ComponentP
               <th className="px-4 py-3 font-medium">Name</th>
               <th className="px-4 py-3 font-medium">Starts with</th>
               <th className="px-4 py-3 font-medium">Role</th>
+              <th className="px-4 py-3 font-medium">May</th>
               <th className="px-4 py-3 font-medium">Created (UTC)</th>
               <th className="px-4 py-3 font-medium">Last used (UTC)</th>
               <th className="px-4 py-3 font-medium">State</th>
@@ -85,7 +97,7 @@ export default function AdminTokens({ loaderData, actionData }: Route.ComponentP
           <tbody>
             {loaderData.tokens.length === 0 ? (
               <tr>
-                <td colSpan={6} className="px-4 py-6 text-center text-muted">
+                <td colSpan={7} className="px-4 py-6 text-center text-muted">
                   No tokens yet.
                 </td>
               </tr>
@@ -99,6 +111,9 @@ export default function AdminTokens({ loaderData, actionData }: Route.ComponentP
                   <td className="num px-4 py-3">{t.prefix}…</td>
                   <td className="px-4 py-3">
                     <RoleBadge role={t.role} />
+                  </td>
+                  <td className="px-4 py-3" data-token-scope={t.scope}>
+                    {t.scope === "upload" ? `upload runs${t.suiteName ? ` of ${t.suiteName}` : ""}` : "everything its role allows"}
                   </td>
                   <td className="num px-4 py-3 text-muted">{when(t.createdAt)}</td>
                   <td className="num px-4 py-3 text-muted">{when(t.lastUsedAt)}</td>
@@ -144,6 +159,31 @@ export default function AdminTokens({ loaderData, actionData }: Route.ComponentP
               </p>
             ) : null}
           </div>
+          <div className="space-y-1">
+            <label htmlFor="token-scope" className="block text-sm font-medium">
+              May
+            </label>
+            <select id="token-scope" name="scope" defaultValue={create?.values.scope || "full"} className="input">
+              {TOKEN_SCOPES.map((s) => (
+                <option key={s} value={s}>
+                  {SCOPE_LABELS[s]}
+                </option>
+              ))}
+            </select>
+            {create?.errors.scope ? (
+              <p className="text-sm text-bad" data-field-error="scope">
+                {create.errors.scope}
+              </p>
+            ) : null}
+          </div>
+          <Field
+            label="Only this suite (upload tokens, optional)"
+            name="suite"
+            defaultValue={create?.values.suite}
+            error={create?.errors.suite}
+            autoComplete="off"
+            placeholder="e.g. full"
+          />
           <button type="submit" className="btn" disabled={busy}>
             Create token
           </button>

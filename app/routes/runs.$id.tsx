@@ -7,6 +7,8 @@ import { inkOn, logPosition, scaleColour } from "~/components/charts/scale";
 import { getDb } from "~/db/client.server";
 import { getRun, type MatrixCell } from "~/models/runs.server";
 import { getJob } from "~/models/jobs.server";
+import { runShardsOf } from "~/models/run-groups.server";
+import { ShardPanel } from "~/components/runs/ShardPanel";
 import { requireUser } from "~/services/auth.server";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Run ${data?.run.run.commitHash.slice(0, 10) ?? ""} · Arcwatch` }];
@@ -16,7 +18,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const run = getRun(getDb(), params.id);
   if (!run) throw data({ message: `There is no run ${params.id}. It may have been removed; pick one from the runs table.` }, { status: 404 });
   const job = run.run.jobId ? getJob(getDb(), run.run.jobId) : undefined;
-  return { run, jobStatus: job?.status ?? null };
+  return { run, jobStatus: job?.status ?? null, shards: runShardsOf(getDb(), params.id) };
 }
 
 /** Error bounds of the colour scale: 1e-8 (as good as references get) to 1e-1 (wrong). */
@@ -39,7 +41,7 @@ function cellError(c: MatrixCell): number {
 }
 
 export default function RunPage({ loaderData }: Route.ComponentProps) {
-  const { run: detail, jobStatus } = loaderData;
+  const { run: detail, jobStatus, shards } = loaderData;
   const { run, cases, regressions } = detail;
   const [params, setParams] = useSearchParams();
   const revalidator = useRevalidator();
@@ -83,6 +85,12 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
           <a className="btn-quiet" href={`/api/runs/${run.id}?download=1`} download>JSON</a>
         </span>
       </div>
+      {run.statusNote ? (
+        <p className={`rounded-lg border px-3 py-2 text-sm ${run.status === "complete" ? "border-line" : "border-bad/50 bg-bad/10"}`} role="status" data-testid="run-status-note">
+          <strong>{run.status === "interrupted" ? "Interrupted" : run.status === "failed" ? "Failed" : "Note"}:</strong> {run.statusNote} Finished cases are kept{run.status === "complete" ? "" : "; this run is not used as a baseline"}.
+        </p>
+      ) : null}
+      {shards ? <ShardPanel count={shards.count} shardsIn={shards.in} deadlineAt={shards.deadlineAt} timingsCompared={shards.timingsCompared} status={run.status} shards={shards.shards} /> : null}
       <FlightCaution />
       <section className="space-y-3" aria-labelledby="matrix-title">
         <div className="flex flex-wrap items-center justify-between gap-3">

@@ -124,6 +124,9 @@ export function isApiRequest(request: Request): boolean {
 }
 
 class BadToken extends Error {}
+/** An upload-only (runner) token on a route that is not an upload route: see runner-auth.server.ts. */
+class UploadOnlyToken extends Error {}
+export const UPLOAD_ONLY_MESSAGE = "This token may only upload runs and read the runs it uploaded.";
 
 async function resolveUser(request: Request): Promise<AuthUser | null> {
   const db = getDb();
@@ -131,6 +134,7 @@ async function resolveUser(request: Request): Promise<AuthUser | null> {
   if (token !== null) {
     const t = authenticateToken(db, token);
     if (!t) throw new BadToken();
+    if (t.scope === "upload") throw new UploadOnlyToken();
     return t;
   }
   const session = await currentSession(request, db);
@@ -146,6 +150,7 @@ export async function getOptionalUser(request: Request): Promise<AuthUser | null
     return await resolveUser(request);
   } catch (err) {
     if (err instanceof BadToken) throw unauthorized(request, "Invalid or revoked API token.");
+    if (err instanceof UploadOnlyToken) throw Response.json({ error: UPLOAD_ONLY_MESSAGE }, { status: 403 });
     throw err;
   }
 }

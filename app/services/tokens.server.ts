@@ -6,11 +6,16 @@
  * `Authorization: Bearer <token>` is looked up by hash; revoked tokens, tokens whose creator
  * is disabled, and unknown tokens are refused. A token acts with its own role, capped at
  * its creator's current role. `last_used_at` is refreshed at most once a minute.
+ *
+ * Scopes: a "full" token acts with its role on every route. An "upload" token (a CI runner's)
+ * may only upload runs (optionally of one suite) and read back the runs it uploaded: the
+ * guards in auth.server.ts refuse it everywhere else, and the upload routes accept it through
+ * `requireUploader` in runner-auth.server.ts.
  */
 import { createHash, randomBytes } from "node:crypto";
 import { and, desc, eq, isNull } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
-import { apiTokens, users, type ApiTokenRow, type Role } from "~/db/schema";
+import { apiTokens, users, TOKEN_SCOPES, type ApiTokenRow, type Role, type TokenScope } from "~/db/schema";
 import { ROLE_RANK } from "./roles";
 
 export const TOKEN_PREFIX = "aw_";
@@ -33,13 +38,19 @@ export interface TokenUser {
   role: Role;
   via: "token";
   tokenId: number;
+  scope: TokenScope;
+  /** An upload token limited to one suite: its name. */
+  suiteName: string | null;
 }
 
 /** Creates a token; returns the plain token (show it once) and the stored row. */
 export function createApiToken(
   db: Db,
-  input: { name: string; role: Role; createdById: number | null },
+  input: { name: string; role: Role; createdById: number | null; scope?: TokenScope; suiteName?: string | null },
 ): { token: string; row: ApiTokenRow } {
+  const scope = input.scope ?? "full";
+  if (!TOKEN_SCOPES.includes(scope)) throw new Error(`unknown token scope "${scope}"`);
+  if (input.suiteName && scope !== "upload") throw new Error("only an upload token can be limited to one suite");
   const token = generateToken();
   const row = db
     .insert(apiTokens)
@@ -49,6 +60,8 @@ export function createApiToken(
       tokenHash: hashToken(token),
       prefix: token.slice(0, TOKEN_DISPLAY_LENGTH),
       createdById: input.createdById,
+      scope,
+      suiteName: input.suiteName?.trim() || null,
     })
     .returning()
     .get();
@@ -74,6 +87,8 @@ export function listApiTokens(db: Db) {
       createdAt: apiTokens.createdAt,
       lastUsedAt: apiTokens.lastUsedAt,
       revokedAt: apiTokens.revokedAt,
+      scope: apiTokens.scope,
+      suiteName: apiTokens.suiteName,
       createdBy: users.email,
     })
     .from(apiTokens)
@@ -115,5 +130,7 @@ export function authenticateToken(db: Db, token: string, now = Date.now()): Toke
     role,
     via: "token",
     tokenId: row.token.id,
+    scope: row.token.scope === "upload" ? "upload" : "full",
+    suiteName: row.token.suiteName,
   };
 }

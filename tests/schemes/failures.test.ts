@@ -26,6 +26,17 @@ describe("failures are reports", () => {
     expect(r.message).toMatch(/unknown variant "folded"/);
     expect(() => getScheme("simpson")).toThrow(/unknown scheme "simpson" \(known: euler, trapezoidal/);
   });
+  it("invalid_model stores nothing of the starting guess as a result (no objective, final time, violation or trajectory)", () => {
+    const r = solveProblem(p, "trapezoidal", { intervals: 10 }, { nlp: { maxIter: -3 } });
+    expect(r.status).toBe("invalid_model");
+    expect(r.message).toMatch(/maxIter/);
+    expect(r.objective).toBeNull();
+    expect(r.finalTime).toBeNull();
+    expect(r.constraintViolation).toBeNull();
+    expect(r.trajectory).toBeNull();
+    // The same problem and mesh solved normally does have an objective (so the nulls above are the rule, not the case).
+    expect(solveProblem(p, "trapezoidal", { intervals: 10 }).objective).not.toBeNull();
+  });
   it("iteration limit", () => {
     const r = solveProblem(fixture("cops-goddard"), "trapezoidal", { intervals: 20 }, { nlp: { maxIter: 1 } });
     expect(r.status).toBe("iteration_limit");

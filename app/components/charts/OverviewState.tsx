@@ -66,7 +66,7 @@ export function OverviewPanels({ state }: { state: OverviewState }) {
         {inProgress.length === 0 ? <p className="text-sm text-muted">Nothing running. Engineers can <Link className="text-accent underline" to="/run-suite">run a suite on a branch</Link>.</p> : (
           <ul className="space-y-1 text-sm">
             {inProgress.map((r) => (
-              <li key={r.runId}><Link className="text-accent hover:underline" to={r.jobId ? `/run-suite?job=${r.jobId}` : `/runs/${r.runId}`}>{r.suite} on {r.branch ?? "(detached)"} at <code className="num">{r.commitHash.slice(0, 10)}</code></Link> · {r.cases} cases done · since {fmtDate(r.startedAt)}</li>
+              <li key={r.runId}><Link className="text-accent hover:underline" to={r.jobId ? `/run-suite?job=${r.jobId}` : `/runs/${r.runId}`}>{r.suite} on {r.branch ?? "(detached)"} at <code className="num">{r.commitHash.slice(0, 10)}</code></Link> · {r.cases} cases done{r.shards ? <> · <span data-testid="waiting-shards">waiting for shards: {r.shards.in} of {r.shards.count} shards in</span></> : null} · since {fmtDate(r.startedAt)}</li>
             ))}
           </ul>
         )}

@@ -32,3 +32,8 @@ export async function action({ request }: Route.ActionArgs) {
     throw err;
   }
 }
+
+/** GET /api/problems/trial: a trial is a POST (405 naming the method, never a server error). */
+export async function loader() {
+  return Response.json({ error: "POST a problem submission to try it (multipart or url-encoded form fields)." }, { status: 405, headers: { Allow: "POST" } });
+}

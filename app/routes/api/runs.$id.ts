@@ -1,14 +1,14 @@
 import type { Route } from "./+types/runs.$id";
 import { getDb } from "~/db/client.server";
 import { getRun } from "~/models/runs.server";
-import { requireUser } from "~/services/auth.server";
+import { requireRunReader } from "~/services/runner-auth.server";
 import { csvResponse, jsonResponse, wantsCsv } from "~/services/export.server";
 
 const COLUMNS = ["id", "caseKey", "problemId", "scheme", "intervals", "degree", "status", "solved", "objective", "objectiveErrorRel", "stateError", "controlError", "resimMiss", "constraintViolation", "iterations", "medianSeconds", "message"] as const;
 
-/** GET /api/runs/:id (viewer or token): the run, its cases and its regressions; format=csv gives the cases. */
+/** GET /api/runs/:id (viewer, token, or the upload token that uploaded it): the run, its cases and its regressions; format=csv gives the cases. */
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireUser(request);
+  await requireRunReader(request, params.id);
   const run = getRun(getDb(), params.id);
   if (!run) return Response.json({ error: `No run ${params.id}.` }, { status: 404 });
   if (wantsCsv(request)) return csvResponse(`arcwatch-run-${params.id}`, COLUMNS, run.cases);
