@@ -42,6 +42,13 @@ export interface SolveReport {
   /** Largest violation of the NLP's (row-scaled) constraints and variable bounds at the returned point. */
   constraintViolation: number | null;
   errors: SolutionErrors;
+  /**
+   * How much of the objective error is the solver's: `solver` bounds f − f* of the NLP at the
+   * returned point (total duality gap Σ s z + |λᵀc|, app/engine/nlp/gap.ts, objective units);
+   * `discretisation` is the rest of the measured objective error (objectiveAbs − solver, ≥ 0),
+   * null without a reference or when the solver share is not smaller than the error itself.
+   */
+  errorSplit: { solver: number | null; discretisation: number | null };
   trajectory: SolveTrajectory | null;
   /** Arc structure of a converged solution, from the scheme's own Solution (path multipliers included). */
   arcs: ArcStructure | null;
@@ -85,6 +92,7 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     resim: null,
     constraintViolation: null,
     errors: { ...NO_ERRORS },
+    errorSplit: { solver: null, discretisation: null },
     trajectory: null,
     arcs: null,
     log: [],
@@ -130,6 +138,7 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
   report.finalTime = Number.isFinite(sol.tf) ? sol.tf : null;
   if (isConverged(result.status)) {
     report.errors = solutionErrors(problem, sol);
+    report.errorSplit = errorSplitOf(result.solverErrorEstimate, report.errors.objectiveAbs);
     if (options.resimulate !== false) {
       const r = resimulate(problem, sol);
       report.resim = { finalMiss: r.finalMiss, maxPathViolation: r.maxPathViolation };
@@ -144,6 +153,12 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
   }
   if (options.keepTrajectory !== false) report.trajectory = trajectoryOf(problem, sol);
   return report;
+}
+
+function errorSplitOf(solverEst: number, objectiveAbs: number | null): SolveReport["errorSplit"] {
+  const solver = Number.isFinite(solverEst) ? solverEst : null;
+  if (solver === null || objectiveAbs === null || !(objectiveAbs > solver)) return { solver, discretisation: null };
+  return { solver, discretisation: objectiveAbs - solver };
 }
 
 function violation(nlp: { n: number; m: number; xL: Float64Array; xU: Float64Array; gL: Float64Array; gU: Float64Array; g(x: Float64Array, out: Float64Array): void }, result: NlpResult): number | null {

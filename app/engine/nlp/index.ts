@@ -68,7 +68,7 @@ export function solveNlp(problem: NlpProblem, options?: NlpOptions): NlpResult {
     status, message,
     x: problem?.x0 ? Float64Array.from(problem.x0) : new Float64Array(n),
     f: NaN, g: new Float64Array(m), lambda: new Float64Array(m), zL: new Float64Array(n), zU: new Float64Array(n),
-    iterations: 0, seconds: (performance.now() - t0) / 1000, log: [], infPr: NaN, infDu: NaN,
+    iterations: 0, seconds: (performance.now() - t0) / 1000, log: [], infPr: NaN, infDu: NaN, solverErrorEstimate: NaN,
   });
   let opts: ResolvedOptions;
   try {
@@ -130,12 +130,14 @@ export function solveNlp(problem: NlpProblem, options?: NlpOptions): NlpResult {
   let status: NlpStatus;
   let message: string;
   let infPr: number, infDu: number;
+  let solverErrorEstimate = NaN;
   try {
     const out = runIpm(ref, st, ctx, { phase: "regular", allowRestoration: true, initLambda: !options?.warmStart?.lambda, stats });
     status = out.status === "returned" ? "numerical_trouble" : out.status;
     message = out.message;
     infPr = out.infPr;
     infDu = out.infDu;
+    solverErrorEstimate = out.solverError ?? NaN;
   } catch (e) {
     status = "numerical_trouble";
     message = `internal error: ${e instanceof Error ? e.message : String(e)}`;
@@ -157,7 +159,7 @@ export function solveNlp(problem: NlpProblem, options?: NlpOptions): NlpResult {
   }
   return {
     status, message, x, f, g, lambda, zL, zU,
-    iterations: ctx.iter, seconds: (performance.now() - t0) / 1000, log: ctx.log, infPr, infDu,
+    iterations: ctx.iter, seconds: (performance.now() - t0) / 1000, log: ctx.log, infPr, infDu, solverErrorEstimate,
     stats: { factorizations: ctx.factorizations, factorSeconds: ctx.factorMs / 1000, nnzL: stats.nnzL },
   };
 }

@@ -20,6 +20,9 @@ export interface InternalProblem {
   dualUnscale: number;
   wL: Float64Array;
   wU: Float64Array;
+  /** Regular phase: how far each bound of wL/wU was relaxed from the problem's own (final steps, gap.ts). */
+  relaxL?: Float64Array;
+  relaxU?: Float64Array;
   jRows: Int32Array;
   jCols: Int32Array;
   hRows: Int32Array;

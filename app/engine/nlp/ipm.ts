@@ -20,6 +20,7 @@ import { KktSystem, type SolverFactory } from "./kkt";
 import { InertiaCorrection } from "./inertia-correction";
 import { kktError } from "./convergence";
 import { nextMu, tauOf, muMin } from "./barrier";
+import { solverGap } from "./gap";
 import { barrierValue, barrierGradient } from "./barrier-function";
 import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers";
 import { Filter } from "./filter";
@@ -70,6 +71,8 @@ export interface IpmOutcome {
   message: string;
   infPr: number;
   infDu: number;
+  /** Regular phase: estimate of f(w) − f* in the user's objective units (solverGap). */
+  solverError?: number;
 }
 
 const EPS = 2.220446049250313e-16;
@@ -152,6 +155,25 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     dw: new Float64Array(N), dlam: new Float64Array(m),
   };
   const firstIter = ctx.iter;
+  // Final steps after the KKT test is met (gap.ts): the best converged point so far.
+  const polish = {
+    active: false, steps: 0, err: Infinity, infPr: NaN, infDu: NaN,
+    w: new Float64Array(phase === "regular" ? N : 0), lambda: new Float64Array(phase === "regular" ? m : 0),
+    zL: new Float64Array(phase === "regular" ? N : 0), zU: new Float64Array(phase === "regular" ? N : 0),
+    /** wL, wU, relaxL, relaxU before the bounds were tightened. */
+    bounds: null as Float64Array[] | null,
+    save(w: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array, err: number, pr: number, du: number) {
+      this.w.set(w); this.lambda.set(l); this.zL.set(a); this.zU.set(b); this.err = err; this.infPr = pr; this.infDu = du;
+    },
+    /** Back to the best converged point (and the bounds it was converged for). */
+    restore(w: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array) {
+      w.set(this.w); l.set(this.lambda); a.set(this.zL); b.set(this.zU);
+      if (this.bounds) {
+        wLv.set(this.bounds[0]); wUv.set(this.bounds[1]);
+        if (P.relaxL && P.relaxU) { P.relaxL.set(this.bounds[2]); P.relaxU.set(this.bounds[3]); }
+      }
+    },
+  };
 
   for (;;) {
     // ---- A-2: optimality error of the original problem (μ = 0) and log line.
@@ -170,12 +192,68 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
 
     if (hooks.stopCheck && ctx.iter > firstIter && hooks.stopCheck(w)) return { status: "returned", message: "restoration phase succeeded", infPr, infDu };
     const unscaledOk = infPr <= o.constrViolTol && E0.dual * P.dualUnscale <= o.dualInfTol && E0.compl * P.dualUnscale <= o.complInfTol;
-    if (E0.E <= o.tol && unscaledOk) return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}`, infPr, infDu };
+    // Objective offset of the barrier: total duality gap Σ s z plus |λᵀc| (gap.ts), user units.
+    const gapRaw = solverGap(N, sL, sU, hasL, hasU, zL, zU, m, lambda, cv, P.relaxL, P.relaxU);
+    const solverErr = gapRaw.total * P.dualUnscale;
+    const gapTarget = o.gapTol * (1 + Math.abs(fUser));
+    const gapOk = phase !== "regular" || o.gapTol === 0 || !(solverErr > gapTarget);
+    const converged = E0.E <= o.tol && unscaledOk;
+    if (converged && gapOk) {
+      const how = polish.steps > 0 ? ` after ${polish.steps} final step${polish.steps > 1 ? "s" : ""}` : "";
+      return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)} ≤ ${gapTarget.toExponential(2)}${how}`, infPr, infDu, solverError: solverErr };
+    }
+    if (polish.active && (polish.steps >= C.maxFinalSteps || !Number.isFinite(E0.E) || !Number.isFinite(solverErr))) {
+      // The final steps stopped helping: back to the best converged point, gap reported as it is.
+      if (converged && solverErr < polish.err) polish.save(w, lambda, zL, zU, solverErr, infPr, infDu);
+      polish.restore(w, lambda, zL, zU);
+      st.w = w;
+      return {
+        status: "optimal",
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps`,
+        infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
+      };
+    }
+    if (converged && phase === "regular" && o.gapTol > 0) {
+      // KKT test met but the barrier's objective offset is not: final steps toward μ_f (below).
+      if (!polish.active || solverErr < polish.err) polish.save(w, lambda, zL, zU, solverErr, infPr, infDu);
+      if (!polish.active) {
+        polish.active = true;
+        // Bounds back to within finalRelaxShrink of the problem's own (the relaxation is an
+        // objective offset Σ z δ of its own); an active variable keeps 1 % of its slack.
+        polish.bounds = [Float64Array.from(wLv), Float64Array.from(wUv), Float64Array.from(P.relaxL ?? []), Float64Array.from(P.relaxU ?? [])];
+        if (P.relaxL && P.relaxU) {
+          const rL = P.relaxL, rU = P.relaxU;
+          for (let i = 0; i < N; i++) {
+            if (hasL[i] && rL[i] > 0) {
+              const shift = rL[i] * (1 - C.finalRelaxShrink), sOld = w[i] - wLv[i];
+              wLv[i] += shift; rL[i] -= shift;
+              if (w[i] - wLv[i] < 1e-2 * sOld) w[i] = wLv[i] + 1e-2 * sOld;
+            }
+            if (hasU[i] && rU[i] > 0) {
+              const shift = rU[i] * (1 - C.finalRelaxShrink), sOld = wUv[i] - w[i];
+              wUv[i] -= shift; rU[i] -= shift;
+              if (wUv[i] - w[i] < 1e-2 * sOld) w[i] = wUv[i] - 1e-2 * sOld;
+            }
+          }
+          const err = evalPoint();
+          if (err) {
+            polish.restore(w, lambda, zL, zU);
+            st.w = w;
+            return { status: "optimal", message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} (bounds could not be tightened: ${err})`, infPr, infDu, solverError: polish.err };
+          }
+          slacks(w);
+          jtTimes(lambda, JtL);
+          lagrangianGradient(N, grad, JtL, zL, zU, gradL);
+        }
+      }
+    }
+    const mMin = muMin(o.tol);
+    const done = (out: IpmOutcome): IpmOutcome => ({ ...out, solverError: solverErr });
     if (E0.E <= o.acceptableTol && infPr <= 1e2 * o.constrViolTol) acceptableCount++;
     else acceptableCount = 0;
     if (o.acceptableIter > 0 && acceptableCount >= o.acceptableIter)
-      return { status: "acceptable", message: `acceptable: scaled KKT error ≤ ${o.acceptableTol} for ${acceptableCount} iterations`, infPr, infDu };
-    if (ctx.iter >= o.maxIter) return { status: "iteration_limit", message: `iteration limit ${o.maxIter} reached`, infPr, infDu };
+      return done({ status: "acceptable", message: `acceptable: scaled KKT error ≤ ${o.acceptableTol} for ${acceptableCount} iterations`, infPr, infDu });
+    if (ctx.iter >= o.maxIter) return done({ status: "iteration_limit", message: `iteration limit ${o.maxIter} reached`, infPr, infDu });
     if ((performance.now() - ctx.t0) / 1000 > o.maxSeconds) return { status: "time_limit", message: `time limit ${o.maxSeconds} s reached`, infPr, infDu };
     let wMax = 0;
     for (let i = 0; i < P.nX; i++) wMax = Math.max(wMax, Math.abs(w[i]));
@@ -184,16 +262,21 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       return { status: "unbounded", message: `objective ${fUser.toExponential(2)} below ${o.unboundedObjective} at a feasible point`, infPr, infDu };
 
     // ---- A-3: barrier parameter update, eq. (7)-(8); repeated while the subproblem is solved.
-    const mMin = muMin(o.tol);
     for (;;) {
       const Emu = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, mu).E;
       if (!(mu > mMin && (Emu <= C.kappaEpsilon * mu || forceMuUpdate))) break;
       forceMuUpdate = false;
-      mu = nextMu(mu, o.tol);
+      mu = Math.max(mMin, nextMu(mu, 0));
       tau = tauOf(mu);
       filter.reset(thetaMax);
     }
     forceMuUpdate = false;
+    if (polish.active) {
+      // μ_f with n_z μ_f at half the target gap; the step is the Newton step of the μ_f subproblem.
+      const muF = (0.5 * gapTarget) / (P.dualUnscale * Math.max(1, gapRaw.nz));
+      mu = Math.max(muF, Math.min(mu, nextMu(mu, 0)));
+      tau = C.tauFinal;
+    }
 
     // ---- A-4: search direction from the primal-dual system (13) with inertia correction.
     if (exact) {
@@ -261,7 +344,12 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
             return t ? { ...t, alpha: a } : null;
           },
         };
-        if (rel < 10 * EPS) {
+        if (polish.active) {
+          // Final steps: full fraction-to-the-boundary step, no line search (the point is within
+          // the region of fast local convergence; a step that spoils the KKT test is undone above).
+          const t = host.trial(alphaMax);
+          if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "f"; polish.steps++; }
+        } else if (rel < 10 * EPS) {
           const t = host.trial(alphaMax);
           if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "t"; }
           forceMuUpdate = true;
@@ -303,12 +391,22 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
         }
         if (tinyCount >= 3 && mu <= mMin) {
           return E0.E <= o.acceptableTol
-            ? { status: "acceptable", message: "search direction below rounding at the smallest μ", infPr, infDu }
+            ? done({ status: "acceptable", message: "search direction below rounding at the smallest μ", infPr, infDu })
             : fail("numerical_trouble", "search direction below rounding at the smallest μ", infPr, infDu);
         }
       }
     }
 
+    if (!lsAccepted && polish.active) {
+      // A final step could not be taken: back to the best converged point.
+      polish.restore(w, lambda, zL, zU);
+      st.w = w;
+      return {
+        status: "optimal",
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} (final step failed)`,
+        infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
+      };
+    }
     if (!lsAccepted) {
       // ---- A-9: feasibility restoration (filter augmented with the current iterate first).
       const why = !corr.ok ? "inertia correction failed" : "step size below α_min";

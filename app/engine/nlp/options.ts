@@ -14,6 +14,7 @@ export interface OptionSpec<T> {
 /** The user-visible options (NlpOptions) with defaults; DEVELOPERS.md lists the same table. */
 export const OPTION_SPECS = {
   tol: { default: 1e-8, help: "Desired tolerance on the scaled KKT error E_0, W&B eq. (5)-(6)." },
+  gapTol: { default: 1e-11, help: "Also required at 'optimal': total duality gap Σ s z + |λᵀc| (unscaled) ≤ gapTol (1 + |f|); 0 turns the test off (gap.ts)." },
   acceptableTol: { default: 1e-6, help: "E_0 below this for acceptableIter consecutive iterates ends with 'acceptable'." },
   acceptableIter: { default: 15, help: "Consecutive acceptable iterates needed for status 'acceptable'." },
   maxIter: { default: 3000, help: "Iteration limit (regular and restoration iterations together)." },
@@ -24,7 +25,7 @@ export const OPTION_SPECS = {
   constrViolTol: { default: 1e-4, help: "Also required at 'optimal': unscaled max constraint violation." },
   dualInfTol: { default: 1, help: "Also required at 'optimal': unscaled max dual infeasibility." },
   complInfTol: { default: 1e-4, help: "Also required at 'optimal': unscaled max complementarity." },
-  boundRelaxFactor: { default: 1e-8, help: "Bounds are relaxed by this factor × max(1,|bound|) before solving." },
+  boundRelaxFactor: { default: 1e-8, help: "Bounds are relaxed by this factor × max(1,|bound|) before solving (and shrunk by finalRelaxShrink for the final steps, gap.ts)." },
   nlpScalingMaxGradient: { default: 100, help: "Gradient-based scaling target g_max, W&B §3.8." },
   lbfgsMemory: { default: 6, help: "Number of stored pairs for the limited-memory Hessian." },
   divergingIterates: { default: 1e20, help: "Status 'diverging' when max|x| exceeds this." },
@@ -100,12 +101,22 @@ export const CONSTANTS = {
    */
   watchdogShortenedIterTrigger: 10,
   watchdogTrialIterMax: 3,
+  /**
+   * Final steps toward μ_f after the KKT test is met while the duality gap is above gapTol
+   * (ipm.ts, gap.ts); at most this many (common practice, no source).
+   */
+  maxFinalSteps: 8,
+  /** Fraction to the boundary of the final steps (1 − μ_f would round to 1; common practice, no source). */
+  tauFinal: 1 - 1e-6,
+  /** Bound relaxation kept in the final steps, as a fraction of boundRelaxFactor (common practice, no source). */
+  finalRelaxShrink: 1e-5,
   /** Bound multipliers larger than this after restoration are reset to 1 (common practice, no source). */
   boundMultResetThreshold: 1e3,
 } as const;
 
 export interface ResolvedOptions {
   tol: number;
+  gapTol: number;
   acceptableTol: number;
   acceptableIter: number;
   maxIter: number;
@@ -139,6 +150,7 @@ export function resolveOptions(o: NlpOptions | undefined): ResolvedOptions {
     const v = res[k] as number;
     if (typeof v !== "number" || !(v > 0)) throw new Error(`options.${k}: must be a positive number, got ${String(v)}`);
   }
+  if (typeof res.gapTol !== "number" || !(res.gapTol >= 0)) throw new Error(`options.gapTol: must be a non-negative number, got ${String(res.gapTol)}`);
   if (!Number.isInteger(res.maxIter) || res.maxIter < 0) throw new Error(`options.maxIter: must be a non-negative integer, got ${res.maxIter}`);
   if (!Number.isInteger(res.acceptableIter) || res.acceptableIter < 0) throw new Error(`options.acceptableIter: must be a non-negative integer`);
   if (!Number.isInteger(res.lbfgsMemory) || res.lbfgsMemory < 1) throw new Error(`options.lbfgsMemory: must be a positive integer`);

@@ -28,6 +28,9 @@ export class NlpReformulation implements InternalProblem {
   readonly df: number;
   readonly dc: Float64Array;
   readonly dualUnscale: number;
+  /** How far each bound was relaxed (w_L = bound − relaxL, w_U = bound + relaxU; 0 when absent). */
+  readonly relaxL: Float64Array;
+  readonly relaxU: Float64Array;
   /** free[k] = user index of internal variable k (k < nF); posFree[i] = k or −1 when fixed. */
   readonly free: Int32Array;
   readonly posFree: Int32Array;
@@ -117,10 +120,15 @@ export class NlpReformulation implements InternalProblem {
     const ru = (b: number) => b + relax * Math.max(1, Math.abs(b));
     this.wL = new Float64Array(this.N);
     this.wU = new Float64Array(this.N);
+    this.relaxL = new Float64Array(this.N);
+    this.relaxU = new Float64Array(this.N);
+    const by = (b: number) => relax * Math.max(1, Math.abs(b));
     for (let k = 0; k < nF; k++) {
       const i = free[k];
       this.wL[k] = Number.isFinite(p.xL[i]) ? rl(p.xL[i]) : -Infinity;
       this.wU[k] = Number.isFinite(p.xU[i]) ? ru(p.xU[i]) : Infinity;
+      if (Number.isFinite(p.xL[i])) this.relaxL[k] = by(p.xL[i]);
+      if (Number.isFinite(p.xU[i])) this.relaxU[k] = by(p.xU[i]);
     }
     for (let j = 0; j < m; j++) {
       const s = this.slackOf[j];
@@ -128,6 +136,8 @@ export class NlpReformulation implements InternalProblem {
       const lo = this.dc[j] * p.gL[j], hi = this.dc[j] * p.gU[j];
       this.wL[s] = Number.isFinite(lo) ? rl(lo) : -Infinity;
       this.wU[s] = Number.isFinite(hi) ? ru(hi) : Infinity;
+      if (Number.isFinite(lo)) this.relaxL[s] = by(lo);
+      if (Number.isFinite(hi)) this.relaxU[s] = by(hi);
     }
 
     // Jacobian pattern: kept user entries, then −1 per slack (two passes, typed arrays).

@@ -82,6 +82,8 @@ export interface IterationRecord {
 export interface NlpOptions {
   /** Desired convergence tolerance on the scaled KKT error (tol). Default 1e-8. */
   tol?: number;
+  /** Relative duality-gap tolerance also required at "optimal" (gap.ts). Default 1e-12; 0 disables. */
+  gapTol?: number;
   /** Acceptable tolerance and number of consecutive acceptable iterates. Default 1e-6, 15. */
   acceptableTol?: number;
   acceptableIter?: number;
@@ -137,6 +139,11 @@ export interface NlpResult {
   /** Final unscaled primal infeasibility and scaled dual infeasibility. */
   infPr: number;
   infDu: number;
+  /**
+   * Estimate of the solver's share of the objective error, f(x) − f* in the objective's units:
+   * total duality gap Σ s z + |λᵀc| at the returned point (gap.ts); NaN when not available.
+   */
+  solverErrorEstimate: number;
   /** Work statistics: numeric factorisations, seconds spent in them, nonzeros of L. */
   stats?: { factorizations: number; factorSeconds: number; nnzL: number };
 }
