@@ -2,6 +2,10 @@
  * The solve command:
  *   npm run --silent solve -- <problem folder, problem.json or id> --scheme <id> [--intervals N]
  *        [--degree K] [--variant V] [--tolerance T] [--max-iter M] [--json] [--quiet] [--no-resim]
+ *        [--mesh uniform|adaptive] [--max-passes P] [--nlp-tolerance T]
+ * With --mesh adaptive the mesh is refined until the error estimate of every interval is at most
+ * --tolerance (app/engine/mesh/adaptive.ts); the NLP tolerance is then --nlp-tolerance (default
+ * the solver's). The intervals (and degree) give the first mesh.
  *
  * Live iteration log on stderr; then a readable summary on stdout, or with --json one JSON object
  * (the engine's SolveReport, app/engine/solve.ts). Exit status: 0 when the solver reports optimal
@@ -16,9 +20,12 @@ import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/ids";
 import type { SolveReport } from "../app/engine/solve";
 import type { IterationRecord, NlpOptions } from "../app/engine/nlp/types";
 import type { Mesh } from "../app/engine/schemes/types";
+import { solveAdaptive } from "../app/engine/mesh/adaptive";
+import { passLine, refinementLines } from "../app/engine/mesh/summary";
 
 const USAGE = `usage: npm run --silent solve -- <problem folder | problem.json | id> --scheme <${SCHEME_IDS.join("|")}>
-       [--intervals N] [--degree K] [--variant V] [--tolerance T] [--max-iter M] [--json] [--quiet] [--no-resim]`;
+       [--intervals N] [--degree K] [--variant V] [--tolerance T] [--max-iter M] [--json] [--quiet] [--no-resim]
+       [--mesh uniform|adaptive] [--max-passes P] [--nlp-tolerance T]   (adaptive: --tolerance is the mesh error tolerance)`;
 
 interface Args {
   target: string;
@@ -31,11 +38,14 @@ interface Args {
   json: boolean;
   quiet: boolean;
   resim: boolean;
+  mesh: "uniform" | "adaptive";
+  maxPasses?: number;
+  nlpTolerance?: number;
 }
 
 function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
   const errors: string[] = [];
-  const a: Partial<Args> = { json: false, quiet: false, resim: true };
+  const a: Partial<Args> = { json: false, quiet: false, resim: true, mesh: "uniform" };
   const positional: string[] = [];
   const num = numberFlagParser(errors);
   for (let i = 0; i < argv.length; i++) {
@@ -62,6 +72,19 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
       case "--max-iter":
         a.maxIter = num(s, argv[++i], true, 0);
         break;
+      case "--mesh": {
+        const v = argv[++i];
+        if (v === "uniform" || v === "adaptive") a.mesh = v;
+        else errors.push(`--mesh: expected uniform or adaptive, got ${v === undefined ? "nothing" : `"${v}"`}`);
+        break;
+      }
+      case "--max-passes":
+        a.maxPasses = num(s, argv[++i], true, 1);
+        break;
+      case "--nlp-tolerance":
+        a.nlpTolerance = num(s, argv[++i], false, 0);
+        if (a.nlpTolerance === 0) errors.push("--nlp-tolerance: must be positive");
+        break;
       case "--json":
         a.json = true;
         break;
@@ -84,6 +107,8 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
   if (!a.scheme) errors.push("--scheme is required");
   else if (!isSchemeId(a.scheme)) errors.push(`--scheme: unknown scheme "${a.scheme}" (known: ${SCHEME_IDS.join(", ")})`);
   if (a.degree !== undefined && a.scheme && a.scheme !== "lgr") errors.push("--degree applies to --scheme lgr only");
+  if (a.mesh === "adaptive" && a.tolerance === undefined && !errors.some((e) => e.startsWith("--tolerance"))) errors.push("--mesh adaptive: --tolerance (the mesh error tolerance) is required");
+  if (a.mesh !== "adaptive" && (a.maxPasses !== undefined || a.nlpTolerance !== undefined)) errors.push("--max-passes and --nlp-tolerance apply to --mesh adaptive only");
   if (errors.length > 0) return { errors };
   return { args: { ...(a as Args), target: positional[0] }, errors };
 }
@@ -114,6 +139,7 @@ function summary(rep: SolveReport, title: string): string {
   L.push(`  final time   ${fix(rep.finalTime)}`);
   L.push(`  violation    ${fmt(rep.constraintViolation)}`);
   if (rep.resim) L.push(`  re-simulated final miss ${fmt(rep.resim.finalMiss)} (scaled), path violation ${fmt(rep.resim.maxPathViolation)}`);
+  if (rep.meshEstimate) L.push(`  mesh error   largest interval estimate ${fmt(rep.meshEstimate.max)} (${rep.meshEstimate.method}, ${rep.meshEstimate.error.length} intervals)`);
   L.push(`  vs reference objective ${fmt(e.objectiveAbs)} (rel ${fmt(e.objectiveRel)}), final time ${fmt(e.finalTimeAbs)}, states ${fmt(e.stateMax)}, controls ${fmt(e.controlMax)}, costates ${fmt(e.costateMax)}, switching ${fmt(e.switchingTimes)}`);
   return L.join("\n");
 }
@@ -151,12 +177,24 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
   if (scheme === "lgr") mesh.degree = args.degree ?? problem.defaults?.degree;
   if (args.variant) mesh.variant = args.variant;
   const nlp: NlpOptions = {};
-  if (args.tolerance !== undefined) nlp.tol = args.tolerance;
+  if (args.mesh === "adaptive") {
+    if (args.nlpTolerance !== undefined) nlp.tol = args.nlpTolerance;
+  } else if (args.tolerance !== undefined) nlp.tol = args.tolerance;
   if (args.maxIter !== undefined) nlp.maxIter = args.maxIter;
   if (!args.quiet) {
     process.stderr.write(`solving ${problem.id} with ${scheme}, ${mesh.intervals} intervals${mesh.degree ? ` × degree ${mesh.degree}` : ""}\n`);
     process.stderr.write(`${LOG_HEAD}\n`);
     nlp.onIteration = (r) => process.stderr.write(`${logLine(r)}\n`);
+  }
+  if (args.mesh === "adaptive") {
+    const ad = solveAdaptive(problem, scheme, mesh, {
+      nlp, resimulate: args.resim, tolerance: args.tolerance!, maxPasses: args.maxPasses,
+      onPass: args.quiet ? undefined : (p) => process.stderr.write(`${passLine(p)}\n`),
+    });
+    const { final, ...refinement } = ad;
+    if (args.json) process.stdout.write(`${JSON.stringify({ ...final, refinement })}\n`);
+    else process.stdout.write(`${summary(final, problem.title)}\n${refinementLines(ad).join("\n")}\n`);
+    return ad.met ? 0 : 1;
   }
   const rep = solveProblem(problem, scheme, mesh, { nlp, resimulate: args.resim });
   if (rep.status === "invalid_model" && rep.message.startsWith("transcription failed")) {

@@ -355,6 +355,24 @@ export const caseResults = sqliteTable(
     iterationLogJson: text("iteration_log_json", { mode: "json" }).$type<unknown>(),
     message: text("message"),
     createdAt: createdAt(),
+    /**
+     * Largest per-interval relative error estimate of the final mesh (app/engine/mesh/estimate.ts:
+     * Betts 2010 §4.7.2 for local schemes, Patterson–Hager–Rao 2015 for LGR); null when the solve did
+     * not converge or the runner gave none.
+     */
+    meshErrorMax: real("mesh_error_max"),
+    /** The estimate per interval, { method, t: breakpoints in time (N + 1), error: per interval (N) }. */
+    meshErrorJson: text("mesh_error_json", { mode: "json" }).$type<unknown>(),
+    /** Adaptive refinement: the tolerance asked for; null for a uniform mesh. */
+    meshTolerance: real("mesh_tolerance"),
+    /** Adaptive refinement: number of solves (passes). */
+    meshPasses: integer("mesh_passes"),
+    /** Mesh points of the final mesh (intervals + 1; LGR Σ K_s + 1). */
+    meshPoints: integer("mesh_points"),
+    /** Adaptive refinement: whether the final largest estimate is within the tolerance. */
+    meshToleranceMet: integer("mesh_tolerance_met", { mode: "boolean" }),
+    /** Adaptive refinement: one entry per pass { intervals, points, status, iterations, seconds, maxEstimate }. */
+    refinementJson: text("refinement_json", { mode: "json" }).$type<unknown>(),
   },
   (t) => [
     uniqueIndex("case_results_run_case_unique").on(t.runId, t.caseKey),

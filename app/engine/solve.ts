@@ -13,6 +13,7 @@ import { DEFAULT_LGR_DEGREE } from "./schemes/lgr";
 import { resimulate } from "./analysis/resimulate";
 import { solutionErrors, type SolutionErrors } from "./analysis/errors";
 import { detectArcs, type ArcStructure } from "./arcs/index";
+import { estimateErrors, type EstimateMethod } from "./mesh/estimate";
 
 export interface SolveTrajectory {
   t: number[];
@@ -52,7 +53,19 @@ export interface SolveReport {
   trajectory: SolveTrajectory | null;
   /** Arc structure of a converged solution, from the scheme's own Solution (path multipliers included). */
   arcs: ArcStructure | null;
+  /** Per-interval relative error estimate of a converged solution (app/engine/mesh/estimate.ts). */
+  meshEstimate: MeshEstimateSummary | null;
   log: IterationRecord[];
+}
+
+/** What a report keeps of a mesh error estimate: the breakpoints in time and one error per interval. */
+export interface MeshEstimateSummary {
+  method: EstimateMethod;
+  /** Mesh breakpoints in time (intervals + 1). */
+  t: number[];
+  /** Relative error estimate per interval. */
+  error: number[];
+  max: number;
 }
 
 export interface SolveOptions {
@@ -63,6 +76,14 @@ export interface SolveOptions {
   keepTrajectory?: boolean;
   /** Detect the arc structure of converged solutions (default true). */
   arcs?: boolean;
+  /** Estimate the error per mesh interval of converged solutions (default true). */
+  estimate?: boolean;
+}
+
+/** One solve's report and, when recovery worked, its Solution (for mesh refinement's warm start). */
+export interface SolveAttempt {
+  report: SolveReport;
+  solution: Solution | null;
 }
 
 const NO_ERRORS: SolutionErrors = {
@@ -74,12 +95,20 @@ export function isConverged(status: NlpStatus): boolean {
 }
 
 export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: Mesh, options: SolveOptions = {}): SolveReport {
+  const attempt = solveAttempt(problem, scheme, mesh, options);
+  if (attempt.solution) analyseSolution(problem, mesh, attempt.solution, attempt.report, options);
+  return attempt.report;
+}
+
+/** Transcribe, solve and recover: the report up to the objective, and the Solution when recovered. */
+export function solveAttempt(problem: CompiledProblem, scheme: SchemeId, mesh: Mesh, options: SolveOptions = {}): SolveAttempt {
   const report: SolveReport = {
     problemId: problem.id,
     versionHash: problem.versionHash,
     scheme,
     intervals: mesh.intervals,
-    degree: scheme === "lgr" ? (mesh.degree ?? DEFAULT_LGR_DEGREE) : null,
+    // one degree for the whole mesh; an hp mesh (mesh.degrees) has none
+    degree: scheme === "lgr" && !mesh.degrees ? (mesh.degree ?? DEFAULT_LGR_DEGREE) : null,
     variant: mesh.variant ?? null,
     status: "invalid_model",
     message: "",
@@ -95,6 +124,7 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     errorSplit: { solver: null, discretisation: null },
     trajectory: null,
     arcs: null,
+    meshEstimate: null,
     log: [],
   };
   const tA = performance.now();
@@ -103,7 +133,7 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     tr = getScheme(scheme).transcribe(problem, mesh);
   } catch (e) {
     report.message = `transcription failed: ${(e as Error).message}`;
-    return report;
+    return { report, solution: null };
   }
   report.transcribeSeconds = (performance.now() - tA) / 1000;
   const nlp = tr.nlp;
@@ -116,7 +146,7 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     report.status = "numerical_trouble";
     report.message = `solver raised an error: ${(e as Error).message}`;
     report.solveSeconds = (performance.now() - tB) / 1000;
-    return report;
+    return { report, solution: null };
   }
   report.solveSeconds = (performance.now() - tB) / 1000;
   report.status = result.status;
@@ -132,11 +162,19 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
     sol = tr.recover(result);
   } catch (e) {
     report.message += `; recovery failed: ${(e as Error).message}`;
-    return report;
+    return { report, solution: null };
   }
   report.objective = Number.isFinite(sol.objective) ? sol.objective : null;
   report.finalTime = Number.isFinite(sol.tf) ? sol.tf : null;
-  if (isConverged(result.status)) {
+  return { report, solution: sol };
+}
+
+/**
+ * The analysis of a recovered solution, in place on its report: errors against the reference,
+ * re-simulation, arcs and the mesh error estimate (converged solutions only), and the trajectory.
+ */
+export function analyseSolution(problem: CompiledProblem, mesh: Mesh, sol: Solution, report: SolveReport, options: SolveOptions = {}): void {
+  if (isConverged(report.status)) {
     report.errors = solutionErrors(problem, sol);
     report.errorSplit = errorSplitOf(result.solverErrorEstimate, report.errors.objectiveAbs);
     if (options.resimulate !== false) {
@@ -150,9 +188,16 @@ export function solveProblem(problem: CompiledProblem, scheme: SchemeId, mesh: M
         report.message += `; arc detection failed: ${(e as Error).message}`;
       }
     }
+    if (options.estimate !== false) {
+      try {
+        const est = estimateErrors(problem, sol, mesh);
+        report.meshEstimate = { method: est.method, t: est.t, error: est.error, max: est.max };
+      } catch (e) {
+        report.message += `; mesh error estimate failed: ${(e as Error).message}`;
+      }
+    }
   }
   if (options.keepTrajectory !== false) report.trajectory = trajectoryOf(problem, sol);
-  return report;
 }
 
 function errorSplitOf(solverEst: number, objectiveAbs: number | null): SolveReport["errorSplit"] {

@@ -7,6 +7,8 @@ import { TrajectoryChart } from "~/components/charts/TrajectoryChart";
 import { getDb } from "~/db/client.server";
 import { getCase, type CaseTrajectory } from "~/models/cases.server";
 import { requireUser } from "~/services/auth.server";
+import { getCaseMesh } from "~/models/mesh.server";
+import { MeshPanel } from "~/components/MeshPanel";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.c.caseKey ?? "Case"} · Arcwatch` }];
 
@@ -15,7 +17,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const id = Number(params.id);
   const c = Number.isInteger(id) && id > 0 ? getCase(getDb(), id) : null;
   if (!c) throw data({ message: `There is no case ${params.id}. Open a run and pick a cell of its matrix.` }, { status: 404 });
-  return { c };
+  return { c, mesh: getCaseMesh(getDb(), id) };
 }
 
 const NUMBER_LABELS: Record<string, string> = {
@@ -44,7 +46,7 @@ const LOG_HEADS: Record<(typeof LOG_COLUMNS)[number], string> = {
 };
 
 export default function CasePage({ loaderData }: Route.ComponentProps) {
-  const { c } = loaderData;
+  const { c, mesh } = loaderData;
   const fetcher = useFetcher<CaseTrajectory>();
   useEffect(() => {
     if (fetcher.state === "idle" && !fetcher.data) fetcher.load(`/api/cases/${c.id}?part=trajectory`);
@@ -122,6 +124,7 @@ export default function CasePage({ loaderData }: Route.ComponentProps) {
           )}
         </section>
       </div>
+      <MeshPanel mesh={mesh} />
       <section className="space-y-2" aria-labelledby="log-title">
         <h2 id="log-title" className="text-xl font-semibold">NLP iteration log</h2>
         {c.log.length === 0 ? (

@@ -11,6 +11,11 @@ export interface Mesh {
   intervals: number;
   /** Collocation degree per interval (LGR only; default 4). */
   degree?: number;
+  /**
+   * LGR only: one degree per interval (length intervals), overriding `degree` — the meshes of hp
+   * refinement (app/engine/mesh/refine-hp.ts).
+   */
+  degrees?: number[];
   /** Optional non-uniform breakpoints on [0, 1], strictly increasing, length intervals + 1. */
   breakpoints?: number[];
   /** Scheme variant, e.g. "compressed" for Hermite–Simpson. */
