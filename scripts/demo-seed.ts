@@ -81,6 +81,8 @@ export interface DemoSeedOptions {
   progress?: NodeJS.WriteStream | null;
   /** The runner's machine-readable progress (app/runs/events.ts), one JSON line per call. */
   events?: { write(line: string): void } | null;
+  /** Stops the real run (it is kept, marked interrupted, and no demo history is written). */
+  signal?: AbortSignal;
   /** Called when the real run has ended and the demo history is being written. */
   onHistory?: () => void;
 }
@@ -93,7 +95,8 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
   const suiteName = options.suite ?? "quick";
   const t0 = Date.now();
   log(`running the ${suiteName} suite on the current checkout (real results; progress below)`);
-  const summary = await runSuite({ suite: suiteName, db, root, alerts: false, progress: options.progress === undefined ? process.stderr : options.progress, events: options.events ?? null });
+  const summary = await runSuite({ suite: suiteName, db, root, alerts: false, progress: options.progress === undefined ? process.stderr : options.progress, events: options.events ?? null, signal: options.signal });
+  if (summary.status !== "complete") throw new Error(`the ${suiteName} suite run ended ${summary.status} (run ${summary.runId}); no demo history was written`);
   options.onHistory?.();
   log(`real run ${summary.runId}: ${summary.status}, ${summary.outcomes.length} cases in ${summary.elapsedSeconds.toFixed(1)} s`);
   const thresholds = loadSuite(suitePath(suiteName, root)).thresholds;
@@ -215,7 +218,10 @@ export const demoResults: Seeder = {
       },
     };
     try {
-      await seedDemoResults(db, { log, events, suite: process.env.ARCWATCH_DEMO_SUITE?.trim() || undefined, onHistory: () => save({ state: "history" }) });
+      // stopped with the server (scripts/start.mjs sends SIGTERM): the run is marked interrupted
+      const stop = new AbortController();
+      for (const sig of ["SIGTERM", "SIGINT"] as const) process.once(sig, () => stop.abort());
+      await seedDemoResults(db, { log, events, signal: stop.signal, suite: process.env.ARCWATCH_DEMO_SUITE?.trim() || undefined, onHistory: () => save({ state: "history" }) });
       save({ state: "done" });
     } catch (err) {
       // The app is usable without demo results; say why they are missing and go on.
