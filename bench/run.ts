@@ -5,6 +5,8 @@
  * Runs a suite on the current checkout, records it in SQLite (ARCWATCH_DB or --db), compares it
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
  * `--job <id>` links the run to a jobs row (the server's job worker runs this command in a worktree).
+ * `--ab <base>..<head>`: interleaved A/B of two commits in their own worktrees (bench/runner/ab.ts);
+ * `--bisect <good>..<bad> --cases <keys>`: the first bad commit by A/B bisection (bench/runner/bisect.ts).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
  * (app/runs/events.ts; the job worker reads it).
@@ -26,7 +28,10 @@ import { RUN_EVENTS_FD_ENV } from "../app/runs/events";
 import type { RunSummary } from "./runner/run-suite";
 import { renderTable, fmtNum, tally } from "./runner/table";
 
-const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
+const USAGE =
+  "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]\n" +
+  "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--json]\n" +
+  "       npm run bench -- --suite <name|file> --bisect <good>..<bad> --cases <key,...> [--blocks <n>] [--json]";
 
 function summaryText(s: RunSummary): string {
   const rows = s.outcomes.map((o) => [
@@ -81,6 +86,10 @@ async function main(): Promise<number> {
         "no-alerts": { type: "boolean", default: false },
         "base-url": { type: "string" },
         job: { type: "string" },
+        ab: { type: "string" },
+        bisect: { type: "string" },
+        cases: { type: "string" },
+        blocks: { type: "string" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -111,6 +120,7 @@ async function main(): Promise<number> {
     process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
     return 2;
   }
+  if (args.ab || args.bisect) return compareCommits(args);
   // Loaded after the arguments are checked: a usage error answers at once.
   const { runSuite } = await import("./runner/run-suite");
   const { uploadRun } = await import("./runner/upload");
@@ -169,6 +179,50 @@ async function main(): Promise<number> {
     return 1;
   } finally {
     await stopStandin();
+    if (args.db) db.$client.close();
+    else closeDb();
+  }
+}
+
+/** `--ab base..head` (interleaved A/B) and `--bisect good..bad --cases k1,k2` (culprit search). */
+async function compareCommits(args: { suite?: string; ab?: string; bisect?: string; cases?: string; blocks?: string; json?: boolean; db?: string }): Promise<number> {
+  const { parseRange, runAb, abSummary } = await import("./runner/ab");
+  const { bisect, bisectSummary } = await import("./runner/bisect");
+  const range = parseRange((args.ab ?? args.bisect)!);
+  if (!range) {
+    process.stderr.write(`--${args.ab ? "ab" : "bisect"} takes <commit>..<commit>\n${USAGE}\n`);
+    return 2;
+  }
+  const blocks = args.blocks !== undefined ? Number(args.blocks) : undefined;
+  if (blocks !== undefined && (!Number.isInteger(blocks) || blocks < 2)) {
+    process.stderr.write(`--blocks must be an integer ≥ 2, got "${args.blocks}"\n`);
+    return 2;
+  }
+  const cases = args.cases ? args.cases.split(",").map((c) => c.trim()).filter(Boolean) : undefined;
+  if (args.bisect && !cases?.length) {
+    process.stderr.write(`--bisect needs --cases <key,...> (the affected cases)\n`);
+    return 2;
+  }
+  const db = args.db ? openDatabase(args.db) : getDb();
+  const controller = new AbortController();
+  process.on("SIGINT", () => controller.abort());
+  process.on("SIGTERM", () => controller.abort());
+  try {
+    const progress = args.json ? undefined : (i: { key: string; done: number; total: number }) => process.stderr.write(`\r\x1b[2K${i.done}/${i.total} ${i.key}`);
+    if (args.ab) {
+      const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, signal: controller.signal, onTrial: progress });
+      if (!args.json) process.stderr.write("\n");
+      process.stdout.write(args.json ? `${JSON.stringify(r, null, 2)}\n` : `${abSummary(r)}\n`);
+      const slow = r.pooled ? r.pooled.verdict === "slower" : r.cases.some((c) => c.verdict === "slower");
+      return controller.signal.aborted ? 130 : slow ? 3 : 0;
+    }
+    const r = await bisect({ db, root: process.cwd(), good: range[0], bad: range[1], suite: args.suite!, cases: cases!, blocks, signal: controller.signal, onStep: args.json ? undefined : (s, left) => process.stderr.write(`${s.commit.slice(0, 10)} → ${s.bad ? "bad" : "good"} (about ${left} step(s) left)\n`) });
+    process.stdout.write(args.json ? `${JSON.stringify({ ...r, steps: r.steps.map(({ ab, ...s }) => ({ ...s, cases: ab.cases })) }, null, 2)}\n` : `${bisectSummary(r)}\n`);
+    return controller.signal.aborted ? 130 : 0;
+  } catch (err) {
+    process.stderr.write(`bench: ${(err as Error).message}\n`);
+    return 1;
+  } finally {
     if (args.db) db.$client.close();
     else closeDb();
   }
