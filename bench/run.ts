@@ -8,6 +8,8 @@
  * `--shard k/n` runs part k of n of the suite (app/runs/shards.ts; the plan is frozen per suite
  * version and machine class in the database); `--plan` prints the plan of all n parts and exits.
  * `--machine-class <label>` names the class timings are compared within (default: the machine key).
+ * `--ab <base>..<head>`: interleaved A/B of two commits in their own worktrees (bench/runner/ab.ts);
+ * `--bisect <good>..<bad> --cases <keys>`: the first bad commit by A/B bisection (bench/runner/bisect.ts).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
  * (app/runs/events.ts; the job worker reads it).
@@ -28,7 +30,10 @@ import type { RunSummary } from "./runner/run-suite";
 import { renderTable, fmtNum, tally } from "./runner/table";
 import { MACHINE_CLASS_PATTERN, parseShard, renderPlan } from "../app/runs/shards";
 
-const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]";
+const USAGE =
+  "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
+  "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--json]\n" +
+  "       npm run bench -- --suite <name|file> --bisect <good>..<bad> --cases <key,...> [--blocks <n>] [--json]";
 
 function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
   const rows = s.outcomes.map((o) => [
@@ -87,6 +92,10 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         plan: { type: "boolean", default: false },
         pipeline: { type: "string" },
         "machine-class": { type: "string" },
+        ab: { type: "string" },
+        bisect: { type: "string" },
+        cases: { type: "string" },
+        blocks: { type: "string" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -135,6 +144,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
     process.stderr.write(`--machine-class must be 1-64 letters, digits, dots, dashes or underscores, got "${machineClassLabel}"\n`);
     return 2;
   }
+  if (args.ab || args.bisect) return compareCommits(args);
   // the database, the runner and the engine are loaded only now, so that --help answers at once
   const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV }] = await Promise.all([
     import("../app/db/client.server"),
@@ -217,6 +227,52 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
     else closeDb();
   }
 }
+
+/** `--ab base..head` (interleaved A/B) and `--bisect good..bad --cases k1,k2` (culprit search). */
+async function compareCommits(args: { suite?: string; ab?: string; bisect?: string; cases?: string; blocks?: string; json?: boolean; db?: string }): Promise<number> {
+  const { parseRange, runAb, abSummary } = await import("./runner/ab");
+  const { bisect, bisectSummary } = await import("./runner/bisect");
+  const { closeDb, getDb, openDatabase } = await import("../app/db/client.server");
+  const range = parseRange((args.ab ?? args.bisect)!);
+  if (!range) {
+    process.stderr.write(`--${args.ab ? "ab" : "bisect"} takes <commit>..<commit>\n${USAGE}\n`);
+    return 2;
+  }
+  const blocks = args.blocks !== undefined ? Number(args.blocks) : undefined;
+  if (blocks !== undefined && (!Number.isInteger(blocks) || blocks < 2)) {
+    process.stderr.write(`--blocks must be an integer ≥ 2, got "${args.blocks}"\n`);
+    return 2;
+  }
+  const cases = args.cases ? args.cases.split(",").map((c) => c.trim()).filter(Boolean) : undefined;
+  if (args.bisect && !cases?.length) {
+    process.stderr.write(`--bisect needs --cases <key,...> (the affected cases)\n`);
+    return 2;
+  }
+  const db = args.db ? openDatabase(args.db) : getDb();
+  const controller = new AbortController();
+  process.on("SIGINT", () => controller.abort());
+  process.on("SIGTERM", () => controller.abort());
+  try {
+    const progress = args.json ? undefined : (i: { key: string; done: number; total: number }) => process.stderr.write(`\r\x1b[2K${i.done}/${i.total} ${i.key}`);
+    if (args.ab) {
+      const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, signal: controller.signal, onTrial: progress });
+      if (!args.json) process.stderr.write("\n");
+      process.stdout.write(args.json ? `${JSON.stringify(r, null, 2)}\n` : `${abSummary(r)}\n`);
+      const slow = r.pooled ? r.pooled.verdict === "slower" : r.cases.some((c) => c.verdict === "slower");
+      return controller.signal.aborted ? 130 : slow ? 3 : 0;
+    }
+    const r = await bisect({ db, root: process.cwd(), good: range[0], bad: range[1], suite: args.suite!, cases: cases!, blocks, signal: controller.signal, onStep: args.json ? undefined : (s, left) => process.stderr.write(`${s.commit.slice(0, 10)} → ${s.bad ? "bad" : "good"} (about ${left} step(s) left)\n`) });
+    process.stdout.write(args.json ? `${JSON.stringify({ ...r, steps: r.steps.map(({ ab, ...s }) => ({ ...s, cases: ab.cases })) }, null, 2)}\n` : `${bisectSummary(r)}\n`);
+    return controller.signal.aborted ? 130 : 0;
+  } catch (err) {
+    process.stderr.write(`bench: ${(err as Error).message}\n`);
+    return 1;
+  } finally {
+    if (args.db) db.$client.close();
+    else closeDb();
+  }
+}
+
 
 if (isEntryScript(import.meta.url)) {
   main().then(

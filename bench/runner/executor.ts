@@ -14,6 +14,8 @@ export interface ExecutorContext {
    * `new ProblemLibrary(libraryRoots)` (app/engine/problem/library.ts) finds and loads a problem.
    */
   libraryRoots: string[];
+  /** The checkout's problems/ folder alone (for executors written before the library had roots). */
+  problemsDir?: string;
   /** Executor-specific settings from the suite (e.g. the external command). */
   options: Record<string, unknown>;
 }

@@ -146,3 +146,36 @@ export async function runCases(cases: CaseSpec[], opts: PoolOptions): Promise<Ca
   await Promise.all(Array.from({ length: lanes }, lane));
   return done;
 }
+
+/**
+ * One reusable worker for running single cases on demand (the interleaved A/B mode keeps one lane
+ * per commit and alternates between them). A lane whose worker died or overran is restarted on
+ * the next call.
+ */
+export interface Lane {
+  run(spec: CaseSpec): Promise<CaseOutcome>;
+  close(): Promise<void>;
+}
+
+export function openLane(opts: PoolOptions): Lane {
+  let slot: Slot | null = null;
+  return {
+    async run(spec) {
+      slot ??= startWorker(opts);
+      try {
+        await slot.ready;
+      } catch (err) {
+        void slot.worker.terminate();
+        slot = null;
+        return { spec, status: "error", message: `executor failed to load: ${(err as Error).message}`, report: null, samples: [], wallSeconds: 0 };
+      }
+      const { outcome, workerAlive } = await runOn(slot, spec, opts);
+      if (!workerAlive) slot = null;
+      return outcome;
+    },
+    async close() {
+      if (slot) await slot.worker.terminate();
+      slot = null;
+    },
+  };
+}

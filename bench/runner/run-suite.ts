@@ -144,7 +144,7 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     repeats: def.repeats,
     warmup: def.warmup,
     executorModule: plan.executorModule,
-    context: { root, libraryRoots: [...library.roots], options: plan.options },
+    context: { root, libraryRoots: [...library.roots], problemsDir: library.roots[0], options: plan.options },
     signal: opts.signal,
     onStart: (spec) => progress.start(spec.key),
     onDone: (outcome) => {
