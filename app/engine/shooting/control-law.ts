@@ -72,6 +72,11 @@ export class ArcControlLaw {
     this.window = 0.01 * Math.abs((h.kind === "fixed" ? h.tf : h.upper) - h.t0);
   }
 
+  /** Number of unknowns the law solves for (free controls, plus η on a boundary arc). */
+  get nUnknowns(): number {
+    return this.nq;
+  }
+
   /** Whether the arc has any control to solve for. */
   get trivial(): boolean {
     return this.nq === 0;
@@ -226,6 +231,55 @@ export class ArcControlLaw {
       else fill(hu, j, a);
     }
     if (spec.constraint) fill(spec.constraint.fn, spec.constraint.order, free.length);
+  }
+
+  /**
+   * Sensitivity of the solved unknowns q (free controls, then η) to y = (x, λ) at the point w
+   * just filled by solve(): dq/dy = −R_q⁻¹ R_y (implicit function theorem on the law's residual R),
+   * with the exact compiled Jacobians. Writes nq × 2nx row-major into out; false when R_q is
+   * singular. Also returns the w columns of q in `cols` (length nq).
+   */
+  sensitivity(w: Float64Array, out: Float64Array, cols: number[]): boolean {
+    const { oc, spec, free, nq } = this;
+    cols.length = 0;
+    for (let a = 0; a < free.length; a++) cols.push(oc.iU + free[a]);
+    if (spec.constraint) cols.push(oc.iEta);
+    if (nq === 0) return true;
+    const nx = oc.nx;
+    const n2 = 2 * nx;
+    const Rq = new Float64Array(nq * nq);
+    const Ry = new Float64Array(nq * n2);
+    const yCol = (c: number) => (c >= 1 && c <= nx ? c - 1 : c >= oc.iL && c < oc.iL + nx ? nx + (c - oc.iL) : -1);
+    const hu = spec.constraint ? spec.constraint.hu : oc.hu;
+    const fill = (fn: PointFunction, row: number, a: number) => {
+      const buf = this.jacBuf(fn);
+      fn.jac(w, buf);
+      for (let k = 0; k < fn.jacRows.length; k++) {
+        if (fn.jacRows[k] !== row) continue;
+        const c = fn.jacCols[k];
+        const b = cols.indexOf(c);
+        if (b >= 0) Rq[a * nq + b] += buf[k];
+        const y = yCol(c);
+        if (y >= 0) Ry[a * n2 + y] += buf[k];
+      }
+    };
+    for (let a = 0; a < free.length; a++) {
+      const j = free[a];
+      const sd = spec.singular[j];
+      if (spec.kinds[j] === "singular" && sd) fill(sd.fn, sd.fn.nOut - 1, a);
+      else fill(hu, j, a);
+    }
+    if (spec.constraint) fill(spec.constraint.fn, spec.constraint.order, free.length);
+    // Solve R_q X = −R_y column by column.
+    const col = new Float64Array(nq);
+    const A = new Float64Array(nq * nq);
+    for (let y = 0; y < n2; y++) {
+      A.set(Rq);
+      for (let a = 0; a < nq; a++) col[a] = -Ry[a * n2 + y];
+      if (!solveDense(A, col, nq)) return false;
+      for (let a = 0; a < nq; a++) out[a * n2 + y] = col[a];
+    }
+    return true;
   }
 
   private readonly jacBufs = new Map<PointFunction, Float64Array>();

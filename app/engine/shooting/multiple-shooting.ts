@@ -18,8 +18,10 @@
  *   endpoints         b_r(e) = target_r on active rows; λ(t0) = −∂Φ/∂x(t0), λ(tf) = ∂Φ/∂x(tf),
  *                     H(tf) = −∂Φ/∂tf when tf is free, Φ = s·φ + νᵀ b     (Bryson and Ho, eq. (2.8.14))
  * Φ_k is the ODEX flow of ẋ = f, λ̇ = −∂H̃/∂x with the arc's control law (control-law.ts).
- * The Jacobian is by forward differences of F, re-integrating only the segments an unknown
- * touches.
+ * The Jacobian's node columns come from the variational equations of each segment (variational.ts)
+ * combined with central differences of the cheap closed-form assembly; junction-time, tf, ν and π
+ * columns by forward differences re-integrating only the segments an unknown touches (option
+ * `jacobian: "differences"` does this for every column, the former method).
  */
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import type { CompiledProblem } from "../problem/types";
@@ -27,6 +29,7 @@ import type { ArcKind } from "../arcs/types";
 import { ArcControlLaw, type ArcControlSpec, type ControlGuess } from "./control-law";
 import { denseJacobian, type ConstraintSide, type OptimalityConditions } from "./conditions";
 import { integrateSegment } from "./integrate";
+import { segmentSensitivity } from "./variational";
 
 export interface ShootingArc {
   kinds: ArcKind[];
@@ -55,6 +58,13 @@ export interface ShootingOptions {
   integrationTol?: number;
   /** An endpoint inequality is active when within activeTol·(1 + |bound|) of it. Default 1e-6. */
   activeTol?: number;
+  /**
+   * Shooting Jacobian: "differences" (forward differences, re-integrating the segments an unknown
+   * touches) or "variational" (node columns from the variational equations Φ̇ = A(t)Φ integrated
+   * with the segment, A the exact derivative of the right-hand side including the control law's
+   * implicit dependence on (x, λ); see jacobianVariational). Default "variational".
+   */
+  jacobian?: "differences" | "variational";
 }
 
 interface ActiveRow {
@@ -90,6 +100,7 @@ export class MultipleShooting {
   readonly t0: number;
   readonly tol: number;
   readonly z0: Float64Array;
+  readonly jacobianKind: "differences" | "variational";
   private flows: Float64Array[];
   nEvalTotal = 0;
 
@@ -103,6 +114,7 @@ export class MultipleShooting {
     this.t0 = problem.horizon.t0;
     this.freeTf = problem.horizon.kind === "free";
     this.tol = options.integrationTol ?? 1e-12;
+    this.jacobianKind = options.jacobian ?? "variational";
     if (seed.junctions.length !== A - 1) throw new Error(`shooting (${problem.id}): ${A} arcs need ${A - 1} junction times, got ${seed.junctions.length}`);
     this.specs = seed.arcs.map((arc) => ({
       kinds: arc.kinds,
@@ -215,12 +227,12 @@ export class MultipleShooting {
     return T;
   }
 
-  private nodeTime(k: number, T: number[]): number {
+  nodeTime(k: number, T: number[]): number {
     const a = this.segArc[k];
     return T[a] + (this.segIndex[k] / this.segCount[a]) * (T[a + 1] - T[a]);
   }
 
-  private segmentEnd(k: number, T: number[]): number {
+  segmentEnd(k: number, T: number[]): number {
     const a = this.segArc[k];
     return T[a] + ((this.segIndex[k] + 1) / this.segCount[a]) * (T[a + 1] - T[a]);
   }
@@ -435,8 +447,55 @@ export class MultipleShooting {
     return out;
   }
 
-  /** Forward-difference Jacobian of F at z (F = F(z) already evaluated, flows current). */
+  /** Jacobian of F at z by the configured method (F = F(z) already evaluated, flows current). */
   jacobian(z: Float64Array, Fz: Float64Array): Matrix | null {
+    return this.jacobianKind === "variational" ? this.jacobianVariational(z, Fz) : this.jacobianDifferences(z, Fz);
+  }
+
+  /**
+   * Jacobian with the node columns from the variational equations: for node unknown j of segment
+   * k, F depends on y_k directly (continuity, junction and endpoint rows read z) and through the
+   * flow Φ_k(y_k); the column is the central difference of the assembly alone (no integration)
+   * along (e_j, Φ_k e_j): [F(z + h e_j, flows + hΦe_j) − F(z − h e_j, flows − hΦe_j)] / 2h, whose
+   * error is O(h²) in smooth closed-form functions (h = 1e-6·max(1, |z_j|): common practice, no
+   * source) instead of the O(h) + integration-noise/h of differencing the flows. Junction-time,
+   * tf, ν and π columns (a few) keep forward differences with re-integration.
+   */
+  jacobianVariational(z: Float64Array, Fz: Float64Array): Matrix | null {
+    const m = Fz.length;
+    const T = this.times(z);
+    const base = this.flows.map((f) => Float64Array.from(f));
+    const J = new Matrix(m, this.nz);
+    const n2 = this.n2;
+    const zp = Float64Array.from(z);
+    for (let k = 0; k < this.K; k++) {
+      const v = segmentSensitivity(this, k, z, T);
+      if (!v) return null;
+      for (let jj = 0; jj < n2; jj++) {
+        const j = n2 * k + jj;
+        const h = 1e-6 * Math.max(1, Math.abs(z[j]));
+        const side = (sgn: number): Float64Array | null => {
+          zp[j] = z[j] + sgn * h;
+          for (let i = 0; i < n2; i++) this.flows[k][i] = base[k][i] + sgn * h * v.Phi[i * n2 + jj];
+          const F = this.evaluate(zp, []);
+          zp[j] = z[j];
+          this.flows[k].set(base[k]);
+          return F;
+        };
+        const Fp = side(1);
+        const Fm = side(-1);
+        if (!Fp || !Fm || Fp.length !== m || Fm.length !== m) return null;
+        for (let i = 0; i < m; i++) J.set(i, j, (Fp[i] - Fm[i]) / (2 * h));
+      }
+    }
+    const rest = this.jacobianDifferences(z, Fz, this.offT);
+    if (!rest) return null;
+    for (let j = this.offT; j < this.nz; j++) for (let i = 0; i < m; i++) J.set(i, j, rest.get(i, j));
+    return J;
+  }
+
+  /** Forward-difference Jacobian of F at z (F = F(z) already evaluated, flows current), columns from `from`. */
+  jacobianDifferences(z: Float64Array, Fz: Float64Array, from = 0): Matrix | null {
     const m = Fz.length;
     const J = new Matrix(m, this.nz);
     const base = this.flows.map((f) => Float64Array.from(f));
@@ -444,7 +503,7 @@ export class MultipleShooting {
     const lastArcSegs: number[] = [];
     for (let k = 0; k < this.K; k++) if (this.segArc[k] === A - 1) lastArcSegs.push(k);
     const zp = Float64Array.from(z);
-    for (let j = 0; j < this.nz; j++) {
+    for (let j = from; j < this.nz; j++) {
       let deps: number[];
       if (j < this.offT) deps = [Math.floor(j / this.n2)];
       else if (j < this.offTf) {

@@ -55,9 +55,40 @@ export function arcLabels(problem: CompiledProblem, report: RefineReport): strin
   return report.arcs.map((a) => (problem.nu === 1 ? a.kinds[0] : a.kinds.map((k, j) => `${problem.controls[j].name}=${k}`).join(",")));
 }
 
+/**
+ * Refinement with fallback seeds: when the refinement from the requested seed does not converge
+ * (Newton stalls, or its solution is rejected) and options.retry is not false, it is tried again
+ * from a finer seed (the same scheme at twice the intervals) and then from another scheme (LGR, or
+ * Hermite–Simpson when LGR was asked) at the requested intervals: a seed closer to the optimum,
+ * or with costate estimates of a different quality, puts Newton inside its region of convergence
+ * (common practice, no source). The report is the first converged one, else the first; its
+ * `attempts` list every seed and attempt and its message says which seed succeeded.
+ */
 export function refineProblem(problem: CompiledProblem, options: RefineProblemOptions = {}): RefineProblemReport {
   const scheme = options.scheme ?? "hermite-simpson";
-  const mesh: Mesh = { intervals: options.intervals ?? problem.defaults?.intervals ?? 50 };
+  const intervals = options.intervals ?? problem.defaults?.intervals ?? 50;
+  const first = refineFromSeed(problem, scheme, intervals, options);
+  if (first.converged || options.retry === false) return first;
+  const other: SchemeId = scheme === "lgr" ? "hermite-simpson" : "lgr";
+  const attempts = first.attempts.map((a) => `seed ${seedLabel(first)}: ${a}`);
+  let seconds = first.seconds;
+  for (const [s, n] of [[scheme, 2 * intervals], [other, intervals]] as const) {
+    const r = refineFromSeed(problem, s, n, options);
+    seconds += r.seconds;
+    attempts.push(...(r.attempts.length ? r.attempts : [`${r.status}: ${r.message}`]).map((a) => `seed ${seedLabel(r)}: ${a}`));
+    if (r.converged) {
+      return { ...r, attempts, seconds, message: `${r.message}; seeded from ${seedLabel(r)} after ${first.status} from ${seedLabel(first)}` };
+    }
+  }
+  return { ...first, attempts, seconds, message: `${first.message}; the fallback seeds (${scheme} at ${2 * intervals} intervals, ${other} at ${intervals}) did not converge either` };
+}
+
+function seedLabel(r: RefineProblemReport): string {
+  return `${r.direct.scheme} at ${meshLabel(r.direct.scheme, r.direct.mesh)}`;
+}
+
+function refineFromSeed(problem: CompiledProblem, scheme: SchemeId, intervals: number, options: RefineProblemOptions): RefineProblemReport {
+  const mesh: Mesh = { intervals };
   if (scheme === "lgr") mesh.degree = options.degree ?? problem.defaults?.degree ?? DEFAULT_LGR_DEGREE;
   const detail = `refined by shooting from ${scheme} at ${meshLabel(scheme, mesh)}`;
   const d = directSolve(problem, scheme, mesh, options.nlp);

@@ -340,8 +340,9 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
       const smax = Math.max(...sv);
       const smin = Math.min(...sv);
       jacobianCondition = smin > 0 ? smax / smin : Infinity;
-      // Forward differences carry errors near 1e-6 relative, so a condition number above 1e10 is
-      // read as a missing condition (common practice, no source).
+      // The Jacobian carries errors near 1e-10 relative (central differences of the assembly) to
+      // 1e-6 (forward differences of the flows for time columns), so a condition number above 1e10
+      // is read as a missing condition (common practice, no source).
       if (!(jacobianCondition <= 1e10)) violations.push(`the shooting Jacobian is (nearly) singular at the solution (condition ${jacobianCondition.toExponential(1)})`);
     }
   }
