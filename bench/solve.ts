@@ -141,6 +141,9 @@ function summary(rep: SolveReport, title: string): string {
   if (rep.resim) L.push(`  re-simulated final miss ${fmt(rep.resim.finalMiss)} (scaled), path violation ${fmt(rep.resim.maxPathViolation)}`);
   if (rep.meshEstimate) L.push(`  mesh error   largest interval estimate ${fmt(rep.meshEstimate.max)} (${rep.meshEstimate.method}, ${rep.meshEstimate.error.length} intervals)`);
   L.push(`  vs reference objective ${fmt(e.objectiveAbs)} (rel ${fmt(e.objectiveRel)}), final time ${fmt(e.finalTimeAbs)}, states ${fmt(e.stateMax)}, controls ${fmt(e.controlMax)}, costates ${fmt(e.costateMax)}, switching ${fmt(e.switchingTimes)}`);
+  const sp = rep.errorSplit;
+  if (sp.solver !== null)
+    L.push(`  objective error split: solver ≤ ${fmt(sp.solver)} (duality gap), discretisation ${sp.discretisation !== null ? `≈ ${fmt(sp.discretisation)}` : "not separable (error at the solver's level)"}`);
   return L.join("\n");
 }
 

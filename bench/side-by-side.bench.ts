@@ -1,0 +1,182 @@
+/**
+ * Side by side with a compiled interior-point solver on the same problem, transcription and start.
+ *
+ *   npx tsx bench/side-by-side.bench.ts [--max N] [--min N] [--reps R] [--schemes trapezoidal,hermite-simpson]
+ *
+ * The reference program is ../shared/peers/goddard_ipopt.cpp (COPS 3.0 Goddard rocket, Dolan, Moré and
+ * Munson, ANL/MCS-TM-273, 2004, with Debian's IPOPT 3.11 + MUMPS, exact derivatives; how it is built
+ * and run: ../shared/peers/README.md). This script builds it into the system temp folder when
+ * pkg-config finds the library, and otherwise prints how to install it and measures Arcwatch alone.
+ *
+ * Both sides solve the same NLP: trapezoidal or separated Hermite–Simpson defects of the COPS Goddard
+ * rocket (tests/schemes/fixtures/cops-goddard.json with every scale 1 and t_f ∈ [0.001, 10] (the reference has t_f ≥ 0; neither bound is active), as the
+ * reference's t_f ≥ 0), N uniform intervals, from the COPS start h = 1, v = s(1 − s), m = 1 − 0.4 s,
+ * T = 1.75, t_f = 1 (s = t/t_f), tolerance 1e-8 on the scaled KKT error. Arcwatch runs with its
+ * defaults otherwise (including the duality-gap test, app/engine/nlp/gap.ts, which the reference does
+ * not have: its extra iterations are counted against Arcwatch).
+ *
+ * For each N the two programs run ALTERNATELY, R times each, each in its own process (so that the
+ * interleaving shares the machine's load between them), best of R:
+ *  - iterations and status;
+ *  - time: the reference's own solve time (its optimisation call, library set-up included, model
+ *    construction excluded) and Arcwatch's solveNlp wall time (symbolic analysis included,
+ *    transcription excluded), after one untimed N = 50 solve in the same process (JIT warm-up; a
+ *    long-running bench worker is warm);
+ *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
+ *    set minus that of an empty Node process (`node -e 0`) — the issue's measure, which includes
+ *    the TypeScript loader (tsx) and the engine's modules — and minus that of the same child
+ *    process that loads everything without solving ("loaded": what the solve itself costs).
+ * Ratios are Arcwatch ÷ reference. Times on a shared machine are noisy: compare ratios, not seconds.
+ */
+import { spawnSync } from "node:child_process";
+import { existsSync, readFileSync, statSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+
+const HERE = path.dirname(fileURLToPath(import.meta.url));
+const SOURCE = path.resolve(HERE, "../../../shared/peers/goddard_ipopt.cpp");
+const SOURCE_ALT = "/work/shared/peers/goddard_ipopt.cpp";
+const BINARY = path.join(tmpdir(), "arcwatch-goddard-ipopt");
+const INSTALL = "apt-get install -y coinor-libipopt-dev libopenblas-dev liblapack-dev g++ pkg-config";
+
+interface Run {
+  iterations: number;
+  status: string;
+  seconds: number;
+  objective: number | null;
+  rssKb: number | null;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Child mode: one Arcwatch solve in this process, JSON on stdout.
+if (process.argv[2] === "--child") {
+  const N = Number(process.argv[3]);
+  const scheme = process.argv[4] as "trapezoidal" | "hermite-simpson";
+  const { compileProblemSource } = await import("../app/engine/problem/compile");
+  const { getScheme } = await import("../app/engine/schemes/index");
+  const { solveNlp } = await import("../app/engine/nlp/index");
+  const fixture = JSON.parse(readFileSync(path.join(HERE, "../tests/schemes/fixtures/cops-goddard.json"), "utf8"));
+  for (const s of [...fixture.states, ...fixture.controls]) s.scale = 1;
+  fixture.horizon.finalTime.free = { lower: 1e-3, upper: 10, guess: 1 };
+  const compiled = compileProblemSource("cops-goddard-side-by-side", { problemJson: JSON.stringify(fixture) });
+  if (!compiled.ok) throw new Error(`cops-goddard fixture does not compile: ${JSON.stringify(compiled.errors)}`);
+  // The COPS start (states h, v, m then control T at s = τ).
+  const problem = {
+    ...compiled.problem,
+    guess: { tf: 1, at(tau: number, out: Float64Array) { out[0] = 1; out[1] = tau * (1 - tau); out[2] = 1 - 0.4 * tau; out[3] = 1.75; } },
+  };
+  const run = (n: number) => {
+    const tr = getScheme(scheme).transcribe(problem, { intervals: n });
+    const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0 });
+    const ok = r.status === "optimal" || r.status === "acceptable";
+    return { iterations: r.iterations, status: r.status, seconds: r.seconds, objective: ok ? tr.recover(r).objective : null };
+  };
+  let out: Omit<Run, "rssKb"> = { iterations: 0, status: "loaded", seconds: 0, objective: null };
+  if (N > 0) {
+    run(50);
+    out = run(N);
+  }
+  process.stdout.write(JSON.stringify(out) + "\n");
+  process.exit(0);
+}
+
+// ---------------------------------------------------------------------------------------------
+const argv = process.argv.slice(2);
+const opt = (name: string, dflt: string) => {
+  const i = argv.indexOf(name);
+  return i >= 0 ? argv[i + 1] : dflt;
+};
+const maxN = Number(opt("--max", "3200"));
+const minN = Number(opt("--min", "100"));
+const reps = Math.max(1, Number(opt("--reps", "1")));
+const schemes = opt("--schemes", "trapezoidal,hermite-simpson").split(",") as ("trapezoidal" | "hermite-simpson")[];
+const Ns = [100, 200, 400, 800, 1600, 3200].filter((n) => n >= minN && n <= maxN);
+const GNU_TIME = existsSync("/usr/bin/time") ? "/usr/bin/time" : null;
+
+/** Runs a command, under GNU time when present; returns stdout and the peak resident set (kB). */
+function measured(cmd: string, args: string[], env?: NodeJS.ProcessEnv): { stdout: string; rssKb: number | null; ok: boolean; stderr: string } {
+  const full = GNU_TIME ? [GNU_TIME, ["-f", "ARCWATCH_MAXRSS=%M", cmd, ...args]] as const : [cmd, args] as const;
+  const r = spawnSync(full[0], full[1] as string[], { encoding: "utf8", env: { ...process.env, ...env }, maxBuffer: 1 << 26 });
+  const m = /ARCWATCH_MAXRSS=(\d+)/.exec(r.stderr ?? "");
+  return { stdout: r.stdout ?? "", stderr: r.stderr ?? "", rssKb: m ? Number(m[1]) : null, ok: r.status === 0 };
+}
+
+function referenceBinary(): string | null {
+  const src = existsSync(SOURCE) ? SOURCE : existsSync(SOURCE_ALT) ? SOURCE_ALT : null;
+  if (!src) {
+    console.log(`reference source not found at ${SOURCE}: measuring Arcwatch alone`);
+    return null;
+  }
+  const pc = spawnSync("pkg-config", ["--cflags", "--libs", "ipopt"], { encoding: "utf8" });
+  if (pc.status !== 0) {
+    console.log(`Debian's IPOPT library is not installed (pkg-config finds no "ipopt"). To compare, install it with\n  ${INSTALL}\nand run this script again. Measuring Arcwatch alone.`);
+    return null;
+  }
+  if (!existsSync(BINARY) || statSync(BINARY).mtimeMs < statSync(src).mtimeMs) {
+    console.log(`building the reference: g++ -O2 -std=c++11 -o ${BINARY} ${src} ${pc.stdout.trim()}`);
+    const b = spawnSync("g++", ["-O2", "-std=c++11", "-o", BINARY, src, ...pc.stdout.trim().split(/\s+/)], { encoding: "utf8" });
+    if (b.status !== 0) {
+      console.log(`building the reference failed:\n${b.stderr}\nMeasuring Arcwatch alone.`);
+      return null;
+    }
+  }
+  return BINARY;
+}
+
+function runReference(bin: string, N: number, scheme: string): Run | null {
+  const r = measured(bin, [String(N), scheme === "trapezoidal" ? "trap" : "hs", "1"], { OPENBLAS_NUM_THREADS: "1" });
+  const line = r.stdout.split("\n").find((l) => /^(trap|hs),/.test(l));
+  if (!r.ok || !line) return null;
+  // method,N,nvar,ncon,iters,status,solve_s,s_per_iter,hT,tf,ipopt_wall_s,cpu_s
+  const f = line.split(",");
+  return { iterations: Number(f[4]), status: f[5] === "0" ? "optimal" : f[5] === "1" ? "acceptable" : `status ${f[5]}`, seconds: Number(f[6]), objective: Number(f[8]), rssKb: r.rssKb };
+}
+
+const self = fileURLToPath(import.meta.url);
+function runArcwatch(N: number, scheme: string): Run | null {
+  const r = measured(process.execPath, ["--import", "tsx", self, "--child", String(N), scheme]);
+  const line = r.stdout.trim().split("\n").pop();
+  if (!r.ok || !line) {
+    console.log(`Arcwatch child failed (N = ${N}, ${scheme}): ${r.stderr.slice(-400)}`);
+    return null;
+  }
+  return { ...(JSON.parse(line) as Omit<Run, "rssKb">), rssKb: r.rssKb };
+}
+
+const best = (runs: (Run | null)[]): Run | null => {
+  const ok = runs.filter((r): r is Run => r !== null);
+  if (ok.length === 0) return null;
+  const b = ok.reduce((a, r) => (r.seconds < a.seconds ? r : a));
+  return { ...b, rssKb: Math.min(...ok.map((r) => r.rssKb ?? Infinity)) };
+};
+const mb = (kb: number | null) => (kb === null || !Number.isFinite(kb) ? "—" : (kb / 1024).toFixed(0));
+const ratio = (a: number | null | undefined, b: number | null | undefined) => (a != null && b != null && b > 0 && Number.isFinite(a / b) ? (a / b).toFixed(2) : "—");
+
+const bin = referenceBinary();
+const empty = measured(process.execPath, ["-e", "0"]).rssKb;
+const loaded = runArcwatch(0, "trapezoidal")?.rssKb ?? null;
+console.log(`machine: ${process.platform} ${process.arch}, Node ${process.version}; shared machines make times noisy — read the ratios`);
+console.log(`peak memory of an empty Node process ${mb(empty)} MB; of one that loads the engine without solving ${mb(loaded)} MB`);
+
+for (const scheme of schemes) {
+  console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best of ${reps}; reference and Arcwatch alternate)`);
+  console.log("     N  | ref iters  status      s       MB | Arcwatch iters  status      s    MB>empty MB>loaded | iter ratio  time ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
+  for (const N of Ns) {
+    const refRuns: (Run | null)[] = [];
+    const ourRuns: (Run | null)[] = [];
+    for (let k = 0; k < reps; k++) {
+      if (bin) refRuns.push(runReference(bin, N, scheme));
+      ourRuns.push(runArcwatch(N, scheme));
+    }
+    const ref = bin ? best(refRuns) : null;
+    const our = best(ourRuns);
+    const ourMem = our?.rssKb != null && empty != null ? our.rssKb - empty : null;
+    const ourSolveMem = our?.rssKb != null && loaded != null ? our.rssKb - loaded : null;
+    console.log(
+      `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${ref ? ref.seconds.toFixed(3).padStart(6) : "     —"} ${mb(ref?.rssKb ?? null).padStart(6)} | ` +
+        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${our ? our.seconds.toFixed(3).padStart(6) : "     —"} ${mb(ourMem).padStart(9)} ${mb(ourSolveMem).padStart(9)} | ` +
+        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
+    );
+  }
+}
