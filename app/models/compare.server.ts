@@ -10,7 +10,7 @@
  * - accuracy: t_{p,s} = the smallest error of s's solved cases on p (floored at 1e-16 so that an
  *   exact answer stays a positive cost); no solved case is a failure.
  */
-import { and, desc, eq, inArray, like } from "drizzle-orm";
+import { and, desc, eq, inArray, isNull, like } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, runs } from "~/db/schema";
 import { getScheme } from "~/engine/schemes/index";
@@ -159,7 +159,9 @@ function casesAt(db: Db, commit: string, problem: string | null): { points: (Com
       med: caseResults.medianSeconds,
     })
     .from(caseResults)
-    .where(problem ? and(inArray(caseResults.runId, runIds), eq(caseResults.problemId, problem)) : inArray(caseResults.runId, runIds))
+    // uniform meshes only: a refined case's intervals are its first mesh's, not the one its error belongs to
+    // (refined cases have their own panel, app/models/refinement-cost.server.ts)
+    .where(and(inArray(caseResults.runId, runIds), isNull(caseResults.meshTolerance), ...(problem ? [eq(caseResults.problemId, problem)] : [])))
     .all();
   const byKey = new Map<string, (typeof rows)[number]>();
   for (const r of rows) {

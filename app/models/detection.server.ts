@@ -92,6 +92,10 @@ export function loadCases(db: Db, runId: string): Map<string, CaseSnapshot> {
       controlError: caseResults.controlError,
       medianSeconds: caseResults.medianSeconds,
       arcsJson: caseResults.arcsJson,
+      meshTolerance: caseResults.meshTolerance,
+      meshPasses: caseResults.meshPasses,
+      meshPoints: caseResults.meshPoints,
+      meshToleranceMet: caseResults.meshToleranceMet,
       log: caseResults.iterationLogJson,
       samples: timingSamples.samplesJson,
     })

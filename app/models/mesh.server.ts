@@ -34,13 +34,17 @@ export interface CaseMesh {
 const num = (v: unknown): number | null => (typeof v === "number" && Number.isFinite(v) ? v : null);
 const numArray = (v: unknown): number[] | null => (Array.isArray(v) && v.every((x) => typeof x === "number") ? (v as number[]) : null);
 
-/** Parses the stored estimate { method, t, error }; null unless t has one more entry than error. */
-export function parseMeshEstimate(v: unknown): { method: string | null; t: number[]; error: number[] } | null {
+/**
+ * Parses the stored estimate { method, t, error }; null unless t has one more entry than error.
+ * An interval whose estimate was not finite is stored as null and read as Infinity.
+ */
+export function parseMeshEstimate(v: unknown): { method: string; t: number[]; error: number[] } | null {
   if (!v || typeof v !== "object") return null;
   const o = v as Record<string, unknown>;
-  const t = numArray(o.t), error = numArray(o.error);
+  const t = numArray(o.t);
+  const error = Array.isArray(o.error) && o.error.every((x) => x === null || typeof x === "number") ? (o.error as (number | null)[]).map((x) => (x === null ? Infinity : x)) : null;
   if (!t || !error || t.length !== error.length + 1 || error.length === 0) return null;
-  return { method: typeof o.method === "string" ? o.method : null, t, error };
+  return { method: typeof o.method === "string" ? o.method : "unknown", t, error };
 }
 
 export function parsePasses(v: unknown): CaseMeshPass[] | null {

@@ -6,7 +6,7 @@
  */
 import fs from "node:fs";
 import path from "node:path";
-import { and, desc, eq, sql } from "drizzle-orm";
+import { and, desc, eq, sql, isNull } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { libraryProblemsDir, uploadedProblemsDir, webProblemLibrary } from "./library.server";
 import { caseResults, problemReferences, problemVersions, problems, runs } from "~/db/schema";
@@ -169,7 +169,8 @@ export function bestResultsPerScheme(db: Db, problemId: string): BestResult[] {
     })
     .from(caseResults)
     .innerJoin(runs, eq(runs.id, caseResults.runId))
-    .where(and(eq(caseResults.problemId, problemId), eq(runs.branch, "main")))
+    // uniform meshes only (a refined case's intervals are its first mesh's)
+    .where(and(eq(caseResults.problemId, problemId), eq(runs.branch, "main"), isNull(caseResults.meshTolerance)))
     .all();
   const best = new Map<string, BestResult>();
   for (const r of rows) {

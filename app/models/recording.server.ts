@@ -18,6 +18,7 @@ import type { Db } from "~/db/client.server";
 import { caseResults, problemVersions, problems, runs, suites, timingSamples, type RunStatus } from "~/db/schema";
 import { caseNumbers, PAYLOAD_FORMAT, runPayloadSchema, type CaseRecord, type RunPayload } from "~/runs/payload";
 import { toPlain, UNKNOWN_VERSION } from "~/runs/record";
+import { parseMeshEstimate, parsePasses } from "./mesh.server";
 import { canonicalJson, sha256, type SuiteFile } from "~/runs/suite";
 import type { Thresholds } from "~/runs/types";
 
@@ -129,6 +130,13 @@ function insertCaseRow(tx: Tx, runId: string, c: CaseRecord): number {
       trajectoryJson: toPlain(c.trajectory ?? null),
       iterationLogJson: toPlain(c.iterationLog ?? null),
       message: c.message,
+      meshErrorMax: c.mesh?.errorMax ?? null,
+      meshErrorJson: c.mesh?.estimate ?? null,
+      meshPoints: c.mesh?.points ?? null,
+      meshTolerance: c.mesh?.tolerance ?? null,
+      meshPasses: c.mesh?.passes ?? null,
+      meshToleranceMet: c.mesh?.met ?? null,
+      refinementJson: c.mesh?.refinement ?? null,
     })
     .returning({ id: caseResults.id })
     .get();
@@ -253,6 +261,15 @@ export function buildRunPayload(db: Db, runId: string): RunPayload {
       trajectory: c.trajectoryJson ?? undefined,
       iterationLog: c.iterationLogJson ?? undefined,
       message: c.message,
+      mesh: {
+        errorMax: c.meshErrorMax,
+        estimate: toPlain(parseMeshEstimate(c.meshErrorJson)) as { method: string; t: number[]; error: (number | null)[] } | null,
+        points: c.meshPoints,
+        tolerance: c.meshTolerance,
+        passes: c.meshPasses,
+        met: c.meshToleranceMet,
+        refinement: parsePasses(c.refinementJson),
+      },
     })),
   };
 }

@@ -7,6 +7,9 @@ import { getDb } from "~/db/client.server";
 import { parseCompareQuery, type compare as CompareFn } from "~/models/compare.server";
 import { cachedCompare, cachedComparableCommits, cachedProblemLibrary } from "~/services/data-cache.server";
 import { requireUser } from "~/services/auth.server";
+import { refinementCostForRuns } from "~/models/refinement-cost.server";
+import { RefinementCostPanel } from "~/components/compare/RefinementCostPanel";
+import { SCHEMES } from "~/engine/schemes/ids";
 
 export const meta: Route.MetaFunction = () => [{ title: "Compare schemes · Arcwatch" }];
 
@@ -14,7 +17,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
   const db = getDb();
   const q = parseCompareQuery(new URL(request.url).searchParams);
-  return { result: cachedCompare(db, q), commits: cachedComparableCommits(db), problems: cachedProblemLibrary(db).map((p) => ({ id: p.id, title: p.title })) };
+  const result = cachedCompare(db, q);
+  return { result, commits: cachedComparableCommits(db), problems: cachedProblemLibrary(db).map((p) => ({ id: p.id, title: p.title })), refinement: refinementCostForRuns(db, result.a.runIds, q.problem, SCHEMES) };
 }
 
 type Result = ReturnType<typeof CompareFn>;
@@ -115,6 +119,7 @@ export default function Compare({ loaderData }: Route.ComponentProps) {
           </div>
         ))}
       </div>
+      <RefinementCostPanel rows={loaderData.refinement} commit={loaderData.result.a.commit} />
     </div>
   );
 }

@@ -55,6 +55,21 @@ export const casePayloadSchema = z.object({
   trajectory: z.unknown().optional(),
   iterationLog: z.unknown().optional(),
   message: z.string().max(20_000).nullable(),
+  /** Mesh error estimate and adaptive refinement (case_results.mesh_* columns); absent from older payloads. */
+  mesh: z
+    .object({
+      errorMax: nullableNum,
+      estimate: z.object({ method: z.string().max(64), t: z.array(finite).max(200_000), error: z.array(nullableNum).max(200_000) }).nullable(),
+      points: z.number().int().positive().nullable(),
+      tolerance: finite.positive().nullable(),
+      passes: z.number().int().min(1).nullable(),
+      met: z.boolean().nullable(),
+      refinement: z
+        .array(z.object({ pass: z.number().int().min(1), intervals: z.number().int().positive(), points: z.number().int().positive(), status: z.string().max(64), iterations: z.number().int().min(0), seconds: finite.nonnegative(), maxEstimate: nullableNum }))
+        .max(1000)
+        .nullable(),
+    })
+    .optional(),
 });
 
 export const runPayloadSchema = z.object({

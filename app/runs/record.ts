@@ -11,7 +11,8 @@
  */
 import { summarize } from "../engine/stats/summary";
 import type { CaseRecord } from "./payload";
-import type { CaseOutcome } from "./types";
+import type { CaseOutcome, CaseReport, CaseSpec } from "./types";
+import { meshPoints } from "../engine/mesh/adaptive";
 
 /** Typed arrays → plain arrays, NaN/±Infinity → null, recursively (for JSON columns). */
 export function toPlain(value: unknown): unknown {
@@ -79,5 +80,27 @@ export function caseRecordFromOutcome(outcome: CaseOutcome): CaseRecord {
     trajectory: toPlain(report?.trajectory ?? null),
     iterationLog: toPlain({ log: report?.log ?? null, extra }),
     message: outcome.message,
+    mesh: meshRecord(spec, report),
+  };
+}
+
+/**
+ * The mesh part of a case record: the final mesh's error estimate (any converged case), its mesh
+ * points, and for an adaptive case the tolerance, passes, whether ε was met and the pass record.
+ * The points of a uniform case follow from its spec (intervals + 1; LGR intervals × degree + 1).
+ */
+export function meshRecord(spec: CaseSpec, report: CaseReport | null): NonNullable<CaseRecord["mesh"]> {
+  const est = report?.meshEstimate ?? null;
+  const ref = report?.refinement ?? null;
+  const estimate = est && Array.isArray(est.t) && Array.isArray(est.error) ? { method: String(est.method), t: est.t.map((v) => num(v) ?? 0), error: est.error.map(num) } : null;
+  const uniformPoints = spec.tolerance === undefined ? meshPoints(spec.scheme, { intervals: spec.intervals, ...(spec.degree !== undefined ? { degree: spec.degree } : {}) }) : null;
+  return {
+    errorMax: num(est?.max),
+    estimate,
+    points: ref ? ref.points : uniformPoints,
+    tolerance: spec.tolerance ?? null,
+    passes: ref ? ref.passes : null,
+    met: spec.tolerance === undefined ? null : ref ? ref.met : false,
+    refinement: ref ? ref.record.map((p) => ({ ...p, seconds: num(p.seconds) ?? 0, maxEstimate: num(p.maxEstimate) })) : null,
   };
 }

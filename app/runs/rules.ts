@@ -15,6 +15,12 @@
  *              1 when calibration is off); flagged when r > speedRatio AND (one-sided Mann–Whitney
  *              p < alpha on x/c vs y OR the bootstrap interval of r lies above 1).
  *              Improvement: r < 1/speedRatio with the mirrored evidence.
+ *  refinement  adaptive cases (mesh_tolerance set in both, solved in both or in neither): ε met
+ *              before and not now (robustness, metric "mesh_tolerance_met"; reverse = improvement);
+ *              more passes (robustness, "mesh_passes", any increase); final mesh points up by more
+ *              than iterationShare and by at least iterationMin (robustness, "mesh_points", the
+ *              iteration rule's thresholds). More time is the speed rule (a refined case times every
+ *              pass); iterations are those of all passes.
  *  structure   the arc signature changed (reports carrying `arcs.signature`); an improvement when
  *              the new one equals the problem's reference arcs and the old one did not.
  *  drift       PELT (app/engine/stats/change-point.ts) on ln(median / calibration) over the case's
@@ -85,6 +91,11 @@ export interface CaseSnapshot {
   samples: number[];
   /** Case-level calibration seconds (measured beside the case), if recorded. */
   calibration?: number | null;
+  /** Adaptive refinement (null/absent for a uniform mesh): tolerance, passes, final mesh points, ε met. */
+  meshTolerance?: number | null;
+  meshPasses?: number | null;
+  meshPoints?: number | null;
+  meshToleranceMet?: boolean | null;
 }
 
 const ACCURACY_METRICS = [
@@ -123,6 +134,8 @@ export function compareCases(
     const push = (f: Omit<Finding, "caseKey" | "problemId">) => out.push({ caseKey: key, problemId: cur.problemId, ...f });
     const solvedNow = isSolved(cur.status);
     const solvedBefore = isSolved(old.status);
+    // a case that stopped solving is the status rule's finding alone
+    if (solvedBefore === solvedNow) out.push(...refinementFindings(key, cur, old, t));
     if (solvedBefore !== solvedNow) {
       push({
         kind: "robustness",
@@ -195,6 +208,30 @@ export function compareCases(
       const direction: RegressionDirection = ref !== undefined && sa === ref && sb !== ref ? "improvement" : "regression";
       push({ kind: "structure", direction, metric: "arcs", before: null, after: null, ratio: null, pValue: null, ciLow: null, ciHigh: null, detail: `arcs ${sb} → ${sa}` });
     }
+  }
+  return out;
+}
+
+/** The refinement rules of one adaptive case against its baseline (see the header); exported for tests. */
+export function refinementFindings(key: string, cur: CaseSnapshot, old: CaseSnapshot, t: Thresholds): Finding[] {
+  const out: Finding[] = [];
+  if (cur.meshTolerance == null || old.meshTolerance == null) return out;
+  const push = (f: Omit<Finding, "caseKey" | "problemId" | "kind" | "pValue" | "ciLow" | "ciHigh">) =>
+    out.push({ caseKey: key, problemId: cur.problemId, kind: "robustness", pValue: null, ciLow: null, ciHigh: null, ...f });
+  const metNow = cur.meshToleranceMet === true, metBefore = old.meshToleranceMet === true;
+  if (metNow !== metBefore) {
+    push({ direction: metBefore ? "regression" : "improvement", metric: "mesh_tolerance_met", before: metBefore ? 1 : 0, after: metNow ? 1 : 0, ratio: null, detail: `tolerance ${fmt(cur.meshTolerance, 2)} ${metBefore ? "met → no longer met" : "not met → met"}` });
+    return out;
+  }
+  if (!metNow) return out;
+  if (cur.meshPasses != null && old.meshPasses != null && cur.meshPasses !== old.meshPasses) {
+    push({ direction: cur.meshPasses > old.meshPasses ? "regression" : "improvement", metric: "mesh_passes", before: old.meshPasses, after: cur.meshPasses, ratio: cur.meshPasses / old.meshPasses, detail: `refinement passes ${old.meshPasses} → ${cur.meshPasses}` });
+  }
+  if (cur.meshPoints != null && old.meshPoints != null) {
+    const a = cur.meshPoints, b = old.meshPoints;
+    const detail = `final mesh points ${b} → ${a}`;
+    if (a - b >= t.iterationMin && a > b * (1 + t.iterationShare)) push({ direction: "regression", metric: "mesh_points", before: b, after: a, ratio: a / b, detail });
+    else if (b - a >= t.iterationMin && b > a * (1 + t.iterationShare)) push({ direction: "improvement", metric: "mesh_points", before: b, after: a, ratio: a / b, detail });
   }
   return out;
 }

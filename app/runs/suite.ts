@@ -37,6 +37,12 @@ const meshSchema = z
     variant: z.string().min(1).optional(),
     /** Only for these schemes (default: all of the suite's schemes). */
     schemes: z.array(z.enum(SCHEME_IDS)).min(1).optional(),
+    /**
+     * Adaptive refinement (app/engine/mesh/adaptive.ts) from this mesh to each tolerance ε on the
+     * largest per-interval error estimate: one case per tolerance, key suffix `@<ε>`, instead of the
+     * uniform case.
+     */
+    tolerances: z.array(z.number().finite().positive()).min(1).max(20).optional(),
   })
   .strict();
 
@@ -173,9 +179,9 @@ export function loadSuite(file: string): LoadedSuite {
   };
 }
 
-/** `<problemId>/<scheme>/<intervals>[x<degree>][:<variant>]`. */
-export const caseKey = (problemId: string, scheme: string, intervals: number, degree?: number, variant?: string) =>
-  `${problemId}/${scheme}/${intervals}${degree !== undefined ? `x${degree}` : ""}${variant ? `:${variant}` : ""}`;
+/** `<problemId>/<scheme>/<intervals>[x<degree>][:<variant>][@<tolerance>]` (tolerance: adaptive mesh, e.g. `@1e-6`). */
+export const caseKey = (problemId: string, scheme: string, intervals: number, degree?: number, variant?: string, tolerance?: number) =>
+  `${problemId}/${scheme}/${intervals}${degree !== undefined ? `x${degree}` : ""}${variant ? `:${variant}` : ""}${tolerance !== undefined ? `@${tolerance.toExponential()}` : ""}`;
 
 /**
  * What suite expansion needs from the problem library (app/engine/problem/library.ts): every
@@ -191,7 +197,8 @@ export interface ProblemCatalog {
 /**
  * The cases of a suite: problems (ids in order given, tags expanded alphabetically, duplicates
  * dropped) × schemes × meshes (restricted by mesh.schemes), minus exclusions. The degree is kept
- * only for LGR (the one scheme with a collocation degree), defaulting to 4.
+ * only for LGR (the one scheme with a collocation degree), defaulting to 4. A mesh with
+ * `tolerances` gives one adaptive case per tolerance (the mesh is the first pass's).
  */
 export function expandCases(suite: SuiteFile, library: ProblemCatalog): CaseSpec[] {
   const tags = library.tagsById();
@@ -216,9 +223,14 @@ export function expandCases(suite: SuiteFile, library: ProblemCatalog): CaseSpec
           (e) => (e.problem === undefined || e.problem === problemId) && (e.scheme === undefined || e.scheme === scheme) && (e.intervals === undefined || e.intervals === mesh.intervals),
         );
         if (excluded) continue;
-        const key = caseKey(problemId, scheme, mesh.intervals, degree, mesh.variant);
-        if (cases.some((c) => c.key === key)) continue;
-        cases.push({ key, problemId, scheme, intervals: mesh.intervals, ...(degree !== undefined ? { degree } : {}), ...(mesh.variant ? { variant: mesh.variant } : {}) });
+        for (const tolerance of mesh.tolerances ?? [undefined]) {
+          const key = caseKey(problemId, scheme, mesh.intervals, degree, mesh.variant, tolerance);
+          if (cases.some((c) => c.key === key)) continue;
+          cases.push({
+            key, problemId, scheme, intervals: mesh.intervals,
+            ...(degree !== undefined ? { degree } : {}), ...(mesh.variant ? { variant: mesh.variant } : {}), ...(tolerance !== undefined ? { tolerance } : {}),
+          });
+        }
       }
     }
   }

@@ -17,6 +17,8 @@ export interface CaseSpec {
   intervals: number;
   degree?: number;
   variant?: string;
+  /** Adaptive mesh: refine from this mesh until every interval's error estimate is ≤ tolerance. */
+  tolerance?: number;
 }
 
 export interface CaseErrors {
@@ -51,6 +53,13 @@ export interface CaseReport {
   arcs?: unknown;
   trajectory?: unknown;
   log?: unknown;
+  /** Per-interval error estimate of the final mesh (app/engine/solve.ts MeshEstimateSummary). */
+  meshEstimate?: { method: string; t: number[]; error: number[]; max: number } | null;
+  /** Adaptive refinement record (app/engine/mesh/adaptive.ts RefinementSummary). */
+  refinement?: {
+    tolerance: number; met: boolean; passes: number; points: number;
+    record: Array<{ pass: number; intervals: number; points: number; status: string; iterations: number; seconds: number; maxEstimate: number | null }>;
+  } | null;
 }
 
 /** What a worker hands back for one case. */

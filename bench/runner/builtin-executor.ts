@@ -6,6 +6,7 @@
 import { ProblemLibrary } from "../../app/engine/problem/library";
 import { loadFromLibrary } from "../../app/engine/problem/load";
 import { solveProblem } from "../../app/engine/solve";
+import { refinedCaseReport, solveAdaptive } from "../../app/engine/mesh/adaptive";
 import type { Mesh } from "../../app/engine/schemes/types";
 import type { CreateExecutor } from "./executor";
 import type { CaseReport } from "../../app/runs/types";
@@ -27,7 +28,9 @@ export const createExecutor: CreateExecutor = (context) => {
       };
       const problem = loaded.problem;
       return {
-        solve: (): CaseReport => solveProblem(problem, spec.scheme, mesh),
+        // an adaptive case times the whole refinement (every pass) as its solve
+        solve: (): CaseReport =>
+          spec.tolerance !== undefined ? refinedCaseReport(solveAdaptive(problem, spec.scheme, mesh, { tolerance: spec.tolerance })) : solveProblem(problem, spec.scheme, mesh),
         // Arc structure for the "structure" rule: the engine's own (from the scheme's Solution), or,
         // when a report carries none, rebuilt from its trajectory after timing.
         finish: (report: CaseReport): CaseReport => {

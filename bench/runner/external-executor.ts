@@ -117,6 +117,7 @@ export const createExecutor: CreateExecutor = (context) => {
   const library = new ProblemLibrary(context.libraryRoots);
   return {
     prepare(spec) {
+      if (spec.tolerance !== undefined) throw new Error(`case ${spec.key}: adaptive meshes are refined by Arcwatch's engine only; the solver protocol takes uniform meshes`);
       const loaded = loadFromLibrary(library, spec.problemId);
       if (!loaded.ok) throw new Error(`problem ${spec.problemId} does not load: ${loaded.errors.map((e) => e.message).join("; ")}`);
       const problem = loaded.problem;

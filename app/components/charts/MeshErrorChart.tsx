@@ -1,7 +1,8 @@
 /**
  * The error estimate of every mesh interval over time: one horizontal step per interval on a log10
  * axis, with the refinement tolerance as a dashed line when the case was refined. An interval whose
- * estimate is 0 (exact to rounding) is drawn at the bottom of the axis and said so below the chart.
+ * estimate is 0 (exact to rounding) is drawn at the bottom of the axis, one without a finite estimate
+ * at the top, and either is said below the chart.
  * Fixed size, drawn after hydration (recharts renders an empty wrapper on the server).
  */
 import { CartesianGrid, Line, LineChart, ReferenceLine, Tooltip, XAxis, YAxis } from "recharts";
@@ -16,13 +17,14 @@ function tickT(v: number): string {
 export function MeshErrorChart({ t, error, tolerance, width = 640, height = 240 }: { t: number[]; error: number[]; tolerance: number | null; width?: number; height?: number }) {
   const domain = logDomain([...error, ...(tolerance !== null ? [tolerance] : [])]);
   if (!domain) return <p className="text-sm text-muted">Every interval's estimate is zero (the solution satisfies the dynamics to rounding).</p>;
-  const floor = domain[0];
+  const [floor, ceiling] = domain;
   // stepAfter: the value of interval k from t_k to t_{k+1}; the last breakpoint repeats the last value
   const data = t.map((tk, k) => {
     const e = error[Math.min(k, error.length - 1)]!;
-    return { t: tk, v: loggable(e) ? Math.log10(e) : floor, e };
+    return { t: tk, v: loggable(e) ? Math.log10(e) : e === 0 ? floor : ceiling, e };
   });
-  const zeros = error.filter((e) => !loggable(e)).length;
+  const zeros = error.filter((e) => e === 0).length;
+  const unbounded = error.filter((e) => !Number.isFinite(e)).length;
   const ticks = logTicks(domain);
   return (
     <figure className="card p-3" data-testid="mesh-error-chart">
@@ -44,6 +46,7 @@ export function MeshErrorChart({ t, error, tolerance, width = 640, height = 240 
       <figcaption className="mt-1 text-xs text-muted">
         x: time; y: estimated relative error of each mesh interval (log scale), one step per interval.
         {zeros > 0 ? ` ${zeros} interval${zeros > 1 ? "s have" : " has"} an estimate of 0, drawn at the bottom.` : ""}
+        {unbounded > 0 ? ` ${unbounded} interval${unbounded > 1 ? "s have" : " has"} no finite estimate (the residual overflowed), drawn at the top.` : ""}
       </figcaption>
     </figure>
   );

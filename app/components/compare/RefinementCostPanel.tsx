@@ -5,10 +5,12 @@
 import type { RefinementCostRow } from "~/models/refinement-cost.server";
 import { fmt, fmtSeconds } from "~/components/Caution";
 
-export function RefinementCostPanel({ rows }: { rows: RefinementCostRow[] }) {
+export function RefinementCostPanel({ rows, commit }: { rows: RefinementCostRow[]; commit: string | null }) {
   return (
     <section className="card space-y-2 p-4" aria-labelledby="refinement-cost-title" data-testid="refinement-cost">
-      <h2 id="refinement-cost-title" className="text-lg font-semibold">Cost to reach tolerance ε with refinement</h2>
+      <h2 id="refinement-cost-title" className="text-lg font-semibold">
+        Cost to reach tolerance ε with refinement{commit ? <> at <span className="num">{commit.slice(0, 10)}</span></> : null}
+      </h2>
       {rows.length === 0 ? (
         <p className="text-sm text-muted">No refined cases in these runs. A suite asks for them with a mesh such as {"{ \"intervals\": 10, \"tolerances\": [1e-6] }"}.</p>
       ) : (

@@ -165,3 +165,32 @@ export function solveAdaptive(problem: CompiledProblem, scheme: SchemeId, initia
     totalSeconds: passes.reduce((a, p) => a + p.seconds, 0),
   };
 }
+
+/** What a stored case keeps of a refinement. */
+export interface RefinementSummary {
+  tolerance: number;
+  met: boolean;
+  passes: number;
+  /** Mesh points of the final mesh. */
+  points: number;
+  record: Array<{ pass: number; intervals: number; points: number; status: string; iterations: number; seconds: number; maxEstimate: number | null }>;
+}
+
+/**
+ * A refinement as one case's report: the final pass's report (its mesh, errors, estimate), with
+ * iterations = the NLP iterations of all passes (the cost of reaching ε) and the refinement record.
+ */
+export function refinedCaseReport(r: AdaptiveReport): SolveReport & { refinement: RefinementSummary } {
+  const last = r.passes[r.passes.length - 1]!;
+  return {
+    ...r.final,
+    iterations: r.totalIterations,
+    refinement: {
+      tolerance: r.tolerance,
+      met: r.met,
+      passes: r.passes.length,
+      points: last.points,
+      record: r.passes.map((p) => ({ pass: p.pass, intervals: p.intervals, points: p.points, status: p.status, iterations: p.iterations, seconds: p.seconds, maxEstimate: p.maxEstimate })),
+    },
+  };
+}
