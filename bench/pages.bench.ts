@@ -19,7 +19,7 @@ process.env.ARCWATCH_JOB_WORKER = "0";
 const { getDb, closeDb } = await import("../app/db/client.server");
 const { createUser } = await import("../app/models/users.server");
 const { createApiToken } = await import("../app/services/tokens.server");
-const { loadSuite, suitePath } = await import("./runner/suite");
+const { loadSuite, suitePath } = await import("../app/runs/suite");
 
 const RUNS = 1000;
 const PROBLEMS = 20;

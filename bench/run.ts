@@ -6,13 +6,25 @@
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
  * `--job <id>` links the run to a jobs row (the server's job worker runs this command in a worktree).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
+ * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
+ * (app/runs/events.ts; the job worker reads it).
  */
+
+/** The events sink named by ARCWATCH_EVENTS_FD, or null. */
+function eventsSink(): { write(line: string): void } | null {
+  const raw = process.env[RUN_EVENTS_FD_ENV];
+  if (!raw) return null;
+  const fd = Number(raw);
+  if (!Number.isInteger(fd) || fd < 3) return null;
+  return { write: (line) => void fs.writeSync(fd, line) };
+}
+import fs from "node:fs";
 import { parseArgs } from "node:util";
 import { closeDb, getDb, openDatabase } from "../app/db/client.server";
 import { stopStandin } from "../app/services/mail.server";
-import { runSuite, tally, type RunSummary } from "./runner/run-suite";
-import { renderTable, fmtNum } from "./runner/table";
-import { uploadRun } from "./runner/upload";
+import { RUN_EVENTS_FD_ENV } from "../app/runs/events";
+import type { RunSummary } from "./runner/run-suite";
+import { renderTable, fmtNum, tally } from "./runner/table";
 
 const USAGE = "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts]";
 
@@ -99,6 +111,9 @@ async function main(): Promise<number> {
     process.stderr.write(`--job must be a job id, got "${args.job}"\n`);
     return 2;
   }
+  // Loaded after the arguments are checked: a usage error answers at once.
+  const { runSuite } = await import("./runner/run-suite");
+  const { uploadRun } = await import("./runner/upload");
   const db = args.db ? openDatabase(args.db) : getDb();
   const controller = new AbortController();
   const onSignal = (sig: string) => {
@@ -116,6 +131,7 @@ async function main(): Promise<number> {
       jobs,
       signal: controller.signal,
       progress: args.json ? null : process.stderr,
+      events: eventsSink(),
       alerts: !args["no-alerts"],
       baseUrl: args["base-url"],
       jobId,

@@ -4,8 +4,9 @@
  */
 import { closeDb, databasePath, getDb } from "~/db/client.server";
 import { seed } from "~/db/seed.server";
+import { demoResults } from "./demo-seed";
 
 const db = getDb(); // applies pending migrations
-await seed(db, (line) => console.log(line));
+await seed(db, (line) => console.log(line), [demoResults]);
 console.log(`[arcwatch] database ready: ${databasePath()}`);
 closeDb();

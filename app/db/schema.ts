@@ -505,7 +505,7 @@ export const thresholdSettings = sqliteTable(
   {
     id: integer("id").primaryKey({ autoIncrement: true }),
     suiteName: text("suite_name").notNull(),
-    /** Partial `Thresholds` (bench/runner/types.ts): only the keys that differ from the file. */
+    /** Partial `Thresholds` (app/runs/types.ts): only the keys that differ from the file. */
     thresholdsJson: text("thresholds_json", { mode: "json" }).$type<Record<string, number | boolean>>().notNull(),
     status: text("status", { enum: THRESHOLD_SETTING_STATUSES }).notNull().default("proposed"),
     note: text("note"),

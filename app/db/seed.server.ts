@@ -1,15 +1,15 @@
 /**
  * Seeding: fills an empty database with what a first-time visitor needs to look around.
  *
- * `seed(db)` runs every entry of `SEEDERS` in order. Each seeder decides for itself whether
- * its data is missing (it must be idempotent: `npm start` calls `seed` on every start).
- * To add demo results (runs, cases, regressions), append a seeder to `SEEDERS` below, mark
- * its runs `isDemo: true`, and write it in its own module.
+ * `seed(db)` runs every entry of `SEEDERS` in order, then the `extra` seeders its caller passes.
+ * Each seeder decides for itself whether its data is missing (it must be idempotent: `npm start`
+ * calls `seed` on every start). Demo results (runs, cases, regressions) need the benchmark runner,
+ * which sits above the app, so scripts/seed.ts passes them in (scripts/demo-seed.ts); mark such
+ * runs `isDemo: true`.
  */
 import type { Db } from "./client.server";
 import type { Role } from "./schema";
 import { countUsers, createUser } from "~/models/users.server";
-import { demoSeedWanted, seedDemoResults } from "./demo-seed.server";
 
 export interface Seeder {
   name: string;
@@ -32,23 +32,9 @@ export const demoAccounts: Seeder = {
   },
 };
 
-/** Real quick-suite results on this checkout plus a labelled demo history (app/db/demo-seed.server.ts). */
-export const demoResults: Seeder = {
-  name: "demo results",
-  async run(db, log) {
-    if (!demoSeedWanted(db)) return;
-    try {
-      await seedDemoResults(db, { log });
-    } catch (err) {
-      // The app is usable without demo results; say why they are missing and go on.
-      log(`skipped: ${(err as Error).message} (run \`npm run bench -- --suite quick\` to record results)`);
-    }
-  },
-};
-
 /** Seeders in the order they run. Add new ones here. */
-export const SEEDERS: Seeder[] = [demoAccounts, demoResults];
+export const SEEDERS: Seeder[] = [demoAccounts];
 
-export async function seed(db: Db, log: (line: string) => void = () => {}): Promise<void> {
-  for (const s of SEEDERS) await s.run(db, (line) => log(`[seed] ${s.name}: ${line}`));
+export async function seed(db: Db, log: (line: string) => void = () => {}, extra: Seeder[] = []): Promise<void> {
+  for (const s of [...SEEDERS, ...extra]) await s.run(db, (line) => log(`[seed] ${s.name}: ${line}`));
 }

@@ -8,8 +8,8 @@ import { eq } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, runs, suites, timingSamples } from "~/db/schema";
 import { loadAnyProblem } from "./problems.server";
-import { SOLVED_STATUSES } from "../../bench/runner/types";
-import { caseNumbers } from "../../bench/runner/payload";
+import { SOLVED_STATUSES } from "~/runs/types";
+import { caseNumbers } from "~/runs/payload";
 
 export const MAX_POINTS = 400;
 

@@ -15,8 +15,8 @@ import type { Db } from "~/db/client.server";
 import { caseResults, runs } from "~/db/schema";
 import { getScheme } from "~/engine/schemes/index";
 import { performanceProfile, type PerformanceProfile } from "~/engine/stats/performance-profile";
-import { fitConvergenceOrder } from "~/components/compare/convergence-order";
-import { isSolved } from "../../bench/runner/types";
+import { fitConvergenceOrder } from "~/engine/analysis/convergence-order";
+import { isSolved } from "~/runs/types";
 import { SCHEMES } from "./problems.server";
 
 export const ERROR_METRICS = ["objective", "state"] as const;

@@ -7,59 +7,34 @@
 import fs from "node:fs";
 import path from "node:path";
 import { and, desc, eq, sql } from "drizzle-orm";
-import { databasePath, type Db } from "~/db/client.server";
+import type { Db } from "~/db/client.server";
+import { libraryProblemsDir, uploadedProblemsDir, webProblemLibrary } from "./library.server";
 import { caseResults, problemReferences, problemVersions, problems, runs } from "~/db/schema";
 import { compileProblemSource, type ProblemSourceFiles } from "~/engine/problem/compile";
 import type { ProblemError } from "~/engine/problem/errors";
-import { loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
+import { loadFromLibrary, loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
 import type { CompiledProblem, Provenance } from "~/engine/problem/types";
 import { solveProblem } from "~/engine/solve";
-import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, errorsByField, uploadFieldOf } from "~/components/problems/form-model";
-import { isSolved } from "../../bench/runner/types";
+import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, errorsByField, uploadFieldOf } from "~/engine/problem/form";
+import { isSolved } from "~/runs/types";
 
-import { SCHEMES, type SchemeName } from "~/components/problems/schemes";
+import { SCHEMES, type SchemeName } from "~/engine/schemes/ids";
 export { SCHEMES, type SchemeName };
 
 /** Largest accepted upload of problem.json / reference.csv (bytes). */
 export const MAX_PROBLEM_UPLOAD_BYTES = 512 * 1024;
 export const MAX_REFERENCE_UPLOAD_BYTES = 4 * 1024 * 1024;
 
-/** The checkout's problem folder (ARCWATCH_PROBLEMS, default ./problems). */
-export function libraryProblemsDir(): string {
-  return path.resolve(process.env.ARCWATCH_PROBLEMS ?? "problems");
-}
-
-/**
- * Where problems added in the browser are written: ARCWATCH_UPLOADED_PROBLEMS, default the
- * folder `problems/` beside the database file. The runner uses the same default (from its --db).
- */
-export function uploadedProblemsDir(): string {
-  if (process.env.ARCWATCH_UPLOADED_PROBLEMS) return path.resolve(process.env.ARCWATCH_UPLOADED_PROBLEMS);
-  const db = databasePath();
-  return path.resolve(db === ":memory:" ? "data" : path.dirname(db), "problems");
-}
+export { libraryProblemsDir, uploadedProblemsDir };
 
 export type ProblemOrigin = "library" | "uploaded";
 
-/** Compiles a problem by id from the checkout first, then from the uploaded folder. */
+/** Compiles a problem by id from the web library (the checkout first, then the uploaded folder). */
 export function loadAnyProblem(id: string): { origin: ProblemOrigin; result: ReturnType<typeof loadProblemById> } | null {
-  if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) return null;
-  const lib = libraryProblemsDir();
-  if (fs.existsSync(path.join(lib, id, "problem.json"))) return { origin: "library", result: loadProblemById(id, lib) };
-  const up = uploadedProblemsDir();
-  if (fs.existsSync(path.join(up, id, "problem.json"))) return { origin: "uploaded", result: loadProblemById(id, up) };
-  return null;
-}
-
-function folderIds(dir: string): string[] {
-  try {
-    return fs
-      .readdirSync(dir)
-      .filter((n) => !n.startsWith(".") && fs.existsSync(path.join(dir, n, "problem.json")))
-      .sort();
-  } catch {
-    return [];
-  }
+  const lib = webProblemLibrary();
+  const i = lib.rootIndexOf(id);
+  if (i < 0) return null;
+  return { origin: i === 0 ? "library" : "uploaded", result: loadFromLibrary(lib, id) };
 }
 
 export interface ProvenanceLine {
@@ -151,10 +126,11 @@ function formatErrors(errors: ProblemError[]): string {
 /** Every problem of the checkout and every uploaded one (a checkout problem wins on a shared id). */
 export function listProblemLibrary(db: Db, filter: { tag?: string; q?: string } = {}): LibraryEntry[] {
   const states = schemeStatesOnMain(db);
-  const lib = folderIds(libraryProblemsDir());
-  const up = folderIds(uploadedProblemsDir()).filter((id) => !lib.includes(id));
   const entries: LibraryEntry[] = [];
-  for (const id of [...lib, ...up]) {
+  const library = webProblemLibrary();
+  // The checkout's problems first, then the uploaded ones, each alphabetically.
+  const ids = library.ids().sort((a, b) => library.rootIndexOf(a) - library.rootIndexOf(b) || (a < b ? -1 : a > b ? 1 : 0));
+  for (const id of ids) {
     const loaded = loadAnyProblem(id);
     if (!loaded) continue;
     const r = loaded.result;

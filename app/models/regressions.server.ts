@@ -1,5 +1,5 @@
 /**
- * Regressions found by the runner (bench/runner/detect.ts): the list, one regression's evidence
+ * Regressions found by detection (app/models/detection.server.ts): the list, one regression's evidence
  * (before/after cases, timing samples, trajectories), the commits between baseline and flagged
  * commit (simple-git), and triage: acknowledge, assign, mark expected with a reason, link the
  * fixing commit, reopen. Every change is a regression_events row with who and when; comments

@@ -1,7 +1,7 @@
 /**
  * Runs: the paged, sorted, filtered table; one run with its case matrix; ingestion of runs
- * posted by CI runners (through the runner's own `ingestRunPayload`, so an upload and a
- * command-line run are stored by the same code).
+ * posted by CI runners (stored by `storeRunPayload` and checked by `afterRun`, the functions a
+ * command-line run uses, so an upload and a command-line run are stored and judged alike).
  *
  * Sorting, filtering and pagination happen in SQL. Case counts come from one grouped
  * sub-query over case_results (index case_results_run_case_unique starts with run_id).
@@ -10,11 +10,10 @@ import { and, asc, desc, eq, inArray, like, or, sql, type SQL } from "drizzle-or
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
 import { caseResults, regressions, runs, suites, RUN_STATUSES, type RunRow } from "~/db/schema";
-import { ingestRunPayload, runPayloadSchema } from "../../bench/runner/payload";
-import { detectRegressions } from "../../bench/runner/detect";
-import { effectiveThresholds } from "./settings.server";
-import type { Thresholds } from "../../bench/runner/types";
-import { SOLVED_STATUSES } from "../../bench/runner/types";
+import { runPayloadSchema } from "~/runs/payload";
+import { SOLVED_STATUSES } from "~/runs/types";
+import { afterRun } from "./detection.server";
+import { storeRunPayload } from "./recording.server";
 
 export const RUN_SORT_KEYS = ["startedAt", "commit", "branch", "suite", "machine", "duration", "solved", "failed", "regressions", "status"] as const;
 export type RunSortKey = (typeof RUN_SORT_KEYS)[number];
@@ -314,19 +313,15 @@ export function ingestRun(db: Db, text: string): IngestOutcome {
   const id = parsed.data.run.id;
   if (db.select({ id: runs.id }).from(runs).where(eq(runs.id, id)).get()) return { ok: true, created: false, runId: id, newRegressions: 0 };
   try {
-    ingestRunPayload(db, parsed.data);
+    storeRunPayload(db, parsed.data);
   } catch (err) {
     const msg = (err as Error).message;
     if (/already uploaded/.test(msg)) return { ok: true, created: false, runId: id, newRegressions: 0 };
     if (/^invalid run payload/.test(msg)) return { ok: false, status: 400, error: msg };
     throw err;
   }
-  let newRegressions = 0;
-  if (parsed.data.run.status === "complete") {
-    const thresholds: Thresholds = effectiveThresholds(db, parsed.data.suite.name, (parsed.data.suite.thresholds ?? {}) as Partial<Thresholds>);
-    newRegressions = detectRegressions(db, id, { thresholds, baseline: { branch: "main" } }).newRegressions;
-  }
-  return { ok: true, created: true, runId: id, newRegressions };
+  const detection = afterRun(db, id);
+  return { ok: true, created: true, runId: id, newRegressions: detection?.newRegressions ?? 0 };
 }
 
 // ---------------------------------------------------------------------------------------
@@ -372,4 +367,9 @@ export function overviewState(db: Db): OverviewState {
   const rcc = caseCounts(db, running.map((r) => r.id));
   const inProgress = running.map((r) => ({ runId: r.id, suite: r.suite, branch: r.branch, commitHash: r.commitHash, startedAt: r.startedAt.getTime(), cases: rcc.get(r.id)?.cases ?? 0, jobId: r.jobId }));
   return { branches, openByKind, health, healthBranch, inProgress };
+}
+
+/** Number of cases a run has recorded so far. */
+export function caseCountOfRun(db: Db, runId: string): number {
+  return db.select({ n: sql<number>`count(*)` }).from(caseResults).where(eq(caseResults.runId, runId)).get()?.n ?? 0;
 }

@@ -6,8 +6,8 @@ import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
 import { outbox, problems, subscriptions, suites, thresholdSettings, users } from "~/db/schema";
-import { DEFAULT_THRESHOLDS } from "../../bench/runner/suite";
-import type { Thresholds } from "../../bench/runner/types";
+import { DEFAULT_THRESHOLDS } from "~/runs/suite";
+import type { Thresholds } from "~/runs/types";
 
 /** Editable threshold keys with their help line and valid range. */
 export const THRESHOLD_FIELDS = {

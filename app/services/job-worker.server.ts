@@ -6,10 +6,12 @@
  * node_modules by Node's upward search) → run the same
  * command line as a person would there:
  *     node --import tsx bench/run.ts --suite <suite> --job <id> --db <this database> --base-url <url>
- * so the code measured is exactly that commit's code, and results arrive through the runner's
- * own recording path. The child's output is appended to the job's log; its per-case progress
- * lines ("[###...] 3/25  elapsed 0:05  eta 0:40  key: status", bench/runner/progress.ts) become
- * `progress_json`. Every heartbeat reads the job's status back: "cancelled" (set by the API)
+ * so the code measured is exactly that commit's code, and results arrive through the one
+ * recording path (app/models/recording.server.ts). The child's output is appended to the job's
+ * log. Progress comes from a machine-readable stream: the child writes JSON lines
+ * (app/runs/events.ts) to file descriptor 3 (ARCWATCH_EVENTS_FD=3), which become `progress_json`;
+ * a commit older than that stream leaves fd 3 silent, and then the count of its recorded cases in
+ * the database is the progress. Every heartbeat reads the job's status back: "cancelled" (set by the API)
  * sends SIGTERM, and the runner marks its run interrupted, keeping the finished cases.
  * At start-up, jobs left "running" by an earlier process are marked "died" (models/jobs.server.ts).
  */
@@ -19,7 +21,10 @@ import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { databasePath, getDb, type Db } from "~/db/client.server";
 import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, markDeadJobs, runOfJob, setJobPid, type BenchProgress } from "~/models/jobs.server";
-import { expandCases, loadSuite, suitePath } from "../../bench/runner/suite";
+import { caseCountOfRun } from "~/models/runs.server";
+import { problemLibraryFor } from "~/models/library.server";
+import { parseRunEvent, RUN_EVENTS_FD_ENV, type RunEvent } from "~/runs/events";
+import { expandCases, loadSuite, suitePath } from "~/runs/suite";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -27,18 +32,21 @@ const HEARTBEAT_MS = 1000;
 /** Seconds between SIGTERM and SIGKILL when a cancelled child does not stop. */
 const KILL_GRACE_MS = 15_000;
 
-const PROGRESS_LINE = /(\d+)\/(\d+)\s+elapsed\s+([\d:]+|--:--)\s+eta\s+([\d:]+|--:--)\s+(\S+):\s+(\S+)/;
-
-function seconds(text: string): number | null {
-  if (text === "--:--") return null;
-  return text.split(":").reduce((acc, p) => acc * 60 + Number(p), 0);
-}
-
-/** Parses one progress line of the runner; null when the line is something else. */
-export function parseProgressLine(line: string): { done: number; total: number; elapsed: number | null; eta: number | null; key: string; status: string } | null {
-  const m = PROGRESS_LINE.exec(line);
-  if (!m) return null;
-  return { done: Number(m[1]), total: Number(m[2]), elapsed: seconds(m[3]!), eta: seconds(m[4]!), key: m[5]!, status: m[6]! };
+/** Folds one runner event into the job's progress. */
+export function applyRunEvent(progress: BenchProgress, e: RunEvent, order: string[]): void {
+  progress.done = e.done;
+  progress.total = e.total;
+  if (e.event === "begin") {
+    progress.runId = e.runId;
+    order.splice(0, order.length, ...e.cases);
+    progress.current = order[0] ?? null;
+  } else if (e.event === "start") {
+    progress.current = e.running.join(", ") || e.key;
+  } else if (e.event === "finish") {
+    Object.assign(progress, { lastCase: e.key, lastStatus: e.status, etaSeconds: e.etaSeconds, current: e.running.join(", ") || (order[e.done] ?? null) });
+  } else {
+    progress.current = null;
+  }
 }
 
 /** True when `pid` is a bench command (so a reused pid of some other program is never signalled). */
@@ -124,36 +132,43 @@ async function tick(db: Db, state: WorkerState): Promise<void> {
     let order: string[] = [];
     try {
       const s = loadSuite(suitePath(payload.suite, worktree));
-      order = expandCases(s.definition, path.join(worktree, "problems")).map((c) => c.key);
+      order = expandCases(s.definition, problemLibraryFor(db, worktree)).map((c) => c.key);
     } catch (err) {
       append(`(case list unavailable: ${(err as Error).message})\n`);
     }
     Object.assign(progress, { total: order.length, current: order[0] ?? null, phase: "running" });
     const args = ["--import", tsxLoader(), "bench/run.ts", "--suite", payload.suite, "--job", String(job.id), "--db", databasePath(), "--base-url", process.env.ARCWATCH_BASE_URL ?? `http://${process.env.HOST ?? "127.0.0.1"}:${process.env.PORT ?? 3000}`];
     append(`$ cd <worktree> && node ${args.join(" ")}\n`);
-    const child = spawn(process.execPath, args, { cwd: worktree, env: { ...process.env, ARCWATCH_DB: databasePath(), ARCWATCH_JOB_WORKER: "0", FORCE_COLOR: "0" }, stdio: ["ignore", "pipe", "pipe"] });
+    const child = spawn(process.execPath, args, {
+      cwd: worktree,
+      env: { ...process.env, ARCWATCH_DB: databasePath(), ARCWATCH_JOB_WORKER: "0", FORCE_COLOR: "0", [RUN_EVENTS_FD_ENV]: "3" },
+      stdio: ["ignore", "pipe", "pipe", "pipe"],
+    });
     state.child = child;
     if (child.pid) setJobPid(db, job.id, child.pid);
+    const onData = (d: Buffer) => append(d.toString("utf8"));
+    child.stdout!.on("data", onData);
+    child.stderr!.on("data", onData);
+    let sawEvents = false;
     let partial = "";
-    const onData = (d: Buffer) => {
-      const text = d.toString("utf8");
-      append(text);
-      partial += text;
+    (child.stdio[3] as NodeJS.ReadableStream | null)?.on("data", (d: Buffer) => {
+      partial += d.toString("utf8");
       const lines = partial.split("\n");
       partial = lines.pop() ?? "";
       for (const line of lines) {
-        const p = parseProgressLine(line);
-        if (!p) continue;
-        Object.assign(progress, { done: p.done, total: p.total, lastCase: p.key, lastStatus: p.status, etaSeconds: p.eta, current: order[p.done] ?? null });
+        const e = parseRunEvent(line);
+        if (!e) continue;
+        sawEvents = true;
+        applyRunEvent(progress, e, order);
       }
-    };
-    child.stdout!.on("data", onData);
-    child.stderr!.on("data", onData);
+    });
     const started = Date.now();
     let killTimer: NodeJS.Timeout | null = null;
     const beat = setInterval(() => {
       progress.elapsedSeconds = (Date.now() - started) / 1000;
       progress.runId ??= runOfJob(db, job.id)?.id ?? null;
+      // A commit whose runner writes no events: the cases it has recorded so far.
+      if (!sawEvents && progress.runId) progress.done = caseCountOfRun(db, progress.runId);
       if (progress.runId && payload.ref && !/^[0-9a-f]{7,40}$/.test(payload.ref)) labelJobRuns(db, job.id, payload.ref);
       const status = heartbeatJob(db, job.id, progress, log);
       log = "";

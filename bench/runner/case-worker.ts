@@ -13,7 +13,7 @@ import { parentPort } from "node:worker_threads";
 import { pathToFileURL } from "node:url";
 import { Bench } from "tinybench";
 import type { CaseExecutor, CreateExecutor, ExecutorContext } from "./executor";
-import type { CaseOutcome, CaseReport, CaseSpec } from "./types";
+import type { CaseOutcome, CaseReport, CaseSpec } from "../../app/runs/types";
 import { CaseCalibration } from "./machine";
 
 let executor: CaseExecutor | null = null;

@@ -4,12 +4,16 @@
  * `createExecutor(context)` once; for each case it calls `prepare(spec)` outside the timed region
  * and then times `solve()` (tinybench). Whatever solves, the answer is a `CaseReport`.
  */
-import type { CaseReport, CaseSpec } from "./types";
+import type { CaseReport, CaseSpec } from "../../app/runs/types";
 
 export interface ExecutorContext {
   /** Root of the checkout being measured (its problems/ and bench/). */
   root: string;
-  problemsDir: string;
+  /**
+   * The problem library's roots in order (the checkout's problems/, then the uploaded folder):
+   * `new ProblemLibrary(libraryRoots)` (app/engine/problem/library.ts) finds and loads a problem.
+   */
+  libraryRoots: string[];
   /** Executor-specific settings from the suite (e.g. the external command). */
   options: Record<string, unknown>;
 }

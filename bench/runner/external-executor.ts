@@ -14,13 +14,12 @@
  *     jump between grid points counts fully at the points next to it.
  */
 import { spawnSync } from "node:child_process";
-import fs from "node:fs";
-import path from "node:path";
 import { z } from "zod";
-import { loadProblem } from "../../app/engine/problem/load";
+import { ProblemLibrary } from "../../app/engine/problem/library";
+import { loadFromLibrary } from "../../app/engine/problem/load";
 import type { CompiledProblem } from "../../app/engine/problem/types";
 import type { CreateExecutor } from "./executor";
-import type { CaseReport, CaseSpec } from "./types";
+import type { CaseReport, CaseSpec } from "../../app/runs/types";
 
 export const PROTOCOL = "arcwatch-solver/1";
 
@@ -115,12 +114,14 @@ export const createExecutor: CreateExecutor = (context) => {
   const repository = context.options.repository as string;
   const timeoutMs = ((context.options.timeoutSeconds as number | undefined) ?? 600) * 1000;
   if (!Array.isArray(command) || command.length === 0) throw new Error("external solver: options.command must be a non-empty argv array");
+  const library = new ProblemLibrary(context.libraryRoots);
   return {
     prepare(spec) {
-      const loaded = loadProblem(path.join(context.problemsDir, spec.problemId), context.problemsDir);
+      const loaded = loadFromLibrary(library, spec.problemId);
       if (!loaded.ok) throw new Error(`problem ${spec.problemId} does not load: ${loaded.errors.map((e) => e.message).join("; ")}`);
       const problem = loaded.problem;
-      const problemJson = JSON.parse(fs.readFileSync(path.join(context.problemsDir, spec.problemId, "problem.json"), "utf8")) as unknown;
+      // The problem.json text the loader compiled (same version hash), passed through as JSON.
+      const problemJson = JSON.parse(library.files(spec.problemId)!.problemJson) as unknown;
       const request = JSON.stringify({
         protocol: PROTOCOL,
         case: { key: spec.key, problemId: spec.problemId, scheme: spec.scheme, mesh: { intervals: spec.intervals, ...(spec.degree !== undefined ? { degree: spec.degree } : {}), ...(spec.variant ? { variant: spec.variant } : {}) } },

@@ -4,14 +4,9 @@
  */
 import { simpleGit } from "simple-git";
 
-export interface CommitMeta {
-  commitHash: string;
-  branch: string | null;
-  dirty: boolean;
-  subject: string | null;
-  author: string | null;
-  date: Date | null;
-}
+import type { CommitMeta } from "../../app/runs/types";
+
+export type { CommitMeta };
 
 export async function commitMeta(dir: string): Promise<CommitMeta> {
   const git = simpleGit({ baseDir: dir });

@@ -12,7 +12,7 @@
  * than the raw time (on a shared machine the run-level figure moved 3× within one run).
  */
 import os from "node:os";
-import { sha256 } from "./suite";
+import { sha256 } from "../../app/runs/suite";
 import { median } from "../../app/engine/stats/summary";
 
 export interface MachineInfo {

@@ -11,7 +11,7 @@ import { Worker } from "node:worker_threads";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import type { ExecutorContext } from "./executor";
-import type { CaseOutcome, CaseSpec } from "./types";
+import type { CaseOutcome, CaseSpec } from "../../app/runs/types";
 
 const BOOT = fileURLToPath(new URL("./worker-boot.mjs", import.meta.url));
 const ENTRY = new URL("./case-worker.ts", import.meta.url).href;

@@ -1,8 +1,15 @@
 /**
  * Progress on stderr: cases done/total, elapsed time, an estimate of the time left (mean time per
  * finished case, wall clock, × cases left) and the case running now. On a terminal the bar is
- * redrawn in place; otherwise (CI logs) one line is printed per finished case.
+ * redrawn in place; otherwise (CI logs) one line is printed per finished case. The same facts go
+ * to `events` as JSON lines (app/runs/events.ts) for programs such as the job worker.
  */
+import { formatRunEvent, type RunEvent } from "../../app/runs/events";
+
+/** Where machine-readable events go (one line per call). */
+export interface ProgressEvents {
+  write(line: string): void;
+}
 export function formatDuration(seconds: number): string {
   if (!Number.isFinite(seconds) || seconds < 0) return "--:--";
   const s = Math.round(seconds);
@@ -20,16 +27,34 @@ export class Progress {
   constructor(
     private readonly total: number,
     private readonly out: NodeJS.WriteStream | null = process.stderr,
+    private readonly events: ProgressEvents | null = null,
   ) {
     this.tty = !!out?.isTTY;
   }
+  private emit(e: RunEvent): void {
+    try {
+      this.events?.write(formatRunEvent(e));
+    } catch {
+      /* a reader that went away must not stop the run */
+    }
+  }
+  private elapsed(): number {
+    return (Date.now() - this.started) / 1000;
+  }
+  /** The run exists: its id and the case keys in order. */
+  begin(runId: string, cases: string[]): void {
+    this.emit({ event: "begin", runId, cases, done: this.done, total: this.total });
+  }
   start(key: string): void {
     this.running.add(key);
+    this.emit({ event: "start", key, running: [...this.running], done: this.done, total: this.total });
     this.draw();
   }
   finish(key: string, status: string): void {
     this.running.delete(key);
     this.done++;
+    const elapsed = this.elapsed();
+    this.emit({ event: "finish", key, status, running: [...this.running], done: this.done, total: this.total, elapsedSeconds: elapsed, etaSeconds: this.done > 0 ? (elapsed / this.done) * (this.total - this.done) : null });
     if (!this.tty && this.out) this.out.write(`${this.line()}  ${key}: ${status}\n`);
     this.draw();
   }
@@ -47,6 +72,7 @@ export class Progress {
     this.out.write(`\r\x1b[2K${text}`);
   }
   end(): void {
+    this.emit({ event: "end", done: this.done, total: this.total, elapsedSeconds: this.elapsed() });
     if (this.tty && this.out) this.out.write("\r\x1b[2K");
   }
 }

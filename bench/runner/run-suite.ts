@@ -1,25 +1,26 @@
 /**
- * The benchmark run, as a library: the command line (bench/run.ts), the server's job worker and
- * tests all call `runSuite`. It reads the suite, records the commit and the machine, calibrates,
- * runs every case in worker threads (bench/runner/pool.ts), writes each finished case in its own
- * transaction, calibrates again, marks the run complete (or interrupted when `signal` aborts),
- * detects regressions against the baseline and sends the alerts.
+ * The benchmark run, as a library: the command line (bench/run.ts, which the server's job worker
+ * also runs) and tests call `runSuite`. It reads the suite, records the commit and the machine,
+ * calibrates, runs every case in worker threads (./pool.ts), stores each finished case through the
+ * one recording path (app/models/recording.server.ts), calibrates again, marks the run complete
+ * (or interrupted when `signal` aborts), runs the detection every stored run gets
+ * (app/models/detection.server.ts `afterRun`) and sends the alerts.
  */
-import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { runnerLibraryDir, uploadedProblemsDirFor } from "./library-dir";
 import type { Db } from "../../app/db/client.server";
+import type { ProblemLibrary } from "../../app/engine/problem/library";
+import { afterRun, type Detection } from "../../app/models/detection.server";
+import { problemLibraryFor } from "../../app/models/library.server";
+import { ensureSuite, finishRun, insertCase, insertRun } from "../../app/models/recording.server";
+import { caseRecordFromOutcome } from "../../app/runs/record";
+import { expandCases, loadSuite, suitePath, type LoadedSuite } from "../../app/runs/suite";
+import type { CaseOutcome, CommitMeta } from "../../app/runs/types";
+import { sendRegressionAlerts, type AlertResult } from "../../app/services/alerts.server";
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
-import { commitMeta, resolveCommit, type CommitMeta } from "./git-meta";
-import { detectRegressions, type Detection } from "./detect";
+import { commitMeta, resolveCommit } from "./git-meta";
 import { runCases } from "./pool";
-import { Progress } from "./progress";
-import { createRun, ensureSuite, finishRun, recordCase } from "./record";
-import { expandCases, loadSuite, suitePath, type LoadedSuite } from "./suite";
-import { isSolved, type CaseOutcome } from "./types";
-import { sendRegressionAlerts, type AlertResult } from "./alerts";
-import { effectiveThresholds } from "../../app/models/settings.server";
+import { Progress, type ProgressEvents } from "./progress";
 
 export interface RunSuiteOptions {
   /** Suite name (bench/suites/<name>.json under root) or a path to a suite file. */
@@ -34,6 +35,8 @@ export interface RunSuiteOptions {
   signal?: AbortSignal;
   /** Progress bar stream (default stderr); null for none. */
   progress?: NodeJS.WriteStream | null;
+  /** Machine-readable progress (JSON lines, see ./progress.ts), e.g. for the job worker. */
+  events?: ProgressEvents | null;
   /** Send e-mail alerts for new regressions (default true). */
   alerts?: boolean;
   /** Base URL used in alert links. */
@@ -83,28 +86,19 @@ function planSolver(suite: LoadedSuite, budgetSeconds: number): SolverPlan {
   return { executorModule: here("./builtin-executor.ts"), options: {}, kind: "builtin", label: null, repository: null };
 }
 
-/** Expected arc signatures from the problem files' reference.arcs ("upper|singular|lower"). */
-function referenceArcs(problemsDir: string, ids: string[]): Map<string, string> {
-  const out = new Map<string, string>();
-  for (const id of ids) {
-    try {
-      const j = JSON.parse(fs.readFileSync(path.join(problemsDir, id, "problem.json"), "utf8")) as { reference?: { arcs?: unknown } };
-      const arcs = j.reference?.arcs;
-      if (Array.isArray(arcs) && arcs.every((a) => typeof a === "string")) out.set(id, arcs.join("|"));
-    } catch {
-      /* unreadable files are reported by the loader in the case itself */
-    }
-  }
-  return out;
+/** Stores one finished case with its problem's facts from the library. */
+function recordOutcome(db: Db, runId: string, outcome: CaseOutcome, library: ProblemLibrary): void {
+  const facts = library.facts(outcome.spec.problemId);
+  insertCase(db, runId, caseRecordFromOutcome(outcome), facts ? { ...facts, versionHash: outcome.report?.versionHash ?? "unknown" } : null);
 }
 
 export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const t0 = Date.now();
   const root = path.resolve(opts.root ?? process.cwd());
-  const problemsDir = runnerLibraryDir(root, uploadedProblemsDirFor(opts.db.$client.name));
+  const library = problemLibraryFor(opts.db, root);
   const suite = loadSuite(suitePath(opts.suite, root));
   const def = suite.definition;
-  const cases = expandCases(def, problemsDir);
+  const cases = expandCases(def, library);
   const plan = planSolver(suite, def.timeBudgetSeconds);
   const measuredRepo = plan.repository ?? root;
   const commit = await commitMeta(measuredRepo);
@@ -123,20 +117,25 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const key = machineKey(machine);
   const calBefore: Calibration = calibrate();
   const db = opts.db;
-  const suiteId = ensureSuite(db, suite);
-  const runId = createRun(db, {
+  const suiteId = ensureSuite(db, { name: def.name, contentHash: suite.contentHash, definition: def, thresholds: suite.thresholds });
+  const runId = insertRun(db, {
     suiteId,
-    commit,
-    machine,
+    commitHash: commit.commitHash,
+    branch: commit.branch,
+    dirty: commit.dirty,
+    commitSubject: commit.subject,
+    commitAuthor: commit.author,
+    commitDate: commit.date,
+    machine: { ...machine, calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind, clock: def.clock, jobs },
     machineKey: key,
     calibrationSeconds: calBefore.seconds,
-    extraMachine: { calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind, clock: def.clock, jobs },
     solverLabel: plan.label,
     externalRepo: plan.repository,
     jobId: opts.jobId ?? null,
   });
 
-  const progress = new Progress(cases.length, opts.progress === undefined ? process.stderr : opts.progress);
+  const progress = new Progress(cases.length, opts.progress === undefined ? process.stderr : opts.progress, opts.events ?? null);
+  progress.begin(runId, cases.map((c) => c.key));
   let recordError: Error | null = null;
   const outcomes = await runCases(cases, {
     jobs,
@@ -145,12 +144,12 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     repeats: def.repeats,
     warmup: def.warmup,
     executorModule: plan.executorModule,
-    context: { root, problemsDir, options: plan.options },
+    context: { root, libraryRoots: [...library.roots], options: plan.options },
     signal: opts.signal,
     onStart: (spec) => progress.start(spec.key),
     onDone: (outcome) => {
       try {
-        recordCase(db, runId, outcome, problemsDir);
+        recordOutcome(db, runId, outcome, library);
       } catch (err) {
         recordError ??= err as Error;
       }
@@ -172,8 +171,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
 
   let detection: Detection | null = null;
   let alerts: AlertResult | null = null;
-  if (status === "complete") {
-    detection = detectRegressions(db, runId, { thresholds: effectiveThresholds(db, def.name, suite.thresholds), baseline, referenceArcs: referenceArcs(problemsDir, [...new Set(cases.map((c) => c.problemId))]) });
+  detection = afterRun(db, runId, { baseline });
+  if (detection) {
     if (opts.alerts !== false && detection.newRegressions > 0) {
       alerts = await sendRegressionAlerts(db, {
         runId,
@@ -201,17 +200,4 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   };
 }
 
-/** Counts for a one-line verdict. */
-export function tally(outcomes: CaseOutcome[]): { solved: number; failed: number; timeouts: number; errors: number } {
-  let solved = 0;
-  let failed = 0;
-  let timeouts = 0;
-  let errors = 0;
-  for (const o of outcomes) {
-    if (isSolved(o.status)) solved++;
-    else if (o.status === "timeout") timeouts++;
-    else if (o.status === "error") errors++;
-    else failed++;
-  }
-  return { solved, failed, timeouts, errors };
-}
+export { tally } from "./table";

@@ -1,10 +1,10 @@
 /**
- * Upload client: posts a recorded run (bench/runner/payload.ts) to an Arcwatch server's ingestion
+ * Upload client: posts a recorded run (app/runs/payload.ts) to an Arcwatch server's ingestion
  * endpoint with a bearer token. `url` is either the endpoint itself or the server's base URL,
  * in which case `/api/runs` is appended.
  */
 import type { Db } from "../../app/db/client.server";
-import { buildRunPayload } from "./payload";
+import { buildRunPayload } from "../../app/models/recording.server";
 
 export const INGEST_PATH = "/api/runs";
 

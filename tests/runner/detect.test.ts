@@ -1,14 +1,15 @@
 import { describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import { regressionEvents, regressions } from "~/db/schema";
-import { compareCases, detectRegressions, findBaseline } from "../../bench/runner/detect";
-import { createRun, ensureSuite, finishRun, recordCase } from "../../bench/runner/record";
-import { DEFAULT_THRESHOLDS, loadSuite } from "../../bench/runner/suite";
+import { compareCases } from "~/runs/rules";
+import { detectRegressions, findBaseline } from "~/models/detection.server";
+import { ensureSuite, finishRun, insertCase, insertRun } from "~/models/recording.server";
+import { caseRecordFromOutcome } from "~/runs/record";
+import { DEFAULT_THRESHOLDS, loadSuite } from "~/runs/suite";
 import { createPrng } from "~/engine/stats/prng";
 import { normalQuantile } from "~/engine/stats/normal-quantile";
-import type { CaseOutcome } from "../../bench/runner/types";
-import { REPO, tempDb, tempDir, writeSuite } from "./helpers";
-import path from "node:path";
+import type { CaseOutcome } from "~/runs/types";
+import { tempDb, tempDir, writeSuite } from "./helpers";
 
 /** Log-normal timing samples with median m and log-spread s (seeded). */
 function times(seed: number, n: number, m: number, s = 0.05): number[] {
@@ -92,17 +93,21 @@ describe("baselines, drift and de-duplication in the database", () => {
   const dir = tempDir("detect");
   const db = tempDb(dir);
   const suite = loadSuite(writeSuite(dir, { name: "hist", problems: ["pika-rover-dash"], schemes: ["lgr"], meshes: [{ intervals: 8 }] }));
-  const suiteId = ensureSuite(db, suite);
+  const suiteId = ensureSuite(db, { name: suite.definition.name, contentHash: suite.contentHash, definition: suite.definition, thresholds: suite.thresholds });
   const machine = { cpuModel: "test", cores: 2, memoryGb: 1, platform: "linux", release: "x", arch: "x64", node: "20.0.0" };
   let clock = Date.parse("2026-01-01T00:00:00Z");
   const addRun = (commitHash: string, median: number, branch = "main", seed = 1) => {
-    const id = createRun(db, {
+    const id = insertRun(db, {
       suiteId,
-      commit: { commitHash, branch, dirty: false, subject: `commit ${commitHash}`, author: "t", date: new Date(clock) },
-      machine,
+      commitHash,
+      branch,
+      dirty: false,
+      commitSubject: `commit ${commitHash}`,
+      commitAuthor: "t",
+      commitDate: new Date(clock),
+      machine: { ...machine, calibration: { before: 0.01, after: 0.01 } },
       machineKey: "k1",
       calibrationSeconds: 0.01,
-      extraMachine: { calibration: { before: 0.01, after: 0.01 } },
       startedAt: new Date((clock += 60_000)),
     });
     const outcome: CaseOutcome = {
@@ -113,7 +118,7 @@ describe("baselines, drift and de-duplication in the database", () => {
       samples: times(seed, 8, median, 0.03),
       wallSeconds: 1,
     };
-    recordCase(db, id, outcome, path.join(REPO, "problems"));
+    insertCase(db, id, caseRecordFromOutcome(outcome), null);
     finishRun(db, id, "complete");
     return id;
   };

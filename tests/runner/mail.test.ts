@@ -4,8 +4,8 @@ import type { AddressInfo } from "node:net";
 import { outbox, subscriptions, users, problems } from "~/db/schema";
 import { sendMail, stopStandin } from "~/services/mail.server";
 import { decodeHeader, decodeQuotedPrintable, startSmtpStandin } from "~/services/smtp-standin.server";
-import { sendRegressionAlerts } from "../../bench/runner/alerts";
-import type { Finding } from "../../bench/runner/detect";
+import { sendRegressionAlerts } from "~/services/alerts.server";
+import type { Finding } from "~/runs/rules";
 import { tempDb, tempDir } from "./helpers";
 
 afterAll(async () => {

@@ -4,7 +4,8 @@ import type { AddressInfo } from "node:net";
 import { eq } from "drizzle-orm";
 import { caseResults, runs, timingSamples } from "~/db/schema";
 import { runSuite } from "../../bench/runner/run-suite";
-import { buildRunPayload, ingestRunPayload, runPayloadSchema } from "../../bench/runner/payload";
+import { buildRunPayload, storeRunPayload } from "~/models/recording.server";
+import { runPayloadSchema } from "~/runs/payload";
 import { ingestUrl, uploadRun } from "../../bench/runner/upload";
 import { REPO, SIM_EXECUTOR, tempDb, tempDir, writeSuite } from "./helpers";
 
@@ -26,19 +27,19 @@ describe("upload payload and client", () => {
     expect(runPayloadSchema.safeParse(payload).success).toBe(true);
 
     const b = tempDb(dir, "b.db");
-    expect(ingestRunPayload(b, payload).runId).toBe(s.runId);
+    expect(storeRunPayload(b, payload).runId).toBe(s.runId);
     const ra = a.select().from(caseResults).where(eq(caseResults.runId, s.runId)).all();
     const rb = b.select().from(caseResults).where(eq(caseResults.runId, s.runId)).all();
     const strip = (r: (typeof ra)[number]) => ({ ...r, id: 0, createdAt: 0 });
     expect(rb.map(strip).sort((x, y) => x.caseKey.localeCompare(y.caseKey))).toEqual(ra.map(strip).sort((x, y) => x.caseKey.localeCompare(y.caseKey)));
     expect(b.select().from(timingSamples).all().map((t) => t.samplesJson.length)).toEqual([3, 3]);
     expect(b.select().from(runs).get()?.machineKey).toBe(s.machineKey);
-    expect(() => ingestRunPayload(b, payload)).toThrow(/already uploaded/);
+    expect(() => storeRunPayload(b, payload)).toThrow(/already uploaded/);
     const tampered = structuredClone(payload);
     tampered.run.id = crypto.randomUUID();
     tampered.suite.definition.repeats = 99;
-    expect(() => ingestRunPayload(b, tampered)).toThrow(/does not match its definition/);
-    expect(() => ingestRunPayload(b, { ...payload, format: "other/1" })).toThrow(/invalid run payload: format/);
+    expect(() => storeRunPayload(b, tampered)).toThrow(/does not match its definition/);
+    expect(() => storeRunPayload(b, { ...payload, format: "other/1" })).toThrow(/invalid run payload: format/);
 
     // The client against a loopback server that checks the token and ingests.
     const c = tempDb(dir, "c.db");
@@ -51,7 +52,7 @@ describe("upload payload and client", () => {
           return;
         }
         try {
-          const out = ingestRunPayload(c, JSON.parse(body));
+          const out = storeRunPayload(c, JSON.parse(body));
           res.writeHead(201, { "content-type": "application/json" }).end(JSON.stringify(out));
         } catch (err) {
           res.writeHead(400).end((err as Error).message);

@@ -1,7 +1,8 @@
 import { describe, expect, it } from "vitest";
 import path from "node:path";
 import fs from "node:fs";
-import { canonicalJson, expandCases, loadSuite, suitePath } from "../../bench/runner/suite";
+import { canonicalJson, expandCases, loadSuite, suitePath } from "~/runs/suite";
+import { ProblemLibrary } from "~/engine/problem/library";
 import { REPO, tempDir, writeSuite } from "./helpers";
 
 describe("suite files", () => {
@@ -15,7 +16,7 @@ describe("suite files", () => {
       exclude: [{ scheme: "trapezoidal", intervals: 10, problem: "kestrel-2-ascent" }],
     });
     const s = loadSuite(file);
-    const cases = expandCases(s.definition, path.join(REPO, "problems"));
+    const cases = expandCases(s.definition, new ProblemLibrary([path.join(REPO, "problems")]));
     const keys = cases.map((c) => c.key);
     expect(keys[0]).toBe("kestrel-2-ascent/lgr/10x4");
     expect(keys).toContain("kestrel-2-ascent/lgr/6x3");
@@ -37,12 +38,12 @@ describe("suite files", () => {
     const bad = writeSuite(dir, { name: "bad", problems: ["kestrel-2-ascent"], schemes: ["nope"], meshes: [{ intervals: 0 }] });
     expect(() => loadSuite(bad)).toThrow(/bad\.json: invalid suite[\s\S]*schemes\.0[\s\S]*meshes\.0\.intervals/);
     const unknown = writeSuite(dir, { name: "unk", problems: ["no-such-problem"], schemes: ["euler"], meshes: [{ intervals: 5 }] });
-    expect(() => expandCases(loadSuite(unknown).definition, path.join(REPO, "problems"))).toThrow(/problems\[0\] "no-such-problem"/);
+    expect(() => expandCases(loadSuite(unknown).definition, new ProblemLibrary([path.join(REPO, "problems")]))).toThrow(/problems\[0\] "no-such-problem"/);
   });
   it("the shipped suites are valid and resolve", () => {
     for (const name of ["quick", "full"]) {
       const s = loadSuite(suitePath(name, REPO));
-      expect(expandCases(s.definition, path.join(REPO, "problems")).length).toBeGreaterThan(0);
+      expect(expandCases(s.definition, new ProblemLibrary([path.join(REPO, "problems")])).length).toBeGreaterThan(0);
     }
   });
 });

@@ -70,7 +70,7 @@ describe("PELT change points (Killick, Fearnhead & Eckley 2012)", () => {
     }
     // Measured here: 1.2 % with σ known, 7.7 % with σ̂ from differences (the MAD of 29 differences
     // is a noisy scale estimate). The runner therefore also requires a minimum shift (see
-    // bench/runner/detect.ts). Bounds: 3 % and 10 %.
+    // app/runs/rules.ts). Bounds: 3 % and 10 %.
     expect(known / 1000).toBeLessThan(0.03);
     expect(estimated / 1000).toBeLessThan(0.1);
   });

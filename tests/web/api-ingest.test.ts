@@ -8,8 +8,8 @@ import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
 import { openDatabase, type Db } from "~/db/client.server";
 import { caseResults, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
-import { loadSuite, suitePath } from "../../bench/runner/suite";
-import { PAYLOAD_FORMAT, type RunPayload } from "../../bench/runner/payload";
+import { loadSuite, suitePath } from "~/runs/suite";
+import { PAYLOAD_FORMAT, type RunPayload } from "~/runs/payload";
 import { eq, sql } from "drizzle-orm";
 
 let server: RunningServer;

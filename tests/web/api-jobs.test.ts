@@ -1,7 +1,7 @@
 /**
  * The job queue the worker runs: one job at a time, oldest first; cancel rules; jobs left
  * running by a stopped server are marked died (and their runs interrupted) at start-up; the
- * worker reads the runner's own progress lines.
+ * worker reads the runner's machine-readable progress events (JSON lines), never the bar.
  */
 import { beforeAll, describe, expect, it } from "vitest";
 import { useTempDatabase } from "../helpers/temp-db";
@@ -11,7 +11,8 @@ useTempDatabase("jobs");
 const { getDb } = await import("~/db/client.server");
 const { jobs, runs, suites } = await import("~/db/schema");
 const { enqueueJob, claimNextJob, cancelJob, markDeadJobs, finishJob, heartbeatJob, jobView, labelJobRuns, MAX_JOB_LOG } = await import("~/models/jobs.server");
-const { parseProgressLine } = await import("~/services/job-worker.server");
+const { applyRunEvent } = await import("~/services/job-worker.server");
+const { parseRunEvent } = await import("~/runs/events");
 const { Progress } = await import("../../bench/runner/progress");
 const { eq } = await import("drizzle-orm");
 
@@ -80,19 +81,31 @@ describe("queue", () => {
   });
 });
 
-describe("progress lines", () => {
-  it("reads the lines the runner's Progress prints when its output is not a terminal", () => {
-    let text = "";
-    const sink = { isTTY: false, write: (s: string) => ((text += s), true) } as unknown as NodeJS.WriteStream;
-    const p = new Progress(3, sink);
+describe("progress events", () => {
+  it("reads the JSON lines the runner's Progress writes beside its bar (the bar is not parsed)", () => {
+    let bar = "";
+    let events = "";
+    const sink = { isTTY: false, write: (s: string) => ((bar += s), true) } as unknown as NodeJS.WriteStream;
+    const p = new Progress(3, sink, { write: (line: string) => void (events += line) });
+    p.begin("run-1", ["pika-rover-dash/trapezoidal/20", "pika-rover-dash/lgr/8x4", "pika-rover-dash/euler/20"]);
     p.start("pika-rover-dash/trapezoidal/20");
     p.finish("pika-rover-dash/trapezoidal/20", "optimal");
     p.start("pika-rover-dash/lgr/8x4");
     p.finish("pika-rover-dash/lgr/8x4", "timeout");
-    const lines = text.trim().split("\n").map(parseProgressLine);
-    expect(lines[0]).toMatchObject({ done: 1, total: 3, key: "pika-rover-dash/trapezoidal/20", status: "optimal" });
-    expect(lines[1]).toMatchObject({ done: 2, total: 3, key: "pika-rover-dash/lgr/8x4", status: "timeout" });
-    expect(lines[1]!.eta).not.toBeNull();
-    expect(parseProgressLine("run 3f… · complete")).toBeNull();
+    const parsed = events.trim().split("\n").map(parseRunEvent);
+    expect(parsed.every((e) => e !== null)).toBe(true);
+    expect(parsed.map((e) => e!.event)).toEqual(["begin", "start", "finish", "start", "finish"]);
+    expect(parsed[2]).toMatchObject({ event: "finish", done: 1, total: 3, key: "pika-rover-dash/trapezoidal/20", status: "optimal" });
+    expect(parsed[4]).toMatchObject({ event: "finish", done: 2, total: 3, key: "pika-rover-dash/lgr/8x4", status: "timeout" });
+    // The job's progress record follows the events.
+    const progress = { done: 0, total: 0, current: null, lastCase: null, lastStatus: null, elapsedSeconds: 0, etaSeconds: null, commit: null, runId: null, phase: "running" as const };
+    const order: string[] = [];
+    for (const e of parsed) applyRunEvent(progress, e!, order);
+    expect(progress).toMatchObject({ runId: "run-1", done: 2, total: 3, lastCase: "pika-rover-dash/lgr/8x4", lastStatus: "timeout", current: "pika-rover-dash/euler/20" });
+    expect(progress.etaSeconds).not.toBeNull();
+    // The human bar is still printed, and is not an event.
+    expect(bar).toMatch(/2\/3 .*pika-rover-dash\/lgr\/8x4: timeout/);
+    expect(parseRunEvent(bar.trim().split("\n")[0]!)).toBeNull();
+    expect(parseRunEvent("run 3f… · complete")).toBeNull();
   });
 });

@@ -19,10 +19,10 @@ const { createUser } = await import("~/models/users.server");
 const { signIn } = await import("~/services/auth.server");
 const problemsModel = await import("~/models/problems.server");
 const { buildViews } = await import("~/models/compare.server");
-const { fitConvergenceOrder } = await import("~/components/compare/convergence-order");
-const { buildProblemJson, builderFieldOf, emptyBuilderValues } = await import("~/components/problems/form-model");
-const { runnerLibraryDir, uploadedProblemsDirFor } = await import("../../bench/runner/library-dir");
-const { expandCases, suiteSchema } = await import("../../bench/runner/suite");
+const { fitConvergenceOrder } = await import("~/engine/analysis/convergence-order");
+const { buildProblemJson, builderFieldOf, emptyBuilderValues } = await import("~/engine/problem/form");
+const { problemLibraryFor, uploadedProblemsDir } = await import("~/models/library.server");
+const { expandCases, suiteSchema } = await import("~/runs/suite");
 const { triageRegression, getRegressionDetail, listRegressions } = await import("~/models/regressions.server");
 const schema = await import("~/db/schema");
 
@@ -189,12 +189,15 @@ describe("adding a problem", () => {
   });
 
   it("the runner's library includes the uploaded problem, selected by its tag", () => {
-    expect(uploadedProblemsDirFor(null)).toBe(uploads);
-    const dir = runnerLibraryDir(ROOT, uploads);
-    expect(dir).not.toBe(path.join(ROOT, "problems"));
+    // One place computes the uploaded folder, for the pages and the runner alike.
+    expect(uploadedProblemsDir(":memory:")).toBe(uploads);
+    const library = problemLibraryFor(getDb(), ROOT);
+    expect(library.roots).toEqual([path.join(ROOT, "problems"), uploads]);
     const suite = suiteSchema.parse({ format: "arcwatch-suite/1", name: "tagged", problems: [{ tag: "plover-test-tag" }, "pika-rover-dash"], schemes: ["trapezoidal"], meshes: [{ intervals: 10 }] });
-    expect(expandCases(suite, dir).map((c) => c.key)).toEqual(["plover-cart/trapezoidal/10", "pika-rover-dash/trapezoidal/10"]);
-    expect(runnerLibraryDir(ROOT, path.join(uploads, "missing"))).toBe(path.join(ROOT, "problems"));
+    expect(expandCases(suite, library).map((c) => c.key)).toEqual(["plover-cart/trapezoidal/10", "pika-rover-dash/trapezoidal/10"]);
+    // A checkout problem wins over an uploaded one of the same id.
+    expect(library.rootIndexOf("pika-rover-dash")).toBe(0);
+    expect(library.rootIndexOf("plover-cart")).toBe(1);
   });
 });
 

@@ -1,3 +1,2 @@
-/** The transcriptions Arcwatch runs, in display order (ids as in app/engine/schemes). */
-export const SCHEMES = ["euler", "trapezoidal", "hermite-simpson", "lgr", "rk4-shooting"] as const;
-export type SchemeName = (typeof SCHEMES)[number];
+/** The scheme list lives with the engine (app/engine/schemes/ids.ts); re-exported for the pages. */
+export { SCHEMES, type SchemeName } from "~/engine/schemes/ids";

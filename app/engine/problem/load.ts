@@ -6,11 +6,15 @@
  * cached by content hash (problemVersionHash of the files' text), so an edited file is a new
  * version and recompiles, and an unchanged one is compiled once per process.
  */
-import { existsSync, readdirSync, readFileSync, statSync } from "node:fs";
+import { existsSync, readdirSync, statSync } from "node:fs";
 import path from "node:path";
 import type { CompiledProblem } from "./types";
 import type { ProblemError } from "./errors";
 import { compileProblemSource, problemVersionHash, type CompileResult, type ProblemSourceFiles } from "./compile";
+import { PROBLEM_ID_PATTERN, readProblemFiles } from "./files";
+import type { ProblemLibrary } from "./library";
+
+export { PROBLEM_ID_PATTERN, readProblemFiles };
 
 const cache = new Map<string, CompileResult>();
 /** Cache entries kept at most (oldest dropped first). */
@@ -19,44 +23,6 @@ const MAX_CACHE_ENTRIES = 500;
 function label(file: string): string {
   const rel = path.relative(process.cwd(), file);
   return (rel && !rel.startsWith("..") && !path.isAbsolute(rel) ? rel : file).split(path.sep).join("/");
-}
-
-/** File names a problem.json refers to (without validating it; compile does that). */
-function referencedFiles(json: string): { reference?: string; guess?: string } {
-  try {
-    const raw = JSON.parse(json.charCodeAt(0) === 0xfeff ? json.slice(1) : json) as {
-      reference?: { trajectory?: { file?: unknown } };
-      guess?: { kind?: unknown; file?: unknown };
-    };
-    const safe = (f: unknown) => (typeof f === "string" && /^[A-Za-z0-9_-][A-Za-z0-9_.-]*\.csv$/.test(f) ? f : undefined);
-    return {
-      reference: safe(raw?.reference?.trajectory?.file),
-      guess: raw?.guess?.kind === "trajectory" ? safe(raw.guess.file) : undefined,
-    };
-  } catch {
-    return {};
-  }
-}
-
-function readIfFile(file: string): string | undefined {
-  try {
-    return statSync(file).isFile() ? readFileSync(file, "utf8") : undefined;
-  } catch {
-    return undefined;
-  }
-}
-
-/** Reads a problem's files from its folder. */
-export function readProblemFiles(dir: string): ProblemSourceFiles | null {
-  const problemJson = readIfFile(path.join(dir, "problem.json"));
-  if (problemJson === undefined) return null;
-  const names = referencedFiles(problemJson);
-  const files: ProblemSourceFiles = { problemJson };
-  const ref = readIfFile(path.join(dir, names.reference ?? "reference.csv"));
-  if (ref !== undefined) files.referenceCsv = ref;
-  const guess = readIfFile(path.join(dir, names.guess ?? "guess.csv"));
-  if (guess !== undefined) files.guessCsv = guess;
-  return files;
 }
 
 function compileCached(id: string, files: ProblemSourceFiles, fileLabel: string): CompileResult {
@@ -87,9 +53,6 @@ export function loadProblem(pathOrId: string, libraryDir = "problems"): CompileR
   }
   return compileCached(id, files, label(jsonFile));
 }
-
-/** A problem id: a folder name of letters, digits, '-', '_' and '.', not starting with '.'. */
-export const PROBLEM_ID_PATTERN = /^[A-Za-z0-9][A-Za-z0-9_.-]{0,127}$/;
 
 /**
  * Loads a problem by id only (never a path): for ids that come from outside (a URL, a form),
@@ -125,6 +88,13 @@ export function loadLibrary(libraryDir = "problems"): { problems: CompiledProble
     else errors.push(...r.errors);
   }
   return { problems, errors };
+}
+
+/** Compiles problem `id` of a library (the first root holding it). */
+export function loadFromLibrary(library: ProblemLibrary, id: string): CompileResult {
+  const i = library.rootIndexOf(id);
+  if (i < 0) return { ok: false, errors: [{ file: library.label, path: "", message: `no problem "${id.slice(0, 80)}" in the library (${library.label})` }] };
+  return loadProblemById(id, library.roots[i]!);
 }
 
 /** Empties the compile cache (tests). */

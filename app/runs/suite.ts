@@ -1,6 +1,6 @@
 /**
- * Suite files: bench/suites/<name>.json (format "arcwatch-suite/1", see DEVELOPERS.md,
- * "Benchmark runner"). A suite names problems (by id or by tag), schemes, meshes, how many timed
+ * Suite files: `<checkout>/bench/suites/<name>.json` (format "arcwatch-suite/1", see DEVELOPERS.md,
+ * "Benchmark runner"). Pure apart from reading the suite file itself. A suite names problems (by id or by tag), schemes, meshes, how many timed
  * repeats each case gets, a time budget per case and the regression thresholds. Its content hash
  * (SHA-256 of the canonical JSON) is stored with every run.
  */
@@ -8,10 +8,11 @@ import { createHash } from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
 import { z } from "zod";
+import { SCHEMES } from "../engine/schemes/ids";
 import type { CaseSpec, Thresholds } from "./types";
 
 export const SUITE_FORMAT = "arcwatch-suite/1";
-export const SCHEME_IDS = ["euler", "trapezoidal", "hermite-simpson", "lgr", "rk4-shooting"] as const;
+export const SCHEME_IDS = SCHEMES;
 
 export const DEFAULT_THRESHOLDS: Thresholds = {
   accuracyFactor: 2,
@@ -53,7 +54,7 @@ const solverSchema = z.discriminatedUnion("kind", [
   z
     .object({
       kind: z.literal("module"),
-      /** A TypeScript/JavaScript module exporting `createExecutor()` (bench/runner/executor.ts), relative to the suite file. */
+      /** A TypeScript/JavaScript module exporting `createExecutor()` (the runner's executor interface), relative to the suite file. */
       module: z.string().min(1),
       label: z.string().min(1).optional(),
       /** Passed to the module's createExecutor as context.options. */
@@ -172,21 +173,15 @@ export function loadSuite(file: string): LoadedSuite {
 export const caseKey = (problemId: string, scheme: string, intervals: number, degree?: number, variant?: string) =>
   `${problemId}/${scheme}/${intervals}${degree !== undefined ? `x${degree}` : ""}${variant ? `:${variant}` : ""}`;
 
-/** Tags of every problem folder under `problemsDir` (read from problem.json, no compilation). */
-export function problemTags(problemsDir: string): Map<string, string[]> {
-  const out = new Map<string, string[]>();
-  if (!fs.existsSync(problemsDir)) return out;
-  for (const id of fs.readdirSync(problemsDir).sort()) {
-    const f = path.join(problemsDir, id, "problem.json");
-    if (!fs.existsSync(f)) continue;
-    try {
-      const j = JSON.parse(fs.readFileSync(f, "utf8")) as { tags?: unknown };
-      out.set(id, Array.isArray(j.tags) ? j.tags.filter((t): t is string => typeof t === "string") : []);
-    } catch {
-      out.set(id, []);
-    }
-  }
-  return out;
+/**
+ * What suite expansion needs from the problem library (app/engine/problem/library.ts): every
+ * problem id with its tags, and a label for error messages.
+ */
+export interface ProblemCatalog {
+  /** Where the problems come from, e.g. the library's roots. */
+  readonly label: string;
+  /** Problem id → tags, for every problem of the library (ids sorted). */
+  tagsById(): Map<string, string[]>;
 }
 
 /**
@@ -194,16 +189,16 @@ export function problemTags(problemsDir: string): Map<string, string[]> {
  * dropped) × schemes × meshes (restricted by mesh.schemes), minus exclusions. The degree is kept
  * only for LGR (the one scheme with a collocation degree), defaulting to 4.
  */
-export function expandCases(suite: SuiteFile, problemsDir: string): CaseSpec[] {
-  const tags = problemTags(problemsDir);
+export function expandCases(suite: SuiteFile, library: ProblemCatalog): CaseSpec[] {
+  const tags = library.tagsById();
   const ids: string[] = [];
   suite.problems.forEach((p, i) => {
     if (typeof p === "string") {
-      if (!tags.has(p)) throw new Error(`suite "${suite.name}": problems[${i}] "${p}" is not a folder with problem.json under ${problemsDir}`);
+      if (!tags.has(p)) throw new Error(`suite "${suite.name}": problems[${i}] "${p}" is not a problem of the library (${library.label})`);
       if (!ids.includes(p)) ids.push(p);
     } else {
       const hits = [...tags.entries()].filter(([, t]) => t.includes(p.tag)).map(([id]) => id);
-      if (hits.length === 0) throw new Error(`suite "${suite.name}": problems[${i}] tag "${p.tag}" matches no problem under ${problemsDir}`);
+      if (hits.length === 0) throw new Error(`suite "${suite.name}": problems[${i}] tag "${p.tag}" matches no problem of the library (${library.label})`);
       for (const id of hits) if (!ids.includes(id)) ids.push(id);
     }
   });

@@ -1,11 +1,12 @@
 /**
- * Shapes shared by the runner, its workers, the recorder and the regression detector.
+ * Shapes of run data shared by the runner, its workers, the recorder (app/models/recording.server.ts)
+ * and the regression rules (./rules.ts). Pure: no database, no HTTP, no file system.
  *
  * `CaseReport` is the part of the engine's `SolveReport` (app/engine/solve.ts) the runner stores;
- * an external solver's answer is mapped onto the same shape (bench/runner/external.ts), so the
- * recording and the regression rules do not care who solved the case.
+ * an external solver's answer is mapped onto the same shape by the external executor, so
+ * the recording and the regression rules do not care who solved the case.
  */
-import type { SchemeId } from "../../app/engine/schemes/types";
+import type { SchemeId } from "../engine/schemes/types";
 
 /** One case of a suite: a problem, a scheme and a mesh. */
 export interface CaseSpec {
@@ -67,7 +68,7 @@ export interface CaseOutcome {
   calibrationSeconds?: number | null;
 }
 
-/** Regression thresholds of a suite (defaults in bench/runner/suite.ts). */
+/** Regression thresholds of a suite (defaults in ./suite.ts). */
 export interface Thresholds {
   /** Accuracy: flag when an error grows by more than this factor... */
   accuracyFactor: number;
@@ -96,3 +97,13 @@ export interface Thresholds {
 export const SOLVED_STATUSES = new Set(["optimal", "acceptable", "solved", "success", "converged"]);
 
 export const isSolved = (status: string | null | undefined) => !!status && SOLVED_STATUSES.has(status);
+
+/** The commit a run measures (read with git by the runner; carried by an upload). */
+export interface CommitMeta {
+  commitHash: string;
+  branch: string | null;
+  dirty: boolean;
+  subject: string | null;
+  author: string | null;
+  date: Date | null;
+}

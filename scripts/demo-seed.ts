@@ -16,16 +16,20 @@
  *
  * Skipped when the database already holds runs, when ARCWATCH_DEMO_SEED=0, and inside vitest
  * (test servers seed accounts only) unless ARCWATCH_DEMO_SEED=1.
+ *
+ * It lives beside the command line, not in app/: it runs the benchmark runner (bench/runner), which
+ * sits above the app's layers. scripts/seed.ts adds it after the app's own seeders.
  */
 import { createHash } from "node:crypto";
 import path from "node:path";
 import { eq, sql } from "drizzle-orm";
-import type { Db } from "./client.server";
-import { caseResults, regressionEvents, regressions, runs, timingSamples, type CaseResultRow } from "./schema";
-import { compareCases } from "../../bench/runner/detect";
-import { runSuite } from "../../bench/runner/run-suite";
-import { loadSuite, suitePath } from "../../bench/runner/suite";
-import { median } from "../engine/stats/summary";
+import type { Db } from "~/db/client.server";
+import { caseResults, regressionEvents, regressions, runs, timingSamples, type CaseResultRow } from "~/db/schema";
+import type { Seeder } from "~/db/seed.server";
+import { median } from "~/engine/stats/summary";
+import { compareCases } from "~/runs/rules";
+import { loadSuite, suitePath } from "~/runs/suite";
+import { runSuite } from "../bench/runner/run-suite";
 
 export const DEMO_BRANCH = "demo/heron-mesh-study";
 export const DEMO_COMMITS = 12;
@@ -184,3 +188,17 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
   log(`done in ${((Date.now() - t0) / 1000).toFixed(1)} s: 1 real run, ${DEMO_COMMITS} demo runs, ${found} demo regressions/improvements (slowed case ${slowCase}, less accurate case ${accurateCase})`);
   return { realRunId: summary.runId, demoRunIds, regressions: found };
 }
+
+/** Real quick-suite results on this checkout plus a labelled demo history. */
+export const demoResults: Seeder = {
+  name: "demo results",
+  async run(db, log) {
+    if (!demoSeedWanted(db)) return;
+    try {
+      await seedDemoResults(db, { log });
+    } catch (err) {
+      // The app is usable without demo results; say why they are missing and go on.
+      log(`skipped: ${(err as Error).message} (run \`npm run bench -- --suite quick\` to record results)`);
+    }
+  },
+};

@@ -3,11 +3,11 @@
  * the suite gets one message listing what regressed, by how much, on which commit, with links.
  */
 import { and, eq, inArray, isNull, or } from "drizzle-orm";
-import type { Db } from "../../app/db/client.server";
-import { subscriptions, users } from "../../app/db/schema";
-import { sendMail } from "../../app/services/mail.server";
-import type { Finding } from "./detect";
-import type { CommitMeta } from "./git-meta";
+import type { Db } from "~/db/client.server";
+import { subscriptions, users } from "~/db/schema";
+import type { Finding } from "~/runs/rules";
+import type { CommitMeta } from "~/runs/types";
+import { sendMail } from "./mail.server";
 
 export interface AlertInput {
   runId: string;

@@ -1,0 +1,277 @@
+/**
+ * Detection after a run, the same for every run however it arrived (command line, job, upload):
+ * find the baseline, load both runs' cases, apply the rules (app/runs/rules.ts), look for drift
+ * along each case's history, write the new findings as regression rows and resolve the open
+ * regressions an improvement fixes. `afterRun` is the entry point; it takes the thresholds and
+ * the reference arcs from the database (the suite row and the problem versions the run solved),
+ * so its answer depends only on what is stored.
+ *
+ * A finding is "new" unless a row with the same case, kind, metric and direction already exists
+ * for a run of the same commit (reruns of one commit do not re-alert). Each new row gets a first
+ * regression_events row carrying the evidence in words. An improvement of the same case, kind and
+ * metric marks earlier open regressions of the suite on the machine "fixed" (fixing_commit = this one).
+ */
+import { and, desc, eq, inArray, ne } from "drizzle-orm";
+import type { Db } from "~/db/client.server";
+import { caseResults, problemVersions, regressionEvents, regressions, runs, suites, timingSamples } from "~/db/schema";
+import { referenceArcsOfJson } from "~/engine/problem/library";
+import { caseCalibration, compareCases, driftFinding, runCalibration, type CaseSnapshot, type DriftPoint, type Finding, type ReferenceArcs } from "~/runs/rules";
+import { isSolved, type Thresholds } from "~/runs/types";
+import { effectiveThresholds } from "./settings.server";
+
+export interface Detection {
+  baselineRunId: string | null;
+  baselineCommit: string | null;
+  findings: Finding[];
+  /** Findings written as new regression rows (direction "regression" ones make the command fail). */
+  inserted: { id: number; finding: Finding }[];
+  newRegressions: number;
+  /** Open regressions of earlier runs that this run's improvements resolve (marked "fixed"). */
+  fixed: number[];
+}
+
+type RunRow = typeof runs.$inferSelect;
+
+/** Which run to compare with: a commit's, or the latest of a branch (default "main"). */
+export interface BaselineChoice {
+  commit?: string | null;
+  branch?: string | null;
+}
+
+export interface BaselineQuery extends BaselineChoice {
+  runId: string;
+  suiteName: string;
+  machineKey: string;
+}
+
+/** The latest complete, non-demo run of the suite on the machine at the commit / on the branch. */
+export function findBaseline(db: Db, q: BaselineQuery): RunRow | null {
+  const conds = [
+    eq(suites.name, q.suiteName),
+    eq(runs.machineKey, q.machineKey),
+    eq(runs.status, "complete"),
+    eq(runs.isDemo, false),
+    ne(runs.id, q.runId),
+    q.commit ? eq(runs.commitHash, q.commit) : eq(runs.branch, q.branch ?? "main"),
+  ];
+  const row = db
+    .select({ run: runs })
+    .from(runs)
+    .innerJoin(suites, eq(runs.suiteId, suites.id))
+    .where(and(...conds))
+    .orderBy(desc(runs.startedAt))
+    .limit(1)
+    .get();
+  return row?.run ?? null;
+}
+
+/** The cases of a run as the rules read them, by case key. */
+export function loadCases(db: Db, runId: string): Map<string, CaseSnapshot> {
+  const rows = db
+    .select({
+      id: caseResults.id,
+      caseKey: caseResults.caseKey,
+      problemId: caseResults.problemId,
+      status: caseResults.status,
+      iterations: caseResults.iterations,
+      objectiveErrorRel: caseResults.objectiveErrorRel,
+      finalTimeError: caseResults.finalTimeError,
+      stateError: caseResults.stateError,
+      controlError: caseResults.controlError,
+      medianSeconds: caseResults.medianSeconds,
+      arcsJson: caseResults.arcsJson,
+      log: caseResults.iterationLogJson,
+      samples: timingSamples.samplesJson,
+    })
+    .from(caseResults)
+    .leftJoin(timingSamples, eq(timingSamples.caseResultId, caseResults.id))
+    .where(eq(caseResults.runId, runId))
+    .all();
+  return new Map(rows.map(({ log, ...r }) => [r.caseKey, { ...r, samples: r.samples ?? [], calibration: caseCalibration(log) }]));
+}
+
+/**
+ * Expected arc signatures ("upper|singular|lower") of the problem versions a run solved, from the
+ * stored problem.json of each version (validated by the loader's schema).
+ */
+export function referenceArcsOfRun(db: Db, runId: string): ReferenceArcs {
+  const rows = db
+    .selectDistinct({ problemId: caseResults.problemId, json: problemVersions.json })
+    .from(caseResults)
+    .innerJoin(problemVersions, and(eq(problemVersions.problemId, caseResults.problemId), eq(problemVersions.contentHash, caseResults.problemVersionHash)))
+    .where(eq(caseResults.runId, runId))
+    .all();
+  const out: ReferenceArcs = new Map();
+  for (const r of rows) {
+    const arcs = referenceArcsOfJson(r.json);
+    if (arcs) out.set(r.problemId, arcs.join("|"));
+  }
+  return out;
+}
+
+/** Drift findings from each case's history (runs of this suite on the same branch and machine). */
+export function detectDrift(db: Db, run: RunRow, suiteName: string, t: Thresholds, exclude: Set<string>): Finding[] {
+  const history = db
+    .select({ run: runs })
+    .from(runs)
+    .innerJoin(suites, eq(runs.suiteId, suites.id))
+    .where(and(eq(suites.name, suiteName), eq(runs.machineKey, run.machineKey), eq(runs.isDemo, false), inArray(runs.status, ["complete"]), run.branch ? eq(runs.branch, run.branch) : eq(runs.commitHash, run.commitHash), ne(runs.id, run.id)))
+    .orderBy(desc(runs.startedAt))
+    .limit(29)
+    .all()
+    .map((r) => r.run)
+    .reverse();
+  const seq = [...history, run];
+  if (seq.length < t.driftMinHistory) return [];
+  const ids = seq.map((r) => r.id);
+  const rows = db
+    .select({ runId: caseResults.runId, caseKey: caseResults.caseKey, problemId: caseResults.problemId, status: caseResults.status, median: caseResults.medianSeconds, log: caseResults.iterationLogJson })
+    .from(caseResults)
+    .where(inArray(caseResults.runId, ids))
+    .all();
+  const byCase = new Map<string, Map<string, { median: number | null; status: string; problemId: string; log: unknown }>>();
+  for (const r of rows) {
+    if (!byCase.has(r.caseKey)) byCase.set(r.caseKey, new Map());
+    byCase.get(r.caseKey)!.set(r.runId, r);
+  }
+  const out: Finding[] = [];
+  for (const [key, perRun] of byCase) {
+    if (exclude.has(key)) continue;
+    const pts: DriftPoint[] = [];
+    for (const r of seq) {
+      const c = perRun.get(r.id);
+      const cal = t.calibrate ? (caseCalibration(c?.log) ?? runCalibration(r)) : 1;
+      if (!c || c.median === null || !(c.median > 0) || !isSolved(c.status) || !cal) continue;
+      pts.push({ runId: r.id, y: Math.log(c.median / cal), problemId: c.problemId });
+    }
+    if (pts.length === 0 || pts[pts.length - 1]!.runId !== run.id) continue;
+    const drift = driftFinding(key, pts, t);
+    if (!drift) continue;
+    const already = db
+      .select({ id: regressions.id })
+      .from(regressions)
+      .where(and(eq(regressions.caseKey, key), eq(regressions.kind, "drift"), inArray(regressions.runId, drift.segmentRuns)))
+      .get();
+    if (!already) out.push(drift.finding);
+  }
+  return out;
+}
+
+export interface DetectOptions {
+  thresholds: Thresholds;
+  baseline?: BaselineChoice;
+  /** Default: from the stored problem versions of the run (referenceArcsOfRun). */
+  referenceArcs?: ReferenceArcs;
+}
+
+/**
+ * Compares `runId` with its baseline, looks for drift, writes new findings as regression rows
+ * (one transaction) and returns them. Does nothing but report when no baseline exists.
+ */
+export function detectRegressions(db: Db, runId: string, options: DetectOptions): Detection {
+  const t = options.thresholds;
+  const runRow = db.select({ run: runs, suiteName: suites.name }).from(runs).innerJoin(suites, eq(runs.suiteId, suites.id)).where(eq(runs.id, runId)).get();
+  if (!runRow) throw new Error(`detectRegressions: run ${runId} not found`);
+  const { run, suiteName } = runRow;
+  const baseline = findBaseline(db, { runId, suiteName, machineKey: run.machineKey, commit: options.baseline?.commit, branch: options.baseline?.branch });
+  const findings: Finding[] = [];
+  if (baseline) {
+    const calNow = runCalibration(run);
+    const calBase = runCalibration(baseline);
+    const factor = t.calibrate && calNow && calBase ? calNow / calBase : 1;
+    findings.push(...compareCases(loadCases(db, runId), loadCases(db, baseline.id), t, factor, options.referenceArcs ?? referenceArcsOfRun(db, runId)));
+  }
+  const speedFlagged = new Set(findings.filter((f) => f.kind === "speed").map((f) => f.caseKey));
+  findings.push(...detectDrift(db, run, suiteName, t, speedFlagged));
+
+  // Known already: same case/kind/metric/direction recorded for a run of the same commit.
+  const sameCommitRuns = db.select({ id: runs.id }).from(runs).where(and(eq(runs.commitHash, run.commitHash), ne(runs.id, runId))).all().map((r) => r.id);
+  const known = new Set(
+    sameCommitRuns.length
+      ? db
+          .select({ caseKey: regressions.caseKey, kind: regressions.kind, metric: regressions.metric, direction: regressions.direction })
+          .from(regressions)
+          .where(inArray(regressions.runId, sameCommitRuns))
+          .all()
+          .map((r) => `${r.caseKey}|${r.kind}|${r.metric}|${r.direction}`)
+      : [],
+  );
+  const fresh = findings.filter((f) => !known.has(`${f.caseKey}|${f.kind}|${f.metric}|${f.direction}`));
+  const fixed: number[] = [];
+  const inserted = db.transaction((tx) => {
+    const rows = fresh.map((f) => {
+      const row = tx
+        .insert(regressions)
+        .values({
+          runId,
+          baselineRunId: baseline?.id ?? null,
+          caseKey: f.caseKey,
+          kind: f.kind,
+          direction: f.direction,
+          metric: f.metric,
+          before: f.before,
+          after: f.after,
+          ratio: f.ratio !== null && Number.isFinite(f.ratio) ? f.ratio : null,
+          pValue: f.pValue,
+          ciLow: f.ciLow,
+          ciHigh: f.ciHigh,
+          status: f.direction === "improvement" ? "acknowledged" : "open",
+        })
+        .returning({ id: regressions.id })
+        .get();
+      // The evidence in words (statuses, medians, interval, change point) as the first triage event.
+      tx.insert(regressionEvents)
+        .values({ regressionId: row.id, userId: null, fromStatus: null, toStatus: f.direction === "improvement" ? "acknowledged" : "open", note: `Found by run ${runId} at ${run.commitHash.slice(0, 10)}: ${f.detail}` })
+        .run();
+      return { id: row.id, finding: f };
+    });
+    // An improvement of the same case, kind and metric resolves the open regressions of earlier
+    // runs of this suite on this machine: they become "fixed" with this commit as the fix.
+    for (const f of findings) {
+      if (f.direction !== "improvement" || f.kind === "drift") continue;
+      const open = tx
+        .select({ id: regressions.id })
+        .from(regressions)
+        .innerJoin(runs, eq(runs.id, regressions.runId))
+        .where(and(eq(regressions.caseKey, f.caseKey), eq(regressions.kind, f.kind), eq(regressions.metric, f.metric), eq(regressions.direction, "regression"), inArray(regressions.status, ["open", "acknowledged"]), eq(runs.suiteId, run.suiteId), eq(runs.machineKey, run.machineKey), ne(regressions.runId, runId)))
+        .all();
+      for (const o of open) {
+        const prev = tx.select({ status: regressions.status }).from(regressions).where(eq(regressions.id, o.id)).get();
+        tx.update(regressions).set({ status: "fixed", fixingCommit: run.commitHash, updatedAt: new Date() }).where(eq(regressions.id, o.id)).run();
+        tx.insert(regressionEvents).values({ regressionId: o.id, userId: null, fromStatus: prev?.status ?? null, toStatus: "fixed", note: `Resolved by run ${runId} at ${run.commitHash.slice(0, 10)}: ${f.detail}` }).run();
+        fixed.push(o.id);
+      }
+    }
+    return rows;
+  });
+  return {
+    baselineRunId: baseline?.id ?? null,
+    baselineCommit: baseline?.commitHash ?? null,
+    findings,
+    inserted,
+    newRegressions: inserted.filter((i) => i.finding.direction === "regression").length,
+    fixed,
+  };
+}
+
+/**
+ * The thresholds a run is judged by: the defaults, then the suite row's (as recorded with the run),
+ * then the suite's saved settings (app/models/settings.server.ts).
+ */
+export function thresholdsOfRun(db: Db, runId: string): Thresholds {
+  const row = db.select({ name: suites.name, t: suites.thresholdsJson }).from(runs).innerJoin(suites, eq(runs.suiteId, suites.id)).where(eq(runs.id, runId)).get();
+  if (!row) throw new Error(`run ${runId} not found`);
+  return effectiveThresholds(db, row.name, (row.t ?? {}) as Partial<Thresholds>);
+}
+
+/**
+ * What happens after a run is stored, wherever it came from: nothing for a run that is not
+ * complete; otherwise detection against the baseline (default: the latest complete run on main)
+ * with the thresholds and reference arcs read from the database.
+ */
+export function afterRun(db: Db, runId: string, options: { baseline?: BaselineChoice } = {}): Detection | null {
+  const run = db.select({ status: runs.status }).from(runs).where(eq(runs.id, runId)).get();
+  if (!run) throw new Error(`run ${runId} not found`);
+  if (run.status !== "complete") return null;
+  return detectRegressions(db, runId, { thresholds: thresholdsOfRun(db, runId), baseline: options.baseline ?? { branch: "main" } });
+}

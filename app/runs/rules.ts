@@ -1,0 +1,237 @@
+/**
+ * The regression rules: one run's cases against a baseline's, plus a change point along a case's
+ * history. Pure: the rows come in, findings go out; reading and writing them is
+ * app/models/detection.server.ts.
+ *
+ * Rules (thresholds from the suite, ./types.ts `Thresholds`):
+ *  accuracy    both solved; an error metric e (objective_error_rel, final_time_error, state_error,
+ *              control_error) with e_now > accuracyFactor · e_base and e_now > accuracyFloor.
+ *              Improvement: e_base > accuracyFactor · e_now and e_base > accuracyFloor.
+ *  robustness  solved before and not now (metric "status"); iterations up by more than
+ *              iterationShare and by at least iterationMin (metric "iterations"). Reverse = improvement.
+ *  speed       both solved with ≥ 3 samples each; r = median(x/c) / median(y), x the current
+ *              samples, y the baseline's, c = calibration_now / calibration_base from the
+ *              case-level calibrations measured beside each case (run-level ones when missing;
+ *              1 when calibration is off); flagged when r > speedRatio AND (one-sided Mann–Whitney
+ *              p < alpha on x/c vs y OR the bootstrap interval of r lies above 1).
+ *              Improvement: r < 1/speedRatio with the mirrored evidence.
+ *  structure   the arc signature changed (reports carrying `arcs.signature`); an improvement when
+ *              the new one equals the problem's reference arcs and the old one did not.
+ *  drift       PELT (app/engine/stats/change-point.ts) on ln(median / calibration) over the case's
+ *              history on the same branch and machine; flagged when the latest segment starts
+ *              within the history, contains the current run, shifted by ≥ driftMinShift, and no
+ *              drift row already exists for a run of that segment.
+ *
+ * A finding is "new" unless a row with the same case, kind, metric and direction already exists
+ * for a run of the same commit (reruns of one commit do not re-alert). Each new row gets a first
+ * regression_events row carrying the evidence in words. An improvement of the same case, kind and
+ * metric marks earlier open regressions of the suite on the machine "fixed" (fixing_commit = this one).
+ */
+import type { RegressionDirection, RegressionKind } from "../db/schema";
+import { mannWhitneyU } from "../engine/stats/mann-whitney";
+import { bootstrapMedianRatio } from "../engine/stats/bootstrap";
+import { latestStepChange } from "../engine/stats/change-point";
+import { median } from "../engine/stats/summary";
+import { isSolved, type Thresholds } from "./types";
+
+export interface Finding {
+  caseKey: string;
+  problemId: string;
+  kind: RegressionKind;
+  direction: RegressionDirection;
+  metric: string;
+  before: number | null;
+  after: number | null;
+  ratio: number | null;
+  pValue: number | null;
+  ciLow: number | null;
+  ciHigh: number | null;
+  /** Human summary of the evidence (used in the summary table and e-mails). */
+  detail: string;
+}
+
+/** Calibration seconds of a run: mean of the before/after measurements when both exist. */
+export function runCalibration(run: { calibrationSeconds: number | null; machineJson: unknown }): number | null {
+  const cal = (run.machineJson as { calibration?: { before?: number; after?: number } } | null)?.calibration;
+  const vals = [cal?.before ?? run.calibrationSeconds, cal?.after].filter((v): v is number => typeof v === "number" && v > 0);
+  return vals.length ? vals.reduce((a, b) => a + b, 0) / vals.length : null;
+}
+
+/** Case-level calibration seconds (measured beside the case, kept in iterationLog.extra), if any. */
+export function caseCalibration(iterationLog: unknown): number | null {
+  const cal = (iterationLog as { extra?: { calibrationSeconds?: unknown } } | null)?.extra?.calibrationSeconds;
+  return typeof cal === "number" && cal > 0 ? cal : null;
+}
+
+/** What the rules read of one recorded case. */
+export interface CaseSnapshot {
+  id: number;
+  caseKey: string;
+  problemId: string;
+  status: string;
+  iterations: number | null;
+  objectiveErrorRel: number | null;
+  finalTimeError: number | null;
+  stateError: number | null;
+  controlError: number | null;
+  medianSeconds: number | null;
+  arcsJson: unknown;
+  samples: number[];
+  /** Case-level calibration seconds (measured beside the case), if recorded. */
+  calibration?: number | null;
+}
+
+const ACCURACY_METRICS = [
+  ["objective_error_rel", "objectiveErrorRel"],
+  ["final_time_error", "finalTimeError"],
+  ["state_error", "stateError"],
+  ["control_error", "controlError"],
+] as const;
+
+/** Deterministic 32-bit seed from a case key (FNV-1a), so intervals are reproducible. */
+function seedOf(key: string): number {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < key.length; i++) h = Math.imul(h ^ key.charCodeAt(i), 0x01000193);
+  return h >>> 0;
+}
+
+const fmt = (v: number | null, digits = 3) => (v === null ? "—" : Math.abs(v) >= 1e-3 && Math.abs(v) < 1e4 ? v.toPrecision(digits) : v.toExponential(digits - 1));
+
+function signatureOf(arcs: unknown): string | null {
+  if (arcs && typeof arcs === "object" && typeof (arcs as { signature?: unknown }).signature === "string") return (arcs as { signature: string }).signature;
+  return null;
+}
+
+/** Pairwise comparison of two runs' cases (pure given the rows; exported for tests). */
+export function compareCases(
+  now: Map<string, CaseSnapshot>,
+  base: Map<string, CaseSnapshot>,
+  t: Thresholds,
+  calibrationFactor: number,
+  referenceArcs: Map<string, string> = new Map(),
+): Finding[] {
+  const out: Finding[] = [];
+  for (const [key, cur] of now) {
+    const old = base.get(key);
+    if (!old) continue;
+    const push = (f: Omit<Finding, "caseKey" | "problemId">) => out.push({ caseKey: key, problemId: cur.problemId, ...f });
+    const solvedNow = isSolved(cur.status);
+    const solvedBefore = isSolved(old.status);
+    if (solvedBefore !== solvedNow) {
+      push({
+        kind: "robustness",
+        direction: solvedBefore ? "regression" : "improvement",
+        metric: "status",
+        before: solvedBefore ? 1 : 0,
+        after: solvedNow ? 1 : 0,
+        ratio: null,
+        pValue: null,
+        ciLow: null,
+        ciHigh: null,
+        detail: `status ${old.status} → ${cur.status}`,
+      });
+      continue;
+    }
+    if (!solvedNow) continue;
+    for (const [metric, field] of ACCURACY_METRICS) {
+      const b = old[field];
+      const a = cur[field];
+      if (b === null || a === null) continue;
+      const ratio = b > 0 ? a / b : null;
+      if (a > t.accuracyFactor * b && a > t.accuracyFloor) {
+        push({ kind: "accuracy", direction: "regression", metric, before: b, after: a, ratio, pValue: null, ciLow: null, ciHigh: null, detail: `${metric} ${fmt(b)} → ${fmt(a)}${ratio ? ` (×${fmt(ratio)})` : ""}` });
+      } else if (b > t.accuracyFactor * a && b > t.accuracyFloor) {
+        push({ kind: "accuracy", direction: "improvement", metric, before: b, after: a, ratio, pValue: null, ciLow: null, ciHigh: null, detail: `${metric} ${fmt(b)} → ${fmt(a)}${ratio ? ` (×${fmt(ratio)})` : ""}` });
+      }
+    }
+    if (cur.iterations !== null && old.iterations !== null) {
+      const up = cur.iterations - old.iterations;
+      const ratio = old.iterations > 0 ? cur.iterations / old.iterations : null;
+      const detail = `iterations ${old.iterations} → ${cur.iterations}`;
+      if (up >= t.iterationMin && cur.iterations > old.iterations * (1 + t.iterationShare)) {
+        push({ kind: "robustness", direction: "regression", metric: "iterations", before: old.iterations, after: cur.iterations, ratio, pValue: null, ciLow: null, ciHigh: null, detail });
+      } else if (-up >= t.iterationMin && old.iterations > cur.iterations * (1 + t.iterationShare)) {
+        push({ kind: "robustness", direction: "improvement", metric: "iterations", before: old.iterations, after: cur.iterations, ratio, pValue: null, ciLow: null, ciHigh: null, detail });
+      }
+    }
+    if (cur.samples.length >= 3 && old.samples.length >= 3) {
+      // Case-level calibration when both cases carry it, else the run-level factor.
+      const factor = t.calibrate ? (cur.calibration && old.calibration ? cur.calibration / old.calibration : calibrationFactor) : 1;
+      const x = cur.samples.map((v) => v / factor);
+      const y = old.samples;
+      const ratio = median(x) / median(y);
+      const seed = seedOf(key);
+      if (ratio > t.speedRatio || ratio < 1 / t.speedRatio) {
+        const slower = ratio > 1;
+        const mw = mannWhitneyU(x, y, { alternative: slower ? "greater" : "less" });
+        const ci = bootstrapMedianRatio(x, y, { replicates: t.bootstrapReplicates, confidence: t.confidence, seed });
+        const significant = mw.pValue < t.alpha || (slower ? ci.low > 1 : ci.high < 1);
+        if (significant) {
+          push({
+            kind: "speed",
+            direction: slower ? "regression" : "improvement",
+            metric: "median_seconds",
+            before: median(y),
+            after: median(cur.samples),
+            ratio,
+            pValue: mw.pValue,
+            ciLow: ci.low,
+            ciHigh: ci.high,
+            detail: `median ${fmt(median(y))} s → ${fmt(median(cur.samples))} s, ratio ${ratio.toFixed(3)}${factor !== 1 ? ` (calibrated ×${(1 / factor).toFixed(3)})` : ""}, Mann–Whitney p = ${fmt(mw.pValue, 2)}, ${Math.round(t.confidence * 100)} % CI [${ci.low.toFixed(3)}, ${ci.high.toFixed(3)}]`,
+          });
+        }
+      }
+    }
+    const sa = signatureOf(cur.arcsJson);
+    const sb = signatureOf(old.arcsJson);
+    if (sa !== null && sb !== null && sa !== sb) {
+      const ref = referenceArcs.get(cur.problemId);
+      const direction: RegressionDirection = ref !== undefined && sa === ref && sb !== ref ? "improvement" : "regression";
+      push({ kind: "structure", direction, metric: "arcs", before: null, after: null, ratio: null, pValue: null, ciLow: null, ciHigh: null, detail: `arcs ${sb} → ${sa}` });
+    }
+  }
+  return out;
+}
+
+/** Reference arc signatures ("a|b|c") of problems. */
+export type ReferenceArcs = Map<string, string>;
+
+/** One point of a case's history: a run and ln(calibrated median seconds). */
+export interface DriftPoint {
+  runId: string;
+  y: number;
+  problemId: string;
+}
+
+/**
+ * The drift rule on one case's history (oldest first, the current run last): PELT's latest step
+ * (app/engine/stats/change-point.ts) with at least `driftMinShift`; null when there is none.
+ * Returns the finding and the runs of the latest segment (a drift already recorded for one of
+ * them is not reported again).
+ */
+export function driftFinding(caseKey: string, pts: DriftPoint[], t: Thresholds): { finding: Finding; segmentRuns: string[] } | null {
+  if (pts.length < t.driftMinHistory) return null;
+  const step = latestStepChange(
+    pts.map((p) => p.y),
+    { minSegment: 2, minShift: t.driftMinShift, sigmaFloor: 0.01 },
+  );
+  if (!step) return null;
+  const ratio = Math.exp(step.shift);
+  return {
+    segmentRuns: pts.slice(step.index).map((p) => p.runId),
+    finding: {
+      caseKey,
+      problemId: pts[0]!.problemId,
+      kind: "drift",
+      direction: step.shift > 0 ? "regression" : "improvement",
+      metric: "median_seconds",
+      before: Math.exp(step.before),
+      after: Math.exp(step.after),
+      ratio,
+      pValue: null,
+      ciLow: null,
+      ciHigh: null,
+      detail: `change point ${pts.length - step.index} run(s) ago in ${pts.length} runs: calibrated time ×${ratio.toFixed(3)} (PELT, σ̂ = ${step.sigma.toFixed(3)} in ln units)`,
+    },
+  };
+}
