@@ -27,10 +27,10 @@ const PAGE_GOAL_MS = 2000;
 const server = await startTestServer({ dbTemplate, env: { ARCWATCH_JOB_WORKER: "0" } });
 const base = server.url;
 
-async function signIn(email: string, password: string): Promise<string> {
-  const r = await fetch(`${base}/signin`, {
+async function signInAt(at: string, email: string, password: string): Promise<string> {
+  const r = await fetch(`${at}/signin`, {
     method: "POST",
-    headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded" },
+    headers: { Origin: at, "Content-Type": "application/x-www-form-urlencoded" },
     body: new URLSearchParams({ email, password }),
     redirect: "manual",
   });
@@ -38,7 +38,7 @@ async function signIn(email: string, password: string): Promise<string> {
   if (r.status !== 302 || !c) throw new Error(`sign-in failed: ${r.status}`);
   return c.split(";")[0]!;
 }
-const cookie = await signIn("engineer@arcwatch.test", "engineer-demo-pass");
+const cookie = await signInAt(base, "engineer@arcwatch.test", "engineer-demo-pass");
 
 function trial(problemJson: string, id: string) {
   const t0 = performance.now();
@@ -52,9 +52,10 @@ function trial(problemJson: string, id: string) {
   });
 }
 
-async function timed(path: string): Promise<number> {
+const timed = (path: string) => timedAt(base, cookie, path);
+async function timedAt(at: string, c: string, path: string): Promise<number> {
   const t0 = performance.now();
-  const r = await fetch(`${base}${path}`, { headers: { Cookie: cookie } });
+  const r = await fetch(`${at}${path}`, { headers: { Cookie: c } });
   await r.arrayBuffer();
   if (r.status !== 200) throw new Error(`${path}: ${r.status}`);
   return performance.now() - t0;
@@ -103,13 +104,23 @@ try {
   }
   // ---- 2. many readers ------------------------------------------------------------------
   if (only !== "trials") {
-  console.log(`\n2. ${READERS} concurrent GETs per page (after one warm-up request)`);
-  console.log(`   ${"page".padEnd(28)} ${"first ms".padStart(8)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/2s".padStart(7)}`);
-  for (const page of ["/compare", "/problems", "/"]) {
-    const first = await timed(page);
-    const xs = await Promise.all(Array.from({ length: READERS }, () => timed(page)));
-    console.log(`   ${page.padEnd(28)} ${first.toFixed(0).padStart(8)} ${fmt(xs)} ${(pct(xs, 95) / PAGE_GOAL_MS).toFixed(2).padStart(7)}`);
-  }
+    // The same pages from a second server on a copy of the same data with the cache turned off
+    // (ARCWATCH_PAGE_CACHE=0), measured right after, for the ratio.
+    const uncached = await startTestServer({ dbTemplate, env: { ARCWATCH_JOB_WORKER: "0", ARCWATCH_PAGE_CACHE: "0" } });
+    try {
+      const uncachedCookie = await signInAt(uncached.url, "engineer@arcwatch.test", "engineer-demo-pass");
+      console.log(`\n2. ${READERS} concurrent GETs per page (after one warm-up request); cache on, then off (ARCWATCH_PAGE_CACHE=0)`);
+      console.log(`   ${"page".padEnd(24)} ${"first ms".padStart(8)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/2s".padStart(7)}`);
+      for (const page of ["/compare", "/problems", "/"]) {
+        for (const [label, at, c] of [["cache on", base, cookie], ["cache off", uncached.url, uncachedCookie]] as const) {
+          const first = await timedAt(at, c, page);
+          const xs = await Promise.all(Array.from({ length: READERS }, () => timedAt(at, c, page)));
+          console.log(`   ${`${page}, ${label}`.padEnd(24)} ${first.toFixed(0).padStart(8)} ${fmt(xs)} ${(pct(xs, 95) / PAGE_GOAL_MS).toFixed(2).padStart(7)}`);
+        }
+      }
+    } finally {
+      await uncached.stop();
+    }
   }
 } finally {
   await server.stop();

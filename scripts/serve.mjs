@@ -69,13 +69,24 @@ function securityHeaders() {
   });
 }
 
-/** Sends a small plain-text or JSON refusal and closes the connection (the body is not read). */
+/** Grace period for a refused client to read its answer before the connection is cut (ms). */
+const REFUSE_GRACE_MS = 1000;
+
+/**
+ * Sends a small plain-text or JSON refusal without reading the body into memory. What the
+ * client still sends is discarded for REFUSE_GRACE_MS (so it can read the answer; closing a
+ * socket with unread data resets it), then the connection is cut.
+ */
 function refuse(req, res, status, message) {
-  res.setHeader("Connection", "close");
   if (req.path.startsWith("/api/")) res.status(status).json({ error: message });
   else res.status(status).type("text/plain").send(message);
-  // Whatever of the body is still in flight is not read.
-  res.once("finish", () => req.destroy());
+  res.once("finish", () => {
+    req.unpipe();
+    req.resume();
+    setTimeout(() => {
+      if (!req.complete) req.socket?.destroy();
+    }, REFUSE_GRACE_MS).unref();
+  });
 }
 
 /** React Router's request handler with the body counted against the route's cap. */

@@ -41,6 +41,8 @@ export function dataVersion(db: Db): string {
 
 /** `compute()` once per data version (and at most `maxAgeMs` old), by `name` and `key`. */
 export function cachedByData<T>(db: Db, name: string, key: string, compute: () => T, maxAgeMs = Infinity): T {
+  // ARCWATCH_PAGE_CACHE=0 turns the cache off (benchmarks compare both ways).
+  if (process.env.ARCWATCH_PAGE_CACHE === "0") return compute();
   let cache = caches.get(name);
   if (!cache) caches.set(name, (cache = new Map()));
   const version = dataVersion(db);

@@ -100,7 +100,7 @@ export async function startTestServer(options: { env?: Record<string, string>; d
   child.stdout!.on("data", (d) => (output += d));
   child.stderr!.on("data", (d) => (output += d));
   const url = `http://127.0.0.1:${port}`;
-  const deadline = Date.now() + 90_000; // a loaded 2-core machine can take over 30 s to load the server
+  const deadline = Date.now() + 120_000; // generous: the machine running tests may be shared
   for (;;) {
     if (child.exitCode !== null) throw new Error(`server exited (${child.exitCode}):\n${output}`);
     try {
@@ -109,7 +109,7 @@ export async function startTestServer(options: { env?: Record<string, string>; d
     } catch {
       /* not listening yet */
     }
-    if (Date.now() > deadline) throw new Error(`server did not answer within 90 s:\n${output}`);
+    if (Date.now() > deadline) throw new Error(`server did not answer within 120 s:\n${output}`);
     await sleep(150);
   }
   return {
