@@ -11,6 +11,7 @@ import { OverviewPanels } from "~/components/charts/OverviewState";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
 import { roleAtLeast, ROLE_DESCRIPTIONS } from "~/services/roles";
+import { statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Overview · Arcwatch" }];
 
@@ -74,7 +75,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
           <h2 className="font-semibold">Latest run</h2>
           <p className="mt-1 text-sm text-muted">
             Suite <span className="font-medium text-ink">{counts.latestRun.suite}</span> at commit{" "}
-            <code className="num">{counts.latestRun.commitHash.slice(0, 10)}</code>, {counts.latestRun.status}, started{" "}
+            <code className="num">{counts.latestRun.commitHash.slice(0, 10)}</code>, {statusLabel("run", counts.latestRun.status)}, started{" "}
             <time className="num" dateTime={new Date(counts.latestRun.startedAt).toISOString()}>
               {new Date(counts.latestRun.startedAt).toISOString().replace("T", " ").slice(0, 16)} UTC
             </time>
@@ -132,7 +133,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
                   <td className="num py-2">{j.id}</td>
                   <td className="py-2">{j.kind}</td>
                   <td className="py-2">{j.suite}</td>
-                  <td className="py-2">{j.status}</td>
+                  <td className={`py-2 ${statusTone("job", j.status)}`}>{statusLabel("job", j.status)}</td>
                   <td className="num py-2">{new Date(j.createdAt).toISOString().replace("T", " ").slice(0, 19)}</td>
                 </tr>
               ))}

@@ -5,6 +5,7 @@ import { getDb } from "~/db/client.server";
 import { REGRESSION_KINDS, REGRESSION_STATUSES } from "~/db/schema";
 import { listRegressions, regressionListQuery } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
+import { TONE_CLASS, directionOf, kindLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Regressions · Arcwatch" }];
 
@@ -76,18 +77,18 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
                       {r.caseKey}
                     </Link>
                   </td>
-                  <td className={`px-3 py-2 ${r.direction === "improvement" ? "text-good" : "text-bad"}`}>
-                    {r.kind} {r.direction === "improvement" ? "↑" : "↓"}
+                  <td className={`px-3 py-2 ${TONE_CLASS[directionOf(r.direction).tone]}`} title={directionOf(r.direction).label}>
+                    {directionOf(r.direction).symbol} {kindLabel(r.kind)}
                   </td>
-                  <td className="num px-3 py-2">{r.metric}</td>
+                  <td className="px-3 py-2">{metricLabel(r.metric)}</td>
                   <td className="num px-3 py-2 text-right">{num(r.before)}</td>
                   <td className="num px-3 py-2 text-right">{num(r.after)}</td>
                   <td className="num px-3 py-2 text-right">{r.ratio === null ? "—" : r.ratio.toFixed(3)}</td>
                   <td className="num px-3 py-2" title={r.commitSubject ?? ""}>
                     {r.commitHash.slice(0, 10)}
                   </td>
-                  <td className="px-3 py-2">
-                    {r.status}
+                  <td className={`px-3 py-2 ${statusTone("regression", r.status)}`}>
+                    {statusLabel("regression", r.status)}
                     {r.assignee ? <span className="block text-xs text-muted">{r.assignee}</span> : null}
                   </td>
                 </tr>

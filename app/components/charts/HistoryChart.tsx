@@ -1,11 +1,13 @@
 /**
  * One metric of one case along the commits of a branch. Each point is a run; regressions are
- * drawn as red triangles, improvements as teal diamonds. Hovering shows the commit, clicking a
+ * drawn as filled triangles (▲) and improvements as hollow down-triangles (▽), the symbols of
+ * app/vocabulary.ts. Hovering shows the commit, clicking a
  * point opens its run. Fixed size, drawn after hydration.
  */
 import { useNavigate } from "react-router";
 import { CartesianGrid, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
 import type { HistoryPoint } from "~/models/history.server";
+import { directionOf, kindLabel, statusLabel } from "~/vocabulary";
 
 interface DotProps {
   cx?: number;
@@ -18,7 +20,7 @@ function MarkDot({ cx, cy, payload, onOpen }: DotProps & { onOpen: (p: HistoryPo
   const open = () => onOpen(payload);
   const common = { onClick: open, style: { cursor: "pointer" }, "data-testid": "history-point", "data-mark": payload.mark ?? "none" } as const;
   if (payload.mark === "regression") return <path d={`M${cx},${cy - 7} L${cx + 6},${cy + 5} L${cx - 6},${cy + 5} Z`} fill="var(--aw-bad)" {...common} />;
-  if (payload.mark === "improvement") return <path d={`M${cx},${cy - 6} L${cx + 6},${cy} L${cx},${cy + 6} L${cx - 6},${cy} Z`} fill="var(--aw-good)" {...common} />;
+  if (payload.mark === "improvement") return <path d={`M${cx},${cy + 7} L${cx + 6},${cy - 5} L${cx - 6},${cy - 5} Z`} fill="var(--aw-surface)" stroke="var(--aw-good)" strokeWidth={2} {...common} />;
   return <circle cx={cx} cy={cy} r={3.5} fill="var(--aw-accent)" {...common} />;
 }
 
@@ -29,9 +31,9 @@ function TooltipBody({ active, payload }: { active?: boolean; payload?: { payloa
     <div className="card max-w-xs p-2 text-xs" data-testid="history-tooltip">
       <p className="num font-semibold">{p.commitHash.slice(0, 10)}{p.isDemo ? " · demo data" : ""}</p>
       <p>{p.commitSubject}</p>
-      <p className="num text-muted">{new Date(p.startedAt).toISOString().slice(0, 16).replace("T", " ")} UTC · {p.status}</p>
+      <p className="num text-muted">{new Date(p.startedAt).toISOString().slice(0, 16).replace("T", " ")} UTC · {statusLabel("run", p.status)}</p>
       <p className="num">value {p.value === null ? "—" : p.value.toPrecision(4)}</p>
-      {p.markKinds.length ? <p className={p.mark === "regression" ? "text-bad" : "text-good"}>{p.markKinds.join(", ")}</p> : null}
+      {p.markKinds.length ? <p className={p.mark === "regression" ? "text-bad" : "text-good"}>{directionOf(p.mark ?? "regression").symbol} {p.markKinds.map(kindLabel).join(", ")}</p> : null}
       <p className="text-muted">click to open the run</p>
     </div>
   );
