@@ -103,8 +103,8 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
             <p className="text-sm text-muted">Runs started from here are queued and picked up by the job worker.</p>
           </div>
           {roleAtLeast(role, "engineer") ? (
-            <Form method="post" className="flex items-end gap-2" noValidate aria-label="Queue a benchmark job">
-              <Field label="Suite" name="suite" defaultValue={actionData?.values.suite ?? "quick"} error={actionData?.errors.suite} className="input w-48" />
+            <Form method="post" className="flex flex-wrap items-end gap-2" noValidate aria-label="Queue a benchmark job">
+              <Field label="Suite" name="suite" defaultValue={actionData?.values.suite ?? "quick"} error={actionData?.errors.suite} className="input w-full max-w-48" />
               <button type="submit" className="btn" disabled={busy}>
                 Queue run
               </button>
@@ -117,6 +117,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
         {jobs.length === 0 ? (
           <p className="text-sm text-muted">No jobs yet.</p>
         ) : (
+          <div className="overflow-x-auto">
           <table className="w-full text-left text-sm">
             <thead className="text-muted">
               <tr>
@@ -139,6 +140,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
               ))}
             </tbody>
           </table>
+          </div>
         )}
       </section>
     </div>

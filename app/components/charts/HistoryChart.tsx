@@ -5,7 +5,7 @@
  * point opens its run. Fixed size, drawn after hydration.
  */
 import { useNavigate } from "react-router";
-import { CartesianGrid, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
+import { CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
 import type { HistoryPoint } from "~/models/history.server";
 import { directionOf, kindLabel, statusLabel } from "~/vocabulary";
 
@@ -63,13 +63,18 @@ export function HistoryChart({ points, label, log, width = 900, height = 320 }: 
   return (
     <figure className="card p-3" data-testid="history-chart">
       <figcaption className="mb-1 text-sm font-medium">{label}</figcaption>
-      <LineChart width={width} height={height} data={data} margin={{ top: 10, right: 16, bottom: 10, left: 8 }}>
+      {/* The chart takes the card's width (up to `width`): measured on the client. */}
+      <div style={{ width: "100%", maxWidth: width, height }}>
+      <ResponsiveContainer width="100%" height={height}>
+      <LineChart data={data} margin={{ top: 10, right: 16, bottom: 10, left: 8 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
         <XAxis dataKey="i" type="number" domain={[0, Math.max(1, data.length - 1)]} tickFormatter={(i: number) => data[i]?.commitHash.slice(0, 7) ?? ""} tick={{ fontSize: 10, fill: "var(--aw-muted)" }} />
         <YAxis type="number" scale={logScale ? "log" : "auto"} domain={yDomain(values, logScale)} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={72} tickFormatter={(v: number) => v.toPrecision(3)} />
         <Tooltip content={<TooltipBody />} />
         <Line dataKey="value" stroke="var(--aw-accent)" isAnimationActive={false} connectNulls dot={(props: { cx?: number; cy?: number; payload?: unknown; index?: number }) => <MarkDot key={(props.payload as HistoryPoint | undefined)?.runId ?? props.index} cx={props.cx} cy={props.cy} payload={props.payload as DotProps["payload"]} onOpen={(p) => navigate(`/runs/${p.runId}`)} />} activeDot={false} />
       </LineChart>
+      </ResponsiveContainer>
+      </div>
     </figure>
   );
 }
