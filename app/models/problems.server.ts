@@ -14,7 +14,7 @@ import type { ProblemError } from "~/engine/problem/errors";
 import { loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
 import type { CompiledProblem, Provenance } from "~/engine/problem/types";
 import { solveProblem } from "~/engine/solve";
-import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, errorsByField, uploadFieldOf } from "~/components/problems/form-model";
+import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, describeBuilderError, errorsByField, uploadFieldOf, type BuilderOrigins } from "~/components/problems/form-model";
 import { isSolved } from "../../bench/runner/types";
 
 import { SCHEMES, type SchemeName } from "~/components/problems/schemes";
@@ -441,6 +441,7 @@ export async function readProblemSubmission(form: FormData, fixedId?: string): P
   if (!id) errors.id = "Enter an id (it names the problem's folder).";
   else if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) errors.id = "Letters, digits, '-', '_' and '.', starting with a letter or digit (at most 128).";
   let files: ProblemSourceFiles | null = null;
+  let origins: BuilderOrigins = {};
   if (mode === "upload") {
     values.problemJson = str("problemJson");
     values.referenceCsv = str("referenceCsv");
@@ -461,13 +462,16 @@ export async function readProblemSubmission(form: FormData, fixedId?: string): P
     for (const k of BUILDER_FIELDS) if (k !== "id") values[k] = str(k);
     const built = buildProblemJson({ ...(values as Record<(typeof BUILDER_FIELDS)[number], string>), id });
     if (!built.ok) Object.assign(errors, built.errors);
-    else files = { problemJson: `${JSON.stringify(built.json, null, 2)}\n` };
+    else {
+      files = { problemJson: `${JSON.stringify(built.json, null, 2)}\n` };
+      origins = built.origins;
+    }
     values.problemJson = files?.problemJson ?? "";
   }
   if (files) {
     const compiled = compileProblemSource(id || "new-problem", files, `${id || "new-problem"}/problem.json`);
     if (!compiled.ok) {
-      const byField: Record<string, string> = mode === "upload" ? errorsByField(compiled.errors, uploadFieldOf) : errorsByField(compiled.errors, builderFieldOf);
+      const byField: Record<string, string> = mode === "upload" ? errorsByField(compiled.errors, uploadFieldOf) : errorsByField(compiled.errors, builderFieldOf, (e) => describeBuilderError(e, origins));
       for (const [k, v] of Object.entries(byField)) errors[k] = errors[k] ? `${errors[k]}\n${v}` : v;
       files = null;
     }
