@@ -14,6 +14,7 @@ import type { ProblemError } from "~/engine/problem/errors";
 import { loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
 import type { CompiledProblem, Provenance } from "~/engine/problem/types";
 import { solveProblem } from "~/engine/solve";
+import { nameToTex, toTex } from "~/engine/expr/tex";
 import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, describeBuilderError, errorsByField, uploadFieldOf, type BuilderOrigins } from "~/components/problems/form-model";
 import { isSolved } from "../../bench/runner/types";
 
@@ -244,6 +245,22 @@ export interface ProblemDetail {
   best: BestResult[];
   versions: { id: number; contentHash: string; createdAt: number; results: number }[];
   states: Partial<Record<string, SchemeState>>;
+  /**
+   * Initial and final conditions and the general endpoint constraints, in the compiled order:
+   * `tex` is the constrained expression (x(t_0), x(t_f) or the constraint's expression), with
+   * its bounds (equal bounds: a fixed value).
+   */
+  endConditions: EndConditionRow[];
+  /** TeX of each declared name (states, controls, constants, intermediates), as the equations print it. */
+  names: Record<string, string>;
+}
+
+export interface EndConditionRow {
+  kind: "initial" | "final" | "endpoint";
+  name: string;
+  tex: string;
+  lower: number | null;
+  upper: number | null;
 }
 
 const finite = (v: number) => (Number.isFinite(v) ? v : null);
@@ -299,6 +316,20 @@ export function getProblemDetail(db: Db, id: string): { ok: true; detail: Proble
     best: bestResultsPerScheme(db, id),
     versions: versions.map((v) => ({ id: v.id, contentHash: v.contentHash, createdAt: new Date(v.createdAt).getTime(), results: counts.get(v.contentHash) ?? 0 })),
     states: schemeStatesOnMain(db, id).get(id) ?? {},
+    endConditions: p.endpointInfo.map((info, k): EndConditionRow => {
+      const node = p.symbolic.endpoint?.[k];
+      const kind = info.name.startsWith("initial(") ? "initial" : info.name.startsWith("final(") ? "final" : "endpoint";
+      let tex = info.name;
+      try {
+        if (node) tex = toTex(node);
+      } catch {
+        /* keep the name */
+      }
+      return { kind, name: info.name, tex, lower: finite(info.lower), upper: finite(info.upper) };
+    }),
+    names: Object.fromEntries(
+      [...p.states.map((s) => s.name), ...p.controls.map((c) => c.name), ...Object.keys(p.constants), ...Object.keys(p.symbolic.tex).filter((k) => k.startsWith("intermediates.")).map((k) => k.slice("intermediates.".length))].map((n) => [n, nameToTex(n)]),
+    ),
   };
   if (!versions.some((v) => v.contentHash === p.versionHash)) {
     detail.versions.unshift({ id: 0, contentHash: p.versionHash, createdAt: 0, results: counts.get(p.versionHash) ?? 0 });
