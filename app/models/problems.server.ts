@@ -150,6 +150,11 @@ function formatErrors(errors: ProblemError[]): string {
 }
 
 /** Every problem of the checkout and every uploaded one (a checkout problem wins on a shared id). */
+/** Problems in the library: the checkout's folders plus those added in Arcwatch (no compilation). */
+export function libraryProblemCount(): number {
+  return new Set([...folderIds(libraryProblemsDir()), ...folderIds(uploadedProblemsDir())]).size;
+}
+
 export function listProblemLibrary(db: Db, filter: { tag?: string; q?: string } = {}): LibraryEntry[] {
   const states = schemeStatesOnMain(db);
   const lib = folderIds(libraryProblemsDir());
