@@ -6,6 +6,7 @@ import { REGRESSION_KINDS, REGRESSION_STATUSES } from "~/db/schema";
 import { listRegressions, regressionListQuery } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
 import { TONE_CLASS, directionOf, kindLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
+import { DemoBadge } from "~/components/Caution";
 
 export const meta: Route.MetaFunction = () => [{ title: "Regressions · Arcwatch" }];
 
@@ -44,6 +45,11 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
           <option value="improvement">improvements</option>
         </select>
         <input name="problem" defaultValue={params.get("problem") ?? ""} placeholder="problem id" className="input w-52" aria-label="Problem" />
+        <select name="demo" defaultValue={params.get("demo") ?? "all"} className="input w-52" aria-label="Demo data" data-testid="demo-filter">
+          <option value="all">real and demo findings</option>
+          <option value="hide">real findings only</option>
+          <option value="only">demo findings only</option>
+        </select>
         <button className="btn-quiet" type="submit">
           Filter
         </button>
@@ -76,6 +82,7 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
                     <Link to={`/regressions/${r.id}`} className="num hover:underline">
                       {r.caseKey}
                     </Link>
+                    <DemoBadge show={r.isDemo} />
                   </td>
                   <td className={`px-3 py-2 ${TONE_CLASS[directionOf(r.direction).tone]}`} title={directionOf(r.direction).label}>
                     {directionOf(r.direction).symbol} {kindLabel(r.kind)}
