@@ -11,7 +11,7 @@ import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
 import { listBranches, listCommits, listSuitesAt, resolveRef } from "~/services/git.server";
 import { roleAtLeast } from "~/services/roles";
-import { statusLabel, statusTone } from "~/vocabulary";
+import { DIRECTION, statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Run a suite · Arcwatch" }];
 
@@ -107,6 +107,14 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
         </div>
       ) : null}
       {job.error ? <p className="text-sm text-bad">{job.error}</p> : null}
+      {job.found ? (
+        <p className="text-sm" data-testid="job-found">
+          The run solved <strong className="num">{job.found.solved}</strong> of <span className="num">{job.found.cases}</span> cases and found{" "}
+          <span className={job.found.regressions ? "font-semibold text-bad" : ""}>{DIRECTION.regression.symbol} {job.found.regressions} {DIRECTION.regression.label}(s)</span> and{" "}
+          <span className={job.found.improvements ? "text-good" : ""}>{DIRECTION.improvement.symbol} {job.found.improvements} {DIRECTION.improvement.label}(s)</span>
+          {job.found.regressions + job.found.improvements === 0 ? " against its baseline (or it had no baseline yet)" : ""}.
+        </p>
+      ) : null}
       <div className="flex flex-wrap gap-2">
         {job.runId ? <Link className="btn" to={`/runs/${job.runId}`} data-testid="job-run-link">Open the run</Link> : null}
         {canCancel && active ? (
