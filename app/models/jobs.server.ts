@@ -167,7 +167,7 @@ export function runFindings(db: Db, runId: string): NonNullable<JobView["found"]
   const f = db.select({ d: regressions.direction, n: sql<number>`count(*)` }).from(regressions).where(eq(regressions.runId, runId)).groupBy(regressions.direction).all();
   return {
     cases: c.reduce((a, r) => a + Number(r.n), 0),
-    solved: c.filter((r) => statusEntry("case", r.status)?.tone === "good") // the vocabulary's solved statuses.reduce((a, r) => a + Number(r.n), 0),
+    solved: c.filter((r) => statusEntry("case", r.status)?.tone === "good").reduce((a, r) => a + Number(r.n), 0),
     regressions: Number(f.find((r) => r.d === "regression")?.n ?? 0),
     improvements: Number(f.find((r) => r.d === "improvement")?.n ?? 0),
   };
