@@ -7,17 +7,18 @@ import { and, asc, eq, sql } from "drizzle-orm";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
 import { caseResults, regressions, runs, suites } from "~/db/schema";
+import { metricAxisLabel } from "~/vocabulary";
 
 /** Metrics a history can follow; each is a column of case_results. */
 export const HISTORY_METRICS = {
-  medianSeconds: { column: caseResults.medianSeconds, label: "Median time (s)", regressionMetric: "median_seconds" },
-  objectiveErrorRel: { column: caseResults.objectiveErrorRel, label: "Objective error (relative)", regressionMetric: "objective_error_rel" },
-  stateError: { column: caseResults.stateError, label: "State error (max)", regressionMetric: "state_error" },
-  controlError: { column: caseResults.controlError, label: "Control error (max)", regressionMetric: "control_error" },
-  finalTimeError: { column: caseResults.finalTimeError, label: "Final-time error", regressionMetric: "final_time_error" },
-  resimMiss: { column: caseResults.resimMiss, label: "Re-simulation miss", regressionMetric: "resim_miss" },
-  iterations: { column: caseResults.iterations, label: "NLP iterations", regressionMetric: "iterations" },
-  objective: { column: caseResults.objective, label: "Objective", regressionMetric: "objective" },
+  medianSeconds: { column: caseResults.medianSeconds, label: metricAxisLabel("medianSeconds"), regressionMetric: "median_seconds" },
+  objectiveErrorRel: { column: caseResults.objectiveErrorRel, label: metricAxisLabel("objectiveErrorRel"), regressionMetric: "objective_error_rel" },
+  stateError: { column: caseResults.stateError, label: metricAxisLabel("stateError"), regressionMetric: "state_error" },
+  controlError: { column: caseResults.controlError, label: metricAxisLabel("controlError"), regressionMetric: "control_error" },
+  finalTimeError: { column: caseResults.finalTimeError, label: metricAxisLabel("finalTimeError"), regressionMetric: "final_time_error" },
+  resimMiss: { column: caseResults.resimMiss, label: metricAxisLabel("resimMiss"), regressionMetric: "resim_miss" },
+  iterations: { column: caseResults.iterations, label: metricAxisLabel("iterations"), regressionMetric: "iterations" },
+  objective: { column: caseResults.objective, label: metricAxisLabel("objective"), regressionMetric: "objective" },
 } as const;
 export type HistoryMetric = keyof typeof HISTORY_METRICS;
 export const HISTORY_METRIC_KEYS = Object.keys(HISTORY_METRICS) as HistoryMetric[];

@@ -5,7 +5,8 @@
 import { and, asc, desc, eq, sql } from "drizzle-orm";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
-import { jobs, runs, type JobRow } from "~/db/schema";
+import { caseResults, jobs, regressions, runs, type JobRow } from "~/db/schema";
+import { statusEntry } from "~/vocabulary";
 
 /** Payload of a "bench" job: run a suite at a commit (default: the checked-out HEAD). */
 export const benchJobPayload = z.object({
@@ -164,9 +165,31 @@ export interface JobView {
   progress: BenchProgress | null;
   log: string;
   runId: string | null;
+  /** What the finished run found: cases solved, and findings by direction. */
+  found: { cases: number; solved: number; regressions: number; improvements: number } | null;
+}
+
+/** Solved cases and findings of one run (for the finished job's panel). */
+export function runFindings(db: Db, runId: string): NonNullable<JobView["found"]> {
+  const c = db.select({ status: caseResults.status, n: sql<number>`count(*)` }).from(caseResults).where(eq(caseResults.runId, runId)).groupBy(caseResults.status).all();
+  const f = db.select({ d: regressions.direction, n: sql<number>`count(*)` }).from(regressions).where(eq(regressions.runId, runId)).groupBy(regressions.direction).all();
+  return {
+    cases: c.reduce((a, r) => a + Number(r.n), 0),
+    solved: c.filter((r) => statusEntry("case", r.status)?.tone === "good").reduce((a, r) => a + Number(r.n), 0),
+    regressions: Number(f.find((r) => r.d === "regression")?.n ?? 0),
+    improvements: Number(f.find((r) => r.d === "improvement")?.n ?? 0),
+  };
 }
 
 export function jobView(db: Db, id: number, logTail = 20_000): JobView | null {
+  const v = jobViewBase(db, id, logTail);
+  if (v && v.runId && !ACTIVE_JOB.has(v.status)) v.found = runFindings(db, v.runId);
+  return v;
+}
+
+const ACTIVE_JOB = new Set(["queued", "running"]);
+
+function jobViewBase(db: Db, id: number, logTail: number): JobView | null {
   const j = getJob(db, id);
   if (!j) return null;
   const p = (j.payloadJson ?? {}) as { suite?: string; commit?: string; ref?: string };
@@ -184,6 +207,7 @@ export function jobView(db: Db, id: number, logTail = 20_000): JobView | null {
     progress: (j.progressJson ?? null) as BenchProgress | null,
     log: j.log.slice(-logTail),
     runId: runOfJob(db, id)?.id ?? null,
+    found: null,
   };
 }
 

@@ -1,7 +1,8 @@
 /** Counts shown on the overview page. */
 import { count, desc, eq } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
-import { problems, regressions, runs, suites } from "~/db/schema";
+import { regressions, runs, suites } from "~/db/schema";
+import { libraryProblemCount } from "./problems.server";
 
 export interface OverviewCounts {
   runs: number;
@@ -14,7 +15,8 @@ export interface OverviewCounts {
 export function overviewCounts(db: Db): OverviewCounts {
   const runCount = db.select({ n: count() }).from(runs).get()?.n ?? 0;
   const demoRuns = db.select({ n: count() }).from(runs).where(eq(runs.isDemo, true)).get()?.n ?? 0;
-  const problemCount = db.select({ n: count() }).from(problems).get()?.n ?? 0;
+  // The library (problem folders), not the problems table, which only holds problems already run.
+  const problemCount = libraryProblemCount();
   const open = db.select({ n: count() }).from(regressions).where(eq(regressions.status, "open")).get()?.n ?? 0;
   const latest = db
     .select({

@@ -15,7 +15,8 @@ import type { ProblemError } from "~/engine/problem/errors";
 import { loadFromLibrary, loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
 import type { CompiledProblem, Provenance } from "~/engine/problem/types";
 import { solveProblem } from "~/engine/solve";
-import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, errorsByField, uploadFieldOf } from "~/engine/problem/form";
+import { nameToTex, toTex } from "~/engine/expr/tex";
+import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, describeBuilderError, errorsByField, uploadFieldOf, type BuilderOrigins } from "~/engine/problem/form";
 import { isSolved } from "~/runs/types";
 
 import { SCHEMES, type SchemeName } from "~/engine/schemes/ids";
@@ -123,7 +124,13 @@ function formatErrors(errors: ProblemError[]): string {
     .join("; ");
 }
 
+/** Problems in the library: the checkout's folders plus those added in Arcwatch (no compilation). */
+export function libraryProblemCount(): number {
+  return webProblemLibrary().ids().length;
+}
+
 /** Every problem of the checkout and every uploaded one (a checkout problem wins on a shared id). */
+
 export function listProblemLibrary(db: Db, filter: { tag?: string; q?: string } = {}): LibraryEntry[] {
   const states = schemeStatesOnMain(db);
   const entries: LibraryEntry[] = [];
@@ -221,6 +228,22 @@ export interface ProblemDetail {
   best: BestResult[];
   versions: { id: number; contentHash: string; createdAt: number; results: number }[];
   states: Partial<Record<string, SchemeState>>;
+  /**
+   * Initial and final conditions and the general endpoint constraints, in the compiled order:
+   * `tex` is the constrained expression (x(t_0), x(t_f) or the constraint's expression), with
+   * its bounds (equal bounds: a fixed value).
+   */
+  endConditions: EndConditionRow[];
+  /** TeX of each declared name (states, controls, constants, intermediates), as the equations print it. */
+  names: Record<string, string>;
+}
+
+export interface EndConditionRow {
+  kind: "initial" | "final" | "endpoint";
+  name: string;
+  tex: string;
+  lower: number | null;
+  upper: number | null;
 }
 
 const finite = (v: number) => (Number.isFinite(v) ? v : null);
@@ -276,6 +299,20 @@ export function getProblemDetail(db: Db, id: string): { ok: true; detail: Proble
     best: bestResultsPerScheme(db, id),
     versions: versions.map((v) => ({ id: v.id, contentHash: v.contentHash, createdAt: new Date(v.createdAt).getTime(), results: counts.get(v.contentHash) ?? 0 })),
     states: schemeStatesOnMain(db, id).get(id) ?? {},
+    endConditions: p.endpointInfo.map((info, k): EndConditionRow => {
+      const node = p.symbolic.endpoint?.[k];
+      const kind = info.name.startsWith("initial(") ? "initial" : info.name.startsWith("final(") ? "final" : "endpoint";
+      let tex = info.name;
+      try {
+        if (node) tex = toTex(node);
+      } catch {
+        /* keep the name */
+      }
+      return { kind, name: info.name, tex, lower: finite(info.lower), upper: finite(info.upper) };
+    }),
+    names: Object.fromEntries(
+      [...p.states.map((s) => s.name), ...p.controls.map((c) => c.name), ...Object.keys(p.constants), ...Object.keys(p.symbolic.tex).filter((k) => k.startsWith("intermediates.")).map((k) => k.slice("intermediates.".length))].map((n) => [n, nameToTex(n)]),
+    ),
   };
   if (!versions.some((v) => v.contentHash === p.versionHash)) {
     detail.versions.unshift({ id: 0, contentHash: p.versionHash, createdAt: 0, results: counts.get(p.versionHash) ?? 0 });
@@ -418,6 +455,7 @@ export async function readProblemSubmission(form: FormData, fixedId?: string): P
   if (!id) errors.id = "Enter an id (it names the problem's folder).";
   else if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) errors.id = "Letters, digits, '-', '_' and '.', starting with a letter or digit (at most 128).";
   let files: ProblemSourceFiles | null = null;
+  let origins: BuilderOrigins = {};
   if (mode === "upload") {
     values.problemJson = str("problemJson");
     values.referenceCsv = str("referenceCsv");
@@ -438,13 +476,16 @@ export async function readProblemSubmission(form: FormData, fixedId?: string): P
     for (const k of BUILDER_FIELDS) if (k !== "id") values[k] = str(k);
     const built = buildProblemJson({ ...(values as Record<(typeof BUILDER_FIELDS)[number], string>), id });
     if (!built.ok) Object.assign(errors, built.errors);
-    else files = { problemJson: `${JSON.stringify(built.json, null, 2)}\n` };
+    else {
+      files = { problemJson: `${JSON.stringify(built.json, null, 2)}\n` };
+      origins = built.origins;
+    }
     values.problemJson = files?.problemJson ?? "";
   }
   if (files) {
     const compiled = compileProblemSource(id || "new-problem", files, `${id || "new-problem"}/problem.json`);
     if (!compiled.ok) {
-      const byField: Record<string, string> = mode === "upload" ? errorsByField(compiled.errors, uploadFieldOf) : errorsByField(compiled.errors, builderFieldOf);
+      const byField: Record<string, string> = mode === "upload" ? errorsByField(compiled.errors, uploadFieldOf) : errorsByField(compiled.errors, builderFieldOf, (e) => describeBuilderError(e, origins));
       for (const [k, v] of Object.entries(byField)) errors[k] = errors[k] ? `${errors[k]}\n${v}` : v;
       files = null;
     }

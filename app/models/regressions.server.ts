@@ -44,6 +44,8 @@ export interface RegressionListItem {
   commitHash: string;
   commitSubject: string | null;
   createdAt: number;
+  /** Found between demo commits (seeded data, never a real measurement). */
+  isDemo: boolean;
 }
 
 export const regressionListQuery = z.object({
@@ -52,18 +54,21 @@ export const regressionListQuery = z.object({
   direction: z.enum(["regression", "improvement"]).optional().catch(undefined),
   problem: z.string().regex(/^[A-Za-z0-9][A-Za-z0-9_.-]{0,127}$/).optional().catch(undefined),
   limit: z.coerce.number().int().min(1).max(500).default(200).catch(200),
+  /** all (default), hide (real findings only) or only (demo findings only). */
+  demo: z.enum(["all", "hide", "only"]).default("all").catch("all"),
 });
 export type RegressionListQuery = z.infer<typeof regressionListQuery>;
 
-export function listRegressions(db: Db, q: RegressionListQuery): RegressionListItem[] {
+export function listRegressions(db: Db, q: Omit<RegressionListQuery, "demo"> & Partial<Pick<RegressionListQuery, "demo">>): RegressionListItem[] {
   const where = [
     q.status ? eq(regressions.status, q.status) : undefined,
     q.kind ? eq(regressions.kind, q.kind) : undefined,
     q.direction ? eq(regressions.direction, q.direction) : undefined,
     q.problem ? sql`${regressions.caseKey} like ${`${q.problem}/%`}` : undefined,
+    q.demo === "hide" ? eq(runs.isDemo, false) : q.demo === "only" ? eq(runs.isDemo, true) : undefined,
   ].filter((w) => w !== undefined);
   const rows = db
-    .select({ r: regressions, commitHash: runs.commitHash, commitSubject: runs.commitSubject, assignee: users.name })
+    .select({ r: regressions, commitHash: runs.commitHash, commitSubject: runs.commitSubject, assignee: users.name, isDemo: runs.isDemo })
     .from(regressions)
     .innerJoin(runs, eq(runs.id, regressions.runId))
     .leftJoin(users, eq(users.id, regressions.assigneeId))
@@ -71,7 +76,8 @@ export function listRegressions(db: Db, q: RegressionListQuery): RegressionListI
     .orderBy(desc(runs.startedAt), groupsFirst, desc(regressions.id))
     .limit(q.limit)
     .all();
-  return rows.map(({ r, commitHash, commitSubject, assignee }) => ({
+  return rows.map(({ r, commitHash, commitSubject, assignee, isDemo }) => ({
+    isDemo,
     id: r.id,
     caseKey: r.caseKey,
     problemId: problemOfCaseKey(r.caseKey),
@@ -225,13 +231,14 @@ export function getRegressionDetail(db: Db, id: number, viewerId: number): Regre
 function listRegressionsById(db: Db, ids: number[]): RegressionListItem[] {
   if (ids.length === 0) return [];
   const rows = db
-    .select({ r: regressions, commitHash: runs.commitHash, commitSubject: runs.commitSubject, assignee: users.name })
+    .select({ r: regressions, commitHash: runs.commitHash, commitSubject: runs.commitSubject, assignee: users.name, isDemo: runs.isDemo })
     .from(regressions)
     .innerJoin(runs, eq(runs.id, regressions.runId))
     .leftJoin(users, eq(users.id, regressions.assigneeId))
     .where(inArray(regressions.id, ids))
     .all();
-  return rows.map(({ r, commitHash, commitSubject, assignee }) => ({
+  return rows.map(({ r, commitHash, commitSubject, assignee, isDemo }) => ({
+    isDemo,
     id: r.id, caseKey: r.caseKey, problemId: problemOfCaseKey(r.caseKey), kind: r.kind, direction: r.direction, metric: r.metric, scope: r.scope,
     before: r.before, after: r.after, ratio: r.ratio, pValue: r.pValue, status: r.status, assignee, runId: r.runId, commitHash, commitSubject,
     createdAt: new Date(r.createdAt).getTime(),

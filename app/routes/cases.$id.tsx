@@ -9,6 +9,7 @@ import { getCase, type CaseTrajectory } from "~/models/cases.server";
 import { requireUser } from "~/services/auth.server";
 import { getCaseMesh } from "~/models/mesh.server";
 import { MeshPanel } from "~/components/MeshPanel";
+import { METRICS, metricLabel, statusLabel } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.c.caseKey ?? "Case"} · Arcwatch` }];
 
@@ -20,23 +21,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return { c, mesh: getCaseMesh(getDb(), id) };
 }
 
-const NUMBER_LABELS: Record<string, string> = {
-  objective: "Objective J",
-  objectiveErrorAbs: "|J − J_ref|",
-  objectiveErrorRel: "|J − J_ref| / max(1, |J_ref|)",
-  finalTime: "Final time t_f",
-  finalTimeError: "|t_f − t_f,ref|",
-  stateError: "max state error vs reference",
-  controlError: "max control error vs reference",
-  resimMiss: "Re-simulation terminal miss",
-  constraintViolation: "Constraint violation at the returned point",
-  iterations: "NLP iterations",
-  medianSeconds: "Median solve time",
-  meanSeconds: "Mean solve time",
-  stddevSeconds: "Standard deviation of solve time",
-  minSeconds: "Fastest solve",
-  sampleCount: "Timed repeats",
-};
+/** Every number's label comes from the vocabulary (app/vocabulary.ts); a formula is shown beside it. */
+const NUMBER_LABELS: Record<string, string> = Object.fromEntries(Object.entries(METRICS).map(([k, m]) => [k, m.label]));
 const SECONDS = new Set(["medianSeconds", "meanSeconds", "stddevSeconds", "minSeconds"]);
 const LOG_COLUMNS = ["iter", "f", "infPr", "infDu", "mu", "normD", "deltaW", "alphaPr", "alphaDu", "lsTrials", "phase", "info"] as const;
 /** Column heads in Arcwatch's own words (the same as the solve command's log). */
@@ -65,7 +51,7 @@ export default function CasePage({ loaderData }: Route.ComponentProps) {
         <p className="text-muted">
           Problem {c.problemId} · scheme {c.scheme} · {c.intervals} intervals{c.degree ? ` × degree ${c.degree}` : ""} · suite {c.run.suite} on {c.run.branch ?? "(detached)"} · {fmtDate(c.run.startedAt)}
         </p>
-        <p className={`text-lg font-semibold ${c.solved ? "text-good" : "text-bad"}`} data-testid="case-status">{c.status}</p>
+        <p className={`text-lg font-semibold ${c.solved ? "text-good" : "text-bad"}`} data-testid="case-status" data-status={c.status}>{statusLabel("case", c.status)}</p>
         {c.message ? <p className="text-sm text-muted">{c.message}</p> : null}
         <p className="flex flex-wrap gap-2 text-sm">
           <Link className="btn-quiet" to={`/history?caseKey=${encodeURIComponent(c.caseKey)}&branch=${encodeURIComponent(c.run.branch ?? "main")}`}>History of this case</Link>
@@ -82,13 +68,13 @@ export default function CasePage({ loaderData }: Route.ComponentProps) {
           <dl className="grid grid-cols-[1fr_auto] gap-x-3 gap-y-1 text-sm" data-testid="case-numbers">
             {Object.entries(c.numbers).map(([k, v]) => (
               <div key={k} className="contents">
-                <dt className="text-muted">{NUMBER_LABELS[k] ?? k}</dt>
+                <dt className="text-muted">{NUMBER_LABELS[k] ?? metricLabel(k)}</dt>
                 <dd className="num text-right">{SECONDS.has(k) ? fmtSeconds(v) : fmt(v, 6)}</dd>
               </div>
             ))}
             {Object.entries(extra).filter(([, v]) => typeof v === "number").map(([k, v]) => (
               <div key={k} className="contents">
-                <dt className="text-muted">{k}</dt>
+                <dt className="text-muted">{metricLabel(k)}</dt>
                 <dd className="num text-right">{fmt(v as number, 6)}</dd>
               </div>
             ))}

@@ -7,6 +7,7 @@ import { HistoryChart } from "~/components/charts/HistoryChart";
 import { getDb } from "~/db/client.server";
 import { HISTORY_METRICS, HISTORY_METRIC_KEYS, historyOptions, latestRunBranch, type HistoryPoint } from "~/models/history.server";
 import { requireUser } from "~/services/auth.server";
+import { DIRECTION } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "History · Arcwatch" }];
 
@@ -88,7 +89,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
       ) : (
         <>
           <p className="text-sm text-muted" data-testid="history-summary">
-            {series.points.length} runs · <span className="text-bad">▲ {regressionsShown} with a regression</span> · <span className="text-good">◆ {improvementsShown} with an improvement</span> · latest value {fmt(series.points.at(-1)?.value ?? null)}
+            {series.points.length} runs · <span className="text-bad">{DIRECTION.regression.symbol} {regressionsShown} with a {DIRECTION.regression.label}</span> · <span className="text-good">{DIRECTION.improvement.symbol} {improvementsShown} with an {DIRECTION.improvement.label}</span> · latest value {fmt(series.points.at(-1)?.value ?? null)}
             {series.points.some((p) => p.isDemo) ? " · includes demo data" : ""}
           </p>
           <HistoryChart points={series.points} label={series.label} log={metric !== "iterations" && metric !== "objective"} />

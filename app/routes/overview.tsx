@@ -14,6 +14,7 @@ import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
 import { checkBenchJob } from "~/services/job-check.server";
 import { roleAtLeast, ROLE_DESCRIPTIONS } from "~/services/roles";
+import { statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Overview · Arcwatch" }];
 
@@ -115,7 +116,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
           <h2 className="font-semibold">Latest run</h2>
           <p className="mt-1 text-sm text-muted">
             Suite <span className="font-medium text-ink">{counts.latestRun.suite}</span> at commit{" "}
-            <code className="num">{counts.latestRun.commitHash.slice(0, 10)}</code>, {counts.latestRun.status}, started{" "}
+            <code className="num">{counts.latestRun.commitHash.slice(0, 10)}</code>, {statusLabel("run", counts.latestRun.status)}, started{" "}
             <time className="num" dateTime={new Date(counts.latestRun.startedAt).toISOString()}>
               {new Date(counts.latestRun.startedAt).toISOString().replace("T", " ").slice(0, 16)} UTC
             </time>
@@ -143,8 +144,8 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
             <p className="text-sm text-muted">Runs started from here are queued and picked up by the job worker.</p>
           </div>
           {roleAtLeast(role, "engineer") ? (
-            <Form method="post" className="flex items-end gap-2" noValidate aria-label="Queue a benchmark job">
-              <Field label="Suite" name="suite" defaultValue={actionData?.values.suite ?? "quick"} error={actionData?.errors.suite} className="input w-48" />
+            <Form method="post" className="flex flex-wrap items-end gap-2" noValidate aria-label="Queue a benchmark job">
+              <Field label="Suite" name="suite" defaultValue={actionData?.values.suite ?? "quick"} error={actionData?.errors.suite} className="input w-full max-w-48" />
               <button type="submit" className="btn" disabled={busy}>
                 Queue run
               </button>
@@ -157,6 +158,7 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
         {jobs.length === 0 ? (
           <p className="text-sm text-muted">No jobs yet.</p>
         ) : (
+          <div className="overflow-x-auto">
           <table className="w-full text-left text-sm">
             <thead className="text-muted">
               <tr>
@@ -173,12 +175,13 @@ export default function Overview({ loaderData, actionData }: Route.ComponentProp
                   <td className="num py-2">{j.id}</td>
                   <td className="py-2">{j.kind}</td>
                   <td className="py-2">{j.suite}</td>
-                  <td className="py-2">{j.status}</td>
+                  <td className={`py-2 ${statusTone("job", j.status)}`}>{statusLabel("job", j.status)}</td>
                   <td className="num py-2">{new Date(j.createdAt).toISOString().replace("T", " ").slice(0, 19)}</td>
                 </tr>
               ))}
             </tbody>
           </table>
+          </div>
         )}
       </section>
     </div>

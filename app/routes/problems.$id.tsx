@@ -20,6 +20,22 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 const bound = (v: number | null) => (v === null ? "—" : String(v));
+
+/** A number in TeX: 1e-6 → 1 \times 10^{-6}. */
+function texNumber(v: number): string {
+  const s = String(v);
+  const m = /^(-?[\d.]+)e([+-]?\d+)$/.exec(s);
+  return m ? `${m[1]} \\times 10^{${Number(m[2])}}` : s;
+}
+
+/** One end condition as an equation or inequality. */
+function endConditionTex(r: { tex: string; lower: number | null; upper: number | null }): string {
+  if (r.lower !== null && r.upper !== null && r.lower === r.upper) return `${r.tex} = ${texNumber(r.lower)}`;
+  if (r.lower !== null && r.upper !== null) return `${texNumber(r.lower)} \\le ${r.tex} \\le ${texNumber(r.upper)}`;
+  if (r.lower !== null) return `${r.tex} \\ge ${texNumber(r.lower)}`;
+  if (r.upper !== null) return `${r.tex} \\le ${texNumber(r.upper)}`;
+  return `${r.tex} \\text{ free}`;
+}
 const when = (ms: number) => (ms ? new Date(ms).toISOString().replace("T", " ").slice(0, 16) : "not yet saved");
 
 export default function ProblemPage({ loaderData }: Route.ComponentProps) {
@@ -27,6 +43,8 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
   const saved = useSearchParams()[0].get("saved");
   const tex = d.tex;
   const dyn = d.stateNames.filter((s) => tex[`dynamics.${s}`] !== undefined);
+  // The left-hand sides use the same TeX names as the right-hand sides (engine/expr/tex.ts).
+  const nameTex = (n: string) => d.names[n] ?? `\\mathrm{${n}}`;
   const inter = Object.keys(tex).filter((k) => k.startsWith("intermediates."));
   const objective = [tex["objective.terminal"], tex["objective.running"] ? `\\int_{t_0}^{t_f} ${tex["objective.running"]}\\,dt` : undefined].filter(Boolean).join(" + ");
   return (
@@ -62,21 +80,37 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
       </div>
 
       <Notice message={saved ? `Saved: version ${saved}. Suites that select its tags include it from their next run on.` : null} />
-      <section className="card space-y-3 p-5" data-testid="equations">
+      <section className="card space-y-3 overflow-x-auto p-5" data-testid="equations">
         <h2 className="text-lg font-semibold">Equations</h2>
         <p>
           <Tex tex={`\\${d.sense === "max" ? "max" : "min"}\\; J = ${objective || "0"}`} display />
         </p>
         {inter.map((k) => (
           <p key={k}>
-            <Tex tex={`${k.slice("intermediates.".length)} = ${tex[k]}`} display />
+            <Tex tex={`${nameTex(k.slice("intermediates.".length))} = ${tex[k]}`} display />
           </p>
         ))}
         {dyn.map((s) => (
           <p key={s}>
-            <Tex tex={`\\dot{${s.length === 1 ? s : `\\mathrm{${s}}`}} = ${tex[`dynamics.${s}`]}`} display />
+            <Tex tex={`\\dot{${nameTex(s)}} = ${tex[`dynamics.${s}`]}`} display />
           </p>
         ))}
+        {(["initial", "final", "endpoint"] as const).map((kind) => {
+          const rows = d.endConditions.filter((r) => r.kind === kind);
+          if (rows.length === 0) return null;
+          return (
+            <div key={kind} data-testid={`end-${kind}`}>
+              <h3 className="text-sm font-medium text-muted">{kind === "initial" ? "Initial conditions" : kind === "final" ? "Final conditions" : "Endpoint constraints"}</h3>
+              <div className="flex flex-wrap gap-x-8">
+                {rows.map((r) => (
+                  <span key={r.name} data-end-condition={r.name}>
+                    <Tex tex={endConditionTex(r)} display />
+                  </span>
+                ))}
+              </div>
+            </div>
+          );
+        })}
         <p className="text-sm text-muted">
           Horizon: t₀ = {d.horizon.t0},{" "}
           {d.horizon.kind === "fixed" ? `t_f = ${d.horizon.tf} (fixed)` : `t_f free in [${d.horizon.lower}, ${d.horizon.upper}]`}

@@ -9,6 +9,8 @@ import { getDb } from "~/db/client.server";
 import { commitsBetween, getRegressionDetail, type SideCase } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
+import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel } from "~/vocabulary";
+import { DemoBadge } from "~/components/Caution";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.regression.caseKey ?? "Regression"} · Arcwatch` }];
 
@@ -18,7 +20,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const db = getDb();
   const detail = Number.isInteger(id) ? getRegressionDetail(db, id, user.id) : null;
   if (!detail) throw data({ message: "No such regression." }, { status: 404 });
-  const between = await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);
+  // Demo commits are invented: asking git about them only costs time (100–600 ms measured).
+  const between = detail.regression.isDemo ? { commits: [], note: "Demo data: these commits are invented and are in no repository." } : await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);
   return { detail, commits: between.commits, commitsNote: between.note, canTriage: roleAtLeast(user.role, "engineer") };
 }
 
@@ -209,12 +212,12 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
     if (comment.f.state === "idle" && comment.f.data?.ok) commentForm.current?.reset();
   }, [comment.f.state, comment.f.data]);
   const rows: [string, (c: SideCase) => number | null | string][] = [
-    ["status", (c) => c.status],
-    ["objective", (c) => c.objective],
-    ["relative objective error", (c) => c.objectiveErrorRel],
-    ["state error", (c) => c.stateError],
-    ["iterations", (c) => c.iterations],
-    ["median time (s)", (c) => c.medianSeconds],
+    [METRICS.status.label, (c) => statusLabel("case", c.status)],
+    [METRICS.objective.label, (c) => c.objective],
+    [METRICS.objectiveErrorRel.label, (c) => c.objectiveErrorRel],
+    [METRICS.stateError.label, (c) => c.stateError],
+    [METRICS.iterations.label, (c) => c.iterations],
+    [metricAxisLabel("medianSeconds"), (c) => c.medianSeconds],
   ];
   return (
     <div className="space-y-6">
@@ -226,9 +229,11 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
             </Link>{" "}
             / {r.id}
           </p>
-          <h1 className="num text-2xl font-semibold tracking-tight">{r.caseKey}</h1>
-          <p className={r.direction === "improvement" ? "text-good" : "text-bad"}>
-            {r.kind} {r.direction} in {r.metric} · <span data-testid="regression-status">{r.status}</span>
+          <h1 className="num flex flex-wrap items-center gap-2 text-2xl font-semibold tracking-tight">
+            {r.caseKey} <DemoBadge show={r.isDemo} />
+          </h1>
+          <p className={TONE_CLASS[directionOf(r.direction).tone]}>
+            {directionOf(r.direction).symbol} {kindLabel(r.kind)} {directionOf(r.direction).label} in {metricLabel(r.metric).toLowerCase()} · <span data-testid="regression-status">{statusLabel("regression", r.status)}</span>
             {r.assignee ? ` · assigned to ${r.assignee}` : ""}
           </p>
           {r.reason ? <p className="text-sm text-muted">Expected: {r.reason}</p> : null}
@@ -253,7 +258,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
       <section className="card overflow-x-auto p-4" data-testid="evidence">
         <h2 className="mb-2 text-lg font-semibold">Before and after</h2>
         <p className="mb-3 text-sm">
-          {r.metric}: <span className="num">{num(r.before)}</span> → <span className="num">{num(r.after)}</span>, ratio <span className="num" data-testid="ratio">{r.ratio === null ? "—" : r.ratio.toFixed(3)}</span>
+          {metricLabel(r.metric)}: <span className="num">{num(r.before)}</span> → <span className="num">{num(r.after)}</span>, ratio <span className="num" data-testid="ratio">{r.ratio === null ? "—" : r.ratio.toFixed(3)}</span>
           {r.pValue !== null ? <>, p = <span className="num">{r.pValue.toExponential(2)}</span></> : null}
           {r.ciLow !== null && r.ciHigh !== null ? (
             <>

@@ -5,6 +5,8 @@ import { getDb } from "~/db/client.server";
 import { REGRESSION_KINDS, REGRESSION_STATUSES } from "~/db/schema";
 import { listRegressions, regressionListQuery } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
+import { TONE_CLASS, directionOf, kindLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
+import { DemoBadge } from "~/components/Caution";
 
 export const meta: Route.MetaFunction = () => [{ title: "Regressions · Arcwatch" }];
 
@@ -43,6 +45,11 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
           <option value="improvement">improvements</option>
         </select>
         <input name="problem" defaultValue={params.get("problem") ?? ""} placeholder="problem id" className="input w-52" aria-label="Problem" />
+        <select name="demo" defaultValue={params.get("demo") ?? "all"} className="input w-52" aria-label="Demo data" data-testid="demo-filter">
+          <option value="all">real and demo findings</option>
+          <option value="hide">real findings only</option>
+          <option value="only">demo findings only</option>
+        </select>
         <button className="btn-quiet" type="submit">
           Filter
         </button>
@@ -75,19 +82,20 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
                     <Link to={`/regressions/${r.id}`} className="num hover:underline">
                       {r.caseKey}
                     </Link>
+                    <DemoBadge show={r.isDemo} />
                   </td>
-                  <td className={`px-3 py-2 ${r.direction === "improvement" ? "text-good" : "text-bad"}`}>
-                    {r.kind} {r.direction === "improvement" ? "↑" : "↓"}
+                  <td className={`px-3 py-2 ${TONE_CLASS[directionOf(r.direction).tone]}`} title={directionOf(r.direction).label}>
+                    {directionOf(r.direction).symbol} {kindLabel(r.kind)}
                   </td>
-                  <td className="num px-3 py-2">{r.metric}</td>
+                  <td className="px-3 py-2">{metricLabel(r.metric)}</td>
                   <td className="num px-3 py-2 text-right">{num(r.before)}</td>
                   <td className="num px-3 py-2 text-right">{num(r.after)}</td>
                   <td className="num px-3 py-2 text-right">{r.ratio === null ? "—" : r.ratio.toFixed(3)}</td>
                   <td className="num px-3 py-2" title={r.commitSubject ?? ""}>
                     {r.commitHash.slice(0, 10)}
                   </td>
-                  <td className="px-3 py-2">
-                    {r.status}
+                  <td className={`px-3 py-2 ${statusTone("regression", r.status)}`}>
+                    {statusLabel("regression", r.status)}
                     {r.assignee ? <span className="block text-xs text-muted">{r.assignee}</span> : null}
                   </td>
                 </tr>

@@ -11,6 +11,7 @@ import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
 import { listBranches, listCommits, listSuitesAt, resolveRef } from "~/services/git.server";
 import { roleAtLeast } from "~/services/roles";
+import { DIRECTION, statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Run a suite · Arcwatch" }];
 
@@ -31,7 +32,10 @@ export async function loader({ request }: Route.LoaderArgs) {
   const jobId = Number(url.searchParams.get("job"));
   const job = Number.isInteger(jobId) && jobId > 0 ? jobView(db, jobId) : null;
   const jobs = listJobs(db, 15).map((j) => ({ id: j.id, status: j.status, suite: String((j.payloadJson as { suite?: unknown })?.suite ?? ""), ref: String((j.payloadJson as { ref?: unknown })?.ref ?? ""), createdAt: j.createdAt.getTime() }));
-  return { canStart: roleAtLeast(user.role, "engineer"), branches, commits, suites, ref, job, jobs, gitError };
+  // Links from other pages (compare, commit page) preselect a suite and a commit.
+  const wantSuite = url.searchParams.get("suite") ?? "";
+  const wantCommit = url.searchParams.get("commit") ?? "";
+  return { canStart: roleAtLeast(user.role, "engineer"), branches, commits, suites, ref, job, jobs, gitError, wantSuite, wantCommit: /^[0-9a-f]{7,40}$/.test(wantCommit) ? wantCommit : "" };
 }
 
 const startSchema = z.object({
@@ -86,7 +90,7 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
           Job {job.id}: suite {job.suite} on {job.ref ?? "?"} <code className="num text-base">{job.commit?.slice(0, 10)}</code>
         </h2>
         <span className={`font-semibold ${job.status === "done" ? "text-good" : job.status === "failed" || job.status === "died" ? "text-bad" : "text-accent"}`} data-testid="job-status" aria-live="polite">
-          {job.status}
+          {statusLabel("job", job.status)}
         </span>
       </div>
       {active || p ? (
@@ -103,6 +107,14 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
         </div>
       ) : null}
       {job.error ? <p className="text-sm text-bad">{job.error}</p> : null}
+      {job.found ? (
+        <p className="text-sm" data-testid="job-found">
+          The run solved <strong className="num">{job.found.solved}</strong> of <span className="num">{job.found.cases}</span> cases and found{" "}
+          <span className={job.found.regressions ? "font-semibold text-bad" : ""}>{DIRECTION.regression.symbol} {job.found.regressions} {DIRECTION.regression.label}(s)</span> and{" "}
+          <span className={job.found.improvements ? "text-good" : ""}>{DIRECTION.improvement.symbol} {job.found.improvements} {DIRECTION.improvement.label}(s)</span>
+          {job.found.regressions + job.found.improvements === 0 ? " against its baseline (or it had no baseline yet)" : ""}.
+        </p>
+      ) : null}
       <div className="flex flex-wrap gap-2">
         {job.runId ? <Link className="btn" to={`/runs/${job.runId}`} data-testid="job-run-link">Open the run</Link> : null}
         {canCancel && active ? (
@@ -122,7 +134,8 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
 }
 
 export default function RunSuite({ loaderData, actionData }: Route.ComponentProps) {
-  const { canStart, branches, commits, suites, ref, job, jobs, gitError } = loaderData;
+  const { canStart, branches, commits, suites, ref, job, jobs, gitError, wantSuite, wantCommit } = loaderData;
+  const preCommit = commits.find((c) => wantCommit && c.hash.startsWith(wantCommit))?.hash ?? wantCommit;
   const errors = (actionData?.errors ?? {}) as FieldErrors<StartField>;
   const values = actionData?.values;
   const busy = useNavigation().state === "submitting";
@@ -163,8 +176,9 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
             <input type="hidden" name="ref" value={ref} />
             <label className="space-y-1 text-sm md:col-span-2">
               <span className="font-medium">Commit of {ref || "the branch"}</span>
-              <select name="commit" defaultValue={values?.commit ?? ""} className="input" aria-invalid={errors.commit ? true : undefined} aria-describedby={errors.commit ? "commit-error" : undefined}>
+              <select name="commit" data-testid="commit-picker" defaultValue={values?.commit ?? preCommit} className="input" aria-invalid={errors.commit ? true : undefined} aria-describedby={errors.commit ? "commit-error" : undefined}>
                 <option value="">Tip of {ref}</option>
+                {preCommit && !commits.some((c) => c.hash === preCommit) ? <option value={preCommit}>{preCommit.slice(0, 10)} (from the link)</option> : null}
                 {commits.map((c) => <option key={c.hash} value={c.hash}>{c.hash.slice(0, 10)} {c.subject.slice(0, 70)} ({c.date.slice(0, 10)})</option>)}
               </select>
               {errors.commit ? <span id="commit-error" className="text-bad">{errors.commit}</span> : null}
@@ -172,7 +186,7 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
             </label>
             <label className="space-y-1 text-sm">
               <span className="font-medium">Suite</span>
-              <select name="suite" defaultValue={values?.suite ?? (suites.includes("quick") ? "quick" : suites[0])} className="input" data-testid="suite-picker" aria-invalid={errors.suite ? true : undefined} aria-describedby={errors.suite ? "suite-error" : undefined}>
+              <select name="suite" defaultValue={values?.suite ?? (suites.includes(wantSuite) ? wantSuite : suites.includes("quick") ? "quick" : suites[0])} className="input" data-testid="suite-picker" aria-invalid={errors.suite ? true : undefined} aria-describedby={errors.suite ? "suite-error" : undefined}>
                 {suites.map((s) => <option key={s} value={s}>{s}</option>)}
               </select>
               {errors.suite ? <span id="suite-error" className="text-bad" data-field-error="suite">{errors.suite}</span> : null}
@@ -193,7 +207,7 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
             {jobs.map((j) => (
               <li key={j.id} className="flex items-center justify-between px-4 py-2">
                 <Link className="text-accent hover:underline" to={`/run-suite?ref=${encodeURIComponent(j.ref || ref)}&job=${j.id}`}>Job {j.id} · {j.suite} on {j.ref || "?"}</Link>
-                <span className="num text-muted"><span data-job-list-status={j.id}>{statusOf(j)}</span> · {fmtDate(j.createdAt)}</span>
+                <span className="num text-muted"><span data-job-list-status={j.id} className={statusTone("job", statusOf(j))}>{statusLabel("job", statusOf(j))}</span> · {fmtDate(j.createdAt)}</span>
               </li>
             ))}
           </ul>

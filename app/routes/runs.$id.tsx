@@ -10,6 +10,7 @@ import { getJob } from "~/models/jobs.server";
 import { runShardsOf } from "~/models/run-groups.server";
 import { ShardPanel } from "~/components/runs/ShardPanel";
 import { requireUser } from "~/services/auth.server";
+import { DIRECTION, METRICS, TONE_CLASS, directionOf, kindLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Run ${data?.run.run.commitHash.slice(0, 10) ?? ""} · Arcwatch` }];
 
@@ -75,7 +76,7 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
           </h1>
           <p className="text-muted">{run.commitSubject}</p>
           <p className="text-sm text-muted">
-            {run.branch ?? "(detached)"} · {run.status} · started {fmtDate(run.startedAt)} · {run.finishedAt ? fmtSeconds((run.finishedAt - run.startedAt) / 1000) : "not finished"} ·{" "}
+            {run.branch ?? "(detached)"} · {statusLabel("run", run.status)} · started {fmtDate(run.startedAt)} · {run.finishedAt ? fmtSeconds((run.finishedAt - run.startedAt) / 1000) : "not finished"} ·{" "}
             <span data-testid="run-solved">{solved}/{cases.length} solved</span> · machine <code className="num text-xs">{run.machineKey.slice(0, 12)}</code>
             {run.jobId ? <> · <Link className="text-accent underline" to={`/run-suite?job=${run.jobId}`}>job {run.jobId}</Link></> : null}
           </p>
@@ -138,10 +139,10 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
                             className="block min-w-[7.5rem] rounded px-2 py-1 focus-visible:outline-2"
                             style={{ background: bg, color: inkOn(bg) }}
                             data-testid="matrix-cell"
-                            title={`${c.caseKey}: ${c.status}${c.message ? ` — ${c.message}` : ""}`}
+                            title={`${c.caseKey}: ${statusLabel("case", c.status)}${c.message ? ` — ${c.message}` : ""}`}
                           >
-                            <span className="block font-semibold">{c.status}{regs.some((r) => r.direction === "regression") ? " ▲" : regs.length ? " ▽" : ""}</span>
-                            <span className="num block" title={`objective ${fmt(c.objectiveErrorRel)}, state ${fmt(c.stateError)}`}>err {c.objectiveErrorRel === null && c.stateError === null ? fmt(null) : fmt(cellError(c))}</span>
+                            <span className="block font-semibold">{statusLabel("case", c.status)}{regs.some((r) => r.direction === "regression") ? ` ${DIRECTION.regression.symbol}` : regs.length ? ` ${DIRECTION.improvement.symbol}` : ""}</span>
+                            <span className="num block" title={`${METRICS.objectiveErrorRel.label} ${fmt(c.objectiveErrorRel)}, ${METRICS.stateError.label} ${fmt(c.stateError)}`}>{METRICS.worstError.label.toLowerCase()} {c.objectiveErrorRel === null && c.stateError === null ? fmt(null) : fmt(cellError(c))}</span>
                             <span className="num block">{fmtSeconds(c.medianSeconds)}</span>
                           </Link>
                         </td>
@@ -171,12 +172,12 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
                 {regressions.map((r) => (
                   <tr key={r.id} className="border-t border-line/60">
                     <td className="px-3 py-1.5"><Link className="text-accent hover:underline" to={`/history?caseKey=${encodeURIComponent(r.caseKey)}&branch=${encodeURIComponent(run.branch ?? "main")}&metric=${r.kind === "speed" ? "medianSeconds" : "objectiveErrorRel"}`}>{r.caseKey}</Link></td>
-                    <td className={`px-3 py-1.5 ${r.direction === "regression" ? "text-bad" : "text-good"}`}>{r.kind} {r.direction}</td>
-                    <td className="px-3 py-1.5">{r.metric}</td>
+                    <td className={`px-3 py-1.5 ${TONE_CLASS[directionOf(r.direction).tone]}`}>{directionOf(r.direction).symbol} {kindLabel(r.kind)} {directionOf(r.direction).label}</td>
+                    <td className="px-3 py-1.5">{metricLabel(r.metric)}</td>
                     <td className="num px-3 py-1.5 text-right">{fmt(r.before)}</td>
                     <td className="num px-3 py-1.5 text-right">{fmt(r.after)}</td>
                     <td className="num px-3 py-1.5 text-right">{fmt(r.ratio)}</td>
-                    <td className="px-3 py-1.5">{r.status}</td>
+                    <td className={`px-3 py-1.5 ${statusTone("regression", r.status)}`}>{statusLabel("regression", r.status)}</td>
                   </tr>
                 ))}
               </tbody>
@@ -192,12 +193,12 @@ function Legend({ mode, tMin, tMax }: { mode: "error" | "time"; tMin: number; tM
   const stops = Array.from({ length: 11 }, (_, i) => i / 10);
   return (
     <div className="flex flex-wrap items-center gap-3 text-xs text-muted" aria-label="Colour scale">
-      <span>{mode === "error" ? `max(objective, state) error ≤ ${fmt(ERROR_LO)}` : `fastest ${fmtSeconds(tMin)}`}</span>
+      <span>{mode === "error" ? `${METRICS.worstError.label} ≤ ${fmt(ERROR_LO)}` : `fastest ${fmtSeconds(tMin)}`}</span>
       <span className="flex h-3 w-48 overflow-hidden rounded" aria-hidden="true">
         {stops.map((s) => <span key={s} className="flex-1" style={{ background: scaleColour(s) }} />)}
       </span>
       <span>{mode === "error" ? `≥ ${fmt(ERROR_HI)} or not solved` : `slowest ${fmtSeconds(tMax)}; unsolved at the red end`}</span>
-      <span>· log scale · ▲ regression, ▽ improvement</span>
+      <span>· log scale · {DIRECTION.regression.symbol} {DIRECTION.regression.label}, {DIRECTION.improvement.symbol} {DIRECTION.improvement.label} · <Link to="/glossary" className="underline">glossary</Link></span>
     </div>
   );
 }

@@ -8,6 +8,7 @@ import { RUN_STATUSES } from "~/db/schema";
 import { listRuns, parseRunListQuery, runFilterOptions, type RunListItem } from "~/models/runs.server";
 import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
+import { DIRECTION, statusLabel, statusTone } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Runs · Arcwatch" }];
 
@@ -18,7 +19,6 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { result: listRuns(db, q), query: q, options: runFilterOptions(db), canStart: roleAtLeast(user.role, "engineer") };
 }
 
-const STATUS_TONE: Record<string, string> = { complete: "text-good", running: "text-accent", interrupted: "text-warn", failed: "text-bad" };
 
 const COLUMNS: ServerColumn<RunListItem>[] = [
   { id: "startedAt", header: "Started (UTC)", sortKey: "startedAt", cell: (r) => <Link to={`/runs/${r.id}`} className="num whitespace-nowrap font-medium text-accent hover:underline" data-testid="run-link">{fmtDate(r.startedAt).replace(" UTC", "")}</Link> },
@@ -39,8 +39,8 @@ const COLUMNS: ServerColumn<RunListItem>[] = [
   { id: "duration", header: "Duration", sortKey: "duration", align: "right", cell: (r) => fmtSeconds(r.durationSeconds) },
   { id: "solved", header: "Solved", sortKey: "solved", align: "right", cell: (r) => <span className="text-good">{r.solved}</span> },
   { id: "failed", header: "Failed", sortKey: "failed", align: "right", cell: (r) => <span className={r.failed ? "text-bad" : "text-muted"}>{r.failed}</span> },
-  { id: "regressions", header: "Regressions", sortKey: "regressions", align: "right", cell: (r) => <span className={r.regressions ? "font-semibold text-bad" : "text-muted"}>{r.regressions}{r.improvements ? <span className="ml-1 text-good">+{r.improvements}↑</span> : null}</span> },
-  { id: "status", header: "Status", sortKey: "status", cell: (r) => <span className={STATUS_TONE[r.status] ?? ""}>{r.status}</span> },
+  { id: "regressions", header: "Regressions", sortKey: "regressions", align: "right", cell: (r) => <span className={r.regressions ? "font-semibold text-bad" : "text-muted"}>{r.regressions ? `${DIRECTION.regression.symbol} ${r.regressions}` : 0}{r.improvements ? <span className="ml-1 text-good" title={`${r.improvements} ${DIRECTION.improvement.label}(s)`}>{DIRECTION.improvement.symbol} {r.improvements}</span> : null}</span> },
+  { id: "status", header: "Status", sortKey: "status", cell: (r) => <span className={statusTone("run", r.status)}>{statusLabel("run", r.status)}</span> },
 ];
 
 export default function Runs({ loaderData }: Route.ComponentProps) {

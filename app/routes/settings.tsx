@@ -20,6 +20,7 @@ import {
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors } from "~/services/forms.server";
 import { roleAtLeast } from "~/services/roles";
+import { THRESHOLDS, formatSetting, thresholdLabel } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = () => [{ title: "Settings · Arcwatch" }];
 
@@ -130,7 +131,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
             {s.proposals.map((p) => (
               <div key={p.id} className="rounded border border-accent/50 p-3 text-sm">
                 <p>Proposal {p.id} by {p.proposedBy ?? "someone"}{p.note ? `: ${p.note}` : ""}</p>
-                <p className="num text-xs text-muted">{Object.entries(p.thresholds).filter(([k, v]) => v !== (s.current as unknown as Record<string, unknown>)[k]).map(([k, v]) => `${k} ${String((s.current as unknown as Record<string, unknown>)[k])} → ${String(v)}`).join(" · ") || "no change from the current set"}</p>
+                <p className="num text-xs text-muted">{Object.entries(p.thresholds).filter(([k, v]) => v !== (s.current as unknown as Record<string, unknown>)[k]).map(([k, v]) => `${thresholdLabel(k)} ${formatSetting((s.current as unknown as Record<string, unknown>)[k])} → ${formatSetting(v)}`).join(" · ") || "no change from the current set"}</p>
                 {isAdmin ? (
                   <Form method="post" className="mt-2 flex gap-2"><input type="hidden" name="id" value={p.id} />
                     <button className="btn" type="submit" name="intent" value="save" data-testid="save-proposal">Save</button>
@@ -145,9 +146,9 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
                 const err = values.suiteName === s.suiteName ? errors[k] : undefined;
                 return (
                   <label key={k} className="space-y-1 text-sm">
-                    <span className="font-medium num">{k}</span>
-                    <input name={k} className="input num" inputMode="decimal" defaultValue={values.suiteName === s.suiteName ? values[k] : String((s.current as unknown as Record<string, unknown>)[k])} readOnly={!isEngineer} aria-invalid={err ? true : undefined} />
-                    <span className={`block text-xs ${err ? "text-bad" : "text-muted"}`}>{err ?? help}</span>
+                    <span className="font-medium">{thresholdLabel(k)}</span>
+                    <input name={k} className="input num" inputMode="decimal" defaultValue={values.suiteName === s.suiteName ? values[k] : formatSetting((s.current as unknown as Record<string, unknown>)[k])} readOnly={!isEngineer} aria-invalid={err ? true : undefined} />
+                    <span className={`block text-xs ${err ? "text-bad" : "text-muted"}`}>{err ?? THRESHOLDS[k as keyof typeof THRESHOLDS]?.definition ?? help}</span>
                   </label>
                 );
               })}

@@ -129,7 +129,8 @@ describe("adding a problem", () => {
     for (const [k, v] of Object.entries(fields)) fd.set(k, v);
     const bad = await problemsModel.readProblemSubmission(fd);
     expect(bad.files).toBeNull();
-    expect(bad.errors.dynamics).toMatch(/dynamics\.v, column 1: unknown name 'uu' — did you mean 'u'\?/);
+    // The column counts from the start of the typed line "v' = uu" (issue 15): 'uu' is its 6th character.
+    expect(bad.errors.dynamics).toMatch(/line 2, column 6: unknown name 'uu' — did you mean 'u'\?/);
     expect(bad.values.dynamics).toBe(fields.dynamics);
     fd.set("dynamics", "x' = v\nv' = u");
     const good = await problemsModel.readProblemSubmission(fd);

@@ -1,12 +1,14 @@
 /**
  * One metric of one case along the commits of a branch. Each point is a run; regressions are
- * drawn as red triangles, improvements as teal diamonds. Hovering shows the commit, clicking a
+ * drawn as filled triangles (▲) and improvements as hollow down-triangles (▽), the symbols of
+ * app/vocabulary.ts. Hovering shows the commit, clicking a
  * point opens its run. Fixed size, drawn after hydration.
  */
 import { niceTicks } from "./ticks";
 import { useNavigate } from "react-router";
-import { CartesianGrid, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
+import { CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
 import type { HistoryPoint } from "~/models/history.server";
+import { directionOf, kindLabel, statusLabel } from "~/vocabulary";
 
 interface DotProps {
   cx?: number;
@@ -19,7 +21,7 @@ function MarkDot({ cx, cy, payload, onOpen }: DotProps & { onOpen: (p: HistoryPo
   const open = () => onOpen(payload);
   const common = { onClick: open, style: { cursor: "pointer" }, "data-testid": "history-point", "data-mark": payload.mark ?? "none" } as const;
   if (payload.mark === "regression") return <path d={`M${cx},${cy - 7} L${cx + 6},${cy + 5} L${cx - 6},${cy + 5} Z`} fill="var(--aw-bad)" {...common} />;
-  if (payload.mark === "improvement") return <path d={`M${cx},${cy - 6} L${cx + 6},${cy} L${cx},${cy + 6} L${cx - 6},${cy} Z`} fill="var(--aw-good)" {...common} />;
+  if (payload.mark === "improvement") return <path d={`M${cx},${cy + 7} L${cx + 6},${cy - 5} L${cx - 6},${cy - 5} Z`} fill="var(--aw-surface)" stroke="var(--aw-good)" strokeWidth={2} {...common} />;
   return <circle cx={cx} cy={cy} r={3.5} fill="var(--aw-accent)" {...common} />;
 }
 
@@ -30,9 +32,9 @@ function TooltipBody({ active, payload }: { active?: boolean; payload?: { payloa
     <div className="card max-w-xs p-2 text-xs" data-testid="history-tooltip">
       <p className="num font-semibold">{p.commitHash.slice(0, 10)}{p.isDemo ? " · demo data" : ""}</p>
       <p>{p.commitSubject}</p>
-      <p className="num text-muted">{new Date(p.startedAt).toISOString().slice(0, 16).replace("T", " ")} UTC · {p.status}</p>
+      <p className="num text-muted">{new Date(p.startedAt).toISOString().slice(0, 16).replace("T", " ")} UTC · {statusLabel("run", p.status)}</p>
       <p className="num">value {p.value === null ? "—" : p.value.toPrecision(4)}</p>
-      {p.markKinds.length ? <p className={p.mark === "regression" ? "text-bad" : "text-good"}>{p.markKinds.join(", ")}</p> : null}
+      {p.markKinds.length ? <p className={p.mark === "regression" ? "text-bad" : "text-good"}>{directionOf(p.mark ?? "regression").symbol} {p.markKinds.map(kindLabel).join(", ")}</p> : null}
       <p className="text-muted">click to open the run</p>
     </div>
   );
@@ -64,13 +66,18 @@ export function HistoryChart({ points, label, log, width = 900, height = 320 }: 
   return (
     <figure className="card p-3" data-testid="history-chart">
       <figcaption className="mb-1 text-sm font-medium">{label}</figcaption>
-      <LineChart width={width} height={height} data={data} margin={{ top: 10, right: 16, bottom: 10, left: 8 }}>
+      {/* The chart takes the card's width (up to `width`): measured on the client. */}
+      <div style={{ width: "100%", maxWidth: width, height }}>
+      <ResponsiveContainer width="100%" height={height}>
+      <LineChart data={data} margin={{ top: 10, right: 16, bottom: 10, left: 8 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
         <XAxis dataKey="i" type="number" domain={[0, Math.max(1, data.length - 1)]} tickFormatter={(i: number) => data[i]?.commitHash.slice(0, 7) ?? ""} tick={{ fontSize: 10, fill: "var(--aw-muted)" }} />
         <YAxis type="number" scale={logScale ? "log" : "auto"} domain={linear?.domain ?? yDomain(values, logScale)} ticks={linear?.ticks} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} width={72} tickFormatter={linear?.format ?? ((v: number) => v.toPrecision(3))} />
         <Tooltip content={<TooltipBody />} />
         <Line dataKey="value" stroke="var(--aw-accent)" isAnimationActive={false} connectNulls dot={(props: { cx?: number; cy?: number; payload?: unknown; index?: number }) => <MarkDot key={(props.payload as HistoryPoint | undefined)?.runId ?? props.index} cx={props.cx} cy={props.cy} payload={props.payload as DotProps["payload"]} onOpen={(p) => navigate(`/runs/${p.runId}`)} />} activeDot={false} />
       </LineChart>
+      </ResponsiveContainer>
+      </div>
     </figure>
   );
 }

@@ -7,6 +7,7 @@ import { Link } from "react-router";
 import type { OverviewState } from "~/models/runs.server";
 import { DemoBadge, fmtDate } from "../Caution";
 import { scaleColour } from "./scale";
+import { DIRECTION, kindLabel, statusLabel } from "~/vocabulary";
 
 export function OverviewPanels({ state }: { state: OverviewState }) {
   const { branches, openByKind, health, healthBranch, inProgress } = state;
@@ -25,7 +26,7 @@ export function OverviewPanels({ state }: { state: OverviewState }) {
                   <td>{b.suite}</td>
                   <td className="num pr-3 text-right">{b.solved}/{b.cases}</td>
                   <td className={`num pr-3 text-right ${b.regressions ? "font-semibold text-bad" : "text-muted"}`}>{b.regressions}</td>
-                  <td className="num text-xs">{fmtDate(b.startedAt)}{b.status !== "complete" ? ` · ${b.status}` : ""}</td>
+                  <td className="num text-xs">{fmtDate(b.startedAt)}{b.status !== "complete" ? ` · ${statusLabel("run", b.status)}` : ""}</td>
                 </tr>
               ))}
             </tbody>
@@ -39,7 +40,7 @@ export function OverviewPanels({ state }: { state: OverviewState }) {
             <thead className="text-left text-muted"><tr><th className="py-1">Kind</th><th className="text-right">&lt; ×1.5</th><th className="text-right">×1.5–3</th><th className="text-right">≥ ×3</th><th className="text-right">All</th></tr></thead>
             <tbody>
               {openByKind.map((k) => (
-                <tr key={k.kind} className="border-t border-line/60"><td className="py-1.5 font-medium">{k.kind}</td><td className="num text-right">{k.small}</td><td className="num text-right">{k.medium}</td><td className="num text-right text-bad">{k.large}</td><td className="num text-right font-semibold">{k.total}</td></tr>
+                <tr key={k.kind} className="border-t border-line/60"><td className="py-1.5 font-medium">{kindLabel(k.kind)}</td><td className="num text-right">{k.small}</td><td className="num text-right">{k.medium}</td><td className="num text-right text-bad">{k.large}</td><td className="num text-right font-semibold">{k.total}</td></tr>
               ))}
             </tbody>
           </table>
@@ -60,6 +61,23 @@ export function OverviewPanels({ state }: { state: OverviewState }) {
             })}
           </div>
         )}
+        {health.length ? (
+          <p className="mt-2 flex flex-wrap items-center gap-x-3 gap-y-1 text-xs text-muted" data-testid="health-legend">
+            <span>One bar per run, oldest on the left. Height and colour: share of cases solved,</span>
+            <span className="flex items-center gap-1">
+              <span className="inline-block h-3 w-3 rounded-sm" style={{ background: scaleColour(0) }} /> all
+            </span>
+            <span className="flex items-center gap-1">
+              <span className="inline-block h-3 w-3 rounded-sm" style={{ background: scaleColour(0.5) }} /> half
+            </span>
+            <span className="flex items-center gap-1">
+              <span className="inline-block h-3 w-3 rounded-sm" style={{ background: scaleColour(1) }} /> none
+            </span>
+            <span className="flex items-center gap-1">
+              <span className="inline-block h-1 w-4 bg-bad" /> cap: the run found a {DIRECTION.regression.label}
+            </span>
+          </p>
+        ) : null}
       </section>
       <section className="card p-5 lg:col-span-2" aria-labelledby="progress-title">
         <h2 id="progress-title" className="mb-2 font-semibold">Runs in progress</h2>

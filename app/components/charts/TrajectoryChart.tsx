@@ -3,7 +3,7 @@
  * reference (dashed), each on its own time grid (numeric x axis). Fixed size, drawn after
  * hydration (recharts renders an empty wrapper on the server).
  */
-import { CartesianGrid, Legend, Line, LineChart, Tooltip, XAxis, YAxis } from "recharts";
+import { CartesianGrid, Legend, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
 import type { Series } from "~/models/cases.server";
 import { niceTicks } from "./ticks";
 
@@ -33,9 +33,12 @@ export function TrajectoryChart({ name, solution, reference, referenceName, widt
   const xPlan = tb ? niceTicks(tb[0], tb[1], 6, true) : null;
   const yPlan = vb ? niceTicks(vb[0], vb[1], 5) : null;
   return (
-    <figure className="card p-3" data-testid="trajectory-chart" data-series={name}>
+    <figure className="card min-w-0 p-3" style={{ flex: "1 1 18rem", maxWidth: width + 24 }} data-testid="trajectory-chart" data-series={name}>
       <figcaption className="mb-1 text-sm font-medium">{name}</figcaption>
-      <LineChart width={width} height={height} margin={{ top: 5, right: 12, bottom: 5, left: 0 }}>
+      {/* The chart takes the card's width (up to `width`): measured on the client. */}
+      <div style={{ width: "100%", maxWidth: width, height }}>
+      <ResponsiveContainer width="100%" height={height}>
+      <LineChart margin={{ top: 5, right: 12, bottom: 5, left: 0 }}>
         <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />
         <XAxis dataKey="t" type="number" domain={xPlan?.domain ?? ["dataMin", "dataMax"]} ticks={xPlan?.ticks} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={xPlan?.format} allowDuplicatedCategory={false} />
         <YAxis type="number" domain={yPlan?.domain ?? ["auto", "auto"]} ticks={yPlan?.ticks} tick={{ fontSize: 11, fill: "var(--aw-muted)" }} tickFormatter={yPlan?.format} width={72} />
@@ -44,6 +47,8 @@ export function TrajectoryChart({ name, solution, reference, referenceName, widt
         {ref.length ? <Line data={ref} dataKey="v" name="reference" stroke="var(--aw-muted)" strokeDasharray="5 4" dot={false} isAnimationActive={false} /> : null}
         {sol.length ? <Line data={sol} dataKey="v" name="solution" type={step ? "stepAfter" : "linear"} stroke="var(--aw-accent)" strokeWidth={2} dot={sol.length < 60 ? { r: 2 } : false} isAnimationActive={false} /> : null}
       </LineChart>
+      </ResponsiveContainer>
+      </div>
     </figure>
   );
 }

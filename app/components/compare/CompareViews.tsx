@@ -3,9 +3,10 @@
  * work–precision, performance profiles (time, accuracy) and the cheapest setting per problem.
  */
 import { Link } from "react-router";
-import type { CompareView, ProfileView } from "~/models/compare.server";
+import type { CompareQuery, CompareView, ProfileView, TimingSource } from "~/models/compare.server";
 import { SchemeChart, type ChartSeries } from "./SchemeChart";
 import { colourOf } from "./scheme-colours";
+import { METRICS, metricAxisLabel } from "~/vocabulary";
 
 const sci = (v: number | null | undefined, digits = 2) => (v === null || v === undefined || !Number.isFinite(v) ? "—" : v.toExponential(digits));
 const ms = (s: number | null | undefined) => (s === null || s === undefined ? "—" : `${(s * 1000).toFixed(s < 0.01 ? 2 : 1)} ms`);
@@ -34,7 +35,7 @@ export function ProfileChart({ view, title, testId }: { view: ProfileView; title
           <table className="text-xs" data-profile-table>
             <thead className="text-muted">
               <tr>
-                <th className="pr-4 text-left font-medium">scheme</th>
+                <th className="pr-4 text-left font-medium">Scheme</th>
                 <th className="pr-4 text-right font-medium">ρ(1)</th>
                 <th className="text-right font-medium">ρ(r_M⁻)</th>
               </tr>
@@ -60,16 +61,84 @@ export function ProfileChart({ view, title, testId }: { view: ProfileView; title
   );
 }
 
-export function CheapestTable({ rows, tol }: { rows: CompareView["cheapest"]; tol: number }) {
+/** Compact label of a timing source: suite and its repeat setting. */
+export const sourceLabel = (s: Pick<TimingSource, "suite" | "repeats" | "warmup">) => `${s.suite} (${s.repeats ?? "?"} timed repeats, ${s.warmup ?? "?"} warm-up)`;
+
+function compareHref(q: CompareQuery, suite: string): string {
+  const p = new URLSearchParams();
+  if (q.problem) p.set("problem", q.problem);
+  if (q.a) p.set("a", q.a);
+  if (q.b) p.set("b", q.b);
+  p.set("metric", q.metric);
+  p.set("tol", String(q.tol));
+  p.set("suite", suite);
+  return `/compare?${p}`;
+}
+
+/** The runs of one commit grouped by timing source; the group shown is marked. */
+export function SourcesTable({ view, which, query }: { view: CompareView; which: "a" | "b"; query: CompareQuery }) {
+  if (!view.commit) return <p className="text-sm text-muted">No runs for this commit.</p>;
+  return (
+    <div className="overflow-x-auto" data-sources-for={which}>
+      <table className="w-full text-left text-sm">
+        <caption className="text-left text-xs text-muted">
+          Commit <span className="num">{view.commit.slice(0, 10)}</span>
+        </caption>
+        <thead className="text-muted">
+          <tr>
+            <th className="font-medium">Suite and repeat setting</th>
+            <th className="font-medium">Runs</th>
+            <th className="text-right font-medium">Cases shown</th>
+            <th className="font-medium" />
+          </tr>
+        </thead>
+        <tbody>
+          {view.sources.map((s) => (
+            <tr key={s.key} className="border-t border-line" data-source={s.key} data-source-shown={s.key === view.source ? "yes" : "no"}>
+              <td className="py-1.5">{sourceLabel(s)}</td>
+              <td className="py-1.5">
+                {s.runs.map((r, i) => (
+                  <span key={r.id}>
+                    {i > 0 ? ", " : ""}
+                    <Link to={`/runs/${r.id}`} className="num hover:underline">
+                      {r.id.slice(0, 8)}
+                    </Link>
+                    {r.isDemo ? <span className="ml-1 rounded bg-warn/15 px-1 text-xs text-warn">demo</span> : null}
+                  </span>
+                ))}
+              </td>
+              <td className="num py-1.5 text-right">{s.cases}</td>
+              <td className="py-1.5 text-right">
+                {s.key === view.source ? (
+                  <span className="font-medium">shown</span>
+                ) : s.cases > 0 ? (
+                  <Link to={compareHref(query, s.key)} className="underline">
+                    show these
+                  </Link>
+                ) : (
+                  <span className="text-muted">none of this selection</span>
+                )}
+              </td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}
+
+export function CheapestTable({ rows, tol, points }: { rows: CompareView["cheapest"]; tol: number; points?: CompareView["points"] }) {
+  const byCase = new Map((points ?? []).map((p) => [p.caseId, p]));
   return (
     <table className="w-full text-left text-sm" data-testid="cheapest-table">
       <thead className="text-muted">
         <tr>
-          <th className="font-medium">problem</th>
-          <th className="font-medium">cheapest scheme</th>
-          <th className="font-medium">mesh</th>
-          <th className="text-right font-medium">error</th>
-          <th className="text-right font-medium">median time</th>
+          <th className="font-medium">Problem</th>
+          <th className="font-medium">Cheapest scheme</th>
+          <th className="font-medium">Mesh</th>
+          <th className="text-right font-medium">Error</th>
+          <th className="text-right font-medium">{METRICS.medianSeconds.label}</th>
+          {points ? <th className="pl-3 font-medium">Measured in</th> : null}
         </tr>
       </thead>
       <tbody>
@@ -89,9 +158,23 @@ export function CheapestTable({ rows, tol }: { rows: CompareView["cheapest"]; to
                 </td>
                 <td className="num py-1.5 text-right">{sci(r.error)}</td>
                 <td className="num py-1.5 text-right">{ms(r.seconds)}</td>
+                {points ? (
+                  <td className="py-1.5 pl-3" data-cheapest-run={byCase.get(r.caseId!)?.runId ?? ""}>
+                    {byCase.get(r.caseId!) ? (
+                      <>
+                        {byCase.get(r.caseId!)!.suite} ·{" "}
+                        <Link to={`/runs/${byCase.get(r.caseId!)!.runId}`} className="num hover:underline">
+                          run {byCase.get(r.caseId!)!.runId.slice(0, 8)}
+                        </Link>
+                      </>
+                    ) : (
+                      "—"
+                    )}
+                  </td>
+                ) : null}
               </>
             ) : (
-              <td colSpan={4} className="py-1.5 text-muted">
+              <td colSpan={points ? 5 : 4} className="py-1.5 text-muted">
                 no case meets {tol.toExponential(0)}
               </td>
             )}
@@ -138,16 +221,16 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
           <table className="text-sm" data-testid="orders">
             <thead className="text-muted">
               <tr>
-                <th className="pr-6 text-left font-medium">scheme</th>
-                <th className="pr-6 text-right font-medium">fitted order</th>
-                <th className="text-right font-medium">theoretical</th>
+                <th className="pr-6 text-left font-medium">Scheme</th>
+                <th className="pr-6 text-right font-medium">Fitted order</th>
+                <th className="text-right font-medium">Theoretical order</th>
               </tr>
             </thead>
             <tbody>
               {view.convergence.map((c) => (
                 <tr key={c.scheme} data-order-scheme={c.scheme} data-fitted={c.fittedOrder ?? ""}>
                   <td className="pr-6">{c.scheme}</td>
-                  <td className="num pr-6 text-right">{c.fittedOrder === null ? "—" : c.fittedOrder.toFixed(2)}</td>
+                  <td className="num pr-6 text-right">{c.fittedOrder !== null ? c.fittedOrder.toFixed(2) : new Set(c.points.map((p) => p.intervals)).size < 2 ? <span className="text-muted">one mesh</span> : "—"}</td>
                   <td className="num text-right">{c.theoreticalOrder ?? "spectral"}</td>
                 </tr>
               ))}
@@ -161,7 +244,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
           <table className="text-sm">
             <thead className="text-muted">
               <tr>
-                <th className="pr-4 text-left font-medium">problem</th>
+                <th className="pr-4 text-left font-medium">Problem</th>
                 {view.convergence.map((c) => (
                   <th key={c.scheme} className="pr-4 text-right font-medium">
                     {c.scheme}
@@ -190,9 +273,47 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
           <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions.</p>
         </section>
       )}
+      <details className="card p-4" data-testid="points-table">
+        <summary className="cursor-pointer font-medium">Every point: its run and suite ({view.points.length})</summary>
+        <div className="mt-2 max-h-96 overflow-auto">
+          <table className="w-full text-left text-xs">
+            <thead className="text-muted">
+              <tr>
+                <th className="font-medium">Problem</th>
+                <th className="font-medium">Scheme</th>
+                <th className="font-medium">Mesh</th>
+                <th className="text-right font-medium">Error</th>
+                <th className="text-right font-medium">{METRICS.medianSeconds.label}</th>
+                <th className="pl-3 font-medium">Suite</th>
+                <th className="font-medium">Run</th>
+              </tr>
+            </thead>
+            <tbody>
+              {view.points.map((p) => (
+                <tr key={p.caseId} className="border-t border-line" data-point-case={p.caseId}>
+                  <td>{p.problemId}</td>
+                  <td>{p.scheme}</td>
+                  <td className="num">
+                    {p.intervals}
+                    {p.degree ? `×${p.degree}` : ""}
+                  </td>
+                  <td className="num text-right">{p.solved ? sci(p.error) : "not solved"}</td>
+                  <td className="num text-right">{ms(p.seconds)}</td>
+                  <td className="pl-3">{p.suite}</td>
+                  <td>
+                    <Link to={`/cases/${p.caseId}`} className="num hover:underline">
+                      {p.runId.slice(0, 8)}
+                    </Link>
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      </details>
       <section className="card space-y-2 p-4" data-testid="work-precision">
-        <h3 className="font-medium">Work–precision: {metricLabel} against median solve time</h3>
-        <SchemeChart series={wp} title={`Work–precision: ${metricLabel} against median solve time`} xLabel="median solve time (s)" yLabel={metricLabel} logX logY />
+        <h3 className="font-medium">Work–precision: {metricLabel} against {METRICS.medianSeconds.label.toLowerCase()}</h3>
+        <SchemeChart series={wp} title={`Work–precision: ${metricLabel} against ${METRICS.medianSeconds.label.toLowerCase()}`} xLabel={metricAxisLabel("medianSeconds")} yLabel={metricLabel} logX logY />
       </section>
       <ProfileChart view={view.timeProfile} title="Performance profile: time to meet the tolerance" testId="profile-time" />
       <ProfileChart view={view.accuracyProfile} title="Performance profile: best accuracy" testId="profile-accuracy" />

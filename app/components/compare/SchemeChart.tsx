@@ -171,7 +171,7 @@ export function SchemeChart({
   const axisLabel = { fontSize: 11, fill: "var(--aw-ink)" };
   return (
     <figure className="space-y-1 overflow-x-auto" data-testid={testId} aria-label={title}>
-      <div style={{ width: "100%", maxWidth: width, minWidth: 320, height }}>
+      <div style={{ width: "100%", maxWidth: width, minWidth: 0, height }}>
         <ResponsiveContainer width="100%" height={height}>
           <ComposedChart margin={{ top: 8, right: 14, bottom: 22, left: 8 }} title={title} desc={desc}>
             <CartesianGrid stroke="var(--aw-line)" strokeDasharray="2 4" />

@@ -1,15 +1,10 @@
 /**
- * One colour per transcription scheme on every comparison chart, taken from the app's palette
- * (app/app.css) as CSS variables so that each chart follows the light or dark theme. The same
- * scheme keeps the same colour in the convergence, work–precision and profile charts.
+ * One colour per transcription scheme on every chart: the Okabe & Ito (2008) colour-blind-safe
+ * palette defined once in app/vocabulary.ts (CSS variables in app/app.css follow the theme).
  */
-export const SCHEME_COLOURS: Record<string, string> = {
-  euler: "var(--aw-bad)",
-  trapezoidal: "var(--aw-focus)",
-  "hermite-simpson": "var(--aw-good)",
-  lgr: "var(--aw-accent)",
-  "rk4-shooting": "var(--aw-warn)",
-};
+import { SCHEME_PALETTE, schemeColour } from "~/vocabulary";
 
-/** The scheme's colour; a scheme not listed above is drawn in the muted ink. */
-export const colourOf = (scheme: string): string => SCHEME_COLOURS[scheme] ?? "var(--aw-muted)";
+export const SCHEME_COLOURS: Record<string, string> = Object.fromEntries(Object.keys(SCHEME_PALETTE).map((s) => [s, schemeColour(s)]));
+
+/** The scheme's colour; a scheme not in the palette is drawn in the muted ink. */
+export const colourOf = schemeColour;

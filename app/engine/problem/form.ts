@@ -32,12 +32,37 @@ export function emptyBuilderValues(): BuilderValues {
   return v;
 }
 
-function lines(text: string): { line: string; n: number }[] {
+/** Non-blank, non-comment lines, trimmed; `lead` counts the spaces cut from the start. */
+function lines(text: string): { line: string; n: number; lead: number }[] {
   return text
     .split(/\r?\n/)
-    .map((line, i) => ({ line: line.trim(), n: i + 1 }))
+    .map((raw, i) => ({ line: raw.trim(), n: i + 1, lead: raw.length - raw.trimStart().length }))
     .filter((l) => l.line !== "" && !l.line.startsWith("#"));
 }
+
+/** Start offset (0-based, in the trimmed line) of each trimmed cell of a separated line. */
+function cellStarts(line: string, sep: string): number[] {
+  const out: number[] = [];
+  let at = 0;
+  for (const cell of line.split(sep)) {
+    out.push(at + (cell.length - cell.trimStart().length));
+    at += cell.length + sep.length;
+  }
+  return out;
+}
+
+/**
+ * Where the text of one JSON path came from in the form: the field, the line of that field
+ * (1-based) and the 0-based offset of the expression in that line as the user typed it. The
+ * compiler's columns count inside the expression; adding the offset makes them count from the
+ * start of the typed line.
+ */
+export interface BuilderOrigin {
+  field: BuilderField;
+  line: number;
+  offset: number;
+}
+export type BuilderOrigins = Record<string, BuilderOrigin>;
 
 /** "" → undefined, a plain number → number, otherwise the text (an expression of constants). */
 function numOrExpr(s: string | undefined): number | string | undefined {
@@ -47,13 +72,14 @@ function numOrExpr(s: string | undefined): number | string | undefined {
   return Number.isFinite(n) && /^[-+]?(\d|\.\d)/.test(t) ? n : t;
 }
 
-export type BuiltProblem = { ok: true; json: Record<string, unknown> } | { ok: false; errors: Partial<Record<BuilderField, string>> };
+export type BuiltProblem = { ok: true; json: Record<string, unknown>; origins: BuilderOrigins } | { ok: false; errors: Partial<Record<BuilderField, string>> };
 
 /** Builds the problem.json object from the form; line-format mistakes are errors at their field. */
 export function buildProblemJson(v: BuilderValues): BuiltProblem {
   const errors: Partial<Record<BuilderField, string>> = {};
+  const origins: BuilderOrigins = {};
   const constants: Record<string, unknown> = {};
-  for (const { line, n } of lines(v.constants)) {
+  for (const { line, n, lead } of lines(v.constants)) {
     const m = /^([A-Za-z][A-Za-z0-9_]*)\s*=\s*([^;]+?)\s*(?:;\s*(.*))?$/.exec(line);
     if (!m) {
       errors.constants ??= `line ${n}: expected 'name = value' (optionally '; unit'), got '${line.slice(0, 40)}'`;
@@ -61,12 +87,17 @@ export function buildProblemJson(v: BuilderValues): BuiltProblem {
     }
     const value = numOrExpr(m[2]);
     constants[m[1]!] = m[3] ? { value, unit: m[3] } : value;
+    const eq = line.indexOf("=") + 1;
+    const valueAt = lead + eq + (line.slice(eq).length - line.slice(eq).trimStart().length);
+    origins[`constants.${m[1]}`] = { field: "constants", line: n, offset: valueAt };
+    origins[`constants.${m[1]}.value`] = { field: "constants", line: n, offset: valueAt };
   }
   const states: Record<string, unknown>[] = [];
   const initial: Record<string, unknown> = {};
   const final: Record<string, unknown> = {};
-  for (const { line, n } of lines(v.states)) {
+  for (const { line, n, lead } of lines(v.states)) {
     const cells = line.split(",").map((c) => c.trim());
+    const at = cellStarts(line, ",").map((o) => lead + o);
     if (!/^[A-Za-z][A-Za-z0-9_]*$/.test(cells[0] ?? "")) {
       errors.states ??= `line ${n}: expected 'name, unit, lower, upper, initial, final', got '${line.slice(0, 40)}'`;
       continue;
@@ -76,13 +107,19 @@ export function buildProblemJson(v: BuilderValues): BuiltProblem {
     if (unit) s.unit = unit;
     if (numOrExpr(lower) !== undefined) s.lower = numOrExpr(lower);
     if (numOrExpr(upper) !== undefined) s.upper = numOrExpr(upper);
+    const k = states.length;
     states.push(s);
     if (numOrExpr(ini) !== undefined) initial[name] = numOrExpr(ini);
     if (numOrExpr(fin) !== undefined) final[name] = numOrExpr(fin);
+    origins[`states[${k}].lower`] = { field: "states", line: n, offset: at[2] ?? lead };
+    origins[`states[${k}].upper`] = { field: "states", line: n, offset: at[3] ?? lead };
+    origins[`initial.${name}`] = { field: "states", line: n, offset: at[4] ?? lead };
+    origins[`final.${name}`] = { field: "states", line: n, offset: at[5] ?? lead };
   }
   const controls: Record<string, unknown>[] = [];
-  for (const { line, n } of lines(v.controls)) {
+  for (const { line, n, lead } of lines(v.controls)) {
     const cells = line.split(",").map((c) => c.trim());
+    const at = cellStarts(line, ",").map((o) => lead + o);
     if (!/^[A-Za-z][A-Za-z0-9_]*$/.test(cells[0] ?? "")) {
       errors.controls ??= `line ${n}: expected 'name, unit, lower, upper', got '${line.slice(0, 40)}'`;
       continue;
@@ -92,20 +129,24 @@ export function buildProblemJson(v: BuilderValues): BuiltProblem {
     if (unit) c.unit = unit;
     if (numOrExpr(lower) !== undefined) c.lower = numOrExpr(lower);
     if (numOrExpr(upper) !== undefined) c.upper = numOrExpr(upper);
+    origins[`controls[${controls.length}].lower`] = { field: "controls", line: n, offset: at[2] ?? lead };
+    origins[`controls[${controls.length}].upper`] = { field: "controls", line: n, offset: at[3] ?? lead };
     controls.push(c);
   }
   const dynamics: Record<string, string> = {};
-  for (const { line, n } of lines(v.dynamics)) {
+  for (const { line, n, lead } of lines(v.dynamics)) {
     const m = /^([A-Za-z][A-Za-z0-9_]*)\s*'?\s*=\s*(.+)$/.exec(line);
     if (!m) {
       errors.dynamics ??= `line ${n}: expected "name' = expression", got '${line.slice(0, 40)}'`;
       continue;
     }
     dynamics[m[1]!] = m[2]!;
+    origins[`dynamics.${m[1]}`] = { field: "dynamics", line: n, offset: lead + line.length - m[2]!.length };
   }
   const path: Record<string, unknown>[] = [];
-  for (const { line, n } of lines(v.path)) {
+  for (const { line, n, lead } of lines(v.path)) {
     const cells = line.split("|").map((c) => c.trim());
+    const at = cellStarts(line, "|").map((o) => lead + o);
     if (cells.length < 3 || !cells[1]) {
       errors.path ??= `line ${n}: expected 'name | expression | lower | upper', got '${line.slice(0, 40)}'`;
       continue;
@@ -114,6 +155,9 @@ export function buildProblemJson(v: BuilderValues): BuiltProblem {
     if (cells[0]) c.name = cells[0];
     if (numOrExpr(cells[2]) !== undefined) c.lower = numOrExpr(cells[2]);
     if (numOrExpr(cells[3]) !== undefined) c.upper = numOrExpr(cells[3]);
+    origins[`path[${path.length}].expr`] = { field: "path", line: n, offset: at[1] ?? lead };
+    origins[`path[${path.length}].lower`] = { field: "path", line: n, offset: at[2] ?? lead };
+    origins[`path[${path.length}].upper`] = { field: "path", line: n, offset: at[3] ?? lead };
     path.push(c);
   }
   const num = (field: BuilderField, required: boolean): number | undefined => {
@@ -137,6 +181,9 @@ export function buildProblemJson(v: BuilderValues): BuiltProblem {
   const objective: Record<string, unknown> = { sense: v.sense === "max" ? "max" : "min" };
   if (v.terminal.trim()) objective.terminal = v.terminal.trim();
   if (v.running.trim()) objective.running = v.running.trim();
+  const leadOf = (s: string) => s.length - s.trimStart().length;
+  origins["objective.terminal"] = { field: "terminal", line: 1, offset: leadOf(v.terminal) };
+  origins["objective.running"] = { field: "running", line: 1, offset: leadOf(v.running) };
   const tags = v.tags
     .split(",")
     .map((t) => t.trim())
@@ -168,7 +215,7 @@ export function buildProblemJson(v: BuilderValues): BuiltProblem {
     json.reference = { objective: { value, tolerance, provenance } };
   }
   if (Object.keys(errors).length) return { ok: false, errors };
-  return { ok: true, json };
+  return { ok: true, json, origins };
 }
 
 /** The builder field a compiler error belongs to, from its JSON path (DEVELOPERS.md format). */
@@ -222,12 +269,27 @@ export function describeError(e: ProblemError): string {
   return `${where ? `${where}: ` : ""}${e.message}${hint}`;
 }
 
+/**
+ * An error at a form-builder field, placed as the user sees it: the line of the field and the
+ * column counted from the start of what was typed on that line (not inside the expression the
+ * builder cut out of it). Falls back to the JSON path when the origin is unknown.
+ */
+export function describeBuilderError(e: ProblemError, origins: BuilderOrigins): string {
+  const o = origins[e.path];
+  if (!o) return describeError(e);
+  const multiLine = o.field === "constants" || o.field === "states" || o.field === "controls" || o.field === "dynamics" || o.field === "path";
+  const col = e.column !== undefined ? `column ${o.offset + e.column}` : "";
+  const where = [multiLine ? `line ${o.line}` : "", col].filter(Boolean).join(", ");
+  const hint = e.suggestion !== undefined ? ` — did you mean '${e.suggestion}'?` : "";
+  return `${where ? `${where}: ` : ""}${e.message}${hint}`;
+}
+
 /** Groups errors by field; several errors at one field are joined one per line. */
-export function errorsByField<K extends string>(errors: ProblemError[], fieldOf: (e: ProblemError) => K): Partial<Record<K, string>> {
+export function errorsByField<K extends string>(errors: ProblemError[], fieldOf: (e: ProblemError) => K, describe: (e: ProblemError) => string = describeError): Partial<Record<K, string>> {
   const out: Partial<Record<K, string>> = {};
   for (const e of errors) {
     const k = fieldOf(e);
-    out[k] = out[k] ? `${out[k]}\n${describeError(e)}` : describeError(e);
+    out[k] = out[k] ? `${out[k]}\n${describe(e)}` : describe(e);
   }
   return out;
 }
