@@ -155,7 +155,9 @@ export function solveAttempt(problem: CompiledProblem, scheme: SchemeId, mesh: M
   report.log = result.log;
   // invalid_model: the solver stopped before its first iterate, so x is the starting guess;
   // its objective, final time, violation and trajectory would be the guess's, not a result.
-  if (result.status === "invalid_model") return report;
+  if (result.status === "invalid_model") return { report, solution: null };
+  // the solver's share of the objective error; split from the discretisation's in analyseSolution
+  report.errorSplit = { solver: Number.isFinite(result.solverErrorEstimate) ? result.solverErrorEstimate : null, discretisation: null };
   report.constraintViolation = violation(nlp, result);
   let sol: Solution;
   try {
@@ -176,7 +178,7 @@ export function solveAttempt(problem: CompiledProblem, scheme: SchemeId, mesh: M
 export function analyseSolution(problem: CompiledProblem, mesh: Mesh, sol: Solution, report: SolveReport, options: SolveOptions = {}): void {
   if (isConverged(report.status)) {
     report.errors = solutionErrors(problem, sol);
-    report.errorSplit = errorSplitOf(result.solverErrorEstimate, report.errors.objectiveAbs);
+    report.errorSplit = errorSplitOf(report.errorSplit.solver ?? Number.NaN, report.errors.objectiveAbs);
     if (options.resimulate !== false) {
       const r = resimulate(problem, sol);
       report.resim = { finalMiss: r.finalMiss, maxPathViolation: r.maxPathViolation };
