@@ -52,7 +52,8 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
     `${s.outcomes.length}/${s.suite.cases} cases: ${t.solved} solved, ${t.failed} failed, ${t.timeouts} timeouts, ${t.errors} errors · ${s.elapsedSeconds.toFixed(1)} s · calibration ${fmtNum(s.calibration.before)} s → ${fmtNum(s.calibration.after)} s`,
   );
   const d = s.detection;
-  if (!d) parts.push("no regression check (run not complete)");
+  if (!d && s.shard) parts.push(`shard ${s.shard.index} of ${s.shard.count} (${s.outcomes.length} of ${s.shard.suiteCases} cases): no regression check on a part; the server checks the merged run`);
+  else if (!d) parts.push("no regression check (run not complete)");
   else if (!d.baselineRunId && d.findings.length === 0) parts.push("no baseline run found: nothing to compare with yet");
   else {
     parts.push(`baseline: ${d.baselineRunId ? `run ${d.baselineRunId} at ${d.baselineCommit?.slice(0, 10)}` : "none"}`);
@@ -71,6 +72,17 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
   if (s.alerts) parts.push(`alerts: ${s.alerts.sent.length} sent${s.alerts.errors.length ? `, ${s.alerts.errors.length} failed` : ""}`);
   return parts.join("\n");
 }
+
+/** The server's answer to an upload in words: the merged run's shard progress, its new regressions. */
+function uploadNote(body: unknown): string {
+  const b = (body ?? {}) as { runId?: string; created?: boolean; newRegressions?: number; shard?: { in: number; count: number; completed: boolean; note: string | null } };
+  const parts: string[] = [];
+  if (b.shard) parts.push(`run ${b.runId}: ${b.shard.in} of ${b.shard.count} shards in${b.shard.completed ? ", complete; checked for regressions" : ""}${b.created === false ? " (this shard was already in)" : ""}`);
+  if (b.newRegressions) parts.push(`${b.newRegressions} new regression(s) found by the server`);
+  return parts.length ? ` · ${parts.join(" · ")}` : "";
+}
+
+const EXIT_REGRESSION = 3;
 
 export async function main(argv: string[] = process.argv.slice(2)): Promise<number> {
   let args;
@@ -144,6 +156,14 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
     process.stderr.write(`--machine-class must be 1-64 letters, digits, dots, dashes or underscores, got "${machineClassLabel}"\n`);
     return 2;
   }
+  if (shard && args.upload && !args.pipeline) {
+    process.stderr.write(`--shard with --upload needs --pipeline <id>: the CI pipeline's id, the same for every shard of one run (e.g. github-$GITHUB_RUN_ID)\n`);
+    return 2;
+  }
+  if (args.pipeline !== undefined && !/^[A-Za-z0-9._:-]{1,200}$/.test(args.pipeline)) {
+    process.stderr.write(`--pipeline must be 1-200 letters, digits, '.', '_', ':' or '-', got "${args.pipeline}"\n`);
+    return 2;
+  }
   if (args.ab || args.bisect) return compareCommits(args);
   // the database, the runner and the engine are loaded only now, so that --help answers at once
   const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV }] = await Promise.all([
@@ -189,16 +209,27 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
       alerts: !args["no-alerts"],
       baseUrl: args["base-url"],
       jobId,
+      shard,
+      machineClass: machineClassLabel ?? null,
     });
-    let uploaded: { url: string; status: number } | null = null;
+    let uploaded: { url: string; status: number; body: unknown } | null = null;
+    let exitCode = summary.exitCode;
     if (args.upload && summary.status !== "interrupted") {
-      uploaded = await uploadRun(db, summary.runId, args.upload, args.token!);
+      uploaded = await uploadRun(db, summary.runId, args.upload, args.token!, {
+        shard: shard ? { ...shard, pipeline: args.pipeline! } : null,
+        machineClass: machineClassLabel ?? null,
+      });
+      // The server's check of the uploaded run (for a shard: of the merged run, by the upload that completed it).
+      const remote = uploaded.body as { newRegressions?: unknown } | null;
+      if (exitCode === 0 && typeof remote?.newRegressions === "number" && remote.newRegressions > 0) exitCode = EXIT_REGRESSION;
     }
     if (args.json) {
       const out = {
         runId: summary.runId,
         status: summary.status,
-        exitCode: summary.exitCode,
+        exitCode,
+        shard: summary.shard,
+        machineClass: summary.machineClass,
         suite: summary.suite,
         commit: summary.commit,
         machineKey: summary.machineKey,
@@ -215,9 +246,9 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
       process.stdout.write(`${JSON.stringify(out, null, 2)}\n`);
     } else {
       process.stdout.write(`${summaryText(summary, tally(summary.outcomes))}\n`);
-      if (uploaded) process.stdout.write(`uploaded to ${uploaded.url} (HTTP ${uploaded.status})\n`);
+      if (uploaded) process.stdout.write(`uploaded to ${uploaded.url} (HTTP ${uploaded.status})${uploadNote(uploaded.body)}\n`);
     }
-    return summary.exitCode;
+    return exitCode;
   } catch (err) {
     process.stderr.write(`bench: ${(err as Error).message}\n`);
     return 1;

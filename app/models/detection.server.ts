@@ -27,6 +27,7 @@ import { pooledFindings } from "~/runs/pooled";
 import { caseCalibration, compareCases, driftFinding, runCalibration, type CaseSnapshot, type DriftPoint, type Finding, type ReferenceArcs } from "~/runs/rules";
 import { isSolved, type Thresholds } from "~/runs/types";
 import { effectiveThresholds } from "./settings.server";
+import { ancestry, repositoryOf } from "./commit-order.server";
 
 export interface Detection {
   baselineRunId: string | null;
@@ -52,28 +53,54 @@ export interface BaselineChoice {
 export interface BaselineQuery extends BaselineChoice {
   runId: string;
   suiteName: string;
-  machineKey: string;
+  /** Null: any machine (a run whose timings are not compared: accuracy checks only). */
+  machineKey: string | null;
+  /** The run's commit and repository: a branch baseline is its nearest ancestor with a run. */
+  runCommit?: string | null;
+  externalRepo?: string | null;
 }
 
-/** The latest complete, non-demo run of the suite on the machine at the commit / on the branch. */
+/**
+ * The baseline: the complete, non-demo run of the suite on the machine at the commit, or on the
+ * branch. On a branch the run of the nearest ancestor of the run's commit in the repository wins
+ * (git ancestry, app/models/commit-order.server.ts); when git does not know the commits, the run
+ * the server stored last (its own clock, never a client's dates).
+ */
 export function findBaseline(db: Db, q: BaselineQuery): RunRow | null {
   const conds = [
     eq(suites.name, q.suiteName),
-    eq(runs.machineKey, q.machineKey),
     eq(runs.status, "complete"),
     eq(runs.isDemo, false),
     ne(runs.id, q.runId),
     q.commit ? eq(runs.commitHash, q.commit) : eq(runs.branch, q.branch ?? "main"),
   ];
-  const row = db
+  if (q.machineKey !== null) conds.push(eq(runs.machineKey, q.machineKey));
+  const candidates = db
     .select({ run: runs })
     .from(runs)
     .innerJoin(suites, eq(runs.suiteId, suites.id))
     .where(and(...conds))
-    .orderBy(desc(runs.startedAt))
-    .limit(1)
-    .get();
-  return row?.run ?? null;
+    .orderBy(desc(runs.createdAt), desc(runs.id))
+    .limit(500)
+    .all()
+    .map((r) => r.run);
+  if (candidates.length === 0) return null;
+  if (!q.commit && q.runCommit) {
+    const order = ancestry(repositoryOf(q.externalRepo), q.runCommit);
+    if (order) {
+      let best: RunRow | null = null;
+      let bestDistance = Infinity;
+      for (const c of candidates) {
+        const d = order.get(c.commitHash);
+        if (d !== undefined && d < bestDistance) {
+          best = c;
+          bestDistance = d;
+        }
+      }
+      if (best) return best;
+    }
+  }
+  return candidates[0]!;
 }
 
 /** The cases of a run as the rules read them, by case key. */
@@ -189,7 +216,10 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
   const runRow = db.select({ run: runs, suiteName: suites.name }).from(runs).innerJoin(suites, eq(runs.suiteId, suites.id)).where(eq(runs.id, runId)).get();
   if (!runRow) throw new Error(`detectRegressions: run ${runId} not found`);
   const { run, suiteName } = runRow;
-  const baseline = findBaseline(db, { runId, suiteName, machineKey: run.machineKey, commit: options.baseline?.commit, branch: options.baseline?.branch });
+  // A merged run from shards of different machine classes: accuracy, robustness and structure
+  // against a baseline of any machine; no timing rule (speed, drift) at all.
+  const timings = run.timingsCompared;
+  const baseline = findBaseline(db, { runId, suiteName, machineKey: timings ? run.machineKey : null, commit: options.baseline?.commit, branch: options.baseline?.branch, runCommit: run.commitHash, externalRepo: run.externalRepo });
   const findings: Finding[] = [];
   if (baseline) {
     const calNow = runCalibration(run);
@@ -197,12 +227,13 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
     const factor = t.calibrate && calNow && calBase ? calNow / calBase : 1;
     const now = loadCases(db, runId);
     const base = loadCases(db, baseline.id);
-    // Group findings first: pages and e-mails show them before their member cases.
-    findings.push(...pooledFindings(now, base, t, factor));
-    findings.push(...compareCases(now, base, t, factor, options.referenceArcs ?? referenceArcsOfRun(db, runId)));
+    // Group findings first: pages and e-mails show them before their member cases. A merged run whose
+    // shards came from different machine classes keeps its accuracy checks only.
+    findings.push(...pooledFindings(now, base, t, factor).filter((f) => timings || f.kind !== "speed"));
+    findings.push(...compareCases(now, base, t, factor, options.referenceArcs ?? referenceArcsOfRun(db, runId)).filter((f) => timings || f.kind !== "speed"));
   }
   const speedFlagged = new Set(findings.filter((f) => f.kind === "speed").map((f) => f.caseKey));
-  findings.push(...detectDrift(db, run, suiteName, t, speedFlagged));
+  if (timings) findings.push(...detectDrift(db, run, suiteName, t, speedFlagged));
 
   // Known already: same case/kind/metric/direction recorded for a run of the same commit.
   const sameCommitRuns = db.select({ id: runs.id }).from(runs).where(and(eq(runs.commitHash, run.commitHash), ne(runs.id, runId))).all().map((r) => r.id);

@@ -169,6 +169,19 @@ export function finishRun(db: Db, runId: string, status: RunStatus, machinePatch
 }
 
 /**
+ * The problems (and versions) and cases of a payload, written into run `runId` inside the
+ * caller's transaction: the part of `storeRunPayload` a sharded run's shards share
+ * (app/models/run-groups.server.ts).
+ */
+export function storePayloadCases(tx: Tx, runId: string, p: Pick<RunPayload, "problems" | "cases">): void {
+  for (const pr of p.problems) ensureProblem(tx, pr, pr.id);
+  for (const c of p.cases) {
+    ensureProblem(tx, null, c.problemId);
+    insertCaseRow(tx, runId, c);
+  }
+}
+
+/**
  * Stores a whole uploaded payload in one transaction with the same writes as a command-line run:
  * the suite (its content hash re-computed and checked), the problems and versions, the run (same
  * id; a second upload of one id is refused) and its cases with their samples.
@@ -184,7 +197,7 @@ export function storeRunPayload(db: Db, input: unknown, options: { jobId?: numbe
   return db.transaction((tx) => {
     if (tx.select({ id: runs.id }).from(runs).where(eq(runs.id, p.run.id)).get()) throw new Error(`run ${p.run.id} was already uploaded`);
     const suiteId = ensureSuite(tx, { name: p.suite.name, contentHash: p.suite.contentHash, definition: p.suite.definition, thresholds: p.suite.thresholds });
-    for (const pr of p.problems) ensureProblem(tx, pr, pr.id);
+    storePayloadCases(tx, "", { problems: p.problems, cases: [] });
     const r = p.run;
     insertRun(tx, {
       id: r.id,
@@ -205,10 +218,7 @@ export function storeRunPayload(db: Db, input: unknown, options: { jobId?: numbe
       externalRepo: r.externalRepo,
       jobId: options.jobId ?? null,
     });
-    for (const c of p.cases) {
-      ensureProblem(tx, null, c.problemId);
-      insertCaseRow(tx, r.id, c);
-    }
+    storePayloadCases(tx, r.id, { problems: [], cases: p.cases });
     return { runId: r.id };
   });
 }

@@ -26,6 +26,10 @@ import { createHash } from "node:crypto";
 import { and, asc, eq, inArray, isNotNull, lt, sql } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, runShards, runs, suites, type RunStatus } from "~/db/schema";
+import type { RunPayload } from "~/runs/payload";
+import { canonicalJson, sha256 } from "~/runs/suite";
+import { afterRun } from "./detection.server";
+import { ensureSuite, storePayloadCases } from "./recording.server";
 
 /** Hours a sharded run waits for its last shard (ARCWATCH_SHARD_DEADLINE_HOURS, default 6). */
 export function shardDeadlineMs(): number {
@@ -269,4 +273,50 @@ export function shardProgress(db: Db, runIds: string[]): Map<string, { in: numbe
     .all();
   for (const r of rows) out.set(r.id, { in: r.n, count: r.count! });
   return out;
+}
+
+export type ShardIngest =
+  | { ok: true; created: boolean; runId: string; newRegressions: number; shard: { index: number; count: number; in: number; completed: boolean; status: string; note: string | null } }
+  | { ok: false; status: 400 | 409; error: string };
+
+/**
+ * Stores a validated payload that names a shard (`run.shard`) as part of its group's run, and runs
+ * the regression check when it completed the run (exactly once per run, see `storeShard`).
+ */
+export function ingestShard(db: Db, p: RunPayload, tokenId: number | null): ShardIngest {
+  const shard = p.run.shard!;
+  const hash = sha256(canonicalJson(p.suite.definition));
+  if (hash !== p.suite.contentHash) return { ok: false, status: 400, error: `invalid run payload: suite.contentHash ${p.suite.contentHash} does not match its definition (${hash})` };
+  const r = p.run;
+  const out = storeShard(
+    db,
+    {
+      sourceRunId: r.id,
+      shard,
+      suite: { name: p.suite.name, contentHash: p.suite.contentHash },
+      commit: { hash: r.commitHash, branch: r.branch, dirty: r.dirty, subject: r.commitSubject, author: r.commitAuthor, date: r.commitDate ? new Date(r.commitDate) : null },
+      machine: r.machine,
+      machineKey: r.machineKey,
+      machineClass: r.machineClass ?? r.machineKey,
+      calibrationSeconds: r.calibrationSeconds,
+      startedAt: new Date(r.startedAt),
+      finishedAt: r.finishedAt ? new Date(r.finishedAt) : null,
+      status: r.status,
+      solverLabel: r.solverLabel,
+      externalRepo: r.externalRepo,
+      caseKeys: p.cases.map((c) => c.caseKey),
+      tokenId,
+    },
+    (tx) => ensureSuite(tx, { name: p.suite.name, contentHash: p.suite.contentHash, definition: p.suite.definition, thresholds: p.suite.thresholds }),
+    (tx, runId) => storePayloadCases(tx, runId, p),
+  );
+  if (!out.ok) return out;
+  const detection = out.completed ? afterRun(db, out.runId) : null;
+  return {
+    ok: true,
+    created: out.created,
+    runId: out.runId,
+    newRegressions: detection?.newRegressions ?? 0,
+    shard: { index: shard.index, count: out.shardCount, in: out.shardsIn, completed: out.completed, status: out.status, note: out.note },
+  };
 }

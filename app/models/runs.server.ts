@@ -14,7 +14,7 @@ import { runPayloadSchema } from "~/runs/payload";
 import { SOLVED_STATUSES } from "~/runs/types";
 import { afterRun } from "./detection.server";
 import { storeRunPayload } from "./recording.server";
-import { shardProgress } from "./run-groups.server";
+import { ingestShard, shardProgress } from "./run-groups.server";
 
 export const RUN_SORT_KEYS = ["startedAt", "commit", "branch", "suite", "machine", "duration", "solved", "failed", "regressions", "status"] as const;
 export type RunSortKey = (typeof RUN_SORT_KEYS)[number];
@@ -270,8 +270,8 @@ export function getRun(db: Db, id: string): RunDetail | null {
 export const MAX_INGEST_BYTES = 32 * 1024 * 1024;
 
 export type IngestOutcome =
-  | { ok: true; created: boolean; runId: string; newRegressions: number }
-  | { ok: false; status: 400 | 403 | 413; error: string; issues?: { path: string; message: string }[] };
+  | { ok: true; created: boolean; runId: string; newRegressions: number; shard?: { index: number; count: number; in: number; completed: boolean; status: string; note: string | null } }
+  | { ok: false; status: 400 | 403 | 409 | 413; error: string; issues?: { path: string; message: string }[] };
 
 /** Reads a request body up to `limit` bytes; null when it is larger. */
 export async function readLimited(request: Request, limit = MAX_INGEST_BYTES): Promise<string | null> {
@@ -299,6 +299,7 @@ export async function readLimited(request: Request, limit = MAX_INGEST_BYTES): P
  * `created: false` and stores nothing (the check and the insert share one transaction in
  * `ingestRunPayload`, and better-sqlite3 runs one transaction at a time, so two concurrent
  * posts of one id store it once). New complete runs are checked for regressions against main.
+ * A payload naming a shard (`run.shard`) becomes part of its group's run (run-groups.server.ts).
  */
 export function ingestRun(db: Db, text: string, by: { tokenId?: number | null; suiteName?: string | null } = {}): IngestOutcome {
   let body: unknown;
@@ -314,11 +315,12 @@ export function ingestRun(db: Db, text: string, by: { tokenId?: number | null; s
   if (by.suiteName && parsed.data.suite.name !== by.suiteName) {
     return { ok: false, status: 403, error: `This token may only upload runs of the suite "${by.suiteName}", not "${parsed.data.suite.name}".` };
   }
+  if (parsed.data.run.shard) return ingestShard(db, parsed.data, by.tokenId ?? null);
   const id = parsed.data.run.id;
   if (db.select({ id: runs.id }).from(runs).where(eq(runs.id, id)).get()) return { ok: true, created: false, runId: id, newRegressions: 0 };
   try {
     storeRunPayload(db, parsed.data);
-    if (by.tokenId) db.update(runs).set({ uploadedByTokenId: by.tokenId }).where(eq(runs.id, id)).run();
+    db.update(runs).set({ uploadedByTokenId: by.tokenId ?? null, machineClass: parsed.data.run.machineClass ?? parsed.data.run.machineKey }).where(eq(runs.id, id)).run();
   } catch (err) {
     const msg = (err as Error).message;
     if (/already uploaded/.test(msg)) return { ok: true, created: false, runId: id, newRegressions: 0 };

@@ -20,6 +20,10 @@ import { sendRegressionAlerts, type AlertResult } from "../../app/services/alert
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
 import { commitMeta, resolveCommit } from "./git-meta";
 import { runCases } from "./pool";
+import { eq } from "drizzle-orm";
+import { runs } from "../../app/db/schema";
+import { claimRun, markDeadRuns, startHeartbeat } from "../../app/models/run-liveness.server";
+import { machineClassOf, runMachineKey, shardPlanForSuite } from "./shard-plan";
 import { Progress, type ProgressEvents } from "./progress";
 
 export interface RunSuiteOptions {
@@ -43,12 +47,19 @@ export interface RunSuiteOptions {
   baseUrl?: string;
   jobId?: number | null;
   onCase?: (outcome: CaseOutcome) => void;
+  /** Run only part `index` of `count` of the suite (app/runs/shards.ts); no local regression check on a part. */
+  shard?: { index: number; count: number } | null;
+  /** A machine class label: the run is stored and compared under `class:<label>` (./shard-plan.ts). */
+  machineClass?: string | null;
 }
 
 export interface RunSummary {
   runId: string;
   status: "complete" | "interrupted" | "failed";
   suite: { name: string; file: string; contentHash: string; cases: number };
+  /** The shard run, when sharded: its index of count and how many cases the whole suite has. */
+  shard: { index: number; count: number; suiteCases: number } | null;
+  machineClass: string;
   commit: CommitMeta;
   machineKey: string;
   calibration: { before: number; after: number | null };
@@ -98,7 +109,15 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const library = problemLibraryFor(opts.db, root);
   const suite = loadSuite(suitePath(opts.suite, root));
   const def = suite.definition;
-  const cases = expandCases(def, library);
+  const allCases = expandCases(def, library);
+  let cases = allCases;
+  if (opts.shard) {
+    const part = shardPlanForSuite(opts.db, opts.suite, opts.shard.count, opts.machineClass ?? null, root).plan.shards[opts.shard.index - 1]!;
+    const keep = new Set(part);
+    cases = allCases.filter((c) => keep.has(c.key));
+  }
+  // The previous run of this database whose process died is shown as interrupted from now on.
+  markDeadRuns(opts.db);
   const plan = planSolver(suite, def.timeBudgetSeconds);
   const measuredRepo = plan.repository ?? root;
   const commit = await commitMeta(measuredRepo);
@@ -114,7 +133,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const jobs = opts.jobs ?? def.jobs;
   if (def.clock === "cpu" && jobs !== 1) throw new Error(`suite ${def.name}: clock "cpu" needs jobs = 1, got ${jobs}`);
   const machine = machineInfo();
-  const key = machineKey(machine);
+  const key = runMachineKey(opts.machineClass);
+  const machineClass = machineClassOf(opts.machineClass);
   const calBefore: Calibration = calibrate();
   const db = opts.db;
   const suiteId = ensureSuite(db, { name: def.name, contentHash: suite.contentHash, definition: def, thresholds: suite.thresholds });
@@ -126,7 +146,7 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     commitSubject: commit.subject,
     commitAuthor: commit.author,
     commitDate: commit.date,
-    machine: { ...machine, calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind, clock: def.clock, jobs },
+    machine: { ...machine, fingerprint: machineKey(machine), calibration: { before: calBefore.seconds, kernel: calBefore.kernel }, suiteFile: path.relative(root, suite.file), solver: plan.kind, clock: def.clock, jobs },
     machineKey: key,
     calibrationSeconds: calBefore.seconds,
     solverLabel: plan.label,
@@ -134,6 +154,9 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     jobId: opts.jobId ?? null,
   });
 
+  db.update(runs).set({ machineClass, statusNote: opts.shard ? `Shard ${opts.shard.index} of ${opts.shard.count}: ${cases.length} of the suite's ${allCases.length} cases (the server merges the shards into one run).` : null }).where(eq(runs.id, runId)).run();
+  claimRun(db, runId);
+  const stopHeartbeat = startHeartbeat(db, runId);
   const progress = new Progress(cases.length, opts.progress === undefined ? process.stderr : opts.progress, opts.events ?? null);
   progress.begin(runId, cases.map((c) => c.key));
   let recordError: Error | null = null;
@@ -158,6 +181,7 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     },
   });
   progress.end();
+  stopHeartbeat();
   if (recordError) {
     finishRun(db, runId, "failed");
     throw recordError;
@@ -171,7 +195,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
 
   let detection: Detection | null = null;
   let alerts: AlertResult | null = null;
-  detection = afterRun(db, runId, { baseline });
+  // A part of a suite is not judged alone: the server checks the merged run once all parts are in.
+  detection = opts.shard ? null : afterRun(db, runId, { baseline });
   if (detection) {
     if (opts.alerts !== false && detection.newRegressions > 0) {
       alerts = await sendRegressionAlerts(db, {
@@ -188,6 +213,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     runId,
     status,
     suite: { name: def.name, file: suite.file, contentHash: suite.contentHash, cases: cases.length },
+    shard: opts.shard ? { ...opts.shard, suiteCases: allCases.length } : null,
+    machineClass,
     commit,
     machineKey: key,
     calibration: { before: calBefore.seconds, after: calAfter?.seconds ?? null },

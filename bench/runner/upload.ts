@@ -14,9 +14,17 @@ export function ingestUrl(url: string): string {
   return u.toString();
 }
 
-export async function uploadRun(db: Db, runId: string, url: string, token: string): Promise<{ url: string; status: number; body: unknown }> {
+/** What an upload adds to the stored run: which shard of which CI pipeline it is, and the runner's machine class. */
+export interface UploadExtra {
+  shard?: { index: number; count: number; pipeline: string } | null;
+  machineClass?: string | null;
+}
+
+export async function uploadRun(db: Db, runId: string, url: string, token: string, extra: UploadExtra = {}): Promise<{ url: string; status: number; body: unknown }> {
   const target = ingestUrl(url);
   const payload = buildRunPayload(db, runId);
+  if (extra.shard) payload.run.shard = extra.shard;
+  if (extra.machineClass) payload.run.machineClass = extra.machineClass;
   const res = await fetch(target, {
     method: "POST",
     headers: { "content-type": "application/json", authorization: `Bearer ${token}` },
