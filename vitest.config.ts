@@ -11,7 +11,7 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 180_000,
     pool: "forks",
-    // builds the command line (dist/cli) when stale, before the tests that start bin/arcwatch.mjs
+    // builds the command line (dist/cli) when stale, before the tests that start scripts/arcwatch.mjs
     globalSetup: ["tests/helpers/build-cli.setup.ts"],
   },
 });

@@ -60,6 +60,12 @@ export const METRICS = {
   q3: { label: "Third quartile of solve time", unit: "s", definition: "75th percentile of the timed repeats." },
   arcs: { label: "Arc structure", unit: "", recorded: "arcs", definition: "The sequence of bang, singular and boundary arcs detected in the control, compared with the reference's." },
   status: { label: "Solver status", unit: "", recorded: "status", definition: "How the solve ended (see statuses)." },
+  pooledMedianRatio: { label: "Pooled time ratio (group)", unit: "", recorded: "pooled_median_ratio", definition: "For a group of cases (one scheme, one problem or the whole suite): the geometric mean of the cases' median-time ratios against the baseline, with a two-stage bootstrap interval over cases, then samples." },
+  meshErrorMax: { label: "Largest mesh error estimate", unit: "", definition: "The largest per-interval estimate of the local error of the dynamics (Betts' residual quadrature for local schemes, the Patterson–Hager–Rao estimate for LGR). It measures how well the solution obeys the dynamics between mesh points, not its distance from the optimum." },
+  meshToleranceMet: { label: "Mesh tolerance met", unit: "", recorded: "mesh_tolerance_met", definition: "Adaptive cases: whether refinement brought the largest mesh error estimate under the case's tolerance." },
+  meshPasses: { label: "Refinement passes", unit: "", recorded: "mesh_passes", definition: "Adaptive cases: how many solve-estimate-refine passes it took." },
+  meshPoints: { label: "Points of the final mesh", unit: "", recorded: "mesh_points", definition: "Adaptive cases: collocation points of the last mesh refinement produced." },
+  solverErrorEstimate: { label: "Solver share of the objective error", unit: "", definition: "An upper estimate of how much of the objective error the interior-point solver's stopping point causes (the total duality gap at the returned point); the rest is the discretisation's." },
 } satisfies Record<string, MetricEntry>;
 export type MetricKey = keyof typeof METRICS;
 

@@ -1,6 +1,6 @@
 /**
  * Start-up cost of the command line as whole processes (node bench/cli-start.bench.mjs [rounds]):
- * the built command (bin/arcwatch.mjs → dist/cli) against the same command run from the
+ * the built command (scripts/arcwatch.mjs → dist/cli) against the same command run from the
  * TypeScript sources through tsx (how `npm run solve` ran before the build existed), interleaved
  * round by round so that both see the same load on a shared machine. Prints the median wall
  * time and, where GNU time is installed, the median CPU time (user + system) of each, and
@@ -19,10 +19,10 @@ const GNU_TIME = fs.existsSync("/usr/bin/time") ? "/usr/bin/time" : null;
 const SOLVE = ["pika-rover-dash", "--scheme", "trapezoidal", "--intervals", "20", "--quiet"];
 
 const cases = [
-  { label: "arcwatch --help", built: ["bin/arcwatch.mjs", "--help"], source: null },
-  { label: "solve --help", built: ["bin/arcwatch.mjs", "solve", "--help"], source: ["--import", "tsx", "bench/solve.ts", "--help"] },
-  { label: "bench --help", built: ["bin/arcwatch.mjs", "bench", "--help"], source: ["--import", "tsx", "bench/run.ts", "--help"] },
-  { label: "solve, trapezoidal, 20 intervals", built: ["bin/arcwatch.mjs", "solve", ...SOLVE], source: ["--import", "tsx", "bench/solve.ts", ...SOLVE] },
+  { label: "arcwatch --help", built: ["scripts/arcwatch.mjs", "--help"], source: null },
+  { label: "solve --help", built: ["scripts/arcwatch.mjs", "solve", "--help"], source: ["--import", "tsx", "bench/solve.ts", "--help"] },
+  { label: "bench --help", built: ["scripts/arcwatch.mjs", "bench", "--help"], source: ["--import", "tsx", "bench/run.ts", "--help"] },
+  { label: "solve, trapezoidal, 20 intervals", built: ["scripts/arcwatch.mjs", "solve", ...SOLVE], source: ["--import", "tsx", "bench/solve.ts", ...SOLVE] },
   { label: "empty node process (floor)", built: ["-e", "0"], source: null },
 ];
 

@@ -2,7 +2,7 @@
  * Builds the command line (bench/cli/arcwatch.ts and the command modules it imports lazily) into
  * dist/cli/ as plain JavaScript with esbuild, so that `arcwatch solve|bench|refine` starts without
  * a TypeScript loader. Run by `npm install` (the `prepare` script), by `npm start`, by the test
- * setup, and by bin/arcwatch.mjs itself whenever a source is newer than the build, so the built
+ * setup, and by scripts/arcwatch.mjs itself whenever a source is newer than the build, so the built
  * command line never lags behind the code silently.
  *
  * - Packages stay in node_modules (external), except mathjs: bundled, so that only the parser

@@ -119,7 +119,7 @@ const when = (d: Date | string) => new Date(d).toISOString().slice(0, 16).replac
 
 function SessionList({ sessions, busy }: { sessions: Route.ComponentProps["loaderData"]["sessions"]; busy: boolean }) {
   return (
-    <section className="card space-y-4 p-6" aria-label="Signed-in sessions">
+    <section className="card min-w-0 space-y-4 p-6" aria-label="Signed-in sessions">
       <div>
         <h2 className="text-lg font-semibold">Signed-in sessions</h2>
         <p className="text-sm text-muted">
@@ -127,6 +127,7 @@ function SessionList({ sessions, busy }: { sessions: Route.ComponentProps["loade
           tokens are listed by an admin, not here.
         </p>
       </div>
+      <div className="max-w-full overflow-x-auto">
       <table className="w-full text-left text-sm">
         <thead className="text-muted">
           <tr>
@@ -143,7 +144,7 @@ function SessionList({ sessions, busy }: { sessions: Route.ComponentProps["loade
         <tbody>
           {sessions.map((s) => (
             <tr key={s.idHash} className="border-t border-line" data-session={s.current ? "current" : "other"}>
-              <td className="max-w-xs truncate py-2 pr-3" title={s.userAgent ?? ""}>
+              <td className="min-w-[8rem] max-w-[16rem] py-2 pr-3 break-all" title={s.userAgent ?? ""}>
                 {s.userAgent || "unknown"}
               </td>
               <td className="num py-2 pr-3">{s.address ?? "unknown"}</td>
@@ -167,6 +168,7 @@ function SessionList({ sessions, busy }: { sessions: Route.ComponentProps["loade
           ))}
         </tbody>
       </table>
+      </div>
     </section>
   );
 }

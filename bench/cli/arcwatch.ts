@@ -1,6 +1,6 @@
 /**
  * `arcwatch <command> [options]`: the command line, one entry for the solve, bench and refine
- * commands. Built into dist/cli/ by scripts/build-cli.mjs and started by bin/arcwatch.mjs (the
+ * commands. Built into dist/cli/ by scripts/build-cli.mjs and started by scripts/arcwatch.mjs (the
  * package's `arcwatch` bin; `npm run solve|bench|refine` are aliases). Each command module is
  * imported only when named, and loads the engine (or the database) only after its options are
  * checked, so `--help` and usage errors answer at once.

@@ -1,5 +1,5 @@
 /**
- * The built command line (bin/arcwatch.mjs → dist/cli, built by scripts/build-cli.mjs; the test
+ * The built command line (scripts/arcwatch.mjs → dist/cli, built by scripts/build-cli.mjs; the test
  * setup builds it first): the command list, usage errors, a solve through the bundle that
  * matches the same solve run from the TypeScript sources exactly, and the staleness check that
  * makes the launcher rebuild after a source changes.
@@ -12,7 +12,7 @@ import { describe, expect, it } from "vitest";
 import { cliState } from "../../scripts/build-cli.mjs";
 
 const REPO = path.resolve(__dirname, "../..");
-const arcwatch = (...args: string[]) => spawnSync(process.execPath, [path.join(REPO, "bin/arcwatch.mjs"), ...args], { cwd: REPO, encoding: "utf8", timeout: 120_000 });
+const arcwatch = (...args: string[]) => spawnSync(process.execPath, [path.join(REPO, "scripts/arcwatch.mjs"), ...args], { cwd: REPO, encoding: "utf8", timeout: 120_000 });
 
 describe("arcwatch command line (built)", () => {
   it("lists its commands with --help and exits 0; no or an unknown command exits 2", () => {
@@ -30,7 +30,7 @@ describe("arcwatch command line (built)", () => {
 
   it("bench --help prints the usage without opening a database", () => {
     const cwd = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-cli-"));
-    const r = spawnSync(process.execPath, [path.join(REPO, "bin/arcwatch.mjs"), "bench", "--help"], { cwd, encoding: "utf8", timeout: 60_000 });
+    const r = spawnSync(process.execPath, [path.join(REPO, "scripts/arcwatch.mjs"), "bench", "--help"], { cwd, encoding: "utf8", timeout: 60_000 });
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/--suite <name\|file>/);
     expect(fs.existsSync(path.join(cwd, "data"))).toBe(false);

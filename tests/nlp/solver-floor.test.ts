@@ -21,7 +21,7 @@ const FLOOR = 1e-10;
 function errors(id: string, scheme: SchemeId, meshes: number[]) {
   const p = lib.problems.find((q) => q.id === id)!;
   return meshes.map((N) => {
-    const r = solveProblem(p, scheme, { intervals: N, degree: p.defaults?.degree }, { keepTrajectory: false, resimulate: false, arcs: false });
+    const r = solveProblem(p, scheme, { intervals: N, degree: p.defaults?.degree }, { keepTrajectory: false, resimulate: false, arcs: false, nlp: { gapTol: 1e-11 } });
     expect(r.status).toBe("optimal");
     expect(r.errorSplit.solver).not.toBeNull();
     // The solver's share is below the floor the goal names, relative to the optimum.

@@ -89,9 +89,10 @@ afterAll(async () => {
 });
 
 describe("ingestion: tokens and roles", () => {
-  it("refuses a post without a token (403 from the origin check, 401 with a same-origin header), with an unknown token (401) and with a viewer token (403)", async () => {
-    // No token and no Origin: the same-origin guard (app/services/csrf.server.ts) stops it first.
-    expect((await post(payload())).status).toBe(403);
+  it("refuses a post without a token (401 before the body is read, with or without a same-origin header), with an unknown token (401) and with a viewer token (403)", async () => {
+    // No token: the server's header check (scripts/body-limits.mjs) refuses an upload without
+    // Authorization before reading its body, ahead of the same-origin guard.
+    expect((await post(payload())).status).toBe(401);
     expect((await post(payload(), undefined, { origin: server.url })).status).toBe(401);
     expect((await post(payload(), "aw_not-a-real-token-000000000000000000000")).status).toBe(401);
     const viewer = await post(payload(), tokens.viewer);
@@ -127,6 +128,45 @@ describe("ingestion: validation and idempotence", () => {
     const huge = JSON.stringify({ format: PAYLOAD_FORMAT, pad: "x".repeat(33 * 1024 * 1024) });
     expect((await post(huge, tokens.engineer)).status).toBe(413);
     expect(runCount()).toBe(0);
+  });
+
+  it("refuses uploads that would poison history: future or inverted dates, negative times, duplicate case keys, foreign problem ids, deep nesting, a non-JSON body (4xx with a message, nothing stored)", async () => {
+    const before = runCount();
+    const paths = async (p: RunPayload) => {
+      const r = await post(p, tokens.engineer);
+      expect(r.status).toBe(400);
+      return ((await r.json()) as { issues: { path: string; message: string }[] }).issues;
+    };
+    const future = payload();
+    future.run.startedAt = new Date("2030-01-01T00:00:00Z").toISOString();
+    future.run.finishedAt = new Date("2030-01-01T00:01:00Z").toISOString();
+    expect((await paths(future)).map((i) => i.path)).toContain("run.startedAt");
+    const inverted = payload();
+    inverted.run.finishedAt = new Date("2026-11-01T10:00:30Z").toISOString(); // before startedAt (10:01)
+    expect((await paths(inverted)).find((i) => i.path === "run.finishedAt")?.message).toMatch(/before startedAt/);
+    const negative = payload();
+    negative.cases[0]!.medianSeconds = -0.5;
+    expect((await paths(negative)).map((i) => i.path)).toContain("cases.0.medianSeconds");
+    const dup = payload(2);
+    dup.cases[1]!.caseKey = dup.cases[0]!.caseKey;
+    expect((await paths(dup)).length).toBeGreaterThan(0);
+    // the problem-id rule of the library applies to uploaded rows too (issue: ids with markup)
+    const foreign = payload(1);
+    foreign.cases[0]!.problemId = "<b>pika";
+    expect((await paths(foreign)).map((i) => i.path)).toContain("cases.0.problemId");
+    const foreignProblem = payload(1);
+    foreignProblem.problems = [{ id: "<b>x", title: "x", description: "", tags: [], versionHash: "v", json: "{}" }];
+    expect((await paths(foreignProblem)).map((i) => i.path)).toContain("problems.0.id");
+    const deep = `${"[".repeat(50_000)}${"]".repeat(50_000)}`;
+    const rDeep = await post(deep, tokens.engineer);
+    expect(rDeep.status).toBeGreaterThanOrEqual(400);
+    expect(rDeep.status).toBeLessThan(500);
+    const rText = await post(JSON.stringify(payload()), tokens.engineer, { "content-type": "text/plain" });
+    expect(rText.status).toBeGreaterThanOrEqual(400);
+    expect(rText.status).toBeLessThan(500);
+    const rGet = await fetch(`${server.url}/api/problems/trial`, { headers: { authorization: `Bearer ${tokens.engineer}` } });
+    expect(rGet.status).toBe(405);
+    expect(runCount()).toBe(before);
   });
 
   it("stores the same run once however often it is posted", async () => {

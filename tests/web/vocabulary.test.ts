@@ -28,7 +28,8 @@ describe("vocabulary covers every produced name", () => {
 
   it("every case status the runner and the shooting transcription write", () => {
     const names = new Set<string>();
-    for (const f of ["app/engine/shooting/direct.ts", ...fs.readdirSync(path.join(ROOT, "bench/runner")).filter((x) => x.endsWith(".ts")).map((x) => `bench/runner/${x}`)]) {
+    const sources = (dir: string) => fs.readdirSync(path.join(ROOT, dir)).filter((x) => x.endsWith(".ts")).map((x) => `${dir}/${x}`);
+    for (const f of ["app/engine/shooting/direct.ts", ...sources("bench/runner"), ...sources("app/runs")]) {
       for (const m of read(f).matchAll(/status: "([a-z_]+)"/g)) names.add(m[1]!);
       for (const m of read(f).matchAll(/\| "([a-z_]+_failed)"/g)) names.add(m[1]!);
     }
@@ -46,8 +47,8 @@ describe("vocabulary covers every produced name", () => {
     for (const k of REGRESSION_KINDS) expect(V.kindLabel(k)).not.toMatch(/unknown/);
   });
 
-  it("every metric the detector records (bench/runner/detect.ts) and every history metric", () => {
-    const src = read("bench/runner/detect.ts");
+  it("every metric the detector records (app/runs/rules.ts, app/runs/pooled.ts) and every history metric", () => {
+    const src = read("app/runs/rules.ts") + read("app/runs/pooled.ts");
     const recorded = new Set([...src.matchAll(/metric: "([a-z_]+)"/g)].map((m) => m[1]!));
     const table = src.slice(src.indexOf("const ACCURACY_METRICS = ["), src.indexOf("] as const;", src.indexOf("const ACCURACY_METRICS = [")));
     for (const m of table.matchAll(/\["([a-z_]+)", "[A-Za-z]+"\]/g)) recorded.add(m[1]!);
@@ -57,8 +58,8 @@ describe("vocabulary covers every produced name", () => {
     for (const k of HISTORY_METRIC_KEYS) expect(V.metricOf(k), k).not.toBeNull();
   });
 
-  it("every number kept per case (the runner's extra numbers in bench/runner/record.ts)", () => {
-    const src = read("bench/runner/record.ts");
+  it("every number kept per case (the runner's extra numbers in app/runs/record.ts)", () => {
+    const src = read("app/runs/record.ts");
     const block = src.slice(src.indexOf("const extra = {"), src.indexOf("};", src.indexOf("const extra = {")));
     const keys = [...block.matchAll(/^\s+([a-zA-Z0-9]+):/gm)].map((m) => m[1]!).filter((k) => k !== "variant");
     expect(keys.length).toBeGreaterThan(5);

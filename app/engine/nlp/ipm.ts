@@ -200,7 +200,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     const converged = E0.E <= o.tol && unscaledOk;
     if (converged && gapOk) {
       const how = polish.steps > 0 ? ` after ${polish.steps} final step${polish.steps > 1 ? "s" : ""}` : "";
-      return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)} ≤ ${gapTarget.toExponential(2)}${how}`, infPr, infDu, solverError: solverErr };
+      return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)}${o.gapTol === 0 ? " (gap test off)" : ` ≤ ${gapTarget.toExponential(2)}`}${how}`, infPr, infDu, solverError: solverErr };
     }
     if (polish.active && (polish.steps >= C.maxFinalSteps || !Number.isFinite(E0.E) || !Number.isFinite(solverErr))) {
       // The final steps stopped helping: back to the best converged point, gap reported as it is.

@@ -14,7 +14,7 @@ export interface OptionSpec<T> {
 /** The user-visible options (NlpOptions) with defaults; DEVELOPERS.md lists the same table. */
 export const OPTION_SPECS = {
   tol: { default: 1e-8, help: "Desired tolerance on the scaled KKT error E_0, W&B eq. (5)-(6)." },
-  gapTol: { default: 1e-11, help: "Also required at 'optimal': total duality gap Σ s z + |λᵀc| (unscaled) ≤ gapTol (1 + |f|); 0 turns the test off (gap.ts)." },
+  gapTol: { default: 0, help: "Also required at 'optimal' when > 0 (1e-11 removes the barrier floor): total duality gap Σ s z + |λᵀc| (unscaled) ≤ gapTol (1 + |f|); 0, the default, turns the test off (gap.ts)." },
   acceptableTol: { default: 1e-6, help: "E_0 below this for acceptableIter consecutive iterates ends with 'acceptable'." },
   acceptableIter: { default: 15, help: "Consecutive acceptable iterates needed for status 'acceptable'." },
   maxIter: { default: 3000, help: "Iteration limit (regular and restoration iterations together)." },

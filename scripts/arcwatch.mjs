@@ -9,7 +9,7 @@
 import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
-import { buildCli, cliEntry, cliState } from "../scripts/build-cli.mjs";
+import { buildCli, cliEntry, cliState } from "./build-cli.mjs";
 
 const root = path.resolve(path.dirname(fs.realpathSync(fileURLToPath(import.meta.url))), "..");
 let entry = cliEntry(root);
