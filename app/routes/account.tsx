@@ -127,7 +127,7 @@ function SessionList({ sessions, busy }: { sessions: Route.ComponentProps["loade
           tokens are listed by an admin, not here.
         </p>
       </div>
-      <div className="max-w-full overflow-x-auto">
+      <div className="relative max-w-full overflow-x-auto">
       <table className="w-full text-left text-sm">
         <thead className="text-muted">
           <tr>

@@ -37,11 +37,13 @@ describe.runIf(run)("first start on an empty database", () => {
       JSON.stringify({
         format: "arcwatch-suite/1",
         name: "first-start",
-        description: "Two cases for the first-start browser test.",
-        problems: ["pika-rover-dash"],
-        schemes: ["trapezoidal"],
-        meshes: [{ intervals: 10 }, { intervals: 14 }],
-        repeats: 5,
+        // Long enough (about half a minute on a quiet 2-core machine) that the overview is open
+        // while it runs: two cases finished in 4 s, before a person could sign in.
+        description: "Twelve cases for the first-start browser test.",
+        problems: ["pika-rover-dash", "wren-wheel-spin-down"],
+        schemes: ["trapezoidal", "hermite-simpson"],
+        meshes: [{ intervals: 40 }, { intervals: 80 }, { intervals: 160 }],
+        repeats: 25,
         warmup: 1,
         timeBudgetSeconds: 120,
         jobs: 1,
@@ -115,7 +117,7 @@ describe.runIf(run)("first start on an empty database", () => {
     const card = page.locator("[data-testid=demo-progress]");
     await card.waitFor({ timeout: 30_000 });
     const seen = (await card.textContent()) ?? "";
-    expect(seen).toMatch(/^Preparing demo data: (starting the quick suite|\d of 2 cases|2 of 2 cases measured, writing the demo history)/);
+    expect(seen).toMatch(/^Preparing demo data: (starting the quick suite|\d+ of 12 cases|12 of 12 cases measured, writing the demo history)/);
     await screenshot(page, "first-start-demo-progress");
     const texts = new Set<string>([seen]);
     const deadline = Date.now() + 540_000;
