@@ -11,7 +11,7 @@ import path from "node:path";
 import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { runBenchJson } from "../helpers/bench-cli";
-import { chromiumAvailable, hydrated, launchBrowser, screenshot } from "../helpers/browser";
+import { chromiumAvailable, hydrated, launchBrowser, screenshot, signInAs } from "../helpers/browser";
 import { ROOT, startTestServer, type RunningServer } from "../helpers/server";
 
 const PROBLEMS = ["tern-orbit-raise", "kestrel-2-ascent"];
@@ -40,11 +40,7 @@ describe.runIf(run)("comparing two problems one after the other", () => {
     context = b.context;
     closeBrowser = b.close;
     page = context.pages()[0] ?? (await context.newPage());
-    await page.goto(`${server.url}/signin`);
-    await hydrated(page);
-    await page.fill("input[name=email]", "engineer@arcwatch.test");
-    await page.fill("input[name=password]", "engineer-demo-pass");
-    await Promise.all([page.waitForURL(`${server.url}/`), page.click("button[type=submit]")]);
+    await signInAs(page, server.url, "engineer");
   }, 900_000); // build, server start and two small bench runs; minutes on a loaded shared machine
 
   afterAll(async () => {

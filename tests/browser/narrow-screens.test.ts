@@ -8,7 +8,7 @@
  */
 import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { chromiumAvailable, hydrated, launchBrowser, screenshot } from "../helpers/browser";
+import { chromiumAvailable, hydrated, launchBrowser, screenshot, signInAs } from "../helpers/browser";
 import { startTestServer, type RunningServer } from "../helpers/server";
 
 const run = chromiumAvailable();
@@ -71,11 +71,7 @@ describe.runIf(run)("every page at phone width; one vocabulary on screen", () =>
     context = b.context;
     closeBrowser = b.close;
     page = context.pages()[0] ?? (await context.newPage());
-    await page.goto(`${server.url}/signin`);
-    await hydrated(page);
-    await page.fill("input[name=email]", "admin@arcwatch.test");
-    await page.fill("input[name=password]", "admin-demo-pass");
-    await Promise.all([page.waitForURL(`${server.url}/`), page.click("button[type=submit]")]);
+    await signInAs(page, server.url, "admin");
   }, 900_000);
 
   afterAll(async () => {

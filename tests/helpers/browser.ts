@@ -56,3 +56,12 @@ export async function screenshot(page: Page, name: string): Promise<string> {
   await page.screenshot({ path: file, fullPage: true });
   return file;
 }
+
+/** Signs in with a demo account (README "Demo accounts") and waits for the overview. */
+export async function signInAs(page: Page, baseUrl: string, role: "viewer" | "engineer" | "admin"): Promise<void> {
+  await page.goto(`${baseUrl}/signin`);
+  await hydrated(page);
+  await page.fill("input[name=email]", `${role}@arcwatch.test`);
+  await page.fill("input[name=password]", `${role}-demo-pass`);
+  await Promise.all([page.waitForURL(`${baseUrl}/`), page.click("button[type=submit]")]);
+}

@@ -5,6 +5,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
+import { pikaCase } from "../helpers/run-payload";
 import { openDatabase, type Db } from "~/db/client.server";
 import { caseResults, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
@@ -41,31 +42,7 @@ function payload(n = 3, id: string = crypto.randomUUID()): RunPayload {
     },
     suite: { name: suite.definition.name, contentHash: suite.contentHash, definition: suite.definition, thresholds: null },
     problems: [],
-    cases: Array.from({ length: n }, (_, i) => ({
-      caseKey: `pika-rover-dash/trapezoidal/${10 + i}`,
-      problemId: "pika-rover-dash",
-      problemVersionHash: "test-version",
-      scheme: "trapezoidal",
-      intervals: 10 + i,
-      degree: null,
-      status: "optimal",
-      objective: 1.5,
-      objectiveErrorAbs: 1e-6,
-      objectiveErrorRel: 1e-6,
-      finalTime: 2,
-      finalTimeError: null,
-      stateError: 1e-5,
-      controlError: 1e-3,
-      resimMiss: 1e-7,
-      constraintViolation: 1e-10,
-      iterations: 12,
-      medianSeconds: 0.01,
-      meanSeconds: 0.01,
-      stddevSeconds: 0.001,
-      minSeconds: 0.009,
-      samples: [0.009, 0.01, 0.011],
-      message: null,
-    })),
+    cases: Array.from({ length: n }, (_, i) => pikaCase(10 + i)),
   };
 }
 

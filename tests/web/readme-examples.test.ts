@@ -17,6 +17,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
+import { pikaCase } from "../helpers/run-payload";
 import { openDatabase, type Db } from "~/db/client.server";
 import { caseResults, regressions, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
@@ -93,31 +94,12 @@ function payload(id: string, commitHash: string, seconds: number): RunPayload {
     },
     suite: { name: suite.definition.name, contentHash: suite.contentHash, definition: suite.definition, thresholds: null },
     problems: [],
-    cases: [20, 40].map((intervals) => ({
-      caseKey: `pika-rover-dash/trapezoidal/${intervals}`,
-      problemId: "pika-rover-dash",
-      problemVersionHash: "test-version",
-      scheme: "trapezoidal",
-      intervals,
-      degree: null,
-      status: "optimal",
-      objective: 17.9,
-      objectiveErrorAbs: 1e-3,
-      objectiveErrorRel: 1e-4,
-      finalTime: 17.9,
-      finalTimeError: 1e-3,
-      stateError: 1e-3,
-      controlError: 1e-1,
-      resimMiss: 1e-6,
-      constraintViolation: 1e-10,
-      iterations: 12,
-      medianSeconds: seconds,
-      meanSeconds: seconds,
-      stddevSeconds: seconds / 100,
-      minSeconds: seconds,
-      samples: [seconds, seconds, seconds],
-      message: null,
-    })),
+    cases: [20, 40].map((intervals) =>
+      pikaCase(intervals, {
+        objective: 17.9, objectiveErrorAbs: 1e-3, objectiveErrorRel: 1e-4, finalTime: 17.9, finalTimeError: 1e-3, stateError: 1e-3, controlError: 1e-1, resimMiss: 1e-6,
+        medianSeconds: seconds, meanSeconds: seconds, stddevSeconds: seconds / 100, minSeconds: seconds, samples: [seconds, seconds, seconds],
+      }),
+    ),
   };
 }
 

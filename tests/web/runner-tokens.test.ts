@@ -7,6 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
+import { pikaCase } from "../helpers/run-payload";
 import { openDatabase, type Db } from "~/db/client.server";
 import { apiTokens, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
@@ -44,33 +45,7 @@ function payload(suiteName = "quick"): RunPayload {
     },
     suite: { name: suiteName, contentHash: sha256(canonicalJson(definition)), definition, thresholds: null },
     problems: [],
-    cases: [
-      {
-        caseKey: "pika-rover-dash/trapezoidal/10",
-        problemId: "pika-rover-dash",
-        problemVersionHash: "test-version",
-        scheme: "trapezoidal",
-        intervals: 10,
-        degree: null,
-        status: "optimal",
-        objective: 1.5,
-        objectiveErrorAbs: 1e-6,
-        objectiveErrorRel: 1e-6,
-        finalTime: 2,
-        finalTimeError: null,
-        stateError: 1e-5,
-        controlError: 1e-3,
-        resimMiss: 1e-7,
-        constraintViolation: 1e-10,
-        iterations: 12,
-        medianSeconds: 0.01,
-        meanSeconds: 0.01,
-        stddevSeconds: 0.001,
-        minSeconds: 0.009,
-        samples: [0.009, 0.01, 0.011],
-        message: null,
-      },
-    ],
+    cases: [pikaCase(10)],
   };
 }
 
