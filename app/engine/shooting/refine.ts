@@ -263,24 +263,7 @@ function refineOnce(problem: CompiledProblem, sol: Solution, options: RefineOpti
   };
   const structure = options.structure ?? detectArcs(problem, sol, options.arcOptions);
   const sign = forcedSign !== 0 ? forcedSign : structure.costateSign === -1 ? -1 : 1;
-  const failed = (message: string): RefineReport => ({
-    ...base,
-    jacobianCondition: NaN,
-    status: "setup_failed",
-    newtonStatus: "setup_failed",
-    converged: false,
-    message,
-    residual: Infinity,
-    iterations: 0,
-    objective: NaN,
-    finalTime: NaN,
-    junctions: [],
-    arcs: [],
-    signature: "",
-    detectedSignature: structure.signature,
-    structureConfirmed: false,
-    seconds: (performance.now() - started) / 1000,
-  });
+  const failed = (message: string): RefineReport => setupFailure(problem, message, structure.signature, (performance.now() - started) / 1000);
   if (!sol.costates) return failed("the direct solution has no costate estimates to start from");
   let ms: MultipleShooting;
   let oc: OptimalityConditions;
