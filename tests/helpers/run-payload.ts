@@ -34,3 +34,24 @@ export function pikaCase(intervals: number, overrides: Partial<CaseRecord> = {})
     ...overrides,
   };
 }
+
+/** The `run` part of an upload payload: invented test metadata, one minute of a 2026-11-01 morning. */
+export function runHeader(id: string, commitHash: string, branch: string, commitSubject: string): RunPayload["run"] {
+  return {
+    id,
+    commitHash,
+    branch,
+    dirty: false,
+    commitSubject,
+    commitAuthor: "CI <ci@arcwatch.test>",
+    commitDate: new Date("2026-11-01T10:00:00Z").toISOString(),
+    machine: { cpuModel: "Test CPU", cores: 2 },
+    machineKey: "test-machine",
+    calibrationSeconds: 0.01,
+    startedAt: new Date("2026-11-01T10:01:00Z").toISOString(),
+    finishedAt: new Date("2026-11-01T10:02:00Z").toISOString(),
+    status: "complete",
+    solverLabel: null,
+    externalRepo: null,
+  };
+}

@@ -5,7 +5,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
-import { pikaCase } from "../helpers/run-payload";
+import { pikaCase, runHeader } from "../helpers/run-payload";
 import { openDatabase, type Db } from "~/db/client.server";
 import { caseResults, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
@@ -23,23 +23,7 @@ const suite = loadSuite(suitePath("quick", ROOT));
 function payload(n = 3, id: string = crypto.randomUUID()): RunPayload {
   return {
     format: PAYLOAD_FORMAT,
-    run: {
-      id,
-      commitHash: "a".repeat(40),
-      branch: "ci-upload",
-      dirty: false,
-      commitSubject: "Upload test",
-      commitAuthor: "CI <ci@arcwatch.test>",
-      commitDate: new Date("2026-11-01T10:00:00Z").toISOString(),
-      machine: { cpuModel: "Test CPU", cores: 2 },
-      machineKey: "test-machine",
-      calibrationSeconds: 0.01,
-      startedAt: new Date("2026-11-01T10:01:00Z").toISOString(),
-      finishedAt: new Date("2026-11-01T10:02:00Z").toISOString(),
-      status: "complete",
-      solverLabel: null,
-      externalRepo: null,
-    },
+    run: runHeader(id, "a".repeat(40), "ci-upload", "Upload test"),
     suite: { name: suite.definition.name, contentHash: suite.contentHash, definition: suite.definition, thresholds: null },
     problems: [],
     cases: Array.from({ length: n }, (_, i) => pikaCase(10 + i)),

@@ -17,7 +17,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import { startTestServer, ROOT, type RunningServer } from "../helpers/server";
-import { pikaCase } from "../helpers/run-payload";
+import { pikaCase, runHeader } from "../helpers/run-payload";
 import { openDatabase, type Db } from "~/db/client.server";
 import { caseResults, regressions, runs, users } from "~/db/schema";
 import { createApiToken } from "~/services/tokens.server";
@@ -75,23 +75,7 @@ function payload(id: string, commitHash: string, seconds: number): RunPayload {
   const suite = loadSuite(suitePath("quick", ROOT));
   return {
     format: PAYLOAD_FORMAT,
-    run: {
-      id,
-      commitHash,
-      branch: "main",
-      dirty: false,
-      commitSubject: "README example run",
-      commitAuthor: "CI <ci@arcwatch.test>",
-      commitDate: new Date("2026-11-01T10:00:00Z").toISOString(),
-      machine: { cpuModel: "Test CPU", cores: 2 },
-      machineKey: "test-machine",
-      calibrationSeconds: 0.01,
-      startedAt: new Date("2026-11-01T10:01:00Z").toISOString(),
-      finishedAt: new Date("2026-11-01T10:02:00Z").toISOString(),
-      status: "complete",
-      solverLabel: null,
-      externalRepo: null,
-    },
+    run: runHeader(id, commitHash, "main", "README example run"),
     suite: { name: suite.definition.name, contentHash: suite.contentHash, definition: suite.definition, thresholds: null },
     problems: [],
     cases: [20, 40].map((intervals) =>
