@@ -46,3 +46,40 @@ export function Notice({ message }: { message?: string | null }) {
     </p>
   );
 }
+
+/** A labelled select with its error beneath it, the select twin of `Field`. */
+export function SelectField({
+  label,
+  name,
+  id = `field-${name}`,
+  options,
+  defaultValue,
+  error,
+}: {
+  label: ReactNode;
+  name: string;
+  id?: string;
+  options: readonly { value: string; label: ReactNode }[];
+  defaultValue?: string;
+  error?: string;
+}) {
+  return (
+    <div className="space-y-1">
+      <label htmlFor={id} className="block text-sm font-medium">
+        {label}
+      </label>
+      <select id={id} name={name} defaultValue={defaultValue} className="input" aria-invalid={error ? true : undefined} aria-describedby={error ? `${id}-error` : undefined}>
+        {options.map((o) => (
+          <option key={o.value} value={o.value}>
+            {o.label}
+          </option>
+        ))}
+      </select>
+      {error ? (
+        <p id={`${id}-error`} className="text-sm text-bad" data-field-error={name}>
+          {error}
+        </p>
+      ) : null}
+    </div>
+  );
+}

@@ -2,7 +2,7 @@ import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/admin.tokens";
 import { RoleBadge } from "~/components/AppShell";
 import { RouteErrorBoundary } from "~/components/ErrorView";
-import { Field, FormError, Notice } from "~/components/Field";
+import { Field, FormError, Notice, SelectField } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { ROLES, TOKEN_SCOPES } from "~/db/schema";
 import { requireRole } from "~/services/auth.server";
@@ -142,40 +142,8 @@ export default function AdminTokens({ loaderData, actionData }: Route.ComponentP
           <input type="hidden" name="intent" value="create" />
           <FormError message={create?.errors.form} />
           <Field label="Name" name="name" defaultValue={create?.values.name} error={create?.errors.name} autoComplete="off" />
-          <div className="space-y-1">
-            <label htmlFor="token-role" className="block text-sm font-medium">
-              Role
-            </label>
-            <select id="token-role" name="role" defaultValue={create?.values.role || "engineer"} className="input">
-              {ROLES.map((r) => (
-                <option key={r} value={r}>
-                  {r}
-                </option>
-              ))}
-            </select>
-            {create?.errors.role ? (
-              <p className="text-sm text-bad" data-field-error="role">
-                {create.errors.role}
-              </p>
-            ) : null}
-          </div>
-          <div className="space-y-1">
-            <label htmlFor="token-scope" className="block text-sm font-medium">
-              May
-            </label>
-            <select id="token-scope" name="scope" defaultValue={create?.values.scope || "full"} className="input">
-              {TOKEN_SCOPES.map((s) => (
-                <option key={s} value={s}>
-                  {SCOPE_LABELS[s]}
-                </option>
-              ))}
-            </select>
-            {create?.errors.scope ? (
-              <p className="text-sm text-bad" data-field-error="scope">
-                {create.errors.scope}
-              </p>
-            ) : null}
-          </div>
+          <SelectField label="Role" name="role" id="token-role" options={ROLES.map((r) => ({ value: r, label: r }))} defaultValue={create?.values.role || "engineer"} error={create?.errors.role} />
+          <SelectField label="May" name="scope" id="token-scope" options={TOKEN_SCOPES.map((s) => ({ value: s, label: SCOPE_LABELS[s] }))} defaultValue={create?.values.scope || "full"} error={create?.errors.scope} />
           <Field
             label="Only this suite (upload tokens, optional)"
             name="suite"

@@ -2,7 +2,7 @@ import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/admin.users";
 import { RoleBadge } from "~/components/AppShell";
 import { RouteErrorBoundary } from "~/components/ErrorView";
-import { Field, FormError, Notice } from "~/components/Field";
+import { Field, FormError, Notice, SelectField } from "~/components/Field";
 import { getDb } from "~/db/client.server";
 import { ROLES } from "~/db/schema";
 import {
@@ -170,23 +170,7 @@ export default function AdminUsers({ loaderData, actionData }: Route.ComponentPr
           <FormError message={create?.errors.form} />
           <Field label="Name" name="name" defaultValue={create?.values.name} error={create?.errors.name} autoComplete="off" />
           <Field label="E-mail" name="email" type="email" defaultValue={create?.values.email} error={create?.errors.email} autoComplete="off" />
-          <div className="space-y-1">
-            <label htmlFor="field-role" className="block text-sm font-medium">
-              Role
-            </label>
-            <select id="field-role" name="role" defaultValue={create?.values.role || "viewer"} className="input">
-              {ROLES.map((r) => (
-                <option key={r} value={r}>
-                  {r}
-                </option>
-              ))}
-            </select>
-            {create?.errors.role ? (
-              <p className="text-sm text-bad" data-field-error="role">
-                {create.errors.role}
-              </p>
-            ) : null}
-          </div>
+          <SelectField label="Role" name="role" options={ROLES.map((r) => ({ value: r, label: r }))} defaultValue={create?.values.role || "viewer"} error={create?.errors.role} />
           <Field
             label="Initial password"
             name="password"
