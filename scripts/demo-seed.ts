@@ -8,8 +8,9 @@
  * 2. A demo history on the branch `demo/heron-mesh-study`: DEMO_COMMITS invented commits whose
  *    cases are the real cases of step 1 with timing samples scaled by a small deterministic
  *    jitter, plus three planted events — a speed regression (one case ×1.8 slower from commit 5),
- *    an accuracy regression (another case's errors ×40 from commit 8) and an improvement (the
- *    slow case back to ×0.55 from commit 10). Every run is `isDemo: true`, its commit subject
+ *    an accuracy regression (another case's solution moved 40 times farther from the reference
+ *    from commit 8: objective, trajectory and errors together, see ./demo-accuracy.ts) and an
+ *    improvement (the slow case back to ×0.55 from commit 10). Every run is `isDemo: true`, its commit subject
  *    starts with "Demo:", its machine record says `demo: true`, and the pages show a "demo data"
  *    badge. Regressions are found by the runner's own rule code (`compareCases`, the quick
  *    suite's thresholds) between consecutive demo commits, not written by hand.
@@ -32,12 +33,19 @@ import { loadSuite, suitePath } from "~/runs/suite";
 import { runSuite } from "../bench/runner/run-suite";
 import { demoSeedWanted, writeDemoProgress, type DemoProgress } from "~/models/demo-progress.server";
 import { parseRunEvent } from "~/runs/events";
+import { loadFromLibrary } from "~/engine/problem/load";
+import { problemLibraryFor } from "~/models/library.server";
+import { plantAccuracyLoss, type PlantedAccuracy } from "./demo-accuracy";
 
 export const DEMO_BRANCH = "demo/heron-mesh-study";
 export const DEMO_COMMITS = 12;
 const SPEED_AT = 4;
 const ACCURACY_AT = 7;
 const IMPROVEMENT_AT = 9;
+/** The planted accuracy regression moves the case's solution this many times farther from the reference. */
+export const ACCURACY_FACTOR = 40;
+/** Its case is the one whose state error is nearest this (log scale): ×40 then shows on a chart without dwarfing it. */
+const ACCURACY_TARGET_STATE_ERROR = 2e-3;
 
 const SUBJECTS = [
   "Demo: start the Heron mesh study from main",
@@ -105,7 +113,25 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
   const template = db.select({ c: caseResults, samples: timingSamples.samplesJson }).from(caseResults).leftJoin(timingSamples, eq(timingSamples.caseResultId, caseResults.id)).where(eq(caseResults.runId, real.id)).all();
   const timed = template.filter((r) => (r.samples?.length ?? 0) >= 3 && r.c.medianSeconds !== null);
   const slowCase = [...timed].sort((a, b) => b.c.medianSeconds! - a.c.medianSeconds!)[0]?.c.caseKey ?? null;
-  const accurateCase = template.find((r) => r.c.caseKey !== slowCase && r.c.objectiveErrorRel !== null && r.c.stateError !== null)?.c.caseKey ?? null;
+  // The accuracy case: a solved case with a reference objective and trajectory; its demo rows are
+  // recomputed from the stored solution (factor 1 before the planted commit, ACCURACY_FACTOR from it).
+  const library = problemLibraryFor(db, root);
+  let planted: { key: string; before: PlantedAccuracy; after: PlantedAccuracy } | null = null;
+  let bestDistance = Infinity;
+  for (const r of template) {
+    if (r.c.caseKey === slowCase || !(r.c.stateError! > 0) || r.c.objective === null) continue;
+    const loaded = loadFromLibrary(library, r.c.problemId);
+    if (!loaded.ok) continue;
+    const before = plantAccuracyLoss(r.c, loaded.problem, 1);
+    const after = plantAccuracyLoss(r.c, loaded.problem, ACCURACY_FACTOR);
+    if (!before || !after || !(before.stateError! > 0)) continue;
+    const distance = Math.abs(Math.log(before.stateError! / ACCURACY_TARGET_STATE_ERROR));
+    if (distance < bestDistance) {
+      bestDistance = distance;
+      planted = { key: r.c.caseKey, before, after };
+    }
+  }
+  const accurateCase = planted?.key ?? null;
 
   const demoRunIds: string[] = [];
   let previous: CaseRows | null = null;
@@ -141,16 +167,13 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
       for (const { c, samples } of template) {
         let speed = 1;
         if (c.caseKey === slowCase && k >= SPEED_AT) speed = k >= IMPROVEMENT_AT ? 0.55 : 1.8;
-        const errFactor = c.caseKey === accurateCase && k >= ACCURACY_AT ? 40 : 1;
-        const bumpErr = (e: number | null) => (e === null ? null : errFactor === 1 ? e : Math.max(e * errFactor, 1e-6));
+        const acc = planted && c.caseKey === planted.key ? (k >= ACCURACY_AT ? planted.after : planted.before) : null;
         // ±3 % jitter per sample: below the quick suite's 20 % speed threshold.
         const s = (samples ?? []).map((v) => v * speed * (0.97 + 0.06 * rand()));
         const row: Omit<CaseResultRow, "id" | "createdAt"> = {
           ...c,
           runId,
-          objectiveErrorRel: bumpErr(c.objectiveErrorRel),
-          objectiveErrorAbs: bumpErr(c.objectiveErrorAbs),
-          stateError: bumpErr(c.stateError),
+          ...(acc ? { objective: acc.objective, objectiveErrorRel: acc.objectiveErrorRel, objectiveErrorAbs: acc.objectiveErrorAbs, stateError: acc.stateError, controlError: acc.controlError ?? c.controlError, trajectoryJson: acc.trajectory } : {}),
           medianSeconds: s.length ? median(s) : c.medianSeconds,
           meanSeconds: s.length ? s.reduce((a, b) => a + b, 0) / s.length : c.meanSeconds,
           minSeconds: s.length ? Math.min(...s) : c.minSeconds,
@@ -168,7 +191,7 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
           objectiveErrorRel: row.objectiveErrorRel,
           finalTimeError: c.finalTimeError,
           stateError: row.stateError,
-          controlError: c.controlError,
+          controlError: row.controlError,
           medianSeconds: row.medianSeconds,
           arcsJson: c.arcsJson,
           samples: s,

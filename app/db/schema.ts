@@ -246,6 +246,29 @@ export const suites = sqliteTable(
   (t) => [uniqueIndex("suites_name_hash_unique").on(t.name, t.contentHash), index("suites_name_idx").on(t.name)],
 );
 
+/**
+ * Changes to a suite made in the browser (app/runs/suite-changes.ts): add or remove one problem,
+ * versioned per suite name, with who and when. Applied on top of the suite file wherever suites
+ * are resolved (app/models/suite-changes.server.ts); never edited, only appended.
+ */
+export const suiteChanges = sqliteTable(
+  "suite_changes",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    suiteName: text("suite_name").notNull(),
+    /** 1, 2, … per suite name. */
+    version: integer("version").notNull(),
+    action: text("action", { enum: ["add", "remove"] }).notNull(),
+    problemId: text("problem_id").notNull(),
+    userId: integer("user_id").references(() => users.id, { onDelete: "set null" }),
+    /** Who, as shown then (kept when the account is deleted). */
+    userLabel: text("user_label").notNull(),
+    note: text("note").notNull().default(""),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex("suite_changes_suite_version_unique").on(t.suiteName, t.version), check("suite_changes_action_check", sql`${t.action} in ('add', 'remove')`)],
+);
+
 // ---------------------------------------------------------------------------------------
 // Runs and results
 // ---------------------------------------------------------------------------------------
@@ -701,6 +724,7 @@ export type ProblemReferenceRow = typeof problemReferences.$inferSelect;
 export type NewProblemReference = typeof problemReferences.$inferInsert;
 export type SuiteRow = typeof suites.$inferSelect;
 export type NewSuite = typeof suites.$inferInsert;
+export type SuiteChangeRow = typeof suiteChanges.$inferSelect;
 export type RunRow = typeof runs.$inferSelect;
 export type NewRun = typeof runs.$inferInsert;
 export type CaseResultRow = typeof caseResults.$inferSelect;

@@ -7,6 +7,7 @@ import { z } from "zod";
 import type { Db } from "~/db/client.server";
 import { caseResults, jobs, regressions, runs, type JobRow } from "~/db/schema";
 import { statusEntry } from "~/vocabulary";
+import { PROBLEM_ID_PATTERN } from "~/engine/problem/files";
 
 /** Payload of a "bench" job: run a suite at a commit (default: the checked-out HEAD). */
 export const benchJobPayload = z.object({
@@ -18,6 +19,11 @@ export const benchJobPayload = z.object({
     .optional(),
   /** The branch (or ref) the commit was picked from, for display. */
   ref: z.string().trim().max(200).optional(),
+  /**
+   * "Run it now" from a problem page: run this one problem with every scheme on two coarse meshes
+   * (app/runs/suite-changes.ts `problemCheckSuite`); `suite` is then its generated name.
+   */
+  problem: z.string().trim().regex(PROBLEM_ID_PATTERN, "A problem id uses letters, digits, '.', '_' and '-'.").optional(),
 });
 export type BenchJobPayload = z.infer<typeof benchJobPayload>;
 

@@ -142,8 +142,12 @@ export interface RegressionDetail {
 
 function sideCase(db: Db, runId: string | null, caseKey: string): SideCase | null {
   if (!runId) return null;
+  // only the columns shown: the full rows carry JSON (iteration log, machine) parsed for nothing
   const row = db
-    .select({ c: caseResults, run: runs })
+    .select({
+      c: { id: caseResults.id, status: caseResults.status, objective: caseResults.objective, objectiveErrorRel: caseResults.objectiveErrorRel, stateError: caseResults.stateError, iterations: caseResults.iterations, medianSeconds: caseResults.medianSeconds },
+      run: { commitHash: runs.commitHash, commitSubject: runs.commitSubject, commitAuthor: runs.commitAuthor },
+    })
     .from(caseResults)
     .innerJoin(runs, eq(runs.id, caseResults.runId))
     .where(and(eq(caseResults.runId, runId), eq(caseResults.caseKey, caseKey)))
@@ -258,6 +262,9 @@ export interface CommitEntry {
 }
 
 const HASH = /^[0-9a-f]{7,40}$/i;
+/** Answers of `commitsBetween` for full hashes (oldest dropped first beyond the maximum). */
+const commitsMemo = new Map<string, { commits: CommitEntry[]; note: string | null }>();
+const COMMITS_MEMO_MAX = 256;
 
 /**
  * `git log --name-status baseline..flagged` (newest first, at most `limit`), in ARCWATCH_REPO.
@@ -265,6 +272,12 @@ const HASH = /^[0-9a-f]{7,40}$/i;
  */
 export async function commitsBetween(baseline: string | null, flagged: string, limit = 50, root = repoRoot()): Promise<{ commits: CommitEntry[]; note: string | null }> {
   if (!HASH.test(flagged) || (baseline !== null && !HASH.test(baseline))) return { commits: [], note: "Not commit hashes." };
+  // Full hashes name immutable history: the answer never changes, so it is kept (a git process
+  // per page view was most of the regression page's time: bench/regression-page.bench.ts).
+  const memoKey = `${root}\0${baseline ?? ""}\0${flagged}\0${limit}`;
+  const full = flagged.length === 40 && (baseline === null || baseline.length === 40);
+  const known = full ? commitsMemo.get(memoKey) : undefined;
+  if (known) return known;
   const git = simpleGit(root);
   try {
     const range = baseline ? `${baseline}..${flagged}` : flagged;
@@ -283,8 +296,14 @@ export async function commitsBetween(baseline: string | null, flagged: string, l
           });
         return { hash: hash!, subject: subject ?? "", author: author ?? "", date: date ?? "", files };
       });
-    return { commits, note: commits.length === limit ? `Showing the newest ${limit} commits.` : null };
+    const answer = { commits, note: commits.length === limit ? `Showing the newest ${limit} commits.` : null };
+    if (full) {
+      if (commitsMemo.size >= COMMITS_MEMO_MAX) commitsMemo.delete(commitsMemo.keys().next().value!);
+      commitsMemo.set(memoKey, answer);
+    }
+    return answer;
   } catch {
+    // not kept: the commits may be fetched into the repository later
     return { commits: [], note: "The commits are not in this server's repository." };
   }
 }

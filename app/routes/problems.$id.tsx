@@ -1,4 +1,12 @@
-import { data, Link, useSearchParams } from "react-router";
+import { data, Link, redirect, useSearchParams } from "react-router";
+import { ProblemCheckPanel, SuitesPanel } from "~/components/problems/SuitesPanel";
+import { useAutoRefresh } from "~/components/useAutoRefresh";
+import { enqueueJob } from "~/models/jobs.server";
+import { webProblemLibrary } from "~/models/library.server";
+import { latestProblemCheck } from "~/models/problem-checks.server";
+import { recordSuiteChange, suiteChangesOfProblem, suiteFilesOf, suitesOfProblem } from "~/models/suite-changes.server";
+import { PROBLEM_CHECK_MESHES, problemSuiteName } from "~/runs/suite-changes";
+import { checkBenchJob } from "~/services/job-check.server";
 import { Notice } from "~/components/Field";
 import type { Route } from "./+types/problems.$id";
 import { RouteErrorBoundary } from "~/components/ErrorView";
@@ -7,16 +15,57 @@ import { Tex } from "~/components/Tex";
 import { getDb } from "~/db/client.server";
 import { getProblemDetail } from "~/models/problems.server";
 import { SCHEMES } from "~/components/problems/schemes";
-import { requireUser } from "~/services/auth.server";
+import { requireRole, requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.title ?? "Problem"} · Arcwatch` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
-  const r = getProblemDetail(getDb(), params.id);
+  const db = getDb();
+  const r = getProblemDetail(db, params.id);
   if (!r.ok) throw data({ message: r.message }, { status: r.status });
-  return { detail: r.detail, canEdit: roleAtLeast(user.role, "engineer") && r.detail.origin === "uploaded" };
+  const engineer = roleAtLeast(user.role, "engineer");
+  return {
+    detail: r.detail,
+    canEdit: engineer && r.detail.origin === "uploaded",
+    engineer,
+    // the server's checkout suites, with the browser's changes (app/models/suite-changes.server.ts)
+    suites: suitesOfProblem(db, process.cwd(), params.id, webProblemLibrary()),
+    suiteHistory: suiteChangesOfProblem(db, params.id),
+    check: latestProblemCheck(db, params.id),
+  };
+}
+
+/**
+ * Engineers: add the problem to a suite or take a browser-added problem out again (a versioned
+ * suite change with who and when), or queue "Run it now" (a job of the one-problem suite).
+ */
+export async function action({ request, params }: Route.ActionArgs) {
+  const user = await requireRole(request, "engineer");
+  const form = await request.formData();
+  const intent = String(form.get("intent") ?? "");
+  const id = params.id;
+  const db = getDb();
+  if (webProblemLibrary().rootIndexOf(id) < 0) throw data({ message: `No problem "${id}".` }, { status: 404 });
+  if (intent === "add-to-suite" || intent === "remove-from-suite") {
+    const suite = String(form.get("suite") ?? "");
+    const known = suiteFilesOf(process.cwd()).map((s) => s.name);
+    if (!known.includes(suite)) return data({ suiteError: `suite: "${suite}" is not a suite of this checkout (it has: ${known.join(", ") || "none"}).` }, { status: 400 });
+    const view = suitesOfProblem(db, process.cwd(), id, webProblemLibrary()).find((s) => s.name === suite)!;
+    if (view.error) return data({ suiteError: `suite: ${view.error}` }, { status: 400 });
+    if (intent === "add-to-suite" && view.membership.included) return data({ suiteError: `suite: ${suite} already runs ${id}.` }, { status: 409 });
+    if (intent === "remove-from-suite" && view.membership.via !== "change") return data({ suiteError: `suite: only a problem added here can be taken out here; ${suite} selects ${id} in its file.` }, { status: 409 });
+    recordSuiteChange(db, { suiteName: suite, action: intent === "add-to-suite" ? "add" : "remove", problemId: id, user, note: String(form.get("note") ?? "").trim() });
+    return redirect(`/problems/${encodeURIComponent(id)}`);
+  }
+  if (intent === "run-now") {
+    const checked = await checkBenchJob({ suite: problemSuiteName(id), problem: id });
+    if (!checked.ok) return data({ checkError: `${checked.field}: ${checked.message}` }, { status: 400 });
+    enqueueJob(db, { kind: "bench", payload: checked.payload }, user.id > 0 ? user.id : null);
+    return redirect(`/problems/${encodeURIComponent(id)}#check-title`);
+  }
+  return data({ suiteError: `Unknown action "${intent}".` }, { status: 400 });
 }
 
 const bound = (v: number | null) => (v === null ? "—" : String(v));
@@ -38,8 +87,14 @@ function endConditionTex(r: { tex: string; lower: number | null; upper: number |
 }
 const when = (ms: number) => (ms ? new Date(ms).toISOString().replace("T", " ").slice(0, 16) : "not yet saved");
 
-export default function ProblemPage({ loaderData }: Route.ComponentProps) {
-  const { detail: d, canEdit } = loaderData;
+const CHECK_MESHES = `${PROBLEM_CHECK_MESHES.local.join(" and ")} intervals; LGR ${PROBLEM_CHECK_MESHES.lgr.map((n) => `${n}×${PROBLEM_CHECK_MESHES.lgrDegree}`).join(" and ")}`;
+
+export default function ProblemPage({ loaderData, actionData }: Route.ComponentProps) {
+  const { detail: d, canEdit, engineer, suites, suiteHistory, check } = loaderData;
+  const running = check && (check.job.status === "queued" || check.job.status === "running");
+  useAutoRefresh(running ? 1500 : null);
+  const errors = (actionData ?? {}) as { suiteError?: string; checkError?: string };
+  const including = suites.filter((s) => s.membership.included).map((s) => s.name);
   const saved = useSearchParams()[0].get("saved");
   const tex = d.tex;
   const dyn = d.stateNames.filter((s) => tex[`dynamics.${s}`] !== undefined);
@@ -79,7 +134,7 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
         </div>
       </div>
 
-      <Notice message={saved ? `Saved: version ${saved}. Suites that select its tags include it from their next run on.` : null} />
+      <Notice message={saved ? `Saved: version ${saved}. ${including.length ? `Suite(s) ${including.join(", ")} run it from their next run on.` : "No suite selects it yet: add it to one below, or run it now."}` : null} />
       <section className="card space-y-3 overflow-x-auto p-5" data-testid="equations">
         <h2 className="text-lg font-semibold">Equations</h2>
         <p>
@@ -207,6 +262,14 @@ export default function ProblemPage({ loaderData }: Route.ComponentProps) {
           </details>
         ) : null}
       </section>
+
+      <div className="grid gap-6 lg:grid-cols-2">
+        <SuitesPanel suites={suites} history={suiteHistory} canChange={engineer} error={errors.suiteError} />
+        <div className="space-y-2">
+          <ProblemCheckPanel check={check} canRun={engineer} meshes={CHECK_MESHES} />
+          {errors.checkError ? <p className="text-sm text-bad" data-field-error="run-now">{errors.checkError}</p> : null}
+        </div>
+      </div>
 
       <section className="card overflow-x-auto p-5">
         <h2 className="mb-3 text-lg font-semibold">Best result per scheme on main</h2>

@@ -40,7 +40,7 @@ export default function NewProblem({ actionData }: Route.ComponentProps) {
         <h1 className="text-3xl font-semibold tracking-tight">Add a reference problem</h1>
         <p className="max-w-3xl text-muted">
           Upload a problem file (format arcwatch-problem/1, see DEVELOPERS.md) with an optional reference trajectory, or build one with the form. Run a trial solve before saving.
-          Saving creates the first version; suites that select the problem's tags include it from their next run on.
+          Saving creates the first version; suites that select every problem or one of its tags run it from their next run on, and its page lets you add it to any other suite or run it at once.
         </p>
       </div>
       <ProblemEditor values={actionData?.values ?? { mode: "upload" }} errors={actionData?.errors ?? {}} saveLabel="Save problem" />

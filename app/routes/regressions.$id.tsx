@@ -11,6 +11,7 @@ import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
 import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel } from "~/vocabulary";
 import { DemoBadge } from "~/components/Caution";
+import { cachedByData, PROBLEM_FILES_MAX_AGE_MS } from "~/services/data-cache.server";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.regression.caseKey ?? "Regression"} · Arcwatch` }];
 
@@ -18,7 +19,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
   const id = Number(params.id);
   const db = getDb();
-  const detail = Number.isInteger(id) ? getRegressionDetail(db, id, user.id) : null;
+  // once per data version (any write, a sign-in included, recomputes it): app/services/data-cache.server.ts
+  const detail = Number.isInteger(id) ? cachedByData(db, "regression-detail", `${id}:${user.id}`, () => getRegressionDetail(db, id, user.id), PROBLEM_FILES_MAX_AGE_MS) : null;
   if (!detail) throw data({ message: "No such regression." }, { status: 404 });
   // Demo commits are invented: asking git about them only costs time (100–600 ms measured).
   const between = detail.regression.isDemo ? { commits: [], note: "Demo data: these commits are invented and are in no repository." } : await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);

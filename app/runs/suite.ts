@@ -76,8 +76,12 @@ export const suiteSchema = z
     format: z.literal(SUITE_FORMAT),
     name: z.string().regex(/^[a-z0-9][a-z0-9-]*$/, "lower-case letters, digits and dashes"),
     description: z.string().default(""),
-    /** Problem ids, or { "tag": "..." } for every problem carrying the tag. */
-    problems: z.array(z.union([z.string().min(1), z.object({ tag: z.string().min(1) }).strict()])).min(1),
+    /**
+     * Problem ids, { "tag": "..." } for every problem carrying the tag, or { "all": true } for
+     * every problem of the library (both resolved when the run starts, so a problem added later
+     * is included from the next run on).
+     */
+    problems: z.array(z.union([z.string().min(1), z.object({ tag: z.string().min(1) }).strict(), z.object({ all: z.literal(true) }).strict()])).min(1),
     schemes: z.array(z.enum(SCHEME_IDS)).min(1),
     meshes: z.array(meshSchema).min(1),
     /** Cases to leave out: { problem?, scheme?, intervals? } all given fields must match. */
@@ -207,6 +211,9 @@ export function expandCases(suite: SuiteFile, library: ProblemCatalog): CaseSpec
     if (typeof p === "string") {
       if (!tags.has(p)) throw new Error(`suite "${suite.name}": problems[${i}] "${p}" is not a problem of the library (${library.label})`);
       if (!ids.includes(p)) ids.push(p);
+    } else if ("all" in p) {
+      if (tags.size === 0) throw new Error(`suite "${suite.name}": problems[${i}] selects every problem, but the library (${library.label}) has none`);
+      for (const id of tags.keys()) if (!ids.includes(id)) ids.push(id);
     } else {
       const hits = [...tags.entries()].filter(([, t]) => t.includes(p.tag)).map(([id]) => id);
       if (hits.length === 0) throw new Error(`suite "${suite.name}": problems[${i}] tag "${p.tag}" matches no problem of the library (${library.label})`);

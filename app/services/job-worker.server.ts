@@ -24,7 +24,10 @@ import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, m
 import { caseCountOfRun } from "~/models/runs.server";
 import { problemLibraryFor } from "~/models/library.server";
 import { parseRunEvent, RUN_EVENTS_FD_ENV, type RunEvent } from "~/runs/events";
-import { expandCases, loadSuite, suitePath } from "~/runs/suite";
+import { canonicalJson, expandCases, suitePath } from "~/runs/suite";
+import { problemCheckSuite } from "~/runs/suite-changes";
+import { loadSuiteWithChanges } from "~/models/suite-changes.server";
+import os from "node:os";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -118,6 +121,7 @@ async function tick(db: Db, state: WorkerState): Promise<void> {
   let log = "";
   const append = (s: string) => (log += s);
   let worktree: string | null = null;
+  let generated: string | null = null;
   try {
     if (job.kind !== "bench") throw new Error(`unknown job kind "${job.kind}"`);
     const payload = benchJobPayload.parse(job.payloadJson);
@@ -129,15 +133,22 @@ async function tick(db: Db, state: WorkerState): Promise<void> {
     heartbeatJob(db, job.id, progress, log);
     log = "";
     worktree = await addWorktree(job.id, commit, root);
+    // "Run it now" from a problem page: a generated one-problem suite, outside the worktree (which stays clean)
+    let suiteArg = payload.suite;
+    if (payload.problem) {
+      generated = fs.mkdtempSync(path.join(os.tmpdir(), `arcwatch-job-${job.id}-`));
+      suiteArg = path.join(generated, `${payload.suite}.json`);
+      fs.writeFileSync(suiteArg, `${canonicalJson(problemCheckSuite(payload.problem))}\n`);
+    }
     let order: string[] = [];
     try {
-      const s = loadSuite(suitePath(payload.suite, worktree));
+      const s = loadSuiteWithChanges(db, suitePath(suiteArg, worktree));
       order = expandCases(s.definition, problemLibraryFor(db, worktree)).map((c) => c.key);
     } catch (err) {
       append(`(case list unavailable: ${(err as Error).message})\n`);
     }
     Object.assign(progress, { total: order.length, current: order[0] ?? null, phase: "running" });
-    const args = ["--import", tsxLoader(), "bench/run.ts", "--suite", payload.suite, "--job", String(job.id), "--db", databasePath(), "--base-url", process.env.ARCWATCH_BASE_URL ?? `http://${process.env.HOST ?? "127.0.0.1"}:${process.env.PORT ?? 3000}`];
+    const args = ["--import", tsxLoader(), "bench/run.ts", "--suite", suiteArg, "--job", String(job.id), "--db", databasePath(), "--base-url", process.env.ARCWATCH_BASE_URL ?? `http://${process.env.HOST ?? "127.0.0.1"}:${process.env.PORT ?? 3000}`];
     append(`$ cd <worktree> && node ${args.join(" ")}\n`);
     const child = spawn(process.execPath, args, {
       cwd: worktree,
@@ -198,5 +209,6 @@ async function tick(db: Db, state: WorkerState): Promise<void> {
     finishJob(db, job.id, "failed", (err as Error).message.slice(0, 2000));
   } finally {
     if (worktree) await removeWorktree(worktree).catch(() => undefined);
+    if (generated) fs.rmSync(generated, { recursive: true, force: true });
   }
 }

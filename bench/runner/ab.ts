@@ -21,6 +21,7 @@ import { pooledShift, type PooledCase } from "../../app/engine/stats/hierarchica
 import { createPrng } from "../../app/engine/stats/prng";
 import { problemLibraryFor, uploadedProblemsDir, databaseFileOf } from "../../app/models/library.server";
 import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
+import { loadSuiteWithChanges } from "../../app/models/suite-changes.server";
 import { isSolved, type CaseSpec } from "../../app/runs/types";
 import { resolveCommit } from "./git-meta";
 import { openLane, type Lane } from "./pool";
@@ -134,7 +135,7 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
   const head = await resolveCommit(root, opts.head);
   if (!base) throw new Error(`--ab: unknown commit "${opts.base}"`);
   if (!head) throw new Error(`--ab: unknown commit "${opts.head}"`);
-  const suite = loadSuite(suitePath(opts.suite, root));
+  const suite = loadSuiteWithChanges(opts.db, suitePath(opts.suite, root));
   let cases: CaseSpec[] = expandCases(suite.definition, problemLibraryFor(opts.db, root));
   if (opts.cases?.length) {
     const unknown = opts.cases.filter((k) => !cases.some((c) => c.key === k));

@@ -14,7 +14,8 @@ import { afterRun, type Detection } from "../../app/models/detection.server";
 import { problemLibraryFor } from "../../app/models/library.server";
 import { ensureSuite, finishRun, insertCase, insertRun } from "../../app/models/recording.server";
 import { caseRecordFromOutcome } from "../../app/runs/record";
-import { expandCases, loadSuite, suitePath, type LoadedSuite } from "../../app/runs/suite";
+import { expandCases, suitePath, type LoadedSuite } from "../../app/runs/suite";
+import { loadSuiteWithChanges } from "../../app/models/suite-changes.server";
 import type { CaseOutcome, CommitMeta } from "../../app/runs/types";
 import { sendRegressionAlerts, type AlertResult } from "../../app/services/alerts.server";
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
@@ -107,7 +108,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   const t0 = Date.now();
   const root = path.resolve(opts.root ?? process.cwd());
   const library = problemLibraryFor(opts.db, root);
-  const suite = loadSuite(suitePath(opts.suite, root));
+  // the suite file with the problems added or removed in the browser (suite_changes)
+  const suite = loadSuiteWithChanges(opts.db, suitePath(opts.suite, root));
   const def = suite.definition;
   const allCases = expandCases(def, library);
   let cases = allCases;

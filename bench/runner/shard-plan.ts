@@ -8,7 +8,8 @@ import type { Db } from "../../app/db/client.server";
 import { shardPlanFor } from "../../app/models/shard-plans.server";
 import type { ShardPlan } from "../../app/runs/shards";
 import { problemLibraryFor } from "../../app/models/library.server";
-import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
+import { expandCases, suitePath } from "../../app/runs/suite";
+import { loadSuiteWithChanges } from "../../app/models/suite-changes.server";
 import type { CaseSpec } from "../../app/runs/types";
 import { machineInfo, machineKey } from "./machine";
 
@@ -36,7 +37,7 @@ export interface SuiteShardPlan {
 
 export function shardPlanForSuite(db: Db, suite: string, count: number, machineClassLabel?: string | null, root = process.cwd()): SuiteShardPlan {
   const dir = path.resolve(root);
-  const loaded = loadSuite(suitePath(suite, dir));
+  const loaded = loadSuiteWithChanges(db, suitePath(suite, dir));
   const cases = expandCases(loaded.definition, problemLibraryFor(db, dir));
   const machineClass = machineClassOf(machineClassLabel);
   const plan = shardPlanFor(db, {
