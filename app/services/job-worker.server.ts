@@ -25,6 +25,8 @@ import { caseCountOfRun } from "~/models/runs.server";
 import { problemLibraryFor } from "~/models/library.server";
 import { parseRunEvent, RUN_EVENTS_FD_ENV, type RunEvent } from "~/runs/events";
 import { expandCases, loadSuite, suitePath } from "~/runs/suite";
+import type { JobRow } from "~/db/schema";
+import { runAbJob } from "./ab-job.server";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -44,6 +46,10 @@ export function applyRunEvent(progress: BenchProgress, e: RunEvent, order: strin
     progress.current = e.running.join(", ") || e.key;
   } else if (e.event === "finish") {
     Object.assign(progress, { lastCase: e.key, lastStatus: e.status, etaSeconds: e.etaSeconds, current: e.running.join(", ") || (order[e.done] ?? null) });
+  } else if (e.event === "trial") {
+    progress.current = `${e.key} · block ${e.block + 1} · ${e.side === "A" ? "A (base)" : "B (head)"}`;
+    const rate = progress.elapsedSeconds > 0 && e.done > 0 ? progress.elapsedSeconds / e.done : null;
+    progress.etaSeconds = rate !== null ? rate * (e.total - e.done) : null;
   } else {
     progress.current = null;
   }
@@ -112,9 +118,20 @@ function tsxLoader(): string {
   return pathToFileURL(path.resolve("node_modules", "tsx", "dist", "loader.mjs")).href;
 }
 
-async function tick(db: Db, state: WorkerState): Promise<void> {
+/** Claims and runs the next queued job, if any (one per call; exported for tests). */
+export async function runNextJob(db: Db, state: WorkerState = { timer: null, busy: false, child: null }): Promise<number | null> {
   const job = claimNextJob(db, process.pid);
-  if (!job) return;
+  if (!job) return null;
+  if (job.kind === "ab") await runAbJob(db, job, (c) => (state.child = c));
+  else await runBenchJob(db, job, state);
+  return job.id;
+}
+
+async function tick(db: Db, state: WorkerState): Promise<void> {
+  await runNextJob(db, state);
+}
+
+async function runBenchJob(db: Db, job: JobRow, state: WorkerState): Promise<void> {
   let log = "";
   const append = (s: string) => (log += s);
   let worktree: string | null = null;
