@@ -11,8 +11,21 @@ export function DiffView({ diff, moreHref }: { diff: ParsedDiff; moreHref: strin
   const hidden = diff.totalLines - diff.shownLines;
   return (
     <div className="space-y-4" data-testid="diff">
-      {diff.files.map((f) => (
-        <section key={`${f.oldPath ?? ""}>${f.path}`} className="card overflow-hidden" data-diff-file={f.path}>
+      <table className="num text-xs" data-testid="diff-summary">
+        <tbody>
+          {diff.files.map((f, i) => (
+            <tr key={`${f.oldPath ?? ""}>${f.path}`}>
+              <td className="pr-3 text-right text-good">{f.binary ? "bin" : `+${f.added}`}</td>
+              <td className="pr-3 text-right text-bad">{f.binary ? "" : `−${f.removed}`}</td>
+              <td>
+                <a className="hover:underline" href={`#diff-${i}`}>{f.oldPath ? `${f.oldPath} → ${f.path}` : f.path}</a>
+              </td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+      {diff.files.map((f, i) => (
+        <section key={`${f.oldPath ?? ""}>${f.path}`} id={`diff-${i}`} className="card overflow-hidden" data-diff-file={f.path}>
           <h3 className="num flex flex-wrap items-center gap-2 border-b border-line px-3 py-2 text-sm">
             <span className="text-muted">{f.status}</span>
             <span className="font-medium">{f.oldPath ? `${f.oldPath} → ${f.path}` : f.path}</span>
