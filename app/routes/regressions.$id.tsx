@@ -9,7 +9,7 @@ import { getDb } from "~/db/client.server";
 import { commitsBetween, getRegressionDetail, type SideCase } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
-import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel } from "~/vocabulary";
+import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
 import { DemoBadge } from "~/components/Caution";
 import { AbPanel } from "~/components/regressions/AbPanel";
 import { abChecksOfRegression } from "~/models/ab-checks.server";
@@ -237,6 +237,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
           <p className={TONE_CLASS[directionOf(r.direction).tone]}>
             {directionOf(r.direction).symbol} {kindLabel(r.kind)} {directionOf(r.direction).label} in {metricLabel(r.metric).toLowerCase()} · <span data-testid="regression-status">{statusLabel("regression", r.status)}</span>
             {r.assignee ? ` · assigned to ${r.assignee}` : ""}
+            {abChecks[0] ? <> · <span className={statusTone("ab", abChecks[0].state)} data-testid="ab-badge">{statusLabel("ab", abChecks[0].state)}</span></> : null}
           </p>
           {r.reason ? <p className="text-sm text-muted">Expected: {r.reason}</p> : null}
           {r.fixingCommit ? <p className="num text-sm text-muted">Fixed by {r.fixingCommit}</p> : null}

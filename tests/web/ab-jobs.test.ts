@@ -74,6 +74,14 @@ describe("the check of an ab job", () => {
   });
 });
 
+describe("vocabulary", () => {
+  it("every A/B check state has an entry", async () => {
+    const { AB_CHECK_STATES } = await import("~/db/schema");
+    const V = await import("~/vocabulary");
+    for (const st of AB_CHECK_STATES) expect(V.statusEntry("ab", st), st).not.toBeNull();
+  });
+});
+
 describe("the diff view", () => {
   const text = [
     "diff --git a/src/a.ts b/src/a.ts",

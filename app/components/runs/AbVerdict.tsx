@@ -1,13 +1,11 @@
 import type { AbCheckView } from "~/models/ab-checks.server";
 import { fmtAbRatio } from "~/runs/ab-result";
+import { AB_CHECK_STATUSES, TONE_CLASS } from "~/vocabulary";
 
-/** What each A/B state means, in words (shown beside the state). */
-export const AB_STATE: Record<AbCheckView["state"], { label: string; tone: string; help: string }> = {
-  awaiting: { label: "awaiting A/B", tone: "text-accent", help: "An interleaved A/B job is queued or running; the e-mail about a speed finding waits for it." },
-  confirmed: { label: "confirmed by A/B", tone: "text-bad", help: "Run alternately in one sitting, the later commit was slower: the paired ratio's interval lies above 1 and the ratio above ×1.03." },
-  cleared: { label: "cleared by A/B", tone: "text-good", help: "Run alternately in one sitting, the later commit was not slower: the earlier flag came from timing noise or load." },
-  unavailable: { label: "A/B could not decide", tone: "text-warn", help: "The A/B job failed, was cancelled or timed nothing; the finding stands unconfirmed." },
-};
+/** What each A/B state means, in words (from the one vocabulary). */
+export const AB_STATE: Record<AbCheckView["state"], { label: string; tone: string; help: string }> = Object.fromEntries(
+  Object.entries(AB_CHECK_STATUSES).map(([k, e]) => [k, { label: e.label, tone: TONE_CLASS[e.tone], help: e.definition }]),
+) as Record<AbCheckView["state"], { label: string; tone: string; help: string }>;
 
 const VERDICT_TONE: Record<string, string> = { slower: "text-bad", faster: "text-good", same: "" };
 
