@@ -14,6 +14,7 @@
  * the database is the progress. Every heartbeat reads the job's status back: "cancelled" (set by the API)
  * sends SIGTERM, and the runner marks its run interrupted, keeping the finished cases.
  * At start-up, jobs left "running" by an earlier process are marked "died" (models/jobs.server.ts).
+ * An "ab" job (interleaved A/B of two commits) goes to app/services/ab-job.server.ts instead.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
