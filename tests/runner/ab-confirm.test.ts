@@ -7,7 +7,7 @@
  * then does the e-mail go out, saying so. A second part checks the other endings: a verdict of
  * "same" clears the regression without e-mail, and a suite with A/B off e-mails at once, marked
  * unconfirmed. Sizes are the smallest that still decide: one case, 12 timed solves per run, the
- * A/B's default 6 blocks.
+ * A/B's default 6 blocks, solves of a few milliseconds.
  */
 import { afterAll, describe, expect, it } from "vitest";
 import { execFileSync, spawnSync } from "node:child_process";
@@ -26,6 +26,13 @@ afterAll(async () => {
 function git(cwd: string, ...args: string[]): string {
   return execFileSync("git", args, { cwd, encoding: "utf8", env: { ...process.env, GIT_AUTHOR_NAME: "Arcwatch Test", GIT_AUTHOR_EMAIL: "test@example.com", GIT_COMMITTER_NAME: "Arcwatch Test", GIT_COMMITTER_EMAIL: "test@example.com" } }).trim();
 }
+
+/**
+ * Floating-point steps per mesh interval per solve: about 4 ms per solve here, 12 ms after the
+ * planted change. At a tenth of that (sub-millisecond solves) a loaded 2-core machine spread the
+ * six paired block ratios from 0.95 to 11 and the A/B could not decide; measured, not a rule.
+ */
+const WORK = 40_000;
 
 /** A solver stand-in whose work per solve is `work` × intervals floating-point steps. */
 const executor = (work: number) => `
@@ -52,9 +59,9 @@ function makeRepo(name: string, thresholds: Record<string, unknown> = {}): strin
   fs.writeFileSync(path.join(repo, ".gitignore"), ".tmp\n*.db*\nnode_modules\n");
   fs.writeFileSync(
     path.join(repo, "bench", "suites", "conf.json"),
-    JSON.stringify({ format: "arcwatch-suite/1", name: "conf", problems: ["pika-rover-dash"], schemes: ["euler"], meshes: [{ intervals: 6 }], repeats: 12, solver: { kind: "module", module: "../../exec.ts" }, thresholds }),
+    JSON.stringify({ format: "arcwatch-suite/1", name: "conf", problems: ["pika-rover-dash"], schemes: ["euler"], meshes: [{ intervals: 6 }], repeats: 12, jobs: 1, clock: "cpu", solver: { kind: "module", module: "../../exec.ts" }, thresholds }),
   );
-  fs.writeFileSync(path.join(repo, "exec.ts"), executor(4000));
+  fs.writeFileSync(path.join(repo, "exec.ts"), executor(WORK));
   git(repo, "init", "-q", "-b", "main");
   git(repo, "add", "-A");
   git(repo, "commit", "-q", "-m", "Baseline solver");
@@ -85,7 +92,7 @@ describe("automatic A/B confirmation of a speed regression", () => {
     const first = bench(repo, dbFile);
     expect(first.status, first.stderr).toBe(0);
     subscribe(dbFile);
-    fs.writeFileSync(path.join(repo, "exec.ts"), executor(12000));
+    fs.writeFileSync(path.join(repo, "exec.ts"), executor(3 * WORK));
     git(repo, "commit", "-q", "-am", "Three times the work per solve");
     const head = git(repo, "rev-parse", "HEAD");
     const base = git(repo, "rev-parse", "HEAD~1");
@@ -114,7 +121,7 @@ describe("automatic A/B confirmation of a speed regression", () => {
     expect(job.status, job.log).toBe("done");
     const settled = db.select().from(abChecks).where(eq(abChecks.id, check!.id)).get()!;
     const result = settled.resultJson as { cases: { key: string; ratio: number; low: number; high: number; verdict: string; blockRatios: number[] }[] };
-    console.log(`A/B: ${result.cases.map((c) => `${c.key} ×${c.ratio.toFixed(3)} [${c.low.toFixed(3)}, ${c.high.toFixed(3)}] ${c.verdict}`).join("; ")}`);
+    console.log(`A/B: ${result.cases.map((c) => `${c.key} ×${c.ratio.toFixed(3)} [${c.low.toFixed(3)}, ${c.high.toFixed(3)}] ${c.verdict}; block ratios ${c.blockRatios.map((r) => r.toFixed(2)).join(" ")}`).join("; ")}`);
     expect(settled.state).toBe("confirmed");
     expect(result.cases[0]!.blockRatios).toHaveLength(6);
     // Three times the work: the paired ratio is well above 1 (far from exactly 3: fixed costs per solve).
@@ -136,7 +143,7 @@ describe("automatic A/B confirmation of a speed regression", () => {
     const dbFile = path.join(repo, "conf.db");
     expect(bench(repo, dbFile).status).toBe(0);
     subscribe(dbFile);
-    fs.writeFileSync(path.join(repo, "exec.ts"), executor(12000));
+    fs.writeFileSync(path.join(repo, "exec.ts"), executor(3 * WORK));
     git(repo, "commit", "-q", "-am", "Three times the work per solve");
     const second = bench(repo, dbFile);
     expect(second.status, second.stderr).toBe(3);
