@@ -5,6 +5,7 @@
  * sends no e-mail; a failed job leaves them unconfirmed and sends the held e-mail saying so).
  */
 import { execFileSync } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
@@ -137,15 +138,16 @@ describe("the diff view", () => {
 describe("settling a check", () => {
   function seedRegression(commit: string, base: string) {
     const db = getDb();
-    const suiteId = db.insert(suites).values({ name: "duo", contentHash: (commit + commit).slice(0, 64), definitionJson: {} }).returning({ id: suites.id }).get().id;
-    const mk = (id: string, c: string) => db.insert(runs).values({ id, suiteId, commitHash: c, branch: "main", machineJson: {}, machineKey: "m", startedAt: new Date(), status: "complete" }).run();
+    const suiteId = db.insert(suites).values({ name: "duo", contentHash: randomBytes(32).toString("hex"), definitionJson: {} }).returning({ id: suites.id }).get().id;
+    const tag = randomBytes(4).toString("hex");
+    const mk = (id: string, c: string) => db.insert(runs).values({ id: `${id}-${tag}`, suiteId, commitHash: c, branch: "main", machineJson: {}, machineKey: "m", startedAt: new Date(), status: "complete" }).run();
     mk(`b-${commit}`, base);
     mk(`h-${commit}`, commit);
-    const rid = db.insert(regressions).values({ runId: `h-${commit}`, baselineRunId: `b-${commit}`, caseKey: "pika-rover-dash/euler/6", kind: "speed", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.13, ratio: 1.3 }).returning({ id: regressions.id }).get().id;
-    db.insert(regressionEvents).values({ regressionId: rid, fromStatus: null, toStatus: "open", note: `Found by run h-${commit} at ${commit.slice(0, 10)}: median 0.100 s → 0.130 s` }).run();
-    const uid = db.insert(users).values({ email: `lead-${commit.slice(0, 6)}@example.com`, name: "Lead", passwordHash: "x" }).returning({ id: users.id }).get().id;
+    const rid = db.insert(regressions).values({ runId: `h-${commit}-${tag}`, baselineRunId: `b-${commit}-${tag}`, caseKey: "pika-rover-dash/euler/6", kind: "speed", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.13, ratio: 1.3 }).returning({ id: regressions.id }).get().id;
+    db.insert(regressionEvents).values({ regressionId: rid, fromStatus: null, toStatus: "open", note: `Found by run h-${commit}-${tag} at ${commit.slice(0, 10)}: median 0.100 s → 0.130 s` }).run();
+    const uid = db.insert(users).values({ email: `lead-${tag}@example.com`, name: "Lead", passwordHash: "x" }).returning({ id: users.id }).get().id;
     db.insert(subscriptions).values({ userId: uid, suiteName: "duo" }).run();
-    return rid;
+    return { rid, runId: `h-${commit}-${tag}` };
   }
   const verdict = (ratio: number, low: number, high: number, v: "slower" | "same") => ({
     base: c1, head: c2, blocks: 6, repeats: 3, method: "test", pooled: null,
@@ -154,8 +156,8 @@ describe("settling a check", () => {
 
   it("a verdict of 'same' clears the regression and its held e-mail is never sent", async () => {
     const db = getDb();
-    const rid = seedRegression(c2, c1);
-    const { job } = queueAbJob(db, { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId: `h-${c2}`, auto: true, alertsHeld: true });
+    const { rid, runId } = seedRegression(c2, c1);
+    const { job } = queueAbJob(db, { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId, auto: true, alertsHeld: true });
     expect(abChecksOfRegression(db, rid)[0]!.state).toBe("awaiting");
     const settled = await afterAbJob(db, job.id, { result: verdict(1.004, 0.98, 1.03, "same") });
     expect(settled!.state).toBe("cleared");
@@ -166,8 +168,8 @@ describe("settling a check", () => {
 
   it("a failed A/B leaves the finding unconfirmed and sends the held e-mail saying so", async () => {
     const db = getDb();
-    const rid = seedRegression(c1, c2);
-    const { job } = queueAbJob(db, { base: c2, head: c1, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId: `h-${c1}`, auto: true, alertsHeld: true });
+    const { rid, runId } = seedRegression(c1, c2);
+    const { job } = queueAbJob(db, { base: c2, head: c1, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId, auto: true, alertsHeld: true });
     const settled = await afterAbJob(db, job.id, { error: "bench --ab exited with code 1" });
     expect(settled!.state).toBe("unavailable");
     // Both subscribers of suite duo (one seeded per test) get it.
@@ -175,5 +177,33 @@ describe("settling a check", () => {
     expect(mail).toHaveLength(2);
     expect(mail[0]!.body).toContain("Speed findings are unconfirmed: Interleaved A/B could not decide: bench --ab exited with code 1");
     expect(mail[0]!.body).toContain("median 0.100 s → 0.130 s");
+  });
+
+  it("Confirm by A/B on a regression: engineers only, baseline against flagged commit, affected cases", async () => {
+    const db = getDb();
+    process.env.ARCWATCH_REPO = repo;
+    const { rid } = seedRegression(c2, c1);
+    const { createApiToken } = await import("~/services/tokens.server");
+    const { action } = await import("~/routes/api/regressions.$id");
+    const token = (role: "viewer" | "engineer") => {
+      const u = db.insert(users).values({ email: `${role}-${randomBytes(3).toString("hex")}@example.com`, name: role, passwordHash: "x", role }).returning({ id: users.id }).get();
+      return createApiToken(db, { name: `${role} token`, role, createdById: u.id }).token;
+    };
+    const post = (t: string) =>
+      new Request(`http://127.0.0.1/api/regressions/${rid}`, { method: "POST", headers: { authorization: `Bearer ${t}`, "content-type": "application/json" }, body: JSON.stringify({ intent: "ab" }) });
+    const call = async (t: string) => {
+      try {
+        return (await action({ request: post(t), params: { id: String(rid) }, context: {} } as never)) as Response;
+      } catch (thrown) {
+        return thrown as Response;
+      }
+    };
+    expect((await call(token("viewer"))).status).toBe(403);
+    expect(abChecksOfRegression(db, rid)).toHaveLength(0);
+    const ok = await call(token("engineer"));
+    expect(ok.status).toBe(201);
+    const [check] = abChecksOfRegression(db, rid);
+    expect(check).toMatchObject({ state: "awaiting", auto: false, alertsHeld: false, base: c1, head: c2, suiteName: "duo", cases: ["pika-rover-dash/euler/6"] });
+    expect(((await ok.json()) as { job: { id: number } }).job.id).toBe(check!.jobId);
   });
 });
