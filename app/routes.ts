@@ -42,6 +42,7 @@ export default [
     route("regressions", "routes/regressions.tsx"),
     route("regressions/:id", "routes/regressions.$id.tsx"),
     route("regressions/:id/commits/:sha", "routes/regressions.$id.commits.$sha.tsx"),
+    route("commits/:sha", "routes/commits.$sha.tsx"),
     route("glossary", "routes/glossary.tsx"),
     route("*", "routes/not-found.tsx"),
   ]),

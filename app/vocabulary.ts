@@ -145,8 +145,16 @@ export const REGRESSION_STATUSES = {
   fixed: { label: "fixed", tone: "good", definition: "A later run no longer shows it." },
 } satisfies Record<string, StatusEntry>;
 
-export type StatusFamily = "case" | "run" | "job" | "regression";
-const FAMILIES: Record<StatusFamily, Record<string, StatusEntry>> = { case: CASE_STATUSES, run: RUN_STATUSES, job: JOB_STATUSES, regression: REGRESSION_STATUSES };
+/** An interleaved A/B check of a finding (app/models/ab-checks.server.ts). */
+export const AB_CHECK_STATUSES = {
+  awaiting: { label: "awaiting A/B", tone: "accent", definition: "An interleaved A/B job is queued or running; the e-mail about a speed finding waits for it." },
+  confirmed: { label: "confirmed by A/B", tone: "bad", definition: "Run alternately with its baseline in one sitting, the later commit was slower: the paired ratio is above ×1.03 and its interval above 1." },
+  cleared: { label: "cleared by A/B", tone: "good", definition: "Run alternately with its baseline in one sitting, the later commit was not slower: the first flag came from timing noise or machine load." },
+  unavailable: { label: "A/B could not decide", tone: "warn", definition: "The A/B job failed, was cancelled or timed nothing; the finding stands unconfirmed." },
+} satisfies Record<string, StatusEntry>;
+
+export type StatusFamily = "case" | "run" | "job" | "regression" | "ab";
+const FAMILIES: Record<StatusFamily, Record<string, StatusEntry>> = { case: CASE_STATUSES, run: RUN_STATUSES, job: JOB_STATUSES, regression: REGRESSION_STATUSES, ab: AB_CHECK_STATUSES };
 
 export function statusEntry(family: StatusFamily, status: string): StatusEntry | null {
   return (FAMILIES[family] as Record<string, StatusEntry>)[status] ?? null;

@@ -70,6 +70,8 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
     }
   }
   if (s.alerts) parts.push(`alerts: ${s.alerts.sent.length} sent${s.alerts.errors.length ? `, ${s.alerts.errors.length} failed` : ""}`);
+  if (s.alerts?.abJobId) parts.push(`speed regression(s) await interleaved A/B job ${s.alerts.abJobId}: their e-mail goes out once it confirms them`);
+  else if (s.alerts?.unconfirmed) parts.push(`speed regression(s) e-mailed unconfirmed: ${s.alerts.unconfirmed}`);
   return parts.join("\n");
 }
 
@@ -284,7 +286,13 @@ async function compareCommits(args: { suite?: string; ab?: string; bisect?: stri
   process.on("SIGINT", () => controller.abort());
   process.on("SIGTERM", () => controller.abort());
   try {
-    const progress = args.json ? undefined : (i: { key: string; done: number; total: number }) => process.stderr.write(`\r\x1b[2K${i.done}/${i.total} ${i.key}`);
+    const { RUN_EVENTS_FD_ENV, formatRunEvent } = await import("../app/runs/events");
+    const sink = eventsSink(RUN_EVENTS_FD_ENV);
+    // People read the terminal line; the job worker reads the JSON lines on ARCWATCH_EVENTS_FD.
+    const progress = (i: { key: string; block: number; side: "A" | "B"; done: number; total: number }) => {
+      if (!args.json) process.stderr.write(`\r\x1b[2K${i.done}/${i.total} ${i.key}`);
+      sink?.write(formatRunEvent({ event: "trial", ...i }));
+    };
     if (args.ab) {
       const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, signal: controller.signal, onTrial: progress });
       if (!args.json) process.stderr.write("\n");

@@ -707,6 +707,42 @@ export const thresholdSettings = sqliteTable(
 );
 
 // ---------------------------------------------------------------------------------------
+// Interleaved A/B checks
+// ---------------------------------------------------------------------------------------
+
+export const AB_CHECK_STATES = ["awaiting", "confirmed", "cleared", "unavailable"] as const;
+export type AbCheckState = (typeof AB_CHECK_STATES)[number];
+
+/**
+ * One interleaved A/B comparison of two commits (an "ab" job): asked for from a page, or queued
+ * automatically to confirm a suspected speed regression before it is reported. `regressionIds`
+ * are the regressions it judges; `resultJson` the verdict (app/runs/ab-result.ts); `alertsHeld`
+ * whether their e-mail waits for this check.
+ */
+export const abChecks = sqliteTable(
+  "ab_checks",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    jobId: integer("job_id").references(() => jobs.id, { onDelete: "set null" }),
+    suiteName: text("suite_name").notNull(),
+    baseCommit: text("base_commit").notNull(),
+    headCommit: text("head_commit").notNull(),
+    casesJson: text("cases_json", { mode: "json" }).$type<string[]>().notNull(),
+    regressionIds: text("regression_ids", { mode: "json" }).$type<number[]>().notNull(),
+    /** Run whose detection queued it (automatic checks), for the alert's links. */
+    runId: text("run_id").references(() => runs.id, { onDelete: "set null" }),
+    auto: integer("auto", { mode: "boolean" }).notNull().default(false),
+    alertsHeld: integer("alerts_held", { mode: "boolean" }).notNull().default(false),
+    state: text("state", { enum: AB_CHECK_STATES }).notNull().default("awaiting"),
+    resultJson: text("result_json", { mode: "json" }).$type<unknown>(),
+    note: text("note"),
+    createdAt: createdAt(),
+    finishedAt: integer("finished_at", { mode: "timestamp_ms" }),
+  },
+  (t) => [index("ab_checks_job_idx").on(t.jobId), check("ab_checks_state_check", sql`${t.state} in (${inList(AB_CHECK_STATES)})`)],
+);
+
+// ---------------------------------------------------------------------------------------
 // Row types
 // ---------------------------------------------------------------------------------------
 

@@ -6,8 +6,10 @@ import { and, asc, desc, eq, sql } from "drizzle-orm";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
 import { caseResults, jobs, regressions, runs, type JobRow } from "~/db/schema";
+import { abJobPayload } from "~/runs/ab-result";
 import { statusEntry } from "~/vocabulary";
 import { PROBLEM_ID_PATTERN } from "~/engine/problem/files";
+import { abCheckOfJob, type AbCheckView } from "./ab-checks.server";
 
 /** Payload of a "bench" job: run a suite at a commit (default: the checked-out HEAD). */
 export const benchJobPayload = z.object({
@@ -27,7 +29,11 @@ export const benchJobPayload = z.object({
 });
 export type BenchJobPayload = z.infer<typeof benchJobPayload>;
 
-export const enqueueJobInput = z.discriminatedUnion("kind", [z.object({ kind: z.literal("bench"), payload: benchJobPayload })]);
+export const enqueueJobInput = z.discriminatedUnion("kind", [
+  z.object({ kind: z.literal("bench"), payload: benchJobPayload }),
+  /** Interleaved A/B of two commits (app/services/ab-job.server.ts runs `bench --ab`). */
+  z.object({ kind: z.literal("ab"), payload: abJobPayload }),
+]);
 export type EnqueueJobInput = z.infer<typeof enqueueJobInput>;
 
 export type JobSummary = Pick<JobRow, "id" | "kind" | "payloadJson" | "status" | "createdAt" | "startedAt" | "finishedAt" | "error">;
@@ -171,6 +177,8 @@ export interface JobView {
   progress: BenchProgress | null;
   log: string;
   runId: string | null;
+  /** An "ab" job: its check (commits, cases, state and, once done, the verdict). */
+  ab: AbCheckView | null;
   /** What the finished run found: cases solved, and findings by direction. */
   found: { cases: number; solved: number; regressions: number; improvements: number } | null;
 }
@@ -198,14 +206,14 @@ const ACTIVE_JOB = new Set(["queued", "running"]);
 function jobViewBase(db: Db, id: number, logTail: number): JobView | null {
   const j = getJob(db, id);
   if (!j) return null;
-  const p = (j.payloadJson ?? {}) as { suite?: string; commit?: string; ref?: string };
+  const p = (j.payloadJson ?? {}) as { suite?: string; commit?: string; ref?: string; head?: string };
   return {
     id: j.id,
     kind: j.kind,
     status: j.status,
     suite: p.suite ?? "",
     ref: p.ref ?? null,
-    commit: p.commit ?? null,
+    commit: p.commit ?? p.head ?? null,
     createdAt: j.createdAt.getTime(),
     startedAt: j.startedAt?.getTime() ?? null,
     finishedAt: j.finishedAt?.getTime() ?? null,
@@ -213,6 +221,7 @@ function jobViewBase(db: Db, id: number, logTail: number): JobView | null {
     progress: (j.progressJson ?? null) as BenchProgress | null,
     log: j.log.slice(-logTail),
     runId: runOfJob(db, id)?.id ?? null,
+    ab: j.kind === "ab" ? abCheckOfJob(db, id) : null,
     found: null,
   };
 }

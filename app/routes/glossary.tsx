@@ -2,6 +2,7 @@ import type { Route } from "./+types/glossary";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { requireUser } from "~/services/auth.server";
 import {
+  AB_CHECK_STATUSES,
   CASE_STATUSES,
   DEMO,
   DIRECTION,
@@ -84,6 +85,7 @@ export default function Glossary() {
       <Section id="run-statuses" title="Run statuses" entries={RUN_STATUSES} tone />
       <Section id="job-statuses" title="Job statuses" entries={JOB_STATUSES} tone />
       <Section id="regression-statuses" title="Triage statuses" entries={REGRESSION_STATUSES} tone />
+      <Section id="ab-statuses" title="Interleaved A/B checks" entries={AB_CHECK_STATUSES} tone />
       <section className="card space-y-2 p-4" aria-labelledby="g-schemes" data-glossary-section="schemes">
         <h2 id="g-schemes" className="text-lg font-semibold">
           Schemes and their colours

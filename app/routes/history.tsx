@@ -93,6 +93,19 @@ export default function History({ loaderData }: Route.ComponentProps) {
             {series.points.some((p) => p.isDemo) ? " · includes demo data" : ""}
           </p>
           <HistoryChart points={series.points} label={series.label} log={metric !== "iterations" && metric !== "objective"} />
+          <details className="text-sm" data-testid="history-commits">
+            <summary className="cursor-pointer font-medium">The commits of these points (newest first)</summary>
+            <ul className="mt-2 space-y-0.5">
+              {[...series.points].reverse().slice(0, 30).map((p) => (
+                <li key={p.runId} className="flex flex-wrap gap-2">
+                  {p.isDemo ? <code className="num">{p.commitHash.slice(0, 10)}</code> : <Link className="num text-accent hover:underline" to={`/commits/${p.commitHash}`}>{p.commitHash.slice(0, 10)}</Link>}
+                  <span className="min-w-0 truncate">{p.commitSubject}</span>
+                  <span className="num text-muted">{fmt(p.value)}</span>
+                  {p.mark ? <span className={p.mark === "regression" ? "text-bad" : "text-good"}>{DIRECTION[p.mark].symbol}</span> : null}
+                </li>
+              ))}
+            </ul>
+          </details>
         </>
       )}
     </div>

@@ -9,9 +9,11 @@ import { getDb } from "~/db/client.server";
 import { commitsBetween, getRegressionDetail, type SideCase } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
-import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel } from "~/vocabulary";
+import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
 import { DemoBadge } from "~/components/Caution";
 import { cachedByData, PROBLEM_FILES_MAX_AGE_MS } from "~/services/data-cache.server";
+import { AbPanel } from "~/components/regressions/AbPanel";
+import { abChecksOfRegression } from "~/models/ab-checks.server";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.regression.caseKey ?? "Regression"} · Arcwatch` }];
 
@@ -24,7 +26,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!detail) throw data({ message: "No such regression." }, { status: 404 });
   // Demo commits are invented: asking git about them only costs time (100–600 ms measured).
   const between = detail.regression.isDemo ? { commits: [], note: "Demo data: these commits are invented and are in no repository." } : await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);
-  return { detail, commits: between.commits, commitsNote: between.note, canTriage: roleAtLeast(user.role, "engineer") };
+  return { detail, commits: between.commits, commitsNote: between.note, canTriage: roleAtLeast(user.role, "engineer"), abChecks: abChecksOfRegression(db, id) };
 }
 
 /** Theme colours (app/app.css): baseline, flagged run and the reference. */
@@ -203,7 +205,7 @@ function TokenNote({ name }: { name: string | null | undefined }) {
 }
 
 export default function RegressionPage({ loaderData }: Route.ComponentProps) {
-  const { detail, commits, commitsNote, canTriage } = loaderData;
+  const { detail, commits, commitsNote, canTriage, abChecks } = loaderData;
   const r = detail.regression;
   const { before, after } = detail;
   const comment = useApi(r.id);
@@ -237,6 +239,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
           <p className={TONE_CLASS[directionOf(r.direction).tone]}>
             {directionOf(r.direction).symbol} {kindLabel(r.kind)} {directionOf(r.direction).label} in {metricLabel(r.metric).toLowerCase()} · <span data-testid="regression-status">{statusLabel("regression", r.status)}</span>
             {r.assignee ? ` · assigned to ${r.assignee}` : ""}
+            {abChecks[0] ? <> · <span className={statusTone("ab", abChecks[0].state)} data-testid="ab-badge">{statusLabel("ab", abChecks[0].state)}</span></> : null}
           </p>
           {r.reason ? <p className="text-sm text-muted">Expected: {r.reason}</p> : null}
           {r.fixingCommit ? <p className="num text-sm text-muted">Fixed by {r.fixingCommit}</p> : null}
@@ -255,6 +258,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
       </div>
 
       <MemberCases members={detail.members} />
+      <AbPanel id={r.id} checks={abChecks} canStart={canTriage} speed={r.kind === "speed" || r.kind === "drift"} isDemo={r.isDemo} />
       <Sightings sightings={detail.sightings} />
 
       <section className="card overflow-x-auto p-4" data-testid="evidence">
@@ -304,7 +308,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
         <ul className="space-y-3">
           {commits.map((c) => (
             <li key={c.hash} data-commit={c.hash}>
-              <Link to={`/regressions/${r.id}/commits/${c.hash}`} className="font-medium hover:underline">
+              <Link to={`/commits/${c.hash}`} className="font-medium hover:underline">
                 {c.subject}
               </Link>
               <span className="num block text-xs text-muted">

@@ -92,7 +92,7 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
                   <td className="num px-3 py-2 text-right">{num(r.after)}</td>
                   <td className="num px-3 py-2 text-right">{r.ratio === null ? "—" : r.ratio.toFixed(3)}</td>
                   <td className="num px-3 py-2" title={r.commitSubject ?? ""}>
-                    {r.commitHash.slice(0, 10)}
+                    {r.isDemo ? r.commitHash.slice(0, 10) : <Link to={`/commits/${r.commitHash}`} className="text-accent hover:underline">{r.commitHash.slice(0, 10)}</Link>}
                   </td>
                   <td className={`px-3 py-2 ${statusTone("regression", r.status)}`}>
                     {statusLabel("regression", r.status)}

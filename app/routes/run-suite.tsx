@@ -9,7 +9,9 @@ import { getDb } from "~/db/client.server";
 import { benchJobPayload, enqueueJob, jobView, listJobs, type JobView } from "~/models/jobs.server";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors, type FieldErrors } from "~/services/forms.server";
-import { listBranches, listCommits, listSuitesAt, resolveRef } from "~/services/git.server";
+import { listBranches, listCommits, listSuitesAt, mergeBase, resolveRef } from "~/services/git.server";
+import { checkAbJob, queueAbJob } from "~/services/ab-confirm.server";
+import { AbVerdict } from "~/components/runs/AbVerdict";
 import { roleAtLeast } from "~/services/roles";
 import { DIRECTION, statusLabel, statusTone } from "~/vocabulary";
 
@@ -29,13 +31,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   const ref = url.searchParams.get("ref") || branches.find((b) => b.name === "main")?.name || branches[0]?.name || "";
   const commits = ref ? await listCommits(ref, 20).catch(() => []) : [];
   const suites = ref ? await listSuitesAt(ref) : [];
+  // Where the branch leaves main (its merge base), marked in its commit list; none for main itself.
+  const forkPoint = ref && ref !== "main" && branches.some((b) => b.name === "main") ? await mergeBase(ref, "main") : null;
   const jobId = Number(url.searchParams.get("job"));
   const job = Number.isInteger(jobId) && jobId > 0 ? jobView(db, jobId) : null;
-  const jobs = listJobs(db, 15).map((j) => ({ id: j.id, status: j.status, suite: String((j.payloadJson as { suite?: unknown })?.suite ?? ""), ref: String((j.payloadJson as { ref?: unknown })?.ref ?? ""), createdAt: j.createdAt.getTime() }));
+  const jobs = listJobs(db, 15).map((j) => ({ id: j.id, kind: j.kind, status: j.status, suite: String((j.payloadJson as { suite?: unknown })?.suite ?? ""), ref: String((j.payloadJson as { ref?: unknown })?.ref ?? ""), createdAt: j.createdAt.getTime() }));
   // Links from other pages (compare, commit page) preselect a suite and a commit.
   const wantSuite = url.searchParams.get("suite") ?? "";
   const wantCommit = url.searchParams.get("commit") ?? "";
-  return { canStart: roleAtLeast(user.role, "engineer"), branches, commits, suites, ref, job, jobs, gitError, wantSuite, wantCommit: /^[0-9a-f]{7,40}$/.test(wantCommit) ? wantCommit : "" };
+  return { canStart: roleAtLeast(user.role, "engineer"), branches, commits, suites, ref, forkPoint, job, jobs, gitError, wantSuite, wantCommit: /^[0-9a-f]{7,40}$/.test(wantCommit) ? wantCommit : "" };
 }
 
 const startSchema = z.object({
@@ -49,6 +53,7 @@ type StartField = "ref" | "commit" | "suite";
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, "engineer");
   const form = await request.formData();
+  if (form.get("intent") === "ab-branch") return branchAb(form, user.id);
   const values = { ref: String(form.get("ref") ?? ""), commit: String(form.get("commit") ?? ""), suite: String(form.get("suite") ?? "") };
   const parsed = startSchema.safeParse(values);
   if (!parsed.success) return data({ errors: fieldErrors<StartField>(parsed.error) as FieldErrors<StartField>, values }, { status: 400 });
@@ -58,6 +63,22 @@ export async function action({ request }: Route.ActionArgs) {
   if (!suites.includes(parsed.data.suite)) return data({ errors: { suite: `Commit ${commit.slice(0, 10)} has no suite "${parsed.data.suite}" (it has: ${suites.join(", ") || "none"}).` } as FieldErrors<StartField>, values }, { status: 400 });
   const job = enqueueJob(getDb(), { kind: "bench", payload: { suite: parsed.data.suite, commit, ref: parsed.data.ref } }, user.id);
   return redirect(`/run-suite?ref=${encodeURIComponent(parsed.data.ref)}&job=${job.id}`);
+}
+
+/** The branch's tip (B) against where it leaves main (A), every case of the suite, as an "ab" job. */
+async function branchAb(form: FormData, userId: number) {
+  const ref = String(form.get("ref") ?? "");
+  const values = { ref, commit: "", suite: String(form.get("suite") ?? "") };
+  const err = (field: StartField, message: string) => data({ errors: { [field]: message } as FieldErrors<StartField>, values }, { status: 400 });
+  const tip = await resolveRef(ref);
+  if (!tip) return err("ref", `${ref} is not a branch of the repository.`);
+  const base = await mergeBase(ref, "main");
+  if (!base) return err("ref", `${ref} shares no history with main.`);
+  if (base === tip) return err("ref", `${ref} has no commits of its own beyond main: there is nothing to compare.`);
+  const checked = await checkAbJob(getDb(), { base, head: tip, suite: values.suite });
+  if (!checked.ok) return err(checked.field === "suite" || checked.field === "cases" ? "suite" : "ref", checked.message);
+  const { job } = queueAbJob(getDb(), checked.payload, userId > 0 ? userId : null);
+  return redirect(`/run-suite?ref=${encodeURIComponent(ref)}&job=${job.id}`);
 }
 
 const ACTIVE = new Set(["queued", "running"]);
@@ -87,7 +108,11 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
     <section className="card space-y-3 p-5" aria-labelledby="job-title" data-testid="job-panel" data-status={job.status}>
       <div className="flex flex-wrap items-center justify-between gap-3">
         <h2 id="job-title" className="text-xl font-semibold">
-          Job {job.id}: suite {job.suite} on {job.ref ?? "?"} <code className="num text-base">{job.commit?.slice(0, 10)}</code>
+          {job.ab ? (
+            <>Job {job.id}: interleaved A/B, suite {job.suite}, <code className="num text-base">{job.ab.head.slice(0, 10)}</code> against <code className="num text-base">{job.ab.base.slice(0, 10)}</code></>
+          ) : (
+            <>Job {job.id}: suite {job.suite} on {job.ref ?? "?"} <code className="num text-base">{job.commit?.slice(0, 10)}</code></>
+          )}
         </h2>
         <span className={`font-semibold ${job.status === "done" ? "text-good" : job.status === "failed" || job.status === "died" ? "text-bad" : "text-accent"}`} data-testid="job-status" aria-live="polite">
           {statusLabel("job", job.status)}
@@ -99,7 +124,7 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
             <div className="h-full bg-accent transition-all" style={{ width: `${pct}%` }} />
           </div>
           <p className="num text-sm text-muted" data-testid="job-progress">
-            {job.status === "queued" ? "waiting for the machine (one run at a time)" : p?.phase === "checkout" ? "checking the commit out into its own worktree…" : `${p?.done ?? 0}/${p?.total ?? "?"} cases`}
+            {job.status === "queued" ? "waiting for the machine (one run at a time)" : p?.phase === "checkout" ? (job.ab ? "checking both commits out into their own worktrees…" : "checking the commit out into its own worktree…") : `${p?.done ?? 0}/${p?.total ?? "?"} ${job.ab ? "trials" : "cases"}`}
             {p?.current && active ? ` · now ${p.current}` : ""}
             {p && active && p.etaSeconds !== null ? ` · about ${fmtSeconds(p.etaSeconds)} left` : ""}
             {p ? ` · elapsed ${fmtSeconds(p.elapsedSeconds)}` : ""}
@@ -107,6 +132,7 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
         </div>
       ) : null}
       {job.error ? <p className="text-sm text-bad">{job.error}</p> : null}
+      {job.ab ? <AbVerdict check={job.ab} jobLink={false} /> : null}
       {job.found ? (
         <p className="text-sm" data-testid="job-found">
           The run solved <strong className="num">{job.found.solved}</strong> of <span className="num">{job.found.cases}</span> cases and found{" "}
@@ -134,7 +160,8 @@ function JobPanel({ initial, canCancel }: { initial: JobView; canCancel: boolean
 }
 
 export default function RunSuite({ loaderData, actionData }: Route.ComponentProps) {
-  const { canStart, branches, commits, suites, ref, job, jobs, gitError, wantSuite, wantCommit } = loaderData;
+  const { canStart, branches, commits, suites, ref, forkPoint, job, jobs, gitError, wantSuite, wantCommit } = loaderData;
+  const forkAt = forkPoint ? commits.findIndex((c) => c.hash === forkPoint) : -1;
   const preCommit = commits.find((c) => wantCommit && c.hash.startsWith(wantCommit))?.hash ?? wantCommit;
   const errors = (actionData?.errors ?? {}) as FieldErrors<StartField>;
   const values = actionData?.values;
@@ -200,13 +227,46 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
       ) : (
         <p className="card p-4 text-sm text-muted" data-testid="viewer-note">Starting runs needs the engineer role; ask an admin. You can follow every job below.</p>
       )}
+      <section className="card space-y-3 p-5" aria-labelledby="commits-title" data-testid="branch-commits">
+        <h2 id="commits-title" className="text-xl font-semibold">Commits of {ref || "the branch"}</h2>
+        {forkPoint ? (
+          <p className="text-sm text-muted">
+            {forkAt >= 0 ? `The newest ${forkAt} commit(s) are ${ref}'s own; it leaves main at ` : `${ref} leaves main at `}
+            <Link className="num text-accent hover:underline" to={`/commits/${forkPoint}`}>{forkPoint.slice(0, 10)}</Link>
+            {forkAt < 0 ? " (older than the commits listed)" : ""}.
+          </p>
+        ) : null}
+        {canStart && forkPoint && commits[0] && commits[0].hash !== forkPoint ? (
+          <Form method="post" className="flex flex-wrap items-end gap-2" aria-label="Compare the branch with main">
+            <input type="hidden" name="intent" value="ab-branch" />
+            <input type="hidden" name="ref" value={ref} />
+            <label className="space-y-1 text-sm">
+              <span className="font-medium">Suite</span>
+              <select name="suite" className="input" defaultValue={suites.includes("quick") ? "quick" : suites[0]}>
+                {suites.map((s) => <option key={s} value={s}>{s}</option>)}
+              </select>
+            </label>
+            <button type="submit" className="btn-quiet" disabled={busy} data-testid="branch-ab">A/B: tip of {ref} against where it leaves main</button>
+          </Form>
+        ) : null}
+        <ol className="divide-y divide-line/60 text-sm">
+          {commits.map((c, i) => (
+            <li key={c.hash} className={`flex flex-wrap items-baseline gap-2 py-1.5 ${forkAt >= 0 && i >= forkAt ? "text-muted" : ""}`} data-commit={c.hash} data-on-main={forkAt >= 0 && i >= forkAt ? "yes" : "no"}>
+              <Link className="num text-accent hover:underline" to={`/commits/${c.hash}`}>{c.hash.slice(0, 10)}</Link>
+              <span className="min-w-0 grow">{c.subject}</span>
+              <span className="num text-xs text-muted">{c.date.slice(0, 10)} · {c.author}</span>
+              {i === forkAt ? <span className="w-full text-xs font-semibold text-accent" data-testid="fork-point">↑ {ref}'s own commits above · {ref} leaves main here · main below</span> : null}
+            </li>
+          ))}
+        </ol>
+      </section>
       <section className="space-y-2" aria-labelledby="jobs-title">
         <h2 id="jobs-title" className="text-xl font-semibold">Recent jobs</h2>
         {jobs.length === 0 ? <p className="text-muted">No jobs yet.</p> : (
           <ul className="card divide-y divide-line/60 text-sm" data-testid="job-list">
             {jobs.map((j) => (
               <li key={j.id} className="flex items-center justify-between px-4 py-2">
-                <Link className="text-accent hover:underline" to={`/run-suite?ref=${encodeURIComponent(j.ref || ref)}&job=${j.id}`}>Job {j.id} · {j.suite} on {j.ref || "?"}</Link>
+                <Link className="text-accent hover:underline" to={`/run-suite?ref=${encodeURIComponent(j.ref || ref)}&job=${j.id}`}>Job {j.id} · {j.kind === "ab" ? `A/B, ${j.suite}` : `${j.suite} on ${j.ref || "?"}`}</Link>
                 <span className="num text-muted"><span data-job-list-status={j.id} className={statusTone("job", statusOf(j))}>{statusLabel("job", statusOf(j))}</span> · {fmtDate(j.createdAt)}</span>
               </li>
             ))}

@@ -72,7 +72,7 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
         <div className="space-y-1">
           <p className="text-sm text-muted"><Link to="/runs" className="hover:underline">Runs</Link> / run</p>
           <h1 className="flex items-center gap-3 text-3xl font-semibold tracking-tight">
-            Suite {detail.suite} at <code className="num">{run.commitHash.slice(0, 10)}</code> <DemoBadge show={run.isDemo} />
+            Suite {detail.suite} at {run.isDemo ? <code className="num">{run.commitHash.slice(0, 10)}</code> : <Link to={`/commits/${run.commitHash}`} className="num text-accent hover:underline" data-testid="commit-link"><code>{run.commitHash.slice(0, 10)}</code></Link>} <DemoBadge show={run.isDemo} />
           </h1>
           <p className="text-muted">{run.commitSubject}</p>
           <p className="text-sm text-muted">

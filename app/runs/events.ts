@@ -17,6 +17,8 @@ export const runEventSchema = z.discriminatedUnion("event", [
   z.object({ event: z.literal("start"), key: z.string(), running: z.array(z.string()), ...base }),
   z.object({ event: z.literal("finish"), key: z.string(), status: z.string(), running: z.array(z.string()), elapsedSeconds: z.number(), etaSeconds: z.number().nullable(), ...base }),
   z.object({ event: z.literal("end"), elapsedSeconds: z.number(), ...base }),
+  /** Interleaved A/B (bench --ab): one trial of one side of one block finished. */
+  z.object({ event: z.literal("trial"), key: z.string(), block: z.number().int().min(0), side: z.enum(["A", "B"]), ...base }),
 ]);
 export type RunEvent = z.infer<typeof runEventSchema>;
 

@@ -28,6 +28,7 @@ export const DEFAULT_THRESHOLDS: Thresholds = {
   calibrate: false,
   pooledSpeedRatio: 1.05,
   pooledMinCases: 3,
+  abConfirm: true,
 };
 
 const meshSchema = z
@@ -117,6 +118,7 @@ export const suiteSchema = z
         calibrate: z.boolean(),
         pooledSpeedRatio: z.number().gt(1),
         pooledMinCases: z.number().int().min(2),
+        abConfirm: z.boolean(),
       })
       .partial()
       .strict()

@@ -104,6 +104,11 @@ export interface Thresholds {
   pooledSpeedRatio: number;
   /** ...when it has at least this many timed cases (and its interval excludes 1). */
   pooledMinCases: number;
+  /**
+   * Confirm a suspected speed regression by an interleaved A/B job before its e-mail goes out
+   * (app/services/ab-confirm.server.ts); needs the commits in the server's repository.
+   */
+  abConfirm: boolean;
 }
 
 /** Statuses that count as "solved" for the robustness rule. */

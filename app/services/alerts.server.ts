@@ -15,6 +15,8 @@ export interface AlertInput {
   commit: CommitMeta;
   regressions: { id: number; finding: Finding }[];
   baseUrl?: string;
+  /** Said under the first line: whether an interleaved A/B confirmed them (app/services/ab-confirm.server.ts). */
+  note?: string;
 }
 
 export interface AlertResult {
@@ -37,6 +39,7 @@ export function alertBody(input: AlertInput, items: { id: number; finding: Findi
   const c = input.commit;
   const lines = [
     `Suite ${input.suiteName} found ${items.length} new regression${items.length > 1 ? "s" : ""}.`,
+    ...(input.note ? [input.note] : []),
     "",
     `Commit:  ${c.commitHash}${c.dirty ? " (with uncommitted changes)" : ""}`,
     `Subject: ${c.subject ?? "—"}`,

@@ -104,3 +104,14 @@ export async function pruneWorktrees(root = repoRoot()): Promise<void> {
   if (!fs.existsSync(base)) return;
   for (const name of fs.readdirSync(base)) if (/^job-\d+$/.test(name)) await removeWorktree(path.join(base, name), root);
 }
+
+/** Where `ref` leaves `onto` (their merge base), or null when they share no history or a name is unknown. */
+export async function mergeBase(ref: string, onto = "main", root = repoRoot()): Promise<string | null> {
+  const ok = (r: string) => /^[A-Za-z0-9._\/-]{1,200}$/.test(r) && !r.startsWith("-");
+  if (!ok(ref) || !ok(onto)) return null;
+  try {
+    return (await simpleGit(root).raw(["merge-base", ref, onto])).trim() || null;
+  } catch {
+    return null;
+  }
+}

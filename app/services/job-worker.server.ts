@@ -14,6 +14,7 @@
  * the database is the progress. Every heartbeat reads the job's status back: "cancelled" (set by the API)
  * sends SIGTERM, and the runner marks its run interrupted, keeping the finished cases.
  * At start-up, jobs left "running" by an earlier process are marked "died" (models/jobs.server.ts).
+ * An "ab" job (interleaved A/B of two commits) goes to app/services/ab-job.server.ts instead.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
@@ -28,6 +29,8 @@ import { canonicalJson, expandCases, suitePath } from "~/runs/suite";
 import { problemCheckSuite } from "~/runs/suite-changes";
 import { loadSuiteWithChanges } from "~/models/suite-changes.server";
 import os from "node:os";
+import type { JobRow } from "~/db/schema";
+import { runAbJob } from "./ab-job.server";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -47,6 +50,10 @@ export function applyRunEvent(progress: BenchProgress, e: RunEvent, order: strin
     progress.current = e.running.join(", ") || e.key;
   } else if (e.event === "finish") {
     Object.assign(progress, { lastCase: e.key, lastStatus: e.status, etaSeconds: e.etaSeconds, current: e.running.join(", ") || (order[e.done] ?? null) });
+  } else if (e.event === "trial") {
+    progress.current = `${e.key} · block ${e.block + 1} · ${e.side === "A" ? "A (base)" : "B (head)"}`;
+    const rate = progress.elapsedSeconds > 0 && e.done > 0 ? progress.elapsedSeconds / e.done : null;
+    progress.etaSeconds = rate !== null ? rate * (e.total - e.done) : null;
   } else {
     progress.current = null;
   }
@@ -115,9 +122,20 @@ function tsxLoader(): string {
   return pathToFileURL(path.resolve("node_modules", "tsx", "dist", "loader.mjs")).href;
 }
 
-async function tick(db: Db, state: WorkerState): Promise<void> {
+/** Claims and runs the next queued job, if any (one per call; exported for tests). */
+export async function runNextJob(db: Db, state: WorkerState = { timer: null, busy: false, child: null }): Promise<number | null> {
   const job = claimNextJob(db, process.pid);
-  if (!job) return;
+  if (!job) return null;
+  if (job.kind === "ab") await runAbJob(db, job, (c) => (state.child = c));
+  else await runBenchJob(db, job, state);
+  return job.id;
+}
+
+async function tick(db: Db, state: WorkerState): Promise<void> {
+  await runNextJob(db, state);
+}
+
+async function runBenchJob(db: Db, job: JobRow, state: WorkerState): Promise<void> {
   let log = "";
   const append = (s: string) => (log += s);
   let worktree: string | null = null;

@@ -103,7 +103,7 @@ export async function removeCheckout(root: string, dir: string): Promise<void> {
   }
 }
 
-function laneFor(worktree: string, root: string, suiteFile: string, solver: ReturnType<typeof loadSuite>["definition"]["solver"], uploaded: string, repeats: number): Lane {
+function laneFor(worktree: string, root: string, suiteFile: string, solver: ReturnType<typeof loadSuite>["definition"]["solver"], uploaded: string, repeats: number, clock: "wall" | "cpu"): Lane {
   const here = (f: string) => fileURLToPath(new URL(f, import.meta.url));
   let executorModule: string;
   let options: Record<string, unknown> = {};
@@ -121,7 +121,8 @@ function laneFor(worktree: string, root: string, suiteFile: string, solver: Retu
     budgetSeconds: 600,
     repeats,
     warmup: 1,
-    clock: "wall",
+    // The suite's clock: "cpu" (process CPU time) is far less disturbed by a loaded machine; each lane has one worker.
+    clock,
     executorModule,
     context: { root: worktree, libraryRoots: [path.join(worktree, "problems"), uploaded], problemsDir: path.join(worktree, "problems"), options },
     tsconfig: fs.existsSync(path.join(worktree, "tsconfig.json")) ? path.join(worktree, "tsconfig.json") : path.join(root, "tsconfig.json"),
@@ -150,8 +151,8 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
   const dirA = await checkout(root, base, trees);
   const dirB = await checkout(root, head, trees);
   const uploaded = uploadedProblemsDir(databaseFileOf(opts.db));
-  const laneA = laneFor(dirA, root, suite.file, suite.definition.solver, uploaded, repeats);
-  const laneB = laneFor(dirB, root, suite.file, suite.definition.solver, uploaded, repeats);
+  const laneA = laneFor(dirA, root, suite.file, suite.definition.solver, uploaded, repeats, suite.definition.clock);
+  const laneB = laneFor(dirB, root, suite.file, suite.definition.solver, uploaded, repeats, suite.definition.clock);
   const out: AbCase[] = [];
   const total = cases.length * blocks * 4;
   let done = 0;

@@ -17,7 +17,7 @@ import { caseRecordFromOutcome } from "../../app/runs/record";
 import { expandCases, suitePath, type LoadedSuite } from "../../app/runs/suite";
 import { loadSuiteWithChanges } from "../../app/models/suite-changes.server";
 import type { CaseOutcome, CommitMeta } from "../../app/runs/types";
-import { sendRegressionAlerts, type AlertResult } from "../../app/services/alerts.server";
+import { alertOrConfirm, type AlertOrConfirmResult as AlertResult } from "../../app/services/ab-confirm.server";
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
 import { commitMeta, resolveCommit } from "./git-meta";
 import { runCases } from "./pool";
@@ -201,13 +201,8 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   detection = opts.shard ? null : afterRun(db, runId, { baseline });
   if (detection) {
     if (opts.alerts !== false && detection.newRegressions > 0) {
-      alerts = await sendRegressionAlerts(db, {
-        runId,
-        suiteName: def.name,
-        commit,
-        regressions: detection.inserted.filter((i) => i.finding.direction === "regression"),
-        baseUrl: opts.baseUrl,
-      });
+      // Speed findings wait for an interleaved A/B verdict (a queued "ab" job); the rest are e-mailed now.
+      alerts = await alertOrConfirm(db, { runId, suiteName: def.name, commit, detection, baseUrl: opts.baseUrl, root });
     }
   }
   const exitCode = interrupted ? EXIT_INTERRUPTED : detection && detection.newRegressions > 0 ? EXIT_REGRESSION : 0;

@@ -3,6 +3,7 @@ import { getDb } from "~/db/client.server";
 import { enqueueJob, enqueueJobInput, listJobs } from "~/models/jobs.server";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { checkBenchJob } from "~/services/job-check.server";
+import { checkAbJob, queueAbJob } from "~/services/ab-confirm.server";
 import { csvResponse, wantsCsv } from "~/services/export.server";
 
 /** GET /api/jobs (viewer): the latest 50 jobs, newest first; `format=csv` for a CSV file. */
@@ -30,6 +31,8 @@ function invalidJob(issues: { path: string; message: string }[]): Response {
  * optionally `commit` (7–40 hex digits) or `ref` (a branch); neither means the repository's HEAD.
  * 201 with the job (its payload names the resolved commit); 400 with `{ error, fields, issues }`
  * for a malformed body, a commit not in the repository or a suite the commit does not have.
+ * `{ "kind": "ab", "payload": { "base", "head", "suite", "cases"?, "blocks"? } }` queues an interleaved
+ * A/B of two commits (all of the suite's cases by default); the same field errors apply.
  */
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, "engineer");
@@ -43,6 +46,12 @@ export async function action({ request }: Route.ActionArgs) {
   const parsed = enqueueJobInput.safeParse(body);
   if (!parsed.success) {
     return invalidJob(parsed.error.issues.map((i) => ({ path: i.path.join(".") || "(body)", message: i.message })));
+  }
+  if (parsed.data.kind === "ab") {
+    const ab = await checkAbJob(getDb(), parsed.data.payload);
+    if (!ab.ok) return invalidJob([{ path: `payload.${ab.field}`, message: ab.message }]);
+    const { job } = queueAbJob(getDb(), ab.payload, user.id > 0 ? user.id : null);
+    return Response.json({ job }, { status: 201 });
   }
   const checked = await checkBenchJob(parsed.data.payload);
   if (!checked.ok) {

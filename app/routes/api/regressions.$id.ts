@@ -5,6 +5,8 @@ import { repoRoot, resolveRef } from "~/services/git.server";
 import { addRegressionComment, commentSchema, commitsBetween, getRegressionDetail, setProblemSubscription, triageRegression, triageSchema } from "~/models/regressions.server";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors } from "~/services/forms.server";
+import { affectedCases, commitsOfRegression } from "~/models/ab-checks.server";
+import { checkAbJob, queueAbJob } from "~/services/ab-confirm.server";
 
 /** GET /api/regressions/:id (viewer or token): evidence, both cases (samples, trajectories), events, comments, commits between. */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -29,6 +31,7 @@ async function body(request: Request): Promise<Record<string, string>> {
 /**
  * POST /api/regressions/:id, form or JSON with `intent`:
  * - engineer: acknowledge [note], assign assigneeId (0 = nobody), expected reason, fixed fixingCommit, reopen [note];
+ *   ab (confirm by interleaved A/B: baseline commit against flagged commit, the affected cases only; 201 `{ ok, job }`);
  * - any signed-in user: comment body, subscribe, unsubscribe (e-mail about this problem).
  * 200 `{ ok: true, ... }`; 400 `{ errors }` by field; 403 for a viewer's triage.
  */
@@ -52,6 +55,16 @@ export async function action({ request, params }: Route.ActionArgs) {
     const r = triageRegression(db, id, user.id, input, user.tokenId ?? null);
     if (!r.ok) return Response.json({ intent, errors: r.errors }, { status: r.status });
     return Response.json({ ok: true, intent, status: r.status });
+  }
+  if (intent === "ab") {
+    const user = await requireRole(request, "engineer");
+    const at = commitsOfRegression(db, id);
+    if (!at) return Response.json({ error: "No such regression." }, { status: 404 });
+    if (!at.base) return Response.json({ intent, errors: { form: "This regression has no baseline run (it was removed), so there is no earlier commit to compare with." } }, { status: 400 });
+    const checked = await checkAbJob(db, { base: at.base, head: at.head, suite: at.suiteName, cases: affectedCases(db, [id]) });
+    if (!checked.ok) return Response.json({ intent, errors: { form: checked.message } }, { status: 400 });
+    const { job } = queueAbJob(db, checked.payload, user.id > 0 ? user.id : null, { regressionIds: [id] });
+    return Response.json({ ok: true, intent, job }, { status: 201 });
   }
   const user = await requireUser(request);
   if (intent === "comment") {

@@ -1,0 +1,144 @@
+/**
+ * Interleaved A/B jobs from the pages and, automatically, before a speed regression is reported.
+ *
+ * - `checkAbJob`: the field check every "ab" job passes before it is stored (POST /api/jobs, the
+ *   buttons on regression, branch and commit pages): both commits in the repository, the suite in
+ *   the checkout, the cases among the suite's.
+ * - `alertOrConfirm`: after detection (the one call the command line makes instead of sending
+ *   alerts itself). New speed regressions of a suite whose `abConfirm` threshold is on (default)
+ *   get one "ab" job on their affected cases, baseline commit against flagged commit; their e-mail
+ *   waits for its verdict. Every other new regression is e-mailed at once. When A/B cannot run
+ *   (a commit not in the repository, an external solver, abConfirm off) the e-mail goes out now and
+ *   says the slowdown is unconfirmed, and why.
+ * - `afterAbJob`: the job worker's last step: store the verdict; a confirmed check sends the held
+ *   e-mail with the evidence, a cleared one sends nothing, an unavailable one sends it marked
+ *   unconfirmed.
+ */
+import fs from "node:fs";
+import type { Db } from "~/db/client.server";
+import { eq } from "drizzle-orm";
+import { runs } from "~/db/schema";
+import { abCheckOfJob, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, type AbCheckView } from "~/models/ab-checks.server";
+import { thresholdsOfRun, type Detection } from "~/models/detection.server";
+import { enqueueJob, type JobSummary } from "~/models/jobs.server";
+import { problemLibraryFor } from "~/models/library.server";
+import { abSaysSlower, fmtAbRatio, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
+import type { Finding } from "~/runs/rules";
+import { expandCases, loadSuite, suitePath } from "~/runs/suite";
+import type { CommitMeta } from "~/runs/types";
+import { sendRegressionAlerts, type AlertResult } from "./alerts.server";
+import { repoRoot, resolveRef } from "./git.server";
+
+export type AbJobCheck = { ok: true; payload: AbJobPayload & { cases: string[] } } | { ok: false; field: "base" | "head" | "suite" | "cases"; message: string };
+
+/** Resolves both commits to full hashes and the cases against the checkout's suite. */
+export async function checkAbJob(db: Db, payload: AbJobPayload, root = repoRoot()): Promise<AbJobCheck> {
+  const base = await resolveRef(payload.base, root);
+  if (!base) return { ok: false, field: "base", message: `${payload.base} is not a commit in the repository (${root}).` };
+  const head = await resolveRef(payload.head, root);
+  if (!head) return { ok: false, field: "head", message: `${payload.head} is not a commit in the repository (${root}).` };
+  if (base === head) return { ok: false, field: "head", message: "Base and head are the same commit: there is nothing to compare." };
+  const file = suitePath(payload.suite, root);
+  if (!fs.existsSync(file)) return { ok: false, field: "suite", message: `The checkout has no suite "${payload.suite}" (bench/suites/${payload.suite}.json).` };
+  let keys: string[];
+  try {
+    const s = loadSuite(file);
+    if (s.definition.solver.kind === "external") return { ok: false, field: "suite", message: `Suite "${payload.suite}" runs an external solver from its own repository; A/B compares commits of this repository.` };
+    keys = expandCases(s.definition, problemLibraryFor(db, root)).map((c) => c.key);
+  } catch (err) {
+    return { ok: false, field: "suite", message: (err as Error).message };
+  }
+  const cases = payload.cases?.length ? payload.cases : keys;
+  const unknown = cases.filter((k) => !keys.includes(k));
+  if (unknown.length) return { ok: false, field: "cases", message: `Not cases of suite ${payload.suite}: ${unknown.slice(0, 5).join(", ")}${unknown.length > 5 ? ` and ${unknown.length - 5} more` : ""}.` };
+  return { ok: true, payload: { ...payload, base, head, cases } };
+}
+
+/** Stores the job and its check together (the payload must have passed `checkAbJob`). */
+export function queueAbJob(db: Db, payload: AbJobPayload & { cases: string[] }, userId: number | null, extra: { regressionIds?: number[]; runId?: string | null; auto?: boolean; alertsHeld?: boolean } = {}): { job: JobSummary; check: AbCheckView } {
+  return db.transaction(() => {
+    const job = enqueueJob(db, { kind: "ab", payload }, userId);
+    const check = insertAbCheck(db, { jobId: job.id, suiteName: payload.suite, base: payload.base, head: payload.head, cases: payload.cases, ...extra });
+    return { job, check };
+  });
+}
+
+export interface AlertOrConfirmInput {
+  runId: string;
+  suiteName: string;
+  commit: CommitMeta;
+  detection: Detection;
+  baseUrl?: string;
+  root?: string;
+}
+
+export interface AlertOrConfirmResult extends AlertResult {
+  /** The A/B job queued to confirm the speed regressions (their e-mail waits for it). */
+  abJobId: number | null;
+  /** Why no A/B job was queued for speed regressions, when there were some. */
+  unconfirmed: string | null;
+}
+
+const isSpeed = (f: Finding) => f.direction === "regression" && f.kind === "speed";
+
+export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promise<AlertOrConfirmResult> {
+  const fresh = input.detection.inserted.filter((i) => i.finding.direction === "regression");
+  const speed = fresh.filter((i) => isSpeed(i.finding));
+  const rest = fresh.filter((i) => !isSpeed(i.finding));
+  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, unconfirmed: null };
+  const send = async (items: typeof fresh, note?: string) => {
+    if (!items.length) return;
+    const r = await sendRegressionAlerts(db, { runId: input.runId, suiteName: input.suiteName, commit: input.commit, regressions: items, baseUrl: input.baseUrl, note });
+    out.sent.push(...r.sent);
+    out.errors.push(...r.errors);
+  };
+  if (speed.length) {
+    let why: string | null = null;
+    const base = input.detection.baselineCommit;
+    if (!thresholdsOfRun(db, input.runId).abConfirm) why = `A/B confirmation is off for suite ${input.suiteName}`;
+    else if (!base) why = "there is no baseline commit";
+    else if (input.commit.dirty) why = "the run measured uncommitted changes";
+    else {
+      const ids = speed.map((s) => s.id);
+      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases: affectedCases(db, ids) }, input.root ?? repoRoot());
+      if (!checked.ok) why = checked.message;
+      else {
+        const { job } = queueAbJob(db, checked.payload, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
+        out.abJobId = job.id;
+      }
+    }
+    if (why) {
+      out.unconfirmed = why;
+      rest.push(...speed);
+    }
+  }
+  // Sorted as found: the e-mail lists groups first by itself.
+  rest.sort((a, b) => a.id - b.id);
+  await send(rest, out.unconfirmed ? `Speed findings are unconfirmed: interleaved A/B could not run (${out.unconfirmed}).` : undefined);
+  return out;
+}
+
+/** The job worker's last step for an "ab" job: the verdict, then the e-mail it held back. */
+export async function afterAbJob(db: Db, jobId: number, outcome: { result: AbResultDoc } | { error: string }, baseUrl?: string): Promise<AbCheckView | null> {
+  const c = abCheckOfJob(db, jobId);
+  if (!c) return null;
+  const settled = settleAbCheck(db, c.id, outcome);
+  if (!settled || !settled.alertsHeld || settled.state === "cleared" || settled.state === "awaiting") return settled;
+  const full = getAbCheck(db, c.id);
+  if (!full?.runId) return settled;
+  const items = regressionsAsFindings(db, settled.regressionIds);
+  const commit = commitMetaOfRun(db, full.runId);
+  if (!items.length || !commit) return settled;
+  const s = settled.result ? abSaysSlower(settled.result) : null;
+  const note =
+    settled.state === "confirmed" && s
+      ? `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${fmtAbRatio(s.ratio, s.low, s.high)}.`
+      : `Speed findings are unconfirmed: ${settled.note ?? "interleaved A/B could not decide"}.`;
+  await sendRegressionAlerts(db, { runId: full.runId, suiteName: settled.suiteName, commit, regressions: items, baseUrl, note });
+  return settled;
+}
+
+function commitMetaOfRun(db: Db, runId: string): CommitMeta | null {
+  const r = db.select({ commitHash: runs.commitHash, branch: runs.branch, subject: runs.commitSubject, author: runs.commitAuthor, date: runs.commitDate, dirty: runs.dirty }).from(runs).where(eq(runs.id, runId)).get();
+  return r ?? null;
+}

@@ -1,0 +1,209 @@
+/**
+ * "ab" jobs before they run and after: the field check (commits, suite, cases) against a
+ * temporary git repository, the payload's field errors, the diff view's parsing and escaping,
+ * and how a finished check settles the regressions it judges (a "same" verdict clears them and
+ * sends no e-mail; a failed job leaves them unconfirmed and sends the held e-mail saying so).
+ */
+import { execFileSync } from "node:child_process";
+import { randomBytes } from "node:crypto";
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { useTempDatabase } from "../helpers/temp-db";
+
+useTempDatabase("abjobs");
+
+const { getDb } = await import("~/db/client.server");
+const { outbox, regressionEvents, regressions, runs, subscriptions, suites, users } = await import("~/db/schema");
+const { enqueueJobInput } = await import("~/models/jobs.server");
+const { checkAbJob, queueAbJob, afterAbJob } = await import("~/services/ab-confirm.server");
+const { abChecksOfRegression } = await import("~/models/ab-checks.server");
+const { parseDiff } = await import("~/services/diff-view.server");
+const { stopStandin } = await import("~/services/mail.server");
+const { eq } = await import("drizzle-orm");
+
+const ROOT = path.resolve(import.meta.dirname, "..", "..");
+const GIT_ENV = { ...process.env, GIT_AUTHOR_NAME: "T", GIT_AUTHOR_EMAIL: "t@example.com", GIT_COMMITTER_NAME: "T", GIT_COMMITTER_EMAIL: "t@example.com" };
+const git = (cwd: string, ...args: string[]) => execFileSync("git", args, { cwd, encoding: "utf8", env: GIT_ENV }).trim();
+
+let repo = "";
+let c1 = "";
+let c2 = "";
+
+beforeAll(() => {
+  repo = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-abjobs-repo-"));
+  fs.cpSync(path.join(ROOT, "problems", "pika-rover-dash"), path.join(repo, "problems", "pika-rover-dash"), { recursive: true });
+  fs.mkdirSync(path.join(repo, "bench", "suites"), { recursive: true });
+  fs.writeFileSync(path.join(repo, "bench", "suites", "duo.json"), JSON.stringify({ format: "arcwatch-suite/1", name: "duo", problems: ["pika-rover-dash"], schemes: ["euler", "lgr"], meshes: [{ intervals: 6 }] }));
+  fs.writeFileSync(path.join(repo, "bench", "suites", "far.json"), JSON.stringify({ format: "arcwatch-suite/1", name: "far", problems: ["pika-rover-dash"], schemes: ["euler"], meshes: [{ intervals: 6 }], solver: { kind: "external", label: "x", command: ["x"], repository: "." } }));
+  git(repo, "init", "-q", "-b", "main");
+  git(repo, "add", "-A");
+  git(repo, "commit", "-q", "-m", "one");
+  c1 = git(repo, "rev-parse", "HEAD");
+  fs.writeFileSync(path.join(repo, "notes.txt"), "two\n");
+  git(repo, "add", "-A");
+  git(repo, "commit", "-q", "-m", "two");
+  c2 = git(repo, "rev-parse", "HEAD");
+});
+
+afterAll(async () => {
+  await stopStandin();
+  fs.rmSync(repo, { recursive: true, force: true });
+});
+
+describe("the check of an ab job", () => {
+  it("names the field that is wrong", async () => {
+    const db = getDb();
+    expect(await checkAbJob(db, { base: "abcdef1", head: c2, suite: "duo" }, repo)).toMatchObject({ ok: false, field: "base" });
+    expect(await checkAbJob(db, { base: c1, head: c1.slice(0, 9), suite: "duo" }, repo)).toMatchObject({ ok: false, field: "head", message: expect.stringContaining("same commit") });
+    expect(await checkAbJob(db, { base: c1, head: c2, suite: "nope" }, repo)).toMatchObject({ ok: false, field: "suite", message: expect.stringContaining('no suite "nope"') });
+    expect(await checkAbJob(db, { base: c1, head: c2, suite: "far" }, repo)).toMatchObject({ ok: false, field: "suite", message: expect.stringContaining("external solver") });
+    expect(await checkAbJob(db, { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/rk4/6"] }, repo)).toMatchObject({ ok: false, field: "cases", message: expect.stringContaining("pika-rover-dash/rk4/6") });
+  });
+
+  it("resolves both commits and defaults to every case of the suite", async () => {
+    const out = await checkAbJob(getDb(), { base: c1.slice(0, 8), head: c2.slice(0, 8), suite: "duo" }, repo);
+    expect(out).toEqual({ ok: true, payload: { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6", "pika-rover-dash/lgr/6x4"] } });
+  });
+
+  it("refuses a malformed payload with field paths", () => {
+    const r = enqueueJobInput.safeParse({ kind: "ab", payload: { base: "xyz", head: c2, suite: "Duo!", blocks: 1 } });
+    expect(r.success).toBe(false);
+    const paths = r.error!.issues.map((i) => i.path.join("."));
+    expect(paths.sort()).toEqual(["payload.base", "payload.blocks", "payload.suite"]);
+  });
+});
+
+describe("vocabulary", () => {
+  it("every A/B check state has an entry", async () => {
+    const { AB_CHECK_STATES } = await import("~/db/schema");
+    const V = await import("~/vocabulary");
+    for (const st of AB_CHECK_STATES) expect(V.statusEntry("ab", st), st).not.toBeNull();
+  });
+});
+
+describe("the diff view", () => {
+  const text = [
+    "diff --git a/src/a.ts b/src/a.ts",
+    "index 1..2 100644",
+    "--- a/src/a.ts",
+    "+++ b/src/a.ts",
+    "@@ -10,3 +10,3 @@ function f() {",
+    " const a = 1;",
+    '-const s = "<img src=x onerror=alert(1)>";',
+    '+const s = "&lt;safe&gt;";',
+    " return a;",
+    "diff --git a/old.txt b/new.txt",
+    "similarity index 90%",
+    "rename from old.txt",
+    "rename to new.txt",
+    "diff --git a/logo.png b/logo.png",
+    "Binary files a/logo.png and b/logo.png differ",
+  ].join("\n");
+
+  it("numbers lines from the hunk header and escapes what it colours", () => {
+    const d = parseDiff(text);
+    expect(d.files.map((f) => [f.path, f.status, f.binary])).toEqual([
+      ["src/a.ts", "modified", false],
+      ["new.txt", "renamed", false],
+      ["logo.png", "modified", true],
+    ]);
+    const a = d.files[0]!;
+    expect(a.language).toBe("typescript");
+    expect([a.added, a.removed]).toEqual([1, 1]);
+    expect(a.lines.map((l) => [l.kind, l.oldNo, l.newNo])).toEqual([
+      ["hunk", null, null],
+      ["ctx", 10, 10],
+      ["del", 11, null],
+      ["add", null, 11],
+      ["ctx", 12, 12],
+    ]);
+    const del = a.lines[2]!.html;
+    expect(del).not.toContain("<img");
+    expect(del).toContain("&lt;img src=x onerror=alert(1)&gt;");
+    expect(a.lines[3]!.html).toContain("&amp;lt;safe&amp;gt;");
+    expect(a.lines[1]!.html).toContain('<span class="hljs-keyword">const</span>');
+    expect(d.files[1]!.oldPath).toBe("old.txt");
+  });
+
+  it("stops at the line cap and counts what it left out", () => {
+    const d = parseDiff(text, 3);
+    expect(d.shownLines).toBe(3);
+    expect(d.totalLines).toBe(5);
+    expect(d.files[0]!.hidden).toBe(2);
+  });
+});
+
+describe("settling a check", () => {
+  function seedRegression(commit: string, base: string) {
+    const db = getDb();
+    const suiteId = db.insert(suites).values({ name: "duo", contentHash: randomBytes(32).toString("hex"), definitionJson: {} }).returning({ id: suites.id }).get().id;
+    const tag = randomBytes(4).toString("hex");
+    const mk = (id: string, c: string) => db.insert(runs).values({ id: `${id}-${tag}`, suiteId, commitHash: c, branch: "main", machineJson: {}, machineKey: "m", startedAt: new Date(), status: "complete" }).run();
+    mk(`b-${commit}`, base);
+    mk(`h-${commit}`, commit);
+    const rid = db.insert(regressions).values({ runId: `h-${commit}-${tag}`, baselineRunId: `b-${commit}-${tag}`, caseKey: "pika-rover-dash/euler/6", kind: "speed", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.13, ratio: 1.3 }).returning({ id: regressions.id }).get().id;
+    db.insert(regressionEvents).values({ regressionId: rid, fromStatus: null, toStatus: "open", note: `Found by run h-${commit}-${tag} at ${commit.slice(0, 10)}: median 0.100 s → 0.130 s` }).run();
+    const uid = db.insert(users).values({ email: `lead-${tag}@example.com`, name: "Lead", passwordHash: "x" }).returning({ id: users.id }).get().id;
+    db.insert(subscriptions).values({ userId: uid, suiteName: "duo" }).run();
+    return { rid, runId: `h-${commit}-${tag}` };
+  }
+  const verdict = (ratio: number, low: number, high: number, v: "slower" | "same") => ({
+    base: c1, head: c2, blocks: 6, repeats: 3, method: "test", pooled: null,
+    cases: [{ key: "pika-rover-dash/euler/6", blockRatios: [ratio, ratio, ratio, ratio, ratio, ratio], ratio, low, high, verdict: v, status: "optimal" }],
+  });
+
+  it("a verdict of 'same' clears the regression and its held e-mail is never sent", async () => {
+    const db = getDb();
+    const { rid, runId } = seedRegression(c2, c1);
+    const { job } = queueAbJob(db, { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId, auto: true, alertsHeld: true });
+    expect(abChecksOfRegression(db, rid)[0]!.state).toBe("awaiting");
+    const settled = await afterAbJob(db, job.id, { result: verdict(1.004, 0.98, 1.03, "same") });
+    expect(settled!.state).toBe("cleared");
+    expect(db.select().from(outbox).all()).toHaveLength(0);
+    const notes = db.select({ note: regressionEvents.note }).from(regressionEvents).where(eq(regressionEvents.regressionId, rid)).all().map((e) => e.note);
+    expect(notes.at(-1)).toMatch(/^Cleared by interleaved A\/B \(job \d+\): .*×1\.004 \[0\.980, 1\.030\]/);
+  });
+
+  it("a failed A/B leaves the finding unconfirmed and sends the held e-mail saying so", async () => {
+    const db = getDb();
+    const { rid, runId } = seedRegression(c1, c2);
+    const { job } = queueAbJob(db, { base: c2, head: c1, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId, auto: true, alertsHeld: true });
+    const settled = await afterAbJob(db, job.id, { error: "bench --ab exited with code 1" });
+    expect(settled!.state).toBe("unavailable");
+    // Both subscribers of suite duo (one seeded per test) get it.
+    const mail = db.select().from(outbox).all();
+    expect(mail).toHaveLength(2);
+    expect(mail[0]!.body).toContain("Speed findings are unconfirmed: Interleaved A/B could not decide: bench --ab exited with code 1");
+    expect(mail[0]!.body).toContain("median 0.100 s → 0.130 s");
+  });
+
+  it("Confirm by A/B on a regression: engineers only, baseline against flagged commit, affected cases", async () => {
+    const db = getDb();
+    process.env.ARCWATCH_REPO = repo;
+    const { rid } = seedRegression(c2, c1);
+    const { createApiToken } = await import("~/services/tokens.server");
+    const { action } = await import("~/routes/api/regressions.$id");
+    const token = (role: "viewer" | "engineer") => {
+      const u = db.insert(users).values({ email: `${role}-${randomBytes(3).toString("hex")}@example.com`, name: role, passwordHash: "x", role }).returning({ id: users.id }).get();
+      return createApiToken(db, { name: `${role} token`, role, createdById: u.id }).token;
+    };
+    const post = (t: string) =>
+      new Request(`http://127.0.0.1/api/regressions/${rid}`, { method: "POST", headers: { authorization: `Bearer ${t}`, "content-type": "application/json" }, body: JSON.stringify({ intent: "ab" }) });
+    const call = async (t: string) => {
+      try {
+        return (await action({ request: post(t), params: { id: String(rid) }, context: {} } as never)) as Response;
+      } catch (thrown) {
+        return thrown as Response;
+      }
+    };
+    expect((await call(token("viewer"))).status).toBe(403);
+    expect(abChecksOfRegression(db, rid)).toHaveLength(0);
+    const ok = await call(token("engineer"));
+    expect(ok.status).toBe(201);
+    const [check] = abChecksOfRegression(db, rid);
+    expect(check).toMatchObject({ state: "awaiting", auto: false, alertsHeld: false, base: c1, head: c2, suiteName: "duo", cases: ["pika-rover-dash/euler/6"] });
+    expect(((await ok.json()) as { job: { id: number } }).job.id).toBe(check!.jobId);
+  });
+});
