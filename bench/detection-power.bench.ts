@@ -2,15 +2,15 @@
  * Detection power and false alarms of the regression rules, per planted size and per method.
  *
  *   node --import tsx bench/detection-power.bench.ts [--noise <db>] [--measure <K>] [--suite quick]
- *        [--trials 200] [--unchanged 1000] [--replicates 400] [--no-ab] [--no-real] [--seed 1]
+ *        [--trials 264] [--unchanged 528] [--replicates 400] [--no-ab] [--no-real] [--seed 1]
  *
  * 1. Measured noise: K complete runs of the suite on one unchanged commit. `--noise <db>` reads
  *    runs already recorded there (the commit with the most runs); otherwise `--measure K` (default
  *    6) runs the bench command line K times on this checkout into a temporary database first.
  * 2. Calibration (issue 13, item 7): spread of ln(median ratio) between every pair of those runs,
  *    raw and divided by the calibration kernel's ratio (case-level and run-level).
- * 3. SIMULATED trials (./power/simulate.ts): baseline and current suite runs redrawn from the
- *    measured noise, slowdowns of 5/10/20/50 % planted in one scheme (a random one per trial) or in
+ * 3. Trials on the RECORDED runs with SIMULATED plants (./power/simulate.ts): every ordered pair
+ *    of recorded runs is a baseline and a current run (then bootstrap-resampled pairs), slowdowns of 5/10/20/50 % planted in one scheme (a random one per trial) or in
  *    every case, accuracy losses (errors ×1.5, ×3, ×10 in one scheme), and unchanged runs; judged
  *    by the product's rules (per-case, pooled) and by the A/B verdict. Printed: detection rate and
  *    false-alarm rate per suite run.
@@ -33,8 +33,8 @@ const { values: args } = parseArgs({
     noise: { type: "string" },
     measure: { type: "string", default: "6" },
     suite: { type: "string", default: "quick" },
-    trials: { type: "string", default: "200" },
-    unchanged: { type: "string", default: "1000" },
+    trials: { type: "string", default: "264" },
+    unchanged: { type: "string", default: "528" },
     "no-ab": { type: "boolean", default: false },
     "no-real": { type: "boolean", default: false },
     seed: { type: "string", default: "1" },
@@ -66,7 +66,7 @@ const t = { ...suite.thresholds, bootstrapReplicates: Number(args.replicates) };
 const repeats = suite.definition.repeats;
 console.log(`Detection power, ${new Date().toISOString().slice(0, 16)} UTC, ${os.cpus().length} cores, load average ${os.loadavg().map((v) => v.toFixed(1)).join(" / ")}`);
 console.log(`Suite ${args.suite}: ${model.keys.length} timed cases, ${repeats} samples each, clock ${suite.definition.clock}; thresholds speedRatio ${t.speedRatio}, alpha ${t.alpha}, pooledSpeedRatio ${t.pooledSpeedRatio}, confidence ${t.confidence}`);
-console.log(`Measured noise from ${runs.length} runs of commit ${runs[0]!.commit.slice(0, 10)} (${dbFile}): sd of ln time — run shift ${model.sd.run.toFixed(3)}, case shift ${model.sd.case.toFixed(3)}, within a run ${model.sd.within.toFixed(3)}`);
+console.log(`Measured noise from ${runs.length} runs of commit ${runs[0]!.commit.slice(0, 10)} (${dbFile}): sd of ln time — run shift ${model.sd.run.toFixed(3)}, case median shift ${model.sd.case.toFixed(3)} (includes the sampling noise of a median), within a run ${model.sd.within.toFixed(3)}`);
 
 // 2. Calibration.
 const cal = calibrationEffect(runs);
@@ -82,9 +82,11 @@ const seed0 = Number(args.seed);
 const opts = { thresholds: t, repeats, ab: !args["no-ab"], abBlocks: 6, abRepeats: 3, abReplicates: Number(args.replicates) };
 interface Row { label: string; n: number; out: TrialOutcome[] }
 const rows: Row[] = [];
+const pairs: [number, number][] = [];
+for (let a = 0; a < runs.length; a++) for (let b = 0; b < runs.length; b++) if (a !== b) pairs.push([a, b]);
 const run = (label: string, n: number, plantOf: (i: number) => Plant) => {
   const out: TrialOutcome[] = [];
-  for (let i = 0; i < n; i++) out.push(runTrial(model, plantOf(i), seed0 * 1_000_003 + rows.length * 100_003 + i, opts));
+  for (let i = 0; i < n; i++) out.push(runTrial(model, runs, pairs[i % pairs.length]!, plantOf(i), seed0 * 1_000_003 + rows.length * 100_003 + i, opts, i >= pairs.length));
   rows.push({ label, n, out });
   process.stderr.write(`simulated ${label} (${n} trials, load ${load()})\n`);
 };
@@ -97,7 +99,7 @@ for (const factor of [1.5, 3, 10]) run(`errors ×${factor}, one scheme`, Math.mi
 run("unchanged", unchanged, () => ({ placement: { kind: "none" }, slowdown: 0, accuracyFactor: 1 }));
 
 const count = (out: TrialOutcome[], f: (o: TrialOutcome) => boolean) => out.filter(f).length;
-console.log(`\nSIMULATED from the measured noise (${trials} trials per planted row, ${unchanged} unchanged runs; detection = a finding on the planted cases or group; one scheme = each of ${schemes.length} schemes in turn):`);
+console.log(`\nRecorded run pairs with SIMULATED plants (${trials} trials per planted row, ${unchanged} unchanged; the first ${pairs.length} are the ${pairs.length} ordered pairs of recorded runs as they are, the rest bootstrap-resampled pairs; detection = a finding on the planted cases or group; one scheme = each of ${schemes.length} schemes in turn):`);
 console.log("| planted | per-case | pooled | A/B (6 blocks) | any finding | other alarms in the same run |");
 console.log("|---|---|---|---|---|---|");
 for (const r of rows) {
@@ -122,8 +124,8 @@ console.log(
 
 // 3b. The drift rule on simulated histories of 12 runs (a step 3 runs before the current one).
 {
-  const n = Math.min(unchanged, 400);
-  console.log(`\nSIMULATED drift rule (${n} histories of 12 runs per row; per suite run: any case flagged):`);
+  const n = Math.min(unchanged, 300);
+  console.log(`\nDrift rule on the recorded runs in random orders (${n} histories of ${runs.length} runs per row, plants SIMULATED; per suite run: any case flagged):`);
   console.log("| driftMinShift | unchanged: false alarms | +20 % one scheme, 3 runs ago | +50 % one scheme, 3 runs ago |");
   console.log("|---|---|---|---|");
   for (const shift of [...new Set([t.driftMinShift, Math.log(1.1), Math.log(1.25), Math.log(1.5)])]) {
@@ -131,7 +133,7 @@ console.log(
     const rate = (plant: Plant) => {
       let det = 0, fa = 0;
       for (let i = 0; i < n; i++) {
-        const r = driftTrial(model, plant, seed0 * 7_000_001 + i, td, repeats, 12, 3);
+        const r = driftTrial(model, runs, plant, seed0 * 7_000_001 + i, td, 3);
         if (r.detected) det++;
         if (r.alarm) fa++;
       }

@@ -25,7 +25,6 @@ export const DEFAULT_THRESHOLDS: Thresholds = {
   bootstrapReplicates: 2000,
   driftMinShift: Math.log(1.1),
   driftMinHistory: 6,
-  calibrate: false,
   pooledSpeedRatio: 1.05,
   pooledMinCases: 3,
 };
@@ -110,7 +109,6 @@ export const suiteSchema = z
         bootstrapReplicates: z.number().int().min(100),
         driftMinShift: z.number().min(0),
         driftMinHistory: z.number().int().min(4),
-        calibrate: z.boolean(),
         pooledSpeedRatio: z.number().gt(1),
         pooledMinCases: z.number().int().min(2),
       })

@@ -1,15 +1,15 @@
 /**
- * Simulated suite runs from measured noise (./noise.ts) judged by the product's own rules:
- * the per-case rule (app/runs/rules.ts compareCases), pooled evidence (app/runs/pooled.ts) and
- * the interleaved A/B verdict (the statistics of bench/runner/ab.ts on simulated trials).
+ * Trials from RECORDED runs (./noise.ts) judged by the product's own rules: the per-case rule
+ * (app/runs/rules.ts compareCases), pooled evidence (app/runs/pooled.ts), the interleaved A/B
+ * verdict (the statistics of bench/runner/ab.ts) and the drift rule.
  *
- * A trial draws a baseline run and a current run of every case: run shift R and case shift e from
- * their observed values with a random sign, each sample's residual from the case's own observed
- * within-run residuals. A planted slowdown multiplies the current samples of the affected cases
- * by (1 + size). A planted accuracy loss multiplies the affected cases' errors (which do not vary
- * between reruns of one commit: the solver is deterministic). An A/B sitting is `blocks` blocks of
- * A B B A / B A A B trials of `repeats` solves; one block shift hits all four trials (the load of
- * the moment), each solve draws its own residual; the verdict is bench/runner/ab.ts's.
+ * A trial takes two recorded runs of the same unchanged commit as baseline and current run (every
+ * ordered pair once; beyond that, both runs' samples bootstrap-resampled), so the noise between
+ * them is the machine's real noise between two runs. A planted slowdown multiplies the current
+ * samples of the affected cases by (1 + size); a planted accuracy loss multiplies their errors
+ * (which do not vary between reruns of one commit: the solver is deterministic). An A/B sitting is
+ * `blocks` blocks whose A and B trials draw from one recorded run's samples (same moment, same
+ * load), B's times multiplied by the plant. What is simulated is only the plant and the pairing.
  */
 import { pooledShift } from "../../app/engine/stats/hierarchical-bootstrap";
 import { createPrng, type Prng } from "../../app/engine/stats/prng";
@@ -17,7 +17,7 @@ import { pooledFindings } from "../../app/runs/pooled";
 import { compareCases, driftFinding, type CaseSnapshot, type Finding } from "../../app/runs/rules";
 import type { Thresholds } from "../../app/runs/types";
 import { AB_MIN_RATIO } from "../runner/ab";
-import type { NoiseModel } from "./noise";
+import type { NoiseModel, NoiseRun } from "./noise";
 
 export type Placement = { kind: "scheme"; scheme: string } | { kind: "suite" } | { kind: "none" };
 
@@ -39,23 +39,23 @@ export interface TrialOutcome {
 }
 
 const pick = <T>(rng: Prng, v: readonly T[]): T => v[rng.nextInt(v.length)]!;
-const signed = (rng: Prng, v: readonly number[]) => (rng.next() < 0.5 ? -1 : 1) * pick(rng, v);
 
 const affects = (p: Placement, scheme: string) => p.kind === "suite" || (p.kind === "scheme" && p.scheme === scheme);
 
-/** One simulated run of every case in the model. */
-function simulateRun(model: NoiseModel, rng: Prng, repeats: number, plant: Plant | null): Map<string, CaseSnapshot> {
-  const R = signed(rng, model.runShifts);
+/**
+ * One recorded run as the rules read it, with a plant applied: the run's own samples of every
+ * case (bootstrap-resampled when `rng` is given, for trials beyond the number of run pairs).
+ */
+function snapshot(model: NoiseModel, run: NoiseRun, plant: Plant | null, rng: Prng | null): Map<string, CaseSnapshot> {
   const out = new Map<string, CaseSnapshot>();
   let id = 1;
   for (const key of model.keys) {
     const c = model.cases.get(key)!;
+    const t = run.cases.get(key)!;
     const hit = plant !== null && affects(plant.placement, c.scheme);
     const slow = hit ? 1 + plant!.slowdown : 1;
     const accuracy = hit ? plant!.accuracyFactor : 1;
-    const centre = c.mu + R + signed(rng, model.caseShifts);
-    const samples = Array.from({ length: repeats }, () => Math.exp(centre + pick(rng, c.within)) * slow);
-    const t = c.template;
+    const samples = (rng ? t.samples.map(() => pick(rng, t.samples)) : t.samples).map((v) => v * slow);
     const err = (v: number | null) => (v === null ? null : v * accuracy);
     out.set(key, {
       id: id++,
@@ -77,17 +77,21 @@ function simulateRun(model: NoiseModel, rng: Prng, repeats: number, plant: Plant
   return out;
 }
 
-/** The A/B verdict over `keys` (pooled as bench/runner/ab.ts pools its cases). */
-function simulateAb(model: NoiseModel, rng: Prng, keys: string[], plant: Plant, blocks: number, repeats: number, seed: number, replicates: number): boolean {
+/**
+ * The A/B verdict over `keys` (pooled as bench/runner/ab.ts pools its cases). Each block is one
+ * sitting: A's and B's trials draw from the samples of ONE recorded run (picked per block), so
+ * that they share that moment's load as interleaving makes them do.
+ */
+function simulateAb(model: NoiseModel, runs: NoiseRun[], rng: Prng, keys: string[], plant: Plant, blocks: number, repeats: number, seed: number, replicates: number): boolean {
   const perCase = keys.map((key) => {
     const c = model.cases.get(key)!;
     const slow = affects(plant.placement, c.scheme) ? 1 + plant.slowdown : 1;
     const cases = [];
     for (let b = 0; b < blocks; b++) {
-      const beta = signed(rng, model.caseShifts);
-      const draw = (f: number) => Array.from({ length: repeats }, () => Math.exp(c.mu + beta + pick(rng, c.within)) * f);
-      // A B B A (or B A A B): two trials per side per block.
-      cases.push({ x: [...draw(slow), ...draw(slow)], y: [...draw(1), ...draw(1)] });
+      const pool = pick(rng, runs).cases.get(key)!.samples;
+      const draw = (f: number) => Array.from({ length: 2 * repeats }, () => pick(rng, pool) * f);
+      // A B B A (or B A A B): two trials of `repeats` solves per side per block.
+      cases.push({ x: draw(slow), y: draw(1) });
     }
     return pooledShift(cases, { confidence: 0.99, seed: 7, replicates });
   });
@@ -112,10 +116,14 @@ export interface TrialOptions {
   abReplicates: number;
 }
 
-export function runTrial(model: NoiseModel, plant: Plant, seed: number, o: TrialOptions): TrialOutcome {
+/**
+ * One trial: run `pair[0]` is the baseline, run `pair[1]` (planted) the current one; with
+ * `resample` both runs' samples are bootstrap-resampled (trials beyond the number of pairs).
+ */
+export function runTrial(model: NoiseModel, runs: NoiseRun[], pair: [number, number], plant: Plant, seed: number, o: TrialOptions, resample = false): TrialOutcome {
   const rng = createPrng(seed);
-  const base = simulateRun(model, rng, o.repeats, null);
-  const now = simulateRun(model, rng, o.repeats, plant);
+  const base = snapshot(model, runs[pair[0]]!, null, resample ? rng : null);
+  const now = snapshot(model, runs[pair[1]]!, plant, resample ? rng : null);
   const changed = plant.placement.kind !== "none";
   const affected = (f: Finding) => {
     if (f.scope && f.scope !== "case") {
@@ -127,10 +135,10 @@ export function runTrial(model: NoiseModel, plant: Plant, seed: number, o: Trial
     return affects(plant.placement, scheme);
   };
   const regress = (f: Finding) => f.direction === "regression";
-  const cases = compareCases(now, base, o.thresholds, 1).filter(regress);
+  const cases = compareCases(now, base, o.thresholds).filter(regress);
   const speedCases = cases.filter((f) => f.kind === "speed");
   const accuracy = cases.filter((f) => f.kind === "accuracy");
-  const groups = pooledFindings(now, base, o.thresholds, 1).filter(regress);
+  const groups = pooledFindings(now, base, o.thresholds).filter(regress);
   const speedPlanted = changed && plant.slowdown > 0;
   const accPlanted = changed && plant.accuracyFactor !== 1;
   const side = (found: Finding[], planted: boolean) => ({
@@ -149,30 +157,35 @@ export function runTrial(model: NoiseModel, plant: Plant, seed: number, o: Trial
     // Confirmation on the cases the plant concerns (unchanged: a random scheme's cases).
     const scheme = plant.placement.kind === "scheme" ? plant.placement.scheme : pick(rng, [...new Set(model.keys.map((k) => model.cases.get(k)!.scheme))]);
     const keys = plant.placement.kind === "suite" ? model.keys : model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
-    const slower = simulateAb(model, rng, keys, plant, o.abBlocks, o.abRepeats, seed, o.abReplicates);
+    const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abRepeats, seed, o.abReplicates);
     ab = { detected: speedPlanted && slower, alarm: !speedPlanted && slower };
   }
   return { perCase, pooled, any, ab, accuracy: acc };
 }
 
 /**
- * The drift rule (app/runs/rules.ts driftFinding) on simulated histories: `history` runs of every
- * case, the last one the current run; a planted step slows the affected cases from run
- * `history − stepRuns` on. Returns whether an affected case was flagged and whether any case
- * outside the plant (every case, for an unchanged history) was flagged as a regression.
+ * The drift rule (app/runs/rules.ts driftFinding) on histories made of the recorded runs of one
+ * unchanged commit in a random order (exchangeable when nothing changed), the last one the
+ * current run; a planted step slows the affected cases of the last `stepRuns` runs. Returns
+ * whether an affected case was flagged and whether any case outside the plant (every case, for an
+ * unchanged history) was flagged as a regression.
  */
-export function driftTrial(model: NoiseModel, plant: Plant, seed: number, t: Thresholds, repeats: number, history: number, stepRuns: number): { detected: boolean; alarm: boolean } {
+export function driftTrial(model: NoiseModel, runs: NoiseRun[], plant: Plant, seed: number, t: Thresholds, stepRuns: number): { detected: boolean; alarm: boolean } {
   const rng = createPrng(seed);
-  const shifts = Array.from({ length: history }, () => signed(rng, model.runShifts));
+  const order = runs.map((_, i) => i);
+  for (let i = order.length - 1; i > 0; i--) {
+    const j = rng.nextInt(i + 1);
+    [order[i], order[j]] = [order[j]!, order[i]!];
+  }
   let detected = false;
   let alarm = false;
   for (const key of model.keys) {
     const c = model.cases.get(key)!;
     const hit = plant.placement.kind !== "none" && affects(plant.placement, c.scheme);
-    const pts = shifts.map((R, r) => {
-      const w = Array.from({ length: repeats }, () => pick(rng, c.within)).sort((a, b) => a - b)[repeats >> 1]!;
-      const slow = hit && r >= history - stepRuns ? Math.log(1 + plant.slowdown) : 0;
-      return { runId: String(r), y: c.mu + R + signed(rng, model.caseShifts) + w + slow, problemId: c.problemId };
+    const pts = order.map((r, k) => {
+      const s = [...runs[r]!.cases.get(key)!.samples].sort((a, b) => a - b);
+      const slow = hit && k >= order.length - stepRuns ? Math.log(1 + plant.slowdown) : 0;
+      return { runId: String(k), y: Math.log(s[s.length >> 1]!) + slow, problemId: c.problemId };
     });
     const d = driftFinding(key, pts, t);
     if (!d || d.finding.direction !== "regression") continue;

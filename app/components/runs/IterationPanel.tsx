@@ -135,7 +135,7 @@ export function IterationPanel({ rows }: { rows: readonly LogRow[] }) {
   return (
     <div className="space-y-3">
       <p className="text-sm text-muted" data-testid="iteration-summary">
-        {it.length} iterations{restorations ? `, ${restorations} in the restoration phase (shaded)` : ""}; the line search cut the step {cuts} time{cuts === 1 ? "" : "s"}.
+        {Math.max(0, it.length - 1)} iterations after the starting point (row 0){restorations ? `, ${restorations} in the restoration phase (shaded)` : ""}; the line search cut the step {cuts} time{cuts === 1 ? "" : "s"}.
       </p>
       <div className="flex flex-wrap gap-3">
         <SmallChart title="Objective" note="(as the problem states it)" it={it} series={[{ key: "f", label: "objective", colour: "var(--aw-accent)" }]} log={false} />
