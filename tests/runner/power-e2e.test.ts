@@ -15,16 +15,19 @@ describe("detection power, reduced end to end", () => {
   it("finds a planted 50 % one-scheme slowdown as one group finding; unchanged reruns raise nothing", { timeout: 900_000 }, async () => {
     const { runs } = await realCheck({
       scheme: "hermite-simpson",
-      problems: ["pika-rover-dash", "kestrel-2-ascent", "tern-orbit-raise", "alder-ridge-cable-car"],
+      // The quick suite's five problems: with the CPU-time spread of a loaded 2-core machine (sd of
+      // ln time ≈ 0.34 within a run, bench/detection-power.bench.ts) three or four cases of 10–15
+      // samples left the scheme's pooled interval across 1 in 2 of 2 tries.
+      problems: ["pika-rover-dash", "kestrel-2-ascent", "tern-orbit-raise", "ibis-crane-load-flip", "alder-ridge-cable-car"],
       schemes: ["trapezoidal", "hermite-simpson"],
-      intervals: 16,
-      repeats: 15,
+      intervals: 12,
+      repeats: 20,
       reruns: 2,
       fractions: [0.5],
       revert: false,
       onRun: (r) => console.log(`${r.label}: ${r.findings.map((f) => `${f.kind} ${f.direction} ${f.caseKey} ${f.detail}`).join("; ") || "nothing"} (${r.seconds.toFixed(0)} s)`),
     });
-    expect(runs.map((r) => r.solved)).toEqual(runs.map(() => 8));
+    expect(runs.map((r) => r.solved)).toEqual(runs.map(() => 10));
     for (const r of runs.filter((x) => x.label.startsWith("unchanged"))) {
       expect(r.findings, r.label).toEqual([]);
       expect(r.code, r.label).toBe(0);
