@@ -173,7 +173,7 @@ export function statusTone(family: StatusFamily, status: string): string {
 export const REGRESSION_KINDS = {
   accuracy: { label: "accuracy", definition: "An error metric (objective, state, control or final time) grew by more than the suite's factor and above its floor." },
   robustness: { label: "robustness", definition: "A case stopped being solved, or needed markedly more iterations." },
-  speed: { label: "speed", definition: "The calibrated median solve time grew beyond the threshold ratio, with a one-sided Mann–Whitney test and a bootstrap interval agreeing." },
+  speed: { label: "speed", definition: "The median solve time grew beyond the threshold ratio, with a one-sided Mann–Whitney test and a bootstrap interval agreeing." },
   structure: { label: "arc structure", definition: "The sequence of bang, singular and boundary arcs changed." },
   drift: { label: "slow drift", definition: "Solve time moved gradually over many runs (a change point in the history), though no single step crossed the speed threshold." },
 } satisfies Record<string, Entry>;
@@ -255,7 +255,7 @@ export const THRESHOLDS = {
   accuracyFloor: { label: "Accuracy: floor", definition: "…and the new error is above this absolute value." },
   iterationShare: { label: "Robustness: iteration growth", definition: "Flag when iterations grow by more than this share (0.25 = 25 %)…" },
   iterationMin: { label: "Robustness: at least this many more iterations", definition: "…and by at least this many iterations." },
-  speedRatio: { label: "Speed: time ratio", definition: "Flag when the calibrated median time ratio exceeds this…" },
+  speedRatio: { label: "Speed: time ratio", definition: "Flag when the median time ratio exceeds this…" },
   alpha: { label: "Speed: significance level", definition: "…and the one-sided Mann–Whitney p-value is below this." },
   confidence: { label: "Speed: interval level", definition: "Two-sided level of the bootstrap interval of the median ratio." },
   driftMinShift: { label: "Drift: smallest shift", definition: "Smallest |shift| of ln(time ratio) between the last two segments; ln 1.1 ≈ 0.0953 is a 10 % shift." },

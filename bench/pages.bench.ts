@@ -57,7 +57,7 @@ const traj = JSON.stringify({
   tLambda: null,
   costates: null,
 });
-const log = JSON.stringify({ log: Array.from({ length: 40 }, (_, i) => ({ iter: i, f: 1 / (i + 1), infPr: 10 ** -i / 4, infDu: 10 ** -i / 3, mu: 0.1 / (i + 1), normD: 1, deltaW: 0, alphaPr: 1, alphaDu: 1, lsTrials: 1, phase: "regular", info: "" })), extra: {} });
+const log = JSON.stringify({ log: Array.from({ length: 40 }, (_, i) => ({ iter: i, f: 1 / (i + 1), infPr: 10 ** -i / 4, infDu: 10 ** -i / 3, mu: 0.1 / (i + 1), normD: 1, deltaW: 0, alphaPr: 1, alphaDu: 1, lsTrials: 1, phase: "regular", events: [] })), extra: {} });
 let firstCaseId = 0;
 sqlite.transaction(() => {
   for (let p = 0; p < PROBLEMS; p++) insProblem.run(`bench-problem-${p}`, `Bench problem ${p}`);

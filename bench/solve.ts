@@ -18,7 +18,8 @@ import { numberFlagParser } from "./cli/number-flag";
 import { isEntryScript } from "./cli/entry";
 import { SCHEME_IDS, isSchemeId } from "../app/engine/schemes/ids";
 import type { SolveReport } from "../app/engine/solve";
-import type { IterationRecord, NlpOptions } from "../app/engine/nlp/types";
+import type { NlpOptions } from "../app/engine/nlp/types";
+import { terminalLogPrinter } from "../app/engine/nlp/iteration-log";
 import type { Mesh } from "../app/engine/schemes/types";
 import { solveAdaptive } from "../app/engine/mesh/adaptive";
 import { passLine, refinementLines } from "../app/engine/mesh/summary";
@@ -116,15 +117,6 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
 const fmt = (v: number | null | undefined, digits = 3) => (v === null || v === undefined ? "—" : Number.isFinite(v) ? v.toExponential(digits) : String(v));
 const fix = (v: number | null | undefined, digits = 10) => (v === null || v === undefined ? "—" : v.toPrecision(digits));
 
-/** Column heads of Arcwatch's iteration log (our own layout: see DEVELOPERS.md, Command line). */
-export const LOG_HEAD = " step ph        objective  primal viol    dual viol   barrier μ    |step x|   hess reg   α primal     α dual  tries  notes";
-
-function logLine(r: IterationRecord): string {
-  const e = (v: number, w = 11) => (Number.isFinite(v) ? v.toExponential(2) : String(v)).padStart(w);
-  const phase = r.phase === "restoration" ? "rs" : "  ";
-  return `${String(r.iter).padStart(5)} ${phase} ${r.f.toExponential(8).padStart(16)} ${e(r.infPr, 12)} ${e(r.infDu, 12)} ${e(r.mu)} ${e(r.normD)} ${r.deltaW > 0 ? e(r.deltaW, 10) : "0".padStart(10)} ${e(r.alphaPr, 10)} ${e(r.alphaDu, 10)} ${String(r.lsTrials).padStart(6)}  ${r.info}`;
-}
-
 function summary(rep: SolveReport, title: string): string {
   const L: string[] = [];
   const e = rep.errors;
@@ -186,8 +178,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
   if (args.maxIter !== undefined) nlp.maxIter = args.maxIter;
   if (!args.quiet) {
     process.stderr.write(`solving ${problem.id} with ${scheme}, ${mesh.intervals} intervals${mesh.degree ? ` × degree ${mesh.degree}` : ""}\n`);
-    process.stderr.write(`${LOG_HEAD}\n`);
-    nlp.onIteration = (r) => process.stderr.write(`${logLine(r)}\n`);
+    nlp.onIteration = terminalLogPrinter((line) => process.stderr.write(`${line}\n`));
   }
   if (args.mesh === "adaptive") {
     const ad = solveAdaptive(problem, scheme, mesh, {

@@ -198,7 +198,7 @@ export async function seedDemoResults(db: Db, options: DemoSeedOptions = {}): Pr
         });
       }
       if (previous && previousRunId) {
-        for (const f of compareCases(current, previous, thresholds, 1)) {
+        for (const f of compareCases(current, previous, thresholds)) {
           const reg = tx
             .insert(regressions)
             .values({ runId, baselineRunId: previousRunId, caseKey: f.caseKey, kind: f.kind, direction: f.direction, metric: f.metric, before: f.before, after: f.after, ratio: f.ratio !== null && Number.isFinite(f.ratio) ? f.ratio : null, pValue: f.pValue, ciLow: f.ciLow, ciHigh: f.ciHigh, status: f.direction === "improvement" ? "acknowledged" : "open" })

@@ -24,7 +24,7 @@ import type { Db } from "~/db/client.server";
 import { caseResults, problemVersions, regressionEvents, regressionMembers, regressions, regressionSightings, runs, suites, timingSamples } from "~/db/schema";
 import { referenceArcsOfJson } from "~/engine/problem/library";
 import { pooledFindings } from "~/runs/pooled";
-import { caseCalibration, compareCases, driftFinding, runCalibration, type CaseSnapshot, type DriftPoint, type Finding, type ReferenceArcs } from "~/runs/rules";
+import { caseCalibration, compareCases, driftFinding, type CaseSnapshot, type DriftPoint, type Finding, type ReferenceArcs } from "~/runs/rules";
 import { isSolved, type Thresholds } from "~/runs/types";
 import { effectiveThresholds } from "./settings.server";
 import { ancestry, repositoryOf } from "./commit-order.server";
@@ -183,9 +183,8 @@ export function detectDrift(db: Db, run: RunRow, suiteName: string, t: Threshold
     const pts: DriftPoint[] = [];
     for (const r of seq) {
       const c = perRun.get(r.id);
-      const cal = t.calibrate ? (caseCalibration(c?.log) ?? runCalibration(r)) : 1;
-      if (!c || c.median === null || !(c.median > 0) || !isSolved(c.status) || !cal) continue;
-      pts.push({ runId: r.id, y: Math.log(c.median / cal), problemId: c.problemId });
+      if (!c || c.median === null || !(c.median > 0) || !isSolved(c.status)) continue;
+      pts.push({ runId: r.id, y: Math.log(c.median), problemId: c.problemId });
     }
     if (pts.length === 0 || pts[pts.length - 1]!.runId !== run.id) continue;
     const drift = driftFinding(key, pts, t);
@@ -222,15 +221,12 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
   const baseline = findBaseline(db, { runId, suiteName, machineKey: timings ? run.machineKey : null, commit: options.baseline?.commit, branch: options.baseline?.branch, runCommit: run.commitHash, externalRepo: run.externalRepo });
   const findings: Finding[] = [];
   if (baseline) {
-    const calNow = runCalibration(run);
-    const calBase = runCalibration(baseline);
-    const factor = t.calibrate && calNow && calBase ? calNow / calBase : 1;
     const now = loadCases(db, runId);
     const base = loadCases(db, baseline.id);
     // Group findings first: pages and e-mails show them before their member cases. A merged run whose
     // shards came from different machine classes keeps its accuracy checks only.
-    findings.push(...pooledFindings(now, base, t, factor).filter((f) => timings || f.kind !== "speed"));
-    findings.push(...compareCases(now, base, t, factor, options.referenceArcs ?? referenceArcsOfRun(db, runId)).filter((f) => timings || f.kind !== "speed"));
+    findings.push(...pooledFindings(now, base, t).filter((f) => timings || f.kind !== "speed"));
+    findings.push(...compareCases(now, base, t, options.referenceArcs ?? referenceArcsOfRun(db, runId)).filter((f) => timings || f.kind !== "speed"));
   }
   const speedFlagged = new Set(findings.filter((f) => f.kind === "speed").map((f) => f.caseKey));
   if (timings) findings.push(...detectDrift(db, run, suiteName, t, speedFlagged));

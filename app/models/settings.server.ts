@@ -15,7 +15,7 @@ export const THRESHOLD_FIELDS = {
   accuracyFloor: { help: "…and the new error is above this absolute floor", schema: z.coerce.number().min(0).max(1) },
   iterationShare: { help: "Robustness: flag when iterations grow by more than this share (0.25 = 25 %)", schema: z.coerce.number().min(0).max(100) },
   iterationMin: { help: "…and by at least this many iterations", schema: z.coerce.number().int().min(0).max(100000) },
-  speedRatio: { help: "Speed: flag when the calibrated median time ratio exceeds this", schema: z.coerce.number().min(1).max(100) },
+  speedRatio: { help: "Speed: flag when the median time ratio exceeds this", schema: z.coerce.number().min(1).max(100) },
   alpha: { help: "…and the one-sided Mann–Whitney p is below this", schema: z.coerce.number().gt(0).lt(1) },
   confidence: { help: "Two-sided level of the bootstrap interval of the median ratio", schema: z.coerce.number().gt(0).lt(1) },
   driftMinShift: { help: "Drift: minimum |shift| of ln(time ratio) between the last two segments", schema: z.coerce.number().min(0).max(10) },

@@ -9,6 +9,7 @@ import { getCase, type CaseTrajectory } from "~/models/cases.server";
 import { requireUser } from "~/services/auth.server";
 import { getCaseMesh } from "~/models/mesh.server";
 import { MeshPanel } from "~/components/MeshPanel";
+import { IterationPanel } from "~/components/runs/IterationPanel";
 import { METRICS, metricLabel, statusLabel } from "~/vocabulary";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.c.caseKey ?? "Case"} · Arcwatch` }];
@@ -24,13 +25,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 /** Every number's label comes from the vocabulary (app/vocabulary.ts); a formula is shown beside it. */
 const NUMBER_LABELS: Record<string, string> = Object.fromEntries(Object.entries(METRICS).map(([k, m]) => [k, m.label]));
 const SECONDS = new Set(["medianSeconds", "meanSeconds", "stddevSeconds", "minSeconds"]);
-const LOG_COLUMNS = ["iter", "f", "infPr", "infDu", "mu", "normD", "deltaW", "alphaPr", "alphaDu", "lsTrials", "phase", "info"] as const;
-/** Column heads in Arcwatch's own words (the same as the solve command's log). */
-const LOG_HEADS: Record<(typeof LOG_COLUMNS)[number], string> = {
-  iter: "step", f: "objective", infPr: "primal viol", infDu: "dual viol", mu: "barrier μ", normD: "|step x|",
-  deltaW: "hess reg", alphaPr: "α primal", alphaDu: "α dual", lsTrials: "tries", phase: "phase", info: "notes",
-};
-
 export default function CasePage({ loaderData }: Route.ComponentProps) {
   const { c, mesh } = loaderData;
   const fetcher = useFetcher<CaseTrajectory>();
@@ -116,20 +110,7 @@ export default function CasePage({ loaderData }: Route.ComponentProps) {
         {c.log.length === 0 ? (
           <p className="text-muted">No iteration log was stored for this case.</p>
         ) : (
-          <div className="card max-h-[32rem] overflow-auto">
-            <table className="w-full text-xs" data-testid="iteration-log">
-              <thead className="sticky top-0 bg-raised text-left">
-                <tr>{LOG_COLUMNS.map((k) => <th key={k} scope="col" className="px-2 py-1">{LOG_HEADS[k]}</th>)}</tr>
-              </thead>
-              <tbody>
-                {c.log.map((r, i) => (
-                  <tr key={i} className={`border-t border-line/50 ${r.phase === "restoration" ? "bg-warn/10" : ""}`}>
-                    {LOG_COLUMNS.map((k) => <td key={k} className="num px-2 py-0.5 text-right">{typeof r[k] === "number" ? (k === "iter" || k === "lsTrials" ? r[k] : (r[k] as number).toExponential(3)) : String(r[k] ?? "")}</td>)}
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
+          <IterationPanel rows={c.log} />
         )}
       </section>
     </div>

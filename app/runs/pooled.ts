@@ -63,13 +63,12 @@ function judge(members: Timed[], t: Thresholds, key: string): { ratio: number; l
  * Group findings of one run against its baseline (pure given the rows). `calibrationFactor` and
  * the case-level calibrations are applied as in the per-case rule (./rules.ts).
  */
-export function pooledFindings(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>, t: Thresholds, calibrationFactor = 1): Finding[] {
+export function pooledFindings(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>, t: Thresholds): Finding[] {
   const timed: Timed[] = [];
   for (const [key, cur] of now) {
     const old = base.get(key);
     if (!old || !isSolved(cur.status) || !isSolved(old.status) || cur.samples.length < 3 || old.samples.length < 3) continue;
-    const factor = t.calibrate ? (cur.calibration && old.calibration ? cur.calibration / old.calibration : calibrationFactor) : 1;
-    timed.push({ key, problemId: cur.problemId, scheme: schemeOf(cur), x: cur.samples.map((v) => v / factor), y: [...old.samples] });
+    timed.push({ key, problemId: cur.problemId, scheme: schemeOf(cur), x: [...cur.samples], y: [...old.samples] });
   }
   const groups = (scope: GroupScope, pool: Timed[]): Map<string, Timed[]> => {
     const out = new Map<string, Timed[]>();

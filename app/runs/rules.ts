@@ -9,11 +9,11 @@
  *              Improvement: e_base > accuracyFactor · e_now and e_base > accuracyFloor.
  *  robustness  solved before and not now (metric "status"); iterations up by more than
  *              iterationShare and by at least iterationMin (metric "iterations"). Reverse = improvement.
- *  speed       both solved with ≥ 3 samples each; r = median(x/c) / median(y), x the current
- *              samples, y the baseline's, c = calibration_now / calibration_base from the
- *              case-level calibrations measured beside each case (run-level ones when missing;
- *              1 when calibration is off); flagged when r > speedRatio AND (one-sided Mann–Whitney
- *              p < alpha on x/c vs y OR the bootstrap interval of r lies above 1).
+ *  speed       both solved with ≥ 3 samples each; r = median(x) / median(y), x the current
+ *              samples, y the baseline's (raw: dividing by the calibration kernel measured beside
+ *              each case was measured to add noise, DEVELOPERS.md); flagged when r > speedRatio
+ *              AND (one-sided Mann–Whitney p < alpha on x vs y OR the bootstrap interval of r lies
+ *              above 1).
  *              Improvement: r < 1/speedRatio with the mirrored evidence.
  *  refinement  adaptive cases (mesh_tolerance set in both, solved in both or in neither): ε met
  *              before and not now (robustness, metric "mesh_tolerance_met"; reverse = improvement);
@@ -23,7 +23,7 @@
  *              pass); iterations are those of all passes.
  *  structure   the arc signature changed (reports carrying `arcs.signature`); an improvement when
  *              the new one equals the problem's reference arcs and the old one did not.
- *  drift       PELT (app/engine/stats/change-point.ts) on ln(median / calibration) over the case's
+ *  drift       PELT (app/engine/stats/change-point.ts) on ln(median) over the case's
  *              history on the same branch and machine; flagged when the latest segment starts
  *              within the history, contains the current run, shifted by ≥ driftMinShift, and no
  *              drift row already exists for a run of that segment.
@@ -124,7 +124,6 @@ export function compareCases(
   now: Map<string, CaseSnapshot>,
   base: Map<string, CaseSnapshot>,
   t: Thresholds,
-  calibrationFactor: number,
   referenceArcs: Map<string, string> = new Map(),
 ): Finding[] {
   const out: Finding[] = [];
@@ -174,9 +173,7 @@ export function compareCases(
       }
     }
     if (cur.samples.length >= 3 && old.samples.length >= 3) {
-      // Case-level calibration when both cases carry it, else the run-level factor.
-      const factor = t.calibrate ? (cur.calibration && old.calibration ? cur.calibration / old.calibration : calibrationFactor) : 1;
-      const x = cur.samples.map((v) => v / factor);
+      const x = cur.samples;
       const y = old.samples;
       const ratio = median(x) / median(y);
       const seed = seedOf(key);
@@ -196,7 +193,7 @@ export function compareCases(
             pValue: mw.pValue,
             ciLow: ci.low,
             ciHigh: ci.high,
-            detail: `median ${fmt(median(y))} s → ${fmt(median(cur.samples))} s, ratio ${ratio.toFixed(3)}${factor !== 1 ? ` (calibrated ×${(1 / factor).toFixed(3)})` : ""}, Mann–Whitney p = ${fmt(mw.pValue, 2)}, ${Math.round(t.confidence * 100)} % CI [${ci.low.toFixed(3)}, ${ci.high.toFixed(3)}]`,
+            detail: `median ${fmt(median(y))} s → ${fmt(median(cur.samples))} s, ratio ${ratio.toFixed(3)}, Mann–Whitney p = ${fmt(mw.pValue, 2)}, ${Math.round(t.confidence * 100)} % CI [${ci.low.toFixed(3)}, ${ci.high.toFixed(3)}]`,
           });
         }
       }
@@ -239,7 +236,7 @@ export function refinementFindings(key: string, cur: CaseSnapshot, old: CaseSnap
 /** Reference arc signatures ("a|b|c") of problems. */
 export type ReferenceArcs = Map<string, string>;
 
-/** One point of a case's history: a run and ln(calibrated median seconds). */
+/** One point of a case's history: a run and ln(median seconds). */
 export interface DriftPoint {
   runId: string;
   y: number;
@@ -274,7 +271,7 @@ export function driftFinding(caseKey: string, pts: DriftPoint[], t: Thresholds):
       pValue: null,
       ciLow: null,
       ciHigh: null,
-      detail: `change point ${pts.length - step.index} run(s) ago in ${pts.length} runs: calibrated time ×${ratio.toFixed(3)} (PELT, σ̂ = ${step.sigma.toFixed(3)} in ln units)`,
+      detail: `change point ${pts.length - step.index} run(s) ago in ${pts.length} runs: time ×${ratio.toFixed(3)} (PELT, σ̂ = ${step.sigma.toFixed(3)} in ln units)`,
     },
   };
 }

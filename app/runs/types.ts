@@ -87,7 +87,7 @@ export interface Thresholds {
   iterationShare: number;
   /** ...and by at least this many iterations. */
   iterationMin: number;
-  /** Speed: flag when the (calibrated) median time ratio exceeds this... */
+  /** Speed: flag when the median time ratio exceeds this... */
   speedRatio: number;
   /** ...and Mann–Whitney p < alpha (one-sided) or the bootstrap interval excludes 1. */
   alpha: number;
@@ -98,8 +98,6 @@ export interface Thresholds {
   driftMinShift: number;
   /** Drift: minimum number of runs in a case's history before PELT is tried. */
   driftMinHistory: number;
-  /** Divide times by the calibration workload's time so that machines' load states compare. */
-  calibrate: boolean;
   /** Pooled speed rule (app/runs/pooled.ts): flag a scheme/problem/suite whose pooled ratio exceeds this... */
   pooledSpeedRatio: number;
   /** ...when it has at least this many timed cases (and its interval excludes 1). */

@@ -103,6 +103,9 @@ describe.runIf(run)("running a suite from the browser", () => {
     await page.waitForSelector("[data-testid=case-status]", { timeout: 20_000 });
     expect(page.url()).toMatch(/\/cases\/\d+$/);
     await page.waitForSelector("[data-testid=trajectory-chart] svg path.recharts-curve", { timeout: 20_000 });
+    // The iteration log: charts first, the numbers behind a toggle (tests/browser/iteration-log.test.ts).
+    await page.waitForSelector("[data-testid=iteration-chart] svg path.recharts-curve", { timeout: 20_000 });
+    await page.click("[data-testid=iteration-table-toggle]");
     expect(await page.locator("[data-testid=iteration-log] tbody tr").count()).toBeGreaterThan(2);
     await screenshot(page, "case-page");
     await page.goto(url("/runs"));

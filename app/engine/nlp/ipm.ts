@@ -13,6 +13,7 @@
  * plus one sparse factorisation (more with inertia correction) and its solves.
  */
 import type { IterationRecord, NlpStatus } from "./types";
+import { terminalLogPrinter, type IterationEvent } from "./iteration-log";
 import type { ResolvedOptions } from "./options";
 import { CONSTANTS as C } from "./options";
 import { ModelError, type InternalProblem } from "./internal";
@@ -32,6 +33,9 @@ import {
   addScaled, allFinite, axpyInto, boundSlacks, dot, jacTransposeTimes, kktRightHandSide, lagrangianGradient,
   norm1, normInfScaled, primalDualSigma, relativeStep, splitSolution,
 } from "./vectors";
+
+/** printLevel ≥ 1: the terminal log printer of each solve (keyed by its log array). */
+const printers = new WeakMap<IterationRecord[], (r: IterationRecord) => void>();
 
 export interface IpmContext {
   opts: ResolvedOptions;
@@ -143,7 +147,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   const thetaMin = C.thetaMinFact * Math.max(1, theta0);
   filter.reset(thetaMax);
 
-  let rec: Omit<IterationRecord, "iter" | "f" | "infPr" | "infDu" | "mu" | "phase"> = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, info: "" };
+  let rec: Omit<IterationRecord, "iter" | "f" | "infPr" | "infDu" | "mu" | "phase"> = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, events: [] };
   let acceptableCount = 0;
   let forceMuUpdate = false;
   let tinyCount = 0;
@@ -187,8 +191,12 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     const record: IterationRecord = { iter: ctx.iter, f: fUser, infPr, infDu, mu, phase, ...rec };
     ctx.log.push(record);
     ctx.onIteration?.(record);
-    if (o.printLevel > 0)
-      console.log(`${String(ctx.iter).padStart(4)}${phase === "restoration" ? "r" : " "} ${fUser.toExponential(7)} ${infPr.toExponential(2)} ${infDu.toExponential(2)} ${Math.log10(mu).toFixed(1)} ${rec.normD.toExponential(2)} ${rec.deltaW ? Math.log10(rec.deltaW).toFixed(1) : "-"} ${rec.alphaDu.toExponential(2)} ${rec.alphaPr.toExponential(2)}${rec.info} ${rec.lsTrials}`);
+    if (o.printLevel > 0) {
+      // One printer per solve (the restoration phase shares it): phase changes get a heading.
+      let print = printers.get(ctx.log);
+      if (!print) printers.set(ctx.log, (print = terminalLogPrinter((line) => console.log(line))));
+      print(record);
+    }
 
     if (hooks.stopCheck && ctx.iter > firstIter && hooks.stopCheck(w)) return { status: "returned", message: "restoration phase succeeded", infPr, infDu };
     const unscaledOk = infPr <= o.constrViolTol && E0.dual * P.dualUnscale <= o.dualInfTol && E0.compl * P.dualUnscale <= o.complInfTol;
@@ -294,7 +302,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     ctx.factorMs += performance.now() - tf;
     ctx.factorizations += corr.factorizations;
     if (hooks.stats) hooks.stats.nnzL = kkt.solver.nnzL;
-    let info = corr.deltaW > 0 ? "h" : "";
+    const events: IterationEvent[] = corr.deltaW > 0 ? ["hessian-shift"] : [];
     const phi = barrierValue(fval, w, P.wL, P.wU, hasL, hasU, mu);
     const theta = theta1(cv);
     /** (θ, φ) of the point the step starts from (the stored one after a watchdog revert). */
@@ -348,10 +356,10 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
           // Final steps: full fraction-to-the-boundary step, no line search (the point is within
           // the region of fast local convergence; a step that spoils the KKT test is undone above).
           const t = host.trial(alphaMax);
-          if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "f"; polish.steps++; }
+          if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; events.push("final-step"); polish.steps++; }
         } else if (rel < 10 * EPS) {
           const t = host.trial(alphaMax);
-          if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "t"; }
+          if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; events.push("tiny-step"); }
           forceMuUpdate = true;
           tinyCount++;
         } else {
@@ -368,10 +376,10 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
             const acc = t ? acceptTrial(t, alphaMax, filter, wd.theta, wd.phi, wd.gradPhiD, thetaMin) : null;
             if (t && acc && acc.ok) {
               lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = !acc.fType; thetaFrom = wd.theta; phiFrom = wd.phi;
-              wd.active = false; wd.shortened = 0; info += "W";
+              wd.active = false; wd.shortened = 0; events.push("watchdog-kept");
             } else if (t && wd.trials < C.watchdogTrialIterMax) {
               wd.trials++;
-              lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; info += "w";
+              lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; events.push("watchdog-trial");
             } else {
               // Back to the stored iterate and an ordinary backtracking along its direction.
               wd.active = false; wd.shortened = 0;
@@ -381,7 +389,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
               slacks(w);
               thetaFrom = wd.theta; phiFrom = wd.phi;
               const ls = backtrack(host, filter, wd.theta, wd.phi, wd.gradPhiD, wd.alphaMax, thetaMin, false);
-              lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = false; lsAugment = ls.augment; info += "R";
+              lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = false; lsAugment = ls.augment; events.push("watchdog-undone");
             }
           } else {
             const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0);
@@ -420,7 +428,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       const err = evalPoint();
       if (err) return fail("numerical_trouble", `after restoration: ${err}`, infPr, infDu);
       // λ: the restoration problem's multipliers of c(w) − p + n = 0 (copied back by runRestoration).
-      rec = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, info: "r" };
+      rec = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, events: ["restoration-return"] };
       acceptableCount = 0;
       continue;
     }
@@ -428,7 +436,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     // ---- A-6: accept the trial point.
     const dW = lsSoc ? dwSoc : dw;
     const dL = lsSoc ? dlamSoc : dlam;
-    if (lsSoc) info += "s";
+    if (lsSoc) events.push("second-order-correction");
     boundMultiplierStep(mu, dW, sL, sU, hasL, hasU, zL, zU, dzL, dzU);
     let alphaZ = fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
     alphaZ = fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
@@ -461,7 +469,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     slacks(w);
     resetBoundMultipliers(mu, sL, sU, hasL, hasU, zL, zU);
     ctx.iter++;
-    rec = { normD, deltaW: corr.deltaW, alphaPr: lsAlpha, alphaDu: alphaZ, lsTrials, info };
+    rec = { normD, deltaW: corr.deltaW, alphaPr: lsAlpha, alphaDu: alphaZ, lsTrials, events };
     st.mu = mu;
   }
 }

@@ -1,3 +1,4 @@
+import type { IterationEvent } from "./iteration-log";
 import type { SymmetricSolverLike } from "../sparse/types";
 
 /**
@@ -72,11 +73,8 @@ export interface IterationRecord {
   /** Number of backtracking trials in the line search. */
   lsTrials: number;
   phase: "regular" | "restoration";
-  /**
-   * Short tags: "s" second-order correction, "h" hessian perturbed, "r" back from restoration,
-   * "t" tiny step, "w" watchdog trial step, "W" watchdog success, "R" watchdog reverted.
-   */
-  info: string;
+  /** What happened in this iteration, by name (./iteration-log.ts ITERATION_EVENTS). */
+  events: IterationEvent[];
 }
 
 export interface NlpOptions {

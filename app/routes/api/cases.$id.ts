@@ -3,6 +3,7 @@ import { getDb } from "~/db/client.server";
 import { getCase, getCaseTrajectory } from "~/models/cases.server";
 import { requireUser } from "~/services/auth.server";
 import { csvResponse, jsonResponse, wantsCsv } from "~/services/export.server";
+import { eventWords, eventsOfRow } from "~/engine/nlp/iteration-log";
 
 /**
  * GET /api/cases/:id (viewer or token): one case with all numbers and its iteration log.
@@ -29,8 +30,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!c) return Response.json({ error: `No case ${id}.` }, { status: 404 });
   if (wantsCsv(request)) {
     if (part === "log") {
-      const cols = [...new Set(c.log.flatMap((r) => Object.keys(r)))];
-      return csvResponse(`arcwatch-case-${id}-log`, cols, c.log);
+      // Events in words, one cell ("step cut ×2; second-order correction"), also for older logs.
+      const rows = c.log.map(({ info: _old, events: _ev, ...r }) => ({ ...r, events: eventWords({ lsTrials: Number(r.lsTrials) || 0, events: eventsOfRow({ events: _ev, info: _old }) }).join("; ") }));
+      const cols = [...new Set(rows.flatMap((r) => Object.keys(r)))];
+      return csvResponse(`arcwatch-case-${id}-log`, cols, rows);
     }
     return csvResponse(`arcwatch-case-${id}`, ["name", "value"], Object.entries(c.numbers).map(([name, value]) => ({ name, value })));
   }
