@@ -9,7 +9,7 @@ import path from "node:path";
 import { and, desc, eq, sql, isNull } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { libraryProblemsDir, uploadedProblemsDir, webProblemLibrary } from "./library.server";
-import { caseResults, problemReferences, problemVersions, problems, runs } from "~/db/schema";
+import { caseResults, problemVersions, runs } from "~/db/schema";
 import { compileProblemSource, type ProblemSourceFiles } from "~/engine/problem/compile";
 import type { ProblemError } from "~/engine/problem/errors";
 import { loadFromLibrary, loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
@@ -18,6 +18,9 @@ import { solveProblem } from "~/engine/solve";
 import { nameToTex, toTex } from "~/engine/expr/tex";
 import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, describeBuilderError, errorsByField, uploadFieldOf, type BuilderOrigins } from "~/engine/problem/form";
 import { isSolved } from "~/runs/types";
+import { savePlanOf, type SavePlan } from "./problem-save.server";
+export { isLibraryProblem, saveUploadedProblem, savePlanOf, type SaveOutcome, type SavePlan } from "./problem-save.server";
+
 
 import { SCHEMES, type SchemeName } from "~/engine/schemes/ids";
 export { SCHEMES, type SchemeName };
@@ -334,76 +337,6 @@ export function uploadedProblemFiles(id: string): ProblemSourceFiles | null {
   }
 }
 
-export function isLibraryProblem(id: string): boolean {
-  return PROBLEM_ID_PATTERN.test(id) && fs.existsSync(path.join(libraryProblemsDir(), id, "problem.json"));
-}
-
-export type SaveOutcome =
-  | { ok: true; id: string; versionHash: string; newVersion: boolean }
-  | { ok: false; errors: ProblemError[]; idError?: string };
-
-function writeAtomic(file: string, text: string) {
-  const tmp = `${file}.${process.pid}.${Date.now()}.tmp`;
-  fs.writeFileSync(tmp, text);
-  fs.renameSync(tmp, file);
-}
-
-/**
- * Saves an added or edited problem: compiles it (refusing any error), writes its files to the
- * uploaded-problems folder (the runner's library from the next run on), upserts the problem row
- * and adds a problem version keyed by content hash. Results already recorded keep pointing at the
- * version hash they solved, so an edit never rewrites them.
- */
-export function saveUploadedProblem(db: Db, id: string, files: ProblemSourceFiles, mode: "create" | "edit"): SaveOutcome {
-  if (!PROBLEM_ID_PATTERN.test(id) || id.includes("..")) return { ok: false, errors: [], idError: "Letters, digits, '-', '_' and '.', starting with a letter or digit (at most 128)." };
-  if (isLibraryProblem(id)) return { ok: false, errors: [], idError: `'${id}' is a problem of the checkout's library (edit it in git).` };
-  const dir = path.join(uploadedProblemsDir(), id);
-  const exists = fs.existsSync(path.join(dir, "problem.json"));
-  if (mode === "create" && exists) return { ok: false, errors: [], idError: `A problem '${id}' already exists: open it and choose Edit.` };
-  if (mode === "edit" && !exists) return { ok: false, errors: [], idError: `No added problem '${id}' to edit.` };
-  const compiled = compileProblemSource(id, files, `${id}/problem.json`);
-  if (!compiled.ok) return { ok: false, errors: compiled.errors };
-  const p = compiled.problem;
-  fs.mkdirSync(dir, { recursive: true });
-  writeAtomic(path.join(dir, "problem.json"), files.problemJson);
-  const refFile = path.join(dir, "reference.csv");
-  if (files.referenceCsv !== undefined) writeAtomic(refFile, files.referenceCsv);
-  else if (fs.existsSync(refFile)) fs.rmSync(refFile);
-  let newVersion = false;
-  db.transaction((tx) => {
-    tx.insert(problems)
-      .values({ id, title: p.title, description: p.description, tagsJson: p.tags })
-      .onConflictDoUpdate({ target: problems.id, set: { title: p.title, description: p.description, tagsJson: p.tags, updatedAt: new Date() } })
-      .run();
-    const r = tx.insert(problemVersions).values({ problemId: id, contentHash: p.versionHash, json: files.problemJson }).onConflictDoNothing().run();
-    newVersion = r.changes > 0;
-    // The version's trusted answers, so that they outlive a later edit of the files.
-    const version = tx.select({ id: problemVersions.id }).from(problemVersions).where(and(eq(problemVersions.problemId, id), eq(problemVersions.contentHash, p.versionHash))).get()!;
-    const ref = p.reference;
-    tx.insert(problemReferences)
-      .values({
-        problemVersionId: version.id,
-        source: "file",
-        objective: ref.objective?.value ?? null,
-        objectiveTolerance: ref.objective?.tolerance ?? null,
-        finalTime: ref.finalTime?.value ?? null,
-        finalTimeTolerance: ref.finalTime?.tolerance ?? null,
-        switchingTimesJson: ref.switchingTimes?.values ?? null,
-        arcsJson: ref.arcs ?? null,
-        trajectoryJson: ref.trajectory ? { t: Array.from(ref.trajectory.t), columns: Object.fromEntries(Object.entries(ref.trajectory.columns).map(([k, v]) => [k, Array.from(v)])) } : null,
-        provenanceJson: {
-          ...(ref.objective ? { objective: ref.objective.provenance } : {}),
-          ...(ref.finalTime ? { finalTime: ref.finalTime.provenance } : {}),
-          ...(ref.switchingTimes ? { switchingTimes: ref.switchingTimes.provenance } : {}),
-          ...(ref.trajectory ? { trajectory: ref.trajectory.provenance } : {}),
-        },
-      })
-      .onConflictDoNothing()
-      .run();
-  });
-  return { ok: true, id, versionHash: p.versionHash, newVersion };
-}
-
 // ---------------------------------------------------------------------------------------
 // Submissions of the add / edit form (upload or builder) and the trial solve
 // ---------------------------------------------------------------------------------------
@@ -418,6 +351,8 @@ export interface Submission {
   values: Record<string, string>;
   /** Errors by field name ("form" for the whole form). */
   errors: Record<string, string>;
+  /** What a save stores, from the compile that checked `files` (present with `files`). */
+  plan?: SavePlan;
 }
 
 const JSON_TYPES = new Set(["application/json", "text/json", "text/plain", "application/octet-stream", ""]);
@@ -482,15 +417,18 @@ export async function readProblemSubmission(form: FormData, fixedId?: string): P
     }
     values.problemJson = files?.problemJson ?? "";
   }
+  let plan: SavePlan | undefined;
   if (files) {
     const compiled = compileProblemSource(id || "new-problem", files, `${id || "new-problem"}/problem.json`);
-    if (!compiled.ok) {
+    if (compiled.ok) plan = savePlanOf(compiled.problem);
+    else {
       const byField: Record<string, string> = mode === "upload" ? errorsByField(compiled.errors, uploadFieldOf) : errorsByField(compiled.errors, builderFieldOf, (e) => describeBuilderError(e, origins));
       for (const [k, v] of Object.entries(byField)) errors[k] = errors[k] ? `${errors[k]}\n${v}` : v;
       files = null;
     }
   }
-  return { mode, id, files: Object.keys(errors).length ? null : files, values, errors };
+  const ok = Object.keys(errors).length === 0 && files !== null;
+  return { mode, id, files: ok ? files : null, values, errors, ...(ok && plan ? { plan } : {}) };
 }
 
 export interface TrialResult {

@@ -4,8 +4,9 @@ import { RouteErrorBoundary } from "~/components/ErrorView";
 import { ProblemEditor } from "~/components/problems/ProblemEditor";
 import { errorsByField, uploadFieldOf } from "~/components/problems/form-model";
 import { getDb } from "~/db/client.server";
-import { editValues, readProblemSubmission, saveUploadedProblem } from "~/models/problems.server";
+import { editValues, saveUploadedProblem } from "~/models/problems.server";
 import { requireRole } from "~/services/auth.server";
+import { busyFormResponse, readSubmissionOffThread, SolverPoolBusy } from "~/services/solver-pool.server";
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `Edit ${params.id} · Arcwatch` }];
 
@@ -16,13 +17,26 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return { values };
 }
 
+/** A refusal's Retry-After (solver threads busy) reaches the browser on a document request too. */
+export const headers: Route.HeadersFunction = ({ actionHeaders }) => {
+  const retry = actionHeaders.get("Retry-After");
+  return retry ? { "Retry-After": retry } : new Headers();
+};
+
 export async function action({ request, params }: Route.ActionArgs) {
   await requireRole(request, "engineer");
   const form = await request.formData();
   form.set("mode", "upload");
-  const sub = await readProblemSubmission(form, params.id);
+  let sub;
+  try {
+    // validated and compiled on a solver thread, never on the request thread
+    sub = await readSubmissionOffThread(form, params.id);
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyFormResponse(err, form);
+    throw err;
+  }
   if (!sub.files) return data({ errors: sub.errors, values: sub.values }, { status: 400 });
-  const saved = saveUploadedProblem(getDb(), params.id, sub.files, "edit");
+  const saved = saveUploadedProblem(getDb(), params.id, sub.files, "edit", sub.plan);
   if (!saved.ok) {
     const errors: Record<string, string> = { ...errorsByField(saved.errors, uploadFieldOf) };
     if (saved.idError) errors.id = saved.idError;

@@ -3,9 +3,10 @@ import type { Route } from "./+types/problems.new";
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { ProblemEditor } from "~/components/problems/ProblemEditor";
 import { getDb } from "~/db/client.server";
-import { readProblemSubmission, saveUploadedProblem } from "~/models/problems.server";
+import { saveUploadedProblem } from "~/models/problems.server";
 import { errorsByField, uploadFieldOf, builderFieldOf } from "~/components/problems/form-model";
 import { requireRole } from "~/services/auth.server";
+import { busyFormResponse, readSubmissionOffThread, SolverPoolBusy } from "~/services/solver-pool.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Add a problem · Arcwatch" }];
 
@@ -14,11 +15,25 @@ export async function loader({ request }: Route.LoaderArgs) {
   return null;
 }
 
+/** A refusal's Retry-After (solver threads busy) reaches the browser on a document request too. */
+export const headers: Route.HeadersFunction = ({ actionHeaders }) => {
+  const retry = actionHeaders.get("Retry-After");
+  return retry ? { "Retry-After": retry } : new Headers();
+};
+
 export async function action({ request }: Route.ActionArgs) {
   await requireRole(request, "engineer");
-  const sub = await readProblemSubmission(await request.formData());
+  const form = await request.formData();
+  let sub;
+  try {
+    // validated and compiled on a solver thread, never on the request thread
+    sub = await readSubmissionOffThread(form);
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyFormResponse(err, form);
+    throw err;
+  }
   if (!sub.files) return data({ errors: sub.errors, values: sub.values }, { status: 400 });
-  const saved = saveUploadedProblem(getDb(), sub.id, sub.files, "create");
+  const saved = saveUploadedProblem(getDb(), sub.id, sub.files, "create", sub.plan);
   if (!saved.ok) {
     const errors: Record<string, string> = { ...(sub.mode === "upload" ? errorsByField(saved.errors, uploadFieldOf) : errorsByField(saved.errors, builderFieldOf)) };
     if (saved.idError) errors.id = saved.idError;

@@ -21,6 +21,7 @@ import os from "node:os";
 import path from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
+import { data } from "react-router";
 import { TRIAL_MAX_SECONDS, type Submission, type TrialResult } from "~/models/problems.server";
 
 export type SolverTask =
@@ -41,6 +42,12 @@ export class SolverPoolBusy extends Error {
 /** A 503 answer for a full queue (JSON on the API). */
 export function busyResponse(err: SolverPoolBusy): Response {
   return Response.json({ error: err.message }, { status: 503, headers: { "Retry-After": String(err.retryAfterSeconds) } });
+}
+
+/** A 503 answer for a page's form: the message at the form, what was typed kept (files' names dropped). */
+export function busyFormResponse(err: SolverPoolBusy, form: FormData) {
+  const values = Object.fromEntries([...form.entries()].filter((e): e is [string, string] => typeof e[1] === "string"));
+  return data({ errors: { form: err.message } as Record<string, string>, values }, { status: 503, headers: { "Retry-After": String(err.retryAfterSeconds) } });
 }
 
 function projectRoot(): string {

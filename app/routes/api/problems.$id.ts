@@ -1,8 +1,9 @@
 import type { Route } from "./+types/problems.$id";
 import { errorsByField, uploadFieldOf } from "~/components/problems/form-model";
 import { getDb } from "~/db/client.server";
-import { getProblemDetail, readProblemSubmission, saveUploadedProblem, submissionForm } from "~/models/problems.server";
+import { getProblemDetail, saveUploadedProblem, submissionForm } from "~/models/problems.server";
 import { requireRole, requireUser } from "~/services/auth.server";
+import { busyResponse, readSubmissionOffThread, SolverPoolBusy } from "~/services/solver-pool.server";
 
 /** GET /api/problems/:id (viewer or token): TeX of every expression, constants, bounds, references with provenance, best result per scheme, versions. */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -14,7 +15,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 /**
  * PUT or POST /api/problems/:id (engineer): a new version of a problem added in Arcwatch, body as
- * for POST /api/problems (the id comes from the URL). 200 `{ id, versionHash, newVersion }`.
+ * for POST /api/problems (the id comes from the URL). 200 `{ id, versionHash, newVersion }`;
+ * checked and compiled on a solver thread, 503 with Retry-After when its queue is full.
  */
 export async function action({ request, params }: Route.ActionArgs) {
   await requireRole(request, "engineer");
@@ -22,9 +24,15 @@ export async function action({ request, params }: Route.ActionArgs) {
   const form = await submissionForm(request);
   if (form instanceof Response) return form;
   form.set("mode", "upload");
-  const sub = await readProblemSubmission(form, params.id);
+  let sub;
+  try {
+    sub = await readSubmissionOffThread(form, params.id);
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyResponse(err);
+    throw err;
+  }
   if (!sub.files) return Response.json({ errors: sub.errors }, { status: 400 });
-  const saved = saveUploadedProblem(getDb(), params.id, sub.files, "edit");
+  const saved = saveUploadedProblem(getDb(), params.id, sub.files, "edit", sub.plan);
   if (!saved.ok) return Response.json({ errors: { ...errorsByField(saved.errors, uploadFieldOf), ...(saved.idError ? { id: saved.idError } : {}) } }, { status: saved.idError ? 404 : 400 });
   return Response.json({ id: saved.id, versionHash: saved.versionHash, newVersion: saved.newVersion });
 }
