@@ -1,7 +1,7 @@
 /**
  * The refine command:
  *   npm run --silent refine -- <problem folder, problem.json or id> [--scheme S] [--intervals N]
- *        [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--no-retry] [--json]
+ *        [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--gap-tol G] [--no-retry] [--json]
  *
  * Direct solve with the scheme (default hermite-simpson) at the mesh (default: the problem's
  * defaults, else 50 intervals), arc detection, then indirect multiple shooting
@@ -11,7 +11,9 @@
  * boundary arc added for a violated constraint, no doubled segments). Exit status: 0 when the refinement converged
  * (Newton converged AND the structure is confirmed: no bound or path constraint exceeded), 1
  * otherwise (status says why; or the direct solve failed), 2 for a bad problem file or option;
- * --help prints the usage and exits 0.
+ * --help prints the usage and exits 0. --gap-tol sets the direct solve's duality-gap tolerance
+ * (NLP option gapTol; 0 is the stop without the gap test, which leaves the seed a barrier-sized
+ * distance inside its bounds).
  */
 import { numberFlagParser } from "./cli/number-flag";
 import { isEntryScript } from "./cli/entry";
@@ -20,7 +22,7 @@ import type { SchemeId } from "../app/engine/schemes/types";
 import type { RefineProblemOptions, RefineProblemReport } from "../app/engine/shooting/refine-problem";
 
 const USAGE = `usage: npm run --silent refine -- <problem folder | problem.json | id> [--scheme <${SCHEME_IDS.join("|")}>]
-       [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--no-retry] [--json]`;
+       [--intervals N] [--degree K] [--segments M] [--tolerance T] [--max-iter I] [--gap-tol G] [--no-retry] [--json]`;
 
 interface Args extends RefineProblemOptions {
   target: string;
@@ -57,6 +59,9 @@ function parseArgs(argv: string[]): { args?: Args; errors: string[] } {
         break;
       case "--max-iter":
         a.maxIter = num(s, argv[++i], true, 0);
+        break;
+      case "--gap-tol":
+        a.nlp = { ...a.nlp, gapTol: num(s, argv[++i], false, 0) };
         break;
       case "--json":
         a.json = true;

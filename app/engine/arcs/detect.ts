@@ -12,6 +12,7 @@ import type { Solution } from "../schemes/types";
 import { classifyPoints, constraintDistances, controlRange, costateSign } from "./classify";
 import { junctionTime } from "./junctions";
 import { filterRuns, runsOf } from "./merge";
+import { relabelRinging } from "./ringing";
 import { controlAffine, switchingFunctions } from "./switching";
 import type { Arc, ArcDetectionOptions, ArcKind, ArcStructure, ControlArcs } from "./types";
 import { structureSignature } from "./types";
@@ -79,10 +80,13 @@ export function detectArcs(problem: CompiledProblem, sol: Solution, options: Arc
     const c = problem.controls[j];
     const u = sol.controls[j];
     const sj = sigma ? sigma[j] : null;
-    const labels = classifyPoints({
+    let labels = classifyPoints({
       control: j, lower: c.lower, upper: c.upper, u, affine: affine[j], sigma: sj,
       constraints, boundTol: opt.boundTol, switchTol: opt.switchTol,
     });
+    // Singular arcs whose mesh-scale ringing touches the bounds (ringing.ts): read from the
+    // primal labels where the switching function is negligible.
+    if (affine[j]) labels = relabelRinging(labels, sj);
     const runs = filterRuns(runsOf(labels), tu, sol.t0, sol.tf, minDuration, opt.minPoints);
     const ctx = {
       tu, u, lower: c.lower, upper: c.upper, tolU: opt.boundTol * controlRange(c.lower, c.upper, u),

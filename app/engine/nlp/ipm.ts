@@ -355,6 +355,18 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
         if (polish.active) {
           // Final steps: full fraction-to-the-boundary step, no line search (the point is within
           // the region of fast local convergence; a step that spoils the KKT test is undone above).
+          // Each slack keeps a few hundred ulps of its bound: τ_final = 1 − 1e-6 would otherwise
+          // round w onto a bound (s = 0, z = μ/s = ∞) once s is within 1e-6 of an ulp.
+          for (let i = 0; i < N; i++) {
+            if (hasL[i] && dw[i] < 0) {
+              const floor = C.finalSlackUlps * EPS * Math.max(1, Math.abs(wLv[i]));
+              if (sL[i] + alphaMax * dw[i] < floor) alphaMax = Math.max(0, (floor - sL[i]) / dw[i]);
+            }
+            if (hasU[i] && dw[i] > 0) {
+              const floor = C.finalSlackUlps * EPS * Math.max(1, Math.abs(wUv[i]));
+              if (sU[i] - alphaMax * dw[i] < floor) alphaMax = Math.max(0, (sU[i] - floor) / dw[i]);
+            }
+          }
           const t = host.trial(alphaMax);
           if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; events.push("final-step"); polish.steps++; }
         } else if (rel < 10 * EPS) {
