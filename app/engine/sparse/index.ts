@@ -203,7 +203,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
       if (signs === null) {
         perm = amdOrder(G, {}, info);
       } else {
-        const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
+        const constrained = new Uint8Array(n);
+        for (let i = 0; i < n; i++) constrained[i] = signs[i] < 0 ? 1 : 0;
         if (options.pairs && values !== null) {
           const Ax = new Float64Array(A.colPtr[n]);
           for (let t = 0; t < this.nT; t++) Ax[slotA[t]] += values[t];
@@ -224,7 +225,12 @@ export class SymmetricSolver implements SymmetricSolverLike {
     for (let k = 0; k < n; k++) pinv[perm[k]] = k;
     this.permutation = perm;
     this.inverse = pinv;
-    this.signsPermuted = signs === null ? null : Int8Array.from(perm, (old) => signs[old]);
+    if (signs === null) this.signsPermuted = null;
+    else {
+      const sp = new Int8Array(n);
+      for (let k = 0; k < n; k++) sp[k] = signs[perm[k]];
+      this.signsPermuted = sp;
+    }
 
     const { C, slotMap } = symmetricPermute(A, pinv);
     this.C = C;
