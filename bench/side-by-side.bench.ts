@@ -18,19 +18,23 @@
  * For each N the two programs run ALTERNATELY, R times each, each in its own process (so that the
  * interleaving shares the machine's load between them), best of R:
  *  - iterations and status;
- *  - time: the reference's own solve time (its optimisation call, library set-up included, model
- *    construction excluded) and Arcwatch's solveNlp wall time (symbolic analysis included,
- *    transcription excluded), after one untimed N = 50 solve in the same process (JIT warm-up; a
- *    long-running bench worker is warm);
+ *  - time: the reference's own solve (its optimisation call, library set-up included, model
+ *    construction excluded) and Arcwatch's solveNlp (symbolic analysis included, transcription
+ *    excluded), after one untimed N = 50 solve in the same process (JIT warm-up; a long-running
+ *    bench worker is warm); both as wall seconds and as process CPU seconds (user + system: the
+ *    reference's getrusage around its call, ours process.cpuUsage around solveNlp). The CPU figure
+ *    is the one a loaded machine inflates least; the time ratio and "best of R" use it;
  *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
  *    set minus that of an empty Node process (`node -e 0`) — the issue's measure, which includes
  *    the TypeScript loader (tsx) and the engine's modules — and minus that of the same child
  *    process that loads everything without solving ("loaded": what the solve itself costs).
- * Ratios are Arcwatch ÷ reference. Times on a shared machine are noisy: compare ratios, not seconds.
+ * Ratios are Arcwatch ÷ reference. Times on a shared machine are noisy: compare ratios, not seconds;
+ * the load average is printed before and after. Last, the least-squares exponent p of Arcwatch's
+ * CPU time per iteration ≈ C·N^p over N ≥ 400 (goal p ≤ 1.05: linear work per iteration).
  */
 import { spawnSync } from "node:child_process";
 import { existsSync, readFileSync, statSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { cpus, loadavg, tmpdir } from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 
@@ -44,6 +48,8 @@ interface Run {
   iterations: number;
   status: string;
   seconds: number;
+  /** Process CPU seconds (user + system) of the same solve: the figure least inflated by load. */
+  cpuSeconds: number;
   objective: number | null;
   rssKb: number | null;
 }
@@ -68,11 +74,13 @@ if (process.argv[2] === "--child") {
   };
   const run = (n: number) => {
     const tr = getScheme(scheme).transcribe(problem, { intervals: n });
+    const c0 = process.cpuUsage();
     const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0 });
+    const c1 = process.cpuUsage(c0);
     const ok = r.status === "optimal" || r.status === "acceptable";
-    return { iterations: r.iterations, status: r.status, seconds: r.seconds, objective: ok ? tr.recover(r).objective : null };
+    return { iterations: r.iterations, status: r.status, seconds: r.seconds, cpuSeconds: (c1.user + c1.system) / 1e6, objective: ok ? tr.recover(r).objective : null };
   };
-  let out: Omit<Run, "rssKb"> = { iterations: 0, status: "loaded", seconds: 0, objective: null };
+  let out: Omit<Run, "rssKb"> = { iterations: 0, status: "loaded", seconds: 0, cpuSeconds: 0, objective: null };
   if (N > 0) {
     run(50);
     out = run(N);
@@ -115,7 +123,14 @@ function referenceBinary(): string | null {
   }
   if (!existsSync(BINARY) || statSync(BINARY).mtimeMs < statSync(src).mtimeMs) {
     console.log(`building the reference: g++ -O2 -std=c++11 -o ${BINARY} ${src} ${pc.stdout.trim()}`);
-    const b = spawnSync("g++", ["-O2", "-std=c++11", "-o", BINARY, src, ...pc.stdout.trim().split(/\s+/)], { encoding: "utf8" });
+    const flags = pc.stdout.trim().split(/\s+/);
+    let b = spawnSync("g++", ["-O2", "-std=c++11", "-o", BINARY, src, ...flags], { encoding: "utf8" });
+    if (b.status !== 0 && /cannot find -l(lapack|blas)/.test(b.stderr)) {
+      // Without liblapack-dev / libblas-dev only the runtime libraries (liblapack.so.3, libblas.so.3) exist.
+      const runtime = flags.map((f) => (f === "-llapack" ? "-l:liblapack.so.3" : f === "-lblas" ? "-l:libblas.so.3" : f));
+      console.log("linking against the runtime libraries liblapack.so.3 and libblas.so.3 (no -dev packages)");
+      b = spawnSync("g++", ["-O2", "-std=c++11", "-o", BINARY, src, ...runtime], { encoding: "utf8" });
+    }
     if (b.status !== 0) {
       console.log(`building the reference failed:\n${b.stderr}\nMeasuring Arcwatch alone.`);
       return null;
@@ -130,7 +145,7 @@ function runReference(bin: string, N: number, scheme: string): Run | null {
   if (!r.ok || !line) return null;
   // method,N,nvar,ncon,iters,status,solve_s,s_per_iter,hT,tf,ipopt_wall_s,cpu_s
   const f = line.split(",");
-  return { iterations: Number(f[4]), status: f[5] === "0" ? "optimal" : f[5] === "1" ? "acceptable" : `status ${f[5]}`, seconds: Number(f[6]), objective: Number(f[8]), rssKb: r.rssKb };
+  return { iterations: Number(f[4]), status: f[5] === "0" ? "optimal" : f[5] === "1" ? "acceptable" : `status ${f[5]}`, seconds: Number(f[6]), cpuSeconds: Number(f[11]), objective: Number(f[8]), rssKb: r.rssKb };
 }
 
 const self = fileURLToPath(import.meta.url);
@@ -147,7 +162,7 @@ function runArcwatch(N: number, scheme: string): Run | null {
 const best = (runs: (Run | null)[]): Run | null => {
   const ok = runs.filter((r): r is Run => r !== null);
   if (ok.length === 0) return null;
-  const b = ok.reduce((a, r) => (r.seconds < a.seconds ? r : a));
+  const b = ok.reduce((a, r) => (r.cpuSeconds < a.cpuSeconds ? r : a));
   return { ...b, rssKb: Math.min(...ok.map((r) => r.rssKb ?? Infinity)) };
 };
 const mb = (kb: number | null) => (kb === null || !Number.isFinite(kb) ? "—" : (kb / 1024).toFixed(0));
@@ -156,12 +171,16 @@ const ratio = (a: number | null | undefined, b: number | null | undefined) => (a
 const bin = referenceBinary();
 const empty = measured(process.execPath, ["-e", "0"]).rssKb;
 const loaded = runArcwatch(0, "trapezoidal")?.rssKb ?? null;
-console.log(`machine: ${process.platform} ${process.arch}, Node ${process.version}; shared machines make times noisy — read the ratios`);
+const load = () => loadavg().map((v) => v.toFixed(1)).join(" ");
+console.log(`machine: ${cpus()[0]?.model ?? "?"} × ${cpus().length}, ${process.platform} ${process.arch}, Node ${process.version}; load average (1, 5, 15 min) ${load()}`);
 console.log(`peak memory of an empty Node process ${mb(empty)} MB; of one that loads the engine without solving ${mb(loaded)} MB`);
+const cpuS = (r: Run | null) => (r ? r.cpuSeconds.toFixed(3).padStart(6) : "     —");
+const wallS = (r: Run | null) => (r ? r.seconds.toFixed(3).padStart(6) : "     —");
 
 for (const scheme of schemes) {
-  console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best of ${reps}; reference and Arcwatch alternate)`);
-  console.log("     N  | ref iters  status      s       MB | Arcwatch iters  status      s    MB>empty MB>loaded | iter ratio  time ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
+  console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best CPU of ${reps}; reference and Arcwatch alternate)`);
+  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
+  const perIter: [number, number][] = [];
   for (const N of Ns) {
     const refRuns: (Run | null)[] = [];
     const ourRuns: (Run | null)[] = [];
@@ -171,12 +190,19 @@ for (const scheme of schemes) {
     }
     const ref = bin ? best(refRuns) : null;
     const our = best(ourRuns);
+    if (our && our.iterations > 0 && N >= 400) perIter.push([Math.log(N), Math.log(our.cpuSeconds / our.iterations)]);
     const ourMem = our?.rssKb != null && empty != null ? our.rssKb - empty : null;
     const ourSolveMem = our?.rssKb != null && loaded != null ? our.rssKb - loaded : null;
     console.log(
-      `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${ref ? ref.seconds.toFixed(3).padStart(6) : "     —"} ${mb(ref?.rssKb ?? null).padStart(6)} | ` +
-        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${our ? our.seconds.toFixed(3).padStart(6) : "     —"} ${mb(ourMem).padStart(9)} ${mb(ourSolveMem).padStart(9)} | ` +
-        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
+      `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${cpuS(ref)}  ${wallS(ref)} ${mb(ref?.rssKb ?? null).padStart(4)} | ` +
+        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
+        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
     );
   }
+  if (perIter.length >= 2) {
+    const mx = perIter.reduce((a, p) => a + p[0], 0) / perIter.length, my = perIter.reduce((a, p) => a + p[1], 0) / perIter.length;
+    const slope = perIter.reduce((a, p) => a + (p[0] - mx) * (p[1] - my), 0) / perIter.reduce((a, p) => a + (p[0] - mx) ** 2, 0);
+    console.log(`Arcwatch CPU time per iteration ≈ C·N^${slope.toFixed(2)} (least squares over N ≥ 400; goal ≤ 1.05)`);
+  }
 }
+console.log(`\nload average at the end ${load()}`);

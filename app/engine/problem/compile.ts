@@ -7,28 +7,25 @@
  * semantic checks need a well-formed file), otherwise every semantic and expression error.
  * This function never throws for any input text.
  *
+ * Phases by file: compile-base.ts (shared state, reading problem.json, schema issues), this file
+ * (names, constants, bounds, horizon, expressions, constraints, objective, compilation),
+ * compile-data.ts (guess, references and their CSV files).
+ *
  * Input layouts (types.ts): point functions z = [t, x_1..x_nx, u_1..u_nu];
  * endpoint functions e = [t0, x(t0)_1..nx, tf, x(tf)_1..nx].
  */
 import type { MathNode } from "mathjs";
 import { parse } from "../expr/math";
-import type { $ZodIssue } from "zod/v4/core";
 import type {
   CompiledProblem,
   ConstraintInfo,
   Horizon,
-  InitialGuess,
   PointFunction,
-  ProblemReference,
-  Provenance,
-  ReferenceTrajectory,
   VariableInfo,
 } from "./types";
 import { formatProblemError, jsonPath, type ProblemError } from "./errors";
-import { NAME_PATTERN, ProblemFileSchema, keysAtPath, type ProblemFile, type ProvenanceSpec, type VariableSpec } from "./schema";
-import { findJsonError } from "./json-position";
-import { parseTrajectoryCsv, type CsvTable } from "./csv";
-import { defaultStateEnds, makeGuess, midOrFinite, type EndRange, type GuessSeries } from "./guess";
+import { NAME_PATTERN, ProblemFileSchema, type ProblemFile, type VariableSpec } from "./schema";
+import type { EndRange } from "./guess";
 import { parseExpression, treeDepth, FUNCTION_ARITY, MAX_TREE_DEPTH, type ExprScope } from "../expr/validate";
 import { nearestName } from "../expr/suggest";
 import { compilePointFunction, inputResolver, toDag } from "../expr/compile";
@@ -36,6 +33,8 @@ import { Dag } from "../expr/dag";
 import { substitute } from "../expr/derive";
 import { toTex } from "../expr/tex";
 import { Sha256 } from "./sha256";
+import type { Declared, Seg } from "./compile-base";
+import { DataFileCompiler } from "./compile-data";
 
 export type CompileResult = { ok: true; problem: CompiledProblem } | { ok: false; errors: ProblemError[] };
 
@@ -44,9 +43,7 @@ export interface ProblemSourceFiles {
   referenceCsv?: string;
   guessCsv?: string;
 }
-
-/** Largest problem.json accepted (bytes of text): a bound on hostile input. */
-export const MAX_PROBLEM_JSON_LENGTH = 2_000_000;
+export { MAX_PROBLEM_JSON_LENGTH } from "./compile-base";
 
 /** Names with a fixed meaning that declared names may not take. */
 export const RESERVED_NAMES: readonly string[] = ["t", "t0", "tf", "initial", "final", "pi", "sign", ...Object.keys(FUNCTION_ARITY)];
@@ -90,19 +87,6 @@ export function compileProblemSource(id: string, files: ProblemSourceFiles, labe
   }
 }
 
-type Seg = string | number;
-
-/** Declared names, by kind. */
-interface Declared {
-  stateNames: string[];
-  controlNames: string[];
-  interNames: string[];
-  constNames: string[];
-  stateSet: Set<string>;
-  /** ["t", ...states, ...controls]: the point-function input names. */
-  pointInputs: string[];
-}
-
 interface EndpointRow {
   node: MathNode;
   info: ConstraintInfo;
@@ -121,39 +105,7 @@ interface NamedEntry {
   path: Seg[];
 }
 
-class ProblemCompiler {
-  private readonly errors: ProblemError[] = [];
-  private readonly warnings: string[] = [];
-  /** Values of the constants evaluated so far. */
-  private readonly constants: Record<string, number> = Object.create(null);
-  /** Names used by constant expressions (bounds, values) and by all other expressions. */
-  private readonly constUsed = new Set<string>();
-  private readonly usedNames = new Set<string>();
-  /** Non-smooth-function warnings, one per expression. */
-  private readonly nonSmoothAt: string[] = [];
-  private readonly constraintNames = new Map<string, string>();
-  private constScope: ExprScope = { names: new Set() };
-  private readonly dir: string;
-  constructor(
-    private readonly id: string,
-    private readonly files: ProblemSourceFiles,
-    private readonly file: string,
-  ) {
-    const slash = file.lastIndexOf("/");
-    this.dir = slash >= 0 ? file.slice(0, slash + 1) : "";
-  }
-
-  private err(path: readonly Seg[], message: string, extra: { column?: number; suggestion?: string; file?: string } = {}): void {
-    const e: ProblemError = { file: extra.file ?? this.file, path: jsonPath(path), message };
-    if (extra.column !== undefined) e.column = extra.column;
-    if (extra.suggestion !== undefined) e.suggestion = extra.suggestion;
-    this.errors.push(e);
-  }
-
-  private warn(path: readonly Seg[], message: string): void {
-    this.warnings.push(formatProblemError({ file: this.file, path: jsonPath(path), message }));
-  }
-
+class ProblemCompiler extends DataFileCompiler {
   run(): CompileResult {
     const raw = this.parseJson();
     if (raw === undefined) return { ok: false, errors: this.errors };
@@ -168,76 +120,6 @@ class ProblemCompiler {
   }
 
   // ---------------------------------------------------------------- JSON and structure
-
-  private parseJson(): unknown {
-    let text = this.files.problemJson;
-    if (typeof text !== "string") {
-      this.err([], "problem.json must be text");
-      return undefined;
-    }
-    if (text.length > MAX_PROBLEM_JSON_LENGTH) {
-      this.err([], `file is ${text.length} characters long; at most ${MAX_PROBLEM_JSON_LENGTH} are allowed`);
-      return undefined;
-    }
-    if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
-    const syntax = findJsonError(text);
-    if (syntax) {
-      this.err([], `invalid JSON: ${syntax.message}`, { column: syntax.column });
-      this.errors[this.errors.length - 1].path = `line ${syntax.line}`;
-      return undefined;
-    }
-    let raw: unknown;
-    try {
-      raw = JSON.parse(text);
-    } catch (e) {
-      this.err([], `invalid JSON: ${e instanceof Error ? e.message : String(e)}`);
-      return undefined;
-    }
-    // keys that could reach an object prototype are refused outright
-    const stack: [unknown, Seg[]][] = [[raw, []]];
-    while (stack.length > 0) {
-      const [v, p] = stack.pop()!;
-      if (Array.isArray(v)) v.forEach((x, k) => stack.push([x, [...p, k]]));
-      else if (v !== null && typeof v === "object") {
-        for (const k of Object.keys(v)) {
-          if (k === "__proto__" || k === "constructor" || k === "prototype") this.err([...p, k], `the field name '${k}' is not allowed`);
-          else stack.push([(v as Record<string, unknown>)[k], [...p, k]]);
-        }
-      }
-    }
-    return this.errors.length > 0 ? undefined : raw;
-  }
-
-  private zodIssue(issue: $ZodIssue, raw: unknown, prefix: Seg[]): void {
-    const path = [...prefix, ...(issue.path as Seg[])];
-    if (issue.code === "unrecognized_keys") {
-      const valid = keysAtPath(path);
-      for (const key of issue.keys) {
-        this.err([...path, key], `unknown field '${key}'${valid.length ? ` (fields here: ${valid.join(", ")})` : ""}`, {
-          suggestion: nearestName(key, valid),
-        });
-      }
-      return;
-    }
-    if (issue.code === "invalid_union" && issue.errors.length > 0) {
-      // choose the one alternative whose shape matches (no complaint about the value's own type)
-      const fits = issue.errors.filter(
-        (branch) => !branch.some((b) => b.path.length === 0 && (b.code === "invalid_type" || b.code === "unrecognized_keys")),
-      );
-      const value = valueAt(raw, path);
-      if (fits.length === 1 && value !== null && typeof value === "object") {
-        for (const b of fits[0]) this.zodIssue(b, raw, path);
-        return;
-      }
-    }
-    const value = valueAt(raw, path);
-    if (value === undefined && (issue.code === "invalid_type" || issue.code === "invalid_union")) {
-      const last = path[path.length - 1];
-      this.err(path.slice(0, -1), `missing required field '${String(last)}'`);
-      return;
-    }
-    this.err(path, issue.message.replace(/^Invalid input: /, ""));
-  }
 
   // ---------------------------------------------------------------- semantic checks and build
   // The phases below run in this order (the order of the reported errors): names, constants,
@@ -629,141 +511,7 @@ class ProblemCompiler {
    * order of precedence: guess.finalTime, horizon.finalTime.free.guess, the last time of
    * guess.csv, the middle of the bounds; horizon.guess is set to it.
    */
-  private guessOf(
-    p: ProblemFile,
-    d: Declared,
-    stateInfo: VariableInfo[],
-    controlInfo: VariableInfo[],
-    ends: { initial: (EndRange | undefined)[]; final: (EndRange | undefined)[] },
-    horizon: Horizon,
-  ): InitialGuess {
-    const spec = p.guess ?? { kind: "linear" as const };
-    const nx = d.stateNames.length;
-    const series: GuessSeries[] = stateInfo.map((s, i) => {
-      const [a, b] = defaultStateEnds(ends.initial[i], ends.final[i], s);
-      return spec.kind === "constant" ? { kind: "line", a, b: a } : { kind: "line", a, b };
-    });
-    for (const c of controlInfo) {
-      const m = midOrFinite(c.lower, c.upper) ?? 0;
-      series.push({ kind: "line", a: m, b: m });
-    }
-    const ft = p.horizon.finalTime;
-    const horizonGuessGiven = "free" in ft && ft.free.guess !== undefined;
-    let tf = horizon.kind === "fixed" ? horizon.tf : horizon.guess;
-    let tfFrom: Seg[] = ["horizon", "finalTime", "free", "guess"];
-    if (spec.kind === "trajectory") {
-      const table = this.csvChecked(this.files.guessCsv, spec.file, ["guess", "file"], d.stateNames, d.controlNames, false);
-      if (table) {
-        const t = table.columns[0];
-        const tau = t.map((x) => (x - t[0]) / (t[t.length - 1] - t[0]));
-        table.header.forEach((h, k) => {
-          const i = d.stateNames.indexOf(h);
-          const j = d.controlNames.indexOf(h);
-          if (k > 0 && i >= 0) series[i] = { kind: "table", tau, y: table.columns[k] };
-          else if (k > 0 && j >= 0) series[nx + j] = { kind: "table", tau, y: table.columns[k] };
-        });
-        if (horizon.kind === "free" && !horizonGuessGiven) {
-          tf = t[t.length - 1];
-          tfFrom = ["guess", "file"];
-        }
-      }
-    } else {
-      for (const which of ["states", "controls"] as const) {
-        const vals = spec[which] ?? {};
-        const names = which === "states" ? d.stateNames : d.controlNames;
-        for (const key of Object.keys(vals)) {
-          const j = names.indexOf(key);
-          if (j < 0) {
-            this.err(["guess", which, key], `'${key}' is not a ${which === "states" ? "state" : "control"}`, { suggestion: nearestName(key, names) });
-            continue;
-          }
-          const v = vals[key];
-          series[(which === "states" ? 0 : nx) + j] = typeof v === "number" ? { kind: "line", a: v, b: v } : { kind: "line", a: v[0], b: v[1] };
-        }
-      }
-    }
-    if (spec.finalTime !== undefined) {
-      if (horizon.kind === "fixed") this.warn(["guess", "finalTime"], "ignored: the final time is fixed");
-      else {
-        if (horizonGuessGiven && horizon.guess !== spec.finalTime) {
-          this.warn(["guess", "finalTime"], `differs from horizon.finalTime.free.guess (${horizon.guess}); guess.finalTime is used`);
-        }
-        tf = spec.finalTime;
-        tfFrom = ["guess", "finalTime"];
-      }
-    }
-    if (horizon.kind === "free") {
-      if (tfFrom[0] === "guess" && (tf < horizon.lower || tf > horizon.upper)) {
-        this.err(tfFrom, `final-time guess ${tf} is outside the final-time bounds [${horizon.lower}, ${horizon.upper}]`);
-      }
-      horizon.guess = tf; // one final-time guess for everybody
-    }
-    if (spec.kind !== "trajectory" && this.files.guessCsv !== undefined) {
-      this.warn(["guess"], "guess.csv is present but the guess is not of kind \"trajectory\"");
-    }
-    return makeGuess(series, tf);
-  }
 
-  private referenceOf(p: ProblemFile, d: Declared, horizon: Horizon, pathInfo: ConstraintInfo[]): ProblemReference {
-    const reference: ProblemReference = {};
-    const ref = p.reference ?? {};
-    const value = (r: { value: number; tolerance: number; provenance: ProvenanceSpec }) => ({
-      value: r.value,
-      tolerance: r.tolerance,
-      provenance: provenance(r.provenance),
-    });
-    if (ref.objective) reference.objective = value(ref.objective);
-    if (ref.finalTime) {
-      reference.finalTime = value(ref.finalTime);
-      const at: Seg[] = ["reference", "finalTime", "value"];
-      if (horizon.kind === "fixed" && Math.abs(ref.finalTime.value - horizon.tf) > ref.finalTime.tolerance) {
-        this.err(at, `reference final time ${ref.finalTime.value} differs from the fixed final time ${horizon.tf}`);
-      }
-      if (horizon.kind === "free" && (ref.finalTime.value < horizon.lower || ref.finalTime.value > horizon.upper)) {
-        this.err(at, `reference final time ${ref.finalTime.value} is outside the final-time bounds [${horizon.lower}, ${horizon.upper}]`);
-      }
-    }
-    if (ref.switchingTimes) {
-      const st = ref.switchingTimes;
-      const hi = horizon.kind === "fixed" ? horizon.tf : horizon.upper;
-      st.values.forEach((v, k) => {
-        const at: Seg[] = ["reference", "switchingTimes", "values", k];
-        if (v < horizon.t0 || v > hi) this.err(at, `switching time ${v} lies outside the horizon [${horizon.t0}, ${hi}]`);
-        if (k > 0 && !(v > st.values[k - 1])) this.err(at, "switching times must increase");
-      });
-      reference.switchingTimes = { values: [...st.values], tolerance: st.tolerance, provenance: provenance(st.provenance) };
-    }
-    if (ref.arcs) {
-      const pathNames = pathInfo.map((c) => c.name);
-      ref.arcs.forEach((arc, k) => {
-        const m = /^boundary:(.*)$/.exec(arc);
-        if (m && !pathNames.includes(m[1]) && !d.stateNames.includes(m[1])) {
-          this.err(["reference", "arcs", k], `'${m[1]}' is not a path constraint or state`, {
-            suggestion: nearestName(m[1], [...pathNames, ...d.stateNames]),
-          });
-        }
-      });
-      reference.arcs = [...ref.arcs];
-    }
-    if (ref.trajectory) {
-      const at: Seg[] = ["reference", "trajectory", "file"];
-      const table = this.csvChecked(this.files.referenceCsv, ref.trajectory.file, at, d.stateNames, d.controlNames, true);
-      if (table) {
-        const columns: Record<string, Float64Array> = {};
-        table.header.forEach((h, k) => {
-          if (k > 0) columns[h] = table.columns[k];
-        });
-        const traj: ReferenceTrajectory = { t: table.columns[0], columns, provenance: provenance(ref.trajectory.provenance) };
-        if (ref.trajectory.tolerance !== undefined) traj.tolerance = ref.trajectory.tolerance;
-        reference.trajectory = traj;
-      }
-    } else if (this.files.referenceCsv !== undefined) {
-      this.warn(["reference"], "reference.csv is present but no reference.trajectory names it");
-    }
-    return reference;
-  }
-
-  /** TeX of every expression as written (intermediates by name), keyed by JSON path. */
   private texOf(
     p: ProblemFile,
     d: Declared,
@@ -822,68 +570,8 @@ class ProblemCompiler {
     }
     return v;
   }
-
-  private csvFile(text: string | undefined, name: string, path: Seg[]): CsvTable | null {
-    if (text === undefined) {
-      this.err(path, `file '${name}' was not found next to problem.json`);
-      return null;
-    }
-    const label = this.dir + name;
-    const errs: ProblemError[] = [];
-    const table = parseTrajectoryCsv(text, label, errs);
-    this.errors.push(...errs);
-    return table;
-  }
-
-  /** A CSV table whose header and rows are valid, after the column check. */
-  private csvChecked(text: string | undefined, name: string, path: Seg[], states: string[], controls: string[], reference: boolean): CsvTable | null {
-    const table = this.csvFile(text, name, path);
-    if (!table) return null;
-    this.checkColumns(table, name, states, controls, reference);
-    return table.valid ? table : null;
-  }
-
-  /** Header check: t, every state (reference) or any states (guess), optional controls and costates. */
-  private checkColumns(table: CsvTable, name: string, states: string[], controls: string[], needAllStates: boolean): void {
-    const file = this.dir + name;
-    const valid = [...states, ...controls, ...(needAllStates ? states.map((s) => `lambda_${s}`) : [])];
-    table.header.forEach((h, k) => {
-      if (k === 0) return;
-      if (!valid.includes(h)) {
-        this.err([], `unknown column '${h}' (expected states, controls${needAllStates ? " or lambda_<state>" : ""})`, {
-          file,
-          column: table.headerColumns[k],
-          suggestion: nearestName(h, valid),
-        });
-        // path of a CSV error is its line, not a JSON path
-        this.errors[this.errors.length - 1].path = `line ${table.headerLine}`;
-      }
-    });
-    if (needAllStates) {
-      const missing = states.filter((s) => !table.header.includes(s));
-      if (missing.length > 0) {
-        this.errors.push({ file, path: `line ${table.headerLine}`, message: `missing state column${missing.length > 1 ? "s" : ""} ${missing.map((m) => `'${m}'`).join(", ")}` });
-      }
-    }
-  }
 }
 
 function numberText(v: number): string {
   return Number.isFinite(v) ? String(v) : "NaN";
-}
-
-function valueAt(raw: unknown, path: readonly Seg[]): unknown {
-  let v: unknown = raw;
-  for (const seg of path) {
-    if (v === null || typeof v !== "object") return undefined;
-    if (!Object.hasOwn(v as object, seg)) return undefined;
-    v = (v as Record<string | number, unknown>)[seg];
-  }
-  return v;
-}
-
-function provenance(p: ProvenanceSpec): Provenance {
-  const out: Record<string, unknown> = {};
-  for (const [k, v] of Object.entries(p)) if (v !== undefined) out[k] = v;
-  return out as Provenance;
 }

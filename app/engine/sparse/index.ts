@@ -9,6 +9,7 @@
  *   AMD permutation P (constrained by the matching if any)        (amd.ts)
  *   C = P A Pᵀ upper-stored, slot map composed                    (csc.ts)
  *   elimination tree and column counts of L; L allocated           (etree.ts, ldl.ts)
+ *   (all of it reused when an earlier solver had the same inputs)    (analysis-cache.ts)
  * factor(values): scatter the triplet values into C (O(nnz)), numeric LDLᵀ, inertia (ldl.ts).
  * solve(b, x): x = Pᵀ (L D Lᵀ)⁻¹ P b, then iterative refinement against C (the matrix given,
  *   without any dynamic regularisation)
@@ -35,6 +36,7 @@ import {
   type LdlWorkspace,
 } from "./ldl";
 import { tripletsToUpperCsc } from "./triplet";
+import { findAnalysis, storeAnalysis, type AnalysisKey } from "./analysis-cache";
 import type { Inertia, SymmetricSolverLike } from "./types";
 
 export type { Inertia, SymmetricSolverLike } from "./types";
@@ -44,6 +46,7 @@ export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidua
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
 export { pairedAmdOrder } from "./pairs";
+export { analysisCacheStats, clearAnalysisCache } from "./analysis-cache";
 
 export interface SymmetricSolverOptions {
   /** A pivot with |d_k| ≤ pivotTolerance counts as zero (ok = false). Default 1e-13 (absolute). */
@@ -86,6 +89,8 @@ export interface SymbolicStats {
   totalMs: number;
   nnzA: number;
   denseRows: number;
+  /** The analysis was that of an earlier solver of the same inputs (analysis-cache.ts). */
+  reused?: boolean;
 }
 
 /** Default pivot tolerance: common practice, no source (about 1e3·ε for a matrix scaled to O(1) entries). */
@@ -111,6 +116,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private readonly options: SymmetricSolverOptions;
   private readonly A: CscPattern;
   private readonly slotA: Int32Array;
+  private readonly rows: Int32Array;
+  private readonly cols: Int32Array;
   private readonly t0: number;
   private analysed = false;
   // set by analyse()
@@ -145,6 +152,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const { A, slot: slotA } = tripletsToUpperCsc(n, rows, cols, where);
     this.A = A;
     this.slotA = slotA;
+    this.rows = rows;
+    this.cols = cols;
     this.n = n;
     this.nT = rows.length;
     this.options = options;
@@ -191,56 +200,78 @@ export class SymmetricSolver implements SymmetricSolverLike {
     return this.stats;
   }
 
-  /** Ordering, permuted pattern, elimination tree and pattern of L; `values` only for pairs. */
+  /**
+   * Ordering, permuted pattern, elimination tree and pattern of L; `values` only for pairs.
+   * An analysis of exactly the same inputs (pattern, signs, options, matching) made by an earlier
+   * solver is reused (analysis-cache.ts).
+   */
   private analyse(values: Float64Array | null): void {
     const { n, A, slotA, signs, options } = this;
     const tOrder = performance.now();
-    const info: AmdInfo = { denseRows: 0, compressions: 0 };
-    let perm: Int32Array;
-    let kind: Uint8Array | null = null;
-    if ((options.ordering ?? "amd") === "amd") {
-      const G = symmetricAdjacency(A);
-      if (signs === null) {
-        perm = amdOrder(G, {}, info);
-      } else {
-        const constrained = Uint8Array.from(signs, (v) => (v < 0 ? 1 : 0));
-        if (options.pairs && values !== null) {
-          const Ax = new Float64Array(A.colPtr[n]);
-          for (let t = 0; t < this.nT; t++) Ax[slotA[t]] += values[t];
-          const preferred = preferPartners(A, Ax, G, constrained);
-          const paired = pairedAmdOrder(G, matchConstrained(preferred, constrained), info);
-          perm = paired.perm;
-          kind = paired.kind;
-        } else {
-          perm = amdOrder(G, { constrained, partner: matchConstrained(G, constrained) }, info);
-        }
-      }
-    } else {
-      perm = new Int32Array(n);
-      for (let k = 0; k < n; k++) perm[k] = k;
+    const amd = (options.ordering ?? "amd") === "amd";
+    const mode = !amd ? "natural" : signs === null ? "amd" : options.pairs && values !== null ? "amd-pairs" : "amd-signed";
+    let G: CscPattern | null = null;
+    let constrained: Uint8Array | null = null;
+    let partner: Int32Array | null = null;
+    if (amd) G = symmetricAdjacency(A);
+    if (amd && signs !== null) {
+      constrained = new Uint8Array(n);
+      for (let i = 0; i < n; i++) constrained[i] = signs[i] < 0 ? 1 : 0;
     }
-    const orderingMs = performance.now() - tOrder;
-    const pinv = new Int32Array(n);
-    for (let k = 0; k < n; k++) pinv[perm[k]] = k;
-    this.permutation = perm;
-    this.inverse = pinv;
-    this.signsPermuted = signs === null ? null : Int8Array.from(perm, (old) => signs[old]);
-
-    const { C, slotMap } = symmetricPermute(A, pinv);
-    this.C = C;
-    this.Cx = new Float64Array(C.colPtr[n]);
-    const slot = new Int32Array(this.nT);
-    for (let t = 0; t < this.nT; t++) slot[t] = slotMap[slotA[t]];
-    this.slot = slot;
-
-    const parent = new Int32Array(n);
-    const Lnz = new Int32Array(n);
-    const flag = new Int32Array(n);
-    eliminationTree(C, parent, Lnz, flag);
-    this.sym = ldlSymbolic(C, parent, Lnz, kind);
+    if (mode === "amd-pairs") {
+      // The pairing depends on the values (partner preference), so it is part of the key.
+      const Ax = new Float64Array(A.colPtr[n]);
+      for (let t = 0; t < this.nT; t++) Ax[slotA[t]] += values![t];
+      partner = matchConstrained(preferPartners(A, Ax, G!, constrained!), constrained!);
+    }
+    const key: AnalysisKey = { n, mode, rows: this.rows, cols: this.cols, signs, partner };
+    let stored = findAnalysis(key);
+    const reused = stored !== null;
+    if (stored === null) {
+      const info: AmdInfo = { denseRows: 0, compressions: 0 };
+      let perm: Int32Array;
+      let kind: Uint8Array | null = null;
+      if (mode === "natural") {
+        perm = new Int32Array(n);
+        for (let k = 0; k < n; k++) perm[k] = k;
+      } else if (mode === "amd") {
+        perm = amdOrder(G!, {}, info);
+      } else if (mode === "amd-pairs") {
+        const paired = pairedAmdOrder(G!, partner!, info);
+        perm = paired.perm;
+        kind = paired.kind;
+      } else {
+        perm = amdOrder(G!, { constrained: constrained!, partner: matchConstrained(G!, constrained!) }, info);
+      }
+      const orderingMs = performance.now() - tOrder;
+      const pinv = new Int32Array(n);
+      for (let k = 0; k < n; k++) pinv[perm[k]] = k;
+      let signsPermuted: Int8Array | null = null;
+      if (signs !== null) {
+        signsPermuted = new Int8Array(n);
+        for (let k = 0; k < n; k++) signsPermuted[k] = signs[perm[k]];
+      }
+      const { C, slotMap } = symmetricPermute(A, pinv);
+      const slot = new Int32Array(this.nT);
+      for (let t = 0; t < this.nT; t++) slot[t] = slotMap[slotA[t]];
+      const parent = new Int32Array(n);
+      const Lnz = new Int32Array(n);
+      const flag = new Int32Array(n);
+      eliminationTree(C, parent, Lnz, flag);
+      const sym = ldlSymbolic(C, parent, Lnz, kind);
+      stored = { perm, pinv, kind, signsPermuted, C, slot, sym, orderingMs, denseRows: info.denseRows };
+      storeAnalysis(key, stored);
+    }
+    this.permutation = stored.perm;
+    this.inverse = stored.pinv;
+    this.signsPermuted = stored.signsPermuted;
+    this.C = stored.C;
+    this.slot = stored.slot;
+    this.sym = stored.sym;
+    this.Cx = new Float64Array(stored.C.colPtr[n]);
     this.fac = allocateLdlFactor(this.sym);
     this.ws = allocateLdlWorkspace(n);
-    this.stats = { orderingMs, totalMs: performance.now() - this.t0, nnzA: C.colPtr[n], denseRows: info.denseRows };
+    this.stats = { orderingMs: reused ? 0 : stored.orderingMs, totalMs: performance.now() - this.t0, nnzA: stored.C.colPtr[n], denseRows: stored.denseRows, reused };
     this.analysed = true;
   }
 

@@ -87,21 +87,7 @@ export interface LdlWorkspace {
 export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, kind: Uint8Array | null = null): LdlSymbolic {
   const { n, colPtr: Ap, rowIdx: Ai } = A;
   const flag = new Int32Array(n).fill(-1);
-  // Row k's pattern: the tree reach; with 2×2 pairs (kind 1 at j, 2 at j+1) also column j
-  // wherever column j+1 appears, so that the pair's two columns share one pattern.
-  const walkRow = (k: number, visit: (i: number) => void) => {
-    flag[k] = k;
-    for (let p = Ap[k]; p < Ap[k + 1]; p++) {
-      for (let i = Ai[p]; flag[i] !== k; i = parent[i]) {
-        flag[i] = k;
-        visit(i);
-        if (kind !== null && kind[i] === 2 && flag[i - 1] !== k) {
-          flag[i - 1] = k;
-          visit(i - 1);
-        }
-      }
-    }
-  };
+  // Row k's pattern: rowReach (below).
   let colCount = Lnz;
   if (kind !== null) {
     if (kind.length !== n) throw new Error(`sparse/ldl: kind has length ${kind.length}, expected ${n}`);
@@ -111,8 +97,11 @@ export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, 
       }
     }
     colCount = new Int32Array(n);
-    const cc = colCount;
-    for (let k = 0; k < n; k++) walkRow(k, (i) => cc[i]++);
+    const row = new Int32Array(n);
+    for (let k = 0; k < n; k++) {
+      const len = rowReach(Ap, Ai, parent, kind, flag, k, row, 0);
+      for (let q = 0; q < len; q++) colCount[row[q]]++;
+    }
     flag.fill(-1);
   }
   const Lp = new Int32Array(n + 1);
@@ -125,15 +114,34 @@ export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, 
   let count = 0;
   for (let k = 0; k < n; k++) {
     const start = count;
-    walkRow(k, (i) => {
-      rowCols[count++] = i;
-    });
+    count = rowReach(Ap, Ai, parent, kind, flag, k, rowCols, start);
     sortRange(rowCols, start, count);
     for (let q = start; q < count; q++) Li[next[rowCols[q]]++] = k;
     rowPtr[k + 1] = count;
   }
   if (count !== nnzL) throw new Error(`sparse/ldl: pattern has ${count} entries, column counts say ${nnzL}`);
   return { n, parent, Lnz: colCount, Lp, Li, rowPtr, rowCols, kind };
+}
+
+/**
+ * Row k's pattern: the tree reach of {i : a_ik ≠ 0}; with 2×2 pairs (kind 1 at j, 2 at j+1) also
+ * column j wherever column j+1 appears, so that the pair's two columns share one pattern. Writes
+ * the columns (unsorted) into out from position `at`; returns the position after the last.
+ */
+function rowReach(Ap: Int32Array, Ai: Int32Array, parent: Int32Array, kind: Uint8Array | null, flag: Int32Array, k: number, out: Int32Array, at: number): number {
+  let q = at;
+  flag[k] = k;
+  for (let p = Ap[k]; p < Ap[k + 1]; p++) {
+    for (let i = Ai[p]; flag[i] !== k; i = parent[i]) {
+      flag[i] = k;
+      out[q++] = i;
+      if (kind !== null && kind[i] === 2 && flag[i - 1] !== k) {
+        flag[i - 1] = k;
+        out[q++] = i - 1;
+      }
+    }
+  }
+  return q;
 }
 
 /** Sorts a[start..end) increasing: insertion sort for short rows, the typed-array sort otherwise. */

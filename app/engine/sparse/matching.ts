@@ -104,29 +104,44 @@ export function preferPartners(A: CscPattern, Ax: Float64Array, G: CscPattern, c
     }
     return 0;
   };
-  const keys: number[] = [];
-  const coupling: number[] = [];
-  const idx: number[] = [];
+  // Per row: keys and couplings of its neighbours, then a stable insertion sort (rows are short;
+  // the same order as a stable sort by (key ascending, coupling descending)).
+  let maxLen = 0;
+  for (let c = 0; c < n; c++) maxLen = Math.max(maxLen, G.colPtr[c + 1] - G.colPtr[c]);
+  const keys = new Float64Array(maxLen);
+  const coupling = new Float64Array(maxLen);
+  const idx = new Int32Array(maxLen);
   for (let c = 0; c < n; c++) {
     if (constrained[c] !== 1) continue;
     const start = G.colPtr[c];
     const end = G.colPtr[c + 1];
-    keys.length = 0;
-    coupling.length = 0;
-    idx.length = 0;
-    for (let p = start; p < end; p++) {
-      const j = rowIdx[p];
+    const len = end - start;
+    for (let q = 0; q < len; q++) {
+      const j = rowIdx[start + q];
       const acj = Math.abs(j < c ? entry(j, c) : entry(c, j));
       const ajj = Math.abs(Ax[Ap[j + 1] - 1]);
       const key = ajj / acj;
-      keys.push(key >= 0 ? key : Infinity); // a zero coupling or a non-finite value: last choice
-      coupling.push(acj === acj ? acj : 0);
-      idx.push(j);
+      let at = q;
+      const kq = key >= 0 ? key : Infinity; // a zero coupling or a non-finite value: last choice
+      const cq = acj === acj ? acj : 0;
+      // insert after every element that does not compare greater (stable)
+      while (at > 0 && outranks(kq, cq, keys[at - 1], coupling[at - 1])) {
+        keys[at] = keys[at - 1];
+        coupling[at] = coupling[at - 1];
+        idx[at] = idx[at - 1];
+        at--;
+      }
+      keys[at] = kq;
+      coupling[at] = cq;
+      idx[at] = j;
     }
-    const order = idx
-      .map((_, q) => q)
-      .sort((a, b) => (keys[a] < keys[b] ? -1 : keys[a] > keys[b] ? 1 : coupling[b] - coupling[a]));
-    for (let q = 0; q < order.length; q++) rowIdx[start + q] = idx[order[q]];
+    for (let q = 0; q < len; q++) rowIdx[start + q] = idx[q];
   }
   return { n, colPtr: G.colPtr, rowIdx };
+}
+
+/** True when (key a, coupling a) sorts strictly before (key b, coupling b). */
+function outranks(ka: number, ca: number, kb: number, cb: number): boolean {
+  if (ka !== kb) return ka < kb;
+  return ca > cb;
 }

@@ -40,25 +40,24 @@ export function pairedAmdOrder(G: CscPattern, partner: Int32Array, info?: AmdInf
     }
   }
   // compressed adjacency: union of the neighbours of both members, without duplicates or self
+  // (plain loops: this runs once per pattern over every entry, so no closure per node)
   const mark = new Int32Array(nc).fill(-1);
   const count = new Int32Array(nc + 1);
-  const neighboursOf = (node: number, s: number, visit: (t: number) => void) => {
-    for (let p = colPtr[node]; p < colPtr[node + 1]; p++) {
-      const t = sid[rep[rowIdx[p]]];
-      if (t !== s && mark[t] !== s) {
-        mark[t] = s;
-        visit(t);
-      }
-    }
-  };
   for (let s = 0; s < nc; s++) {
     const v = members[s];
+    const c = pairedWith[v];
     let m = 0;
-    const inc = () => {
-      m++;
-    };
-    neighboursOf(v, s, inc);
-    if (pairedWith[v] >= 0) neighboursOf(pairedWith[v], s, inc);
+    for (let side = 0; side < 2; side++) {
+      const node = side === 0 ? v : c;
+      if (node < 0) break;
+      for (let p = colPtr[node]; p < colPtr[node + 1]; p++) {
+        const t = sid[rep[rowIdx[p]]];
+        if (t !== s && mark[t] !== s) {
+          mark[t] = s;
+          m++;
+        }
+      }
+    }
     count[s + 1] = m;
   }
   for (let s = 0; s < nc; s++) count[s + 1] += count[s];
@@ -66,12 +65,19 @@ export function pairedAmdOrder(G: CscPattern, partner: Int32Array, info?: AmdInf
   mark.fill(-1);
   for (let s = 0; s < nc; s++) {
     const v = members[s];
+    const c = pairedWith[v];
     let q = count[s];
-    const put = (t: number) => {
-      adj[q++] = t;
-    };
-    neighboursOf(v, s, put);
-    if (pairedWith[v] >= 0) neighboursOf(pairedWith[v], s, put);
+    for (let side = 0; side < 2; side++) {
+      const node = side === 0 ? v : c;
+      if (node < 0) break;
+      for (let p = colPtr[node]; p < colPtr[node + 1]; p++) {
+        const t = sid[rep[rowIdx[p]]];
+        if (t !== s && mark[t] !== s) {
+          mark[t] = s;
+          adj[q++] = t;
+        }
+      }
+    }
   }
   const permC = amdOrder({ n: nc, colPtr: count, rowIdx: adj }, {}, info);
   // expand: a pair becomes (v, c) at consecutive positions
