@@ -59,7 +59,7 @@ describe.runIf(run)("an added problem reaches a suite and runs from its page", (
     fs.rmSync(path.join(ROOT, ".arcwatch-worktrees", path.basename(repo ?? "none")), { recursive: true, force: true });
   });
 
-  it("save in the builder, add to quick, run it now, read the result", { timeout: 300_000 }, async () => {
+  it("save in the builder, add to quick, run it now, read the result", { timeout: 600_000 }, async () => {
     await signInAs(page, server.url, "engineer");
     await page.goto(`${server.url}/problems/new`);
     await hydrated(page);
@@ -88,7 +88,7 @@ describe.runIf(run)("an added problem reaches a suite and runs from its page", (
     await page.click("[data-testid=run-now]");
     await page.waitForSelector("[data-testid=problem-check][data-status=queued], [data-testid=problem-check][data-status=running], [data-testid=problem-check][data-status=done]");
     await page.waitForSelector("[data-testid=problem-check][data-status=running] [role=progressbar]", { timeout: 60_000 }).catch(() => undefined);
-    await page.waitForSelector("[data-testid=problem-check][data-status=done], [data-testid=problem-check][data-status=failed]", { timeout: 240_000 });
+    await page.waitForSelector("[data-testid=problem-check][data-status=done], [data-testid=problem-check][data-status=failed]", { timeout: 480_000 }); // a shared machine: minutes
     expect(await page.getAttribute("[data-testid=problem-check]", "data-status")).toBe("done");
     const rows = page.locator("[data-testid=check-cases] tbody tr");
     expect(await rows.count()).toBe(10);
