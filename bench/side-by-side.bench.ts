@@ -26,8 +26,9 @@
  *    is the one a loaded machine inflates least; the time ratio and "best of R" use it. "warm": the
  *    CPU seconds of the third solve of the same N in the same process, with the symbolic-analysis
  *    cache emptied before it (so the analysis is paid again): the engine's steady cost once the JIT
- *    has compiled it for this size, as in a bench worker after its warm-up solves
- *    (ARCWATCH_COLD_ONLY=1 skips it);
+ *    has compiled it for this size, as in a bench worker after its warm-up solves (measured in a
+ *    process of its own, so that the memory columns stay those of the cold solve;
+ *    ARCWATCH_COLD_ONLY=1 skips it);
  *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
  *    set minus that of an empty Node process (`node -e 0`) — the issue's measure, which includes
  *    the TypeScript loader (tsx) and the engine's modules — and minus that of the same child
@@ -65,6 +66,7 @@ interface Run {
 if (process.argv[2] === "--child") {
   const N = Number(process.argv[3]);
   const scheme = process.argv[4] as "trapezoidal" | "hermite-simpson";
+  const warm = process.argv[5] === "warm";
   const { compileProblemSource } = await import("../app/engine/problem/compile");
   const { getScheme } = await import("../app/engine/schemes/index");
   const { solveNlp } = await import("../app/engine/nlp/index");
@@ -91,7 +93,7 @@ if (process.argv[2] === "--child") {
   if (N > 0) {
     run(50);
     out = run(N);
-    if (!process.env.ARCWATCH_COLD_ONLY) {
+    if (warm) {
       // Warm: the third solve of this N in the process, the symbolic-analysis cache emptied first so
       // that the analysis is paid as in the cold solve (a bench worker's timed repeats would reuse it).
       run(N);
@@ -163,8 +165,8 @@ function runReference(bin: string, N: number, scheme: string): Run | null {
 }
 
 const self = fileURLToPath(import.meta.url);
-function runArcwatch(N: number, scheme: string): Run | null {
-  const r = measured(process.execPath, ["--import", "tsx", self, "--child", String(N), scheme]);
+function runArcwatch(N: number, scheme: string, warm = false): Run | null {
+  const r = measured(process.execPath, ["--import", "tsx", self, "--child", String(N), scheme, ...(warm ? ["warm"] : [])]);
   const line = r.stdout.trim().split("\n").pop();
   if (!r.ok || !line) {
     console.log(`Arcwatch child failed (N = ${N}, ${scheme}): ${r.stderr.slice(-400)}`);
@@ -200,7 +202,9 @@ for (const scheme of schemes) {
     const ourRuns: (Run | null)[] = [];
     for (let k = 0; k < reps; k++) {
       if (bin) refRuns.push(runReference(bin, N, scheme));
-      ourRuns.push(runArcwatch(N, scheme));
+      const cold = runArcwatch(N, scheme);
+      const warm = process.env.ARCWATCH_COLD_ONLY ? null : runArcwatch(N, scheme, true);
+      ourRuns.push(cold && warm ? { ...cold, warmCpuSeconds: warm.warmCpuSeconds } : cold);
     }
     const ref = bin ? best(refRuns) : null;
     const our = best(ourRuns);
