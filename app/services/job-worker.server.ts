@@ -28,6 +28,7 @@ import { parseRunEvent, RUN_EVENTS_FD_ENV, type RunEvent } from "~/runs/events";
 import { expandCases, loadSuite, suitePath } from "~/runs/suite";
 import type { JobRow } from "~/db/schema";
 import { runAbJob } from "./ab-job.server";
+import { afterAbJob } from "./ab-confirm.server";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -95,6 +96,8 @@ export function startJobWorker(): void {
       }
     }
     console.log(`[arcwatch] job ${d.id} marked died (its worker stopped before it finished)`);
+    // An A/B that died cannot confirm: its findings stand unconfirmed and any held e-mail goes out saying so.
+    void afterAbJob(db, d.id, { error: "the worker stopped (server restart or crash) before the A/B finished" }).catch((err) => console.error("[arcwatch] A/B check:", err));
   }
   void pruneWorktrees().catch(() => undefined);
   state.timer = setInterval(() => {
