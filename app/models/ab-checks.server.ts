@@ -169,17 +169,6 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
   return getAbCheck(db, id);
 }
 
-/** The latest check's state per regression (for lists), by regression id. */
-export function abStateOf(db: Db, ids: number[]): Map<number, AbCheckState> {
-  const out = new Map<number, AbCheckState>();
-  if (!ids.length) return out;
-  const rows = db.all<{ rid: number; state: AbCheckState }>(
-    sql`select json_each.value as rid, ab_checks.state as state from ab_checks, json_each(ab_checks.regression_ids) where json_each.value in (${sql.join(ids.map((i) => sql`${i}`), sql`, `)}) order by ab_checks.id asc`,
-  );
-  for (const r of rows) out.set(Number(r.rid), r.state);
-  return out;
-}
-
 /** Stored regressions as findings again (for an e-mail held until an A/B verdict). */
 export function regressionsAsFindings(db: Db, ids: number[]): { id: number; finding: Finding }[] {
   if (!ids.length) return [];

@@ -92,7 +92,7 @@ export default function CommitPage({ loaderData, actionData }: Route.ComponentPr
         / <span className="num">{commit.hash.slice(0, 10)}</span>
       </p>
       <div>
-        <h1 className="text-2xl font-semibold tracking-tight" data-testid="commit-subject">{commit.subject}</h1>
+        <h1 className="text-2xl font-semibold tracking-tight" data-testid="commit-subject" data-ident>{commit.subject}</h1>
         <p className="num text-sm text-muted">
           {commit.hash} · {commit.author} · {commit.date}
         </p>

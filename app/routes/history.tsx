@@ -99,7 +99,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
               {[...series.points].reverse().slice(0, 30).map((p) => (
                 <li key={p.runId} className="flex flex-wrap gap-2">
                   {p.isDemo ? <code className="num">{p.commitHash.slice(0, 10)}</code> : <Link className="num text-accent hover:underline" to={`/commits/${p.commitHash}`}>{p.commitHash.slice(0, 10)}</Link>}
-                  <span className="min-w-0 truncate">{p.commitSubject}</span>
+                  <span className="min-w-0 truncate" data-ident>{p.commitSubject}</span>
                   <span className="num text-muted">{fmt(p.value)}</span>
                   {p.mark ? <span className={p.mark === "regression" ? "text-bad" : "text-good"}>{DIRECTION[p.mark].symbol}</span> : null}
                 </li>

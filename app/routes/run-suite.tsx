@@ -253,7 +253,7 @@ export default function RunSuite({ loaderData, actionData }: Route.ComponentProp
           {commits.map((c, i) => (
             <li key={c.hash} className={`flex flex-wrap items-baseline gap-2 py-1.5 ${forkAt >= 0 && i >= forkAt ? "text-muted" : ""}`} data-commit={c.hash} data-on-main={forkAt >= 0 && i >= forkAt ? "yes" : "no"}>
               <Link className="num text-accent hover:underline" to={`/commits/${c.hash}`}>{c.hash.slice(0, 10)}</Link>
-              <span className="min-w-0 grow">{c.subject}</span>
+              <span className="min-w-0 grow" data-ident>{c.subject}</span>
               <span className="num text-xs text-muted">{c.date.slice(0, 10)} · {c.author}</span>
               {i === forkAt ? <span className="w-full text-xs font-semibold text-accent" data-testid="fork-point">↑ {ref}'s own commits above · {ref} leaves main here · main below</span> : null}
             </li>

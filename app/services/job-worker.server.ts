@@ -31,6 +31,7 @@ import { loadSuiteWithChanges } from "~/models/suite-changes.server";
 import os from "node:os";
 import type { JobRow } from "~/db/schema";
 import { runAbJob } from "./ab-job.server";
+import { afterAbJob } from "./ab-confirm.server";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -98,6 +99,8 @@ export function startJobWorker(): void {
       }
     }
     console.log(`[arcwatch] job ${d.id} marked died (its worker stopped before it finished)`);
+    // An A/B that died cannot confirm: its findings stand unconfirmed and any held e-mail goes out saying so.
+    void afterAbJob(db, d.id, { error: "the worker stopped (server restart or crash) before the A/B finished" }).catch((err) => console.error("[arcwatch] A/B check:", err));
   }
   void pruneWorktrees().catch(() => undefined);
   state.timer = setInterval(() => {

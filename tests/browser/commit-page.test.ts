@@ -3,7 +3,8 @@
  * engineer opens a commit from the branch's commit list (which marks where the branch leaves
  * main), reads its message body and its coloured diff (markup in the changed lines arrives as
  * text, never as elements), starts a suite run at that commit and an A/B comparison with its
- * parent, and sees both jobs queued with the right commits. A viewer sees the page but no buttons,
+ * parent, and sees both jobs queued with the right commits; from the branch, an A/B of its tip
+ * against where it leaves main. A viewer sees the page but no buttons,
  * and the server refuses the viewer's post.
  */
 import { execFileSync } from "node:child_process";
@@ -117,6 +118,15 @@ describe.runIf(run)("the commit page", () => {
     await hydrated(page);
     expect(await page.textContent("[data-testid=job-panel] h2")).toContain(`interleaved A/B, suite pocket, ${head.slice(0, 10)} against ${base.slice(0, 10)}`);
     expect(await page.textContent("[data-testid=job-status]")).toBe("queued");
+
+    // From the branch: its tip against where it leaves main.
+    await page.goto(`${server.url}/run-suite?ref=faster-setup`);
+    await hydrated(page);
+    await Promise.all([page.waitForURL(/job=\d+$/), page.click("[data-testid=branch-ab]")]);
+    await hydrated(page);
+    const branchJob = Number(/job=(\d+)/.exec(page.url())![1]);
+    expect(branchJob).toBeGreaterThan(abJob);
+    expect(await page.textContent("[data-testid=job-panel] h2")).toContain(`interleaved A/B, suite pocket, ${head.slice(0, 10)} against ${base.slice(0, 10)}`);
   });
 
   it("shows a viewer the commit without buttons and refuses the viewer's post", { timeout: 60_000 }, async () => {

@@ -87,7 +87,7 @@ describe.runIf(run)("every page at phone width; one vocabulary on screen", () =>
     const caseId = runPage.match(/href="\/cases\/(\d+)"/)?.[1];
     const regsHtml = await page.request.get(`${server.url}/regressions?demo=all`).then((r) => r.text());
     const regId = regsHtml.match(/href="\/regressions\/(\d+)"/)?.[1];
-    const commitLink = regId ? (await page.request.get(`${server.url}/regressions/${regId}`).then((r) => r.text())).match(/href="(\/regressions\/\d+\/commits\/[0-9a-f]+)"/)?.[1] : undefined;
+    const commitLink = regId ? (await page.request.get(`${server.url}/regressions/${regId}`).then((r) => r.text())).match(/href="(\/(?:regressions\/\d+\/)?commits\/[0-9a-f]+)"/)?.[1] : undefined;
     return [
       "/",
       "/runs",

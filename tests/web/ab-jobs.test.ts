@@ -206,4 +206,18 @@ describe("settling a check", () => {
     expect(check).toMatchObject({ state: "awaiting", auto: false, alertsHeld: false, base: c1, head: c2, suiteName: "duo", cases: ["pika-rover-dash/euler/6"] });
     expect(((await ok.json()) as { job: { id: number } }).job.id).toBe(check!.jobId);
   });
+
+  it("cancelling a queued A/B settles its check as unavailable", async () => {
+    const db = getDb();
+    const { rid } = seedRegression(c2, c1);
+    const { job } = queueAbJob(db, { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid] });
+    const { createApiToken } = await import("~/services/tokens.server");
+    const { action } = await import("~/routes/api/jobs.$id");
+    const u = db.insert(users).values({ email: `eng-${randomBytes(3).toString("hex")}@example.com`, name: "eng", passwordHash: "x", role: "engineer" }).returning({ id: users.id }).get();
+    const t = createApiToken(db, { name: "eng token", role: "engineer", createdById: u.id }).token;
+    const request = new Request(`http://127.0.0.1/api/jobs/${job.id}`, { method: "POST", headers: { authorization: `Bearer ${t}`, "content-type": "application/json" }, body: JSON.stringify({ intent: "cancel" }) });
+    const res = (await action({ request, params: { id: String(job.id) }, context: {} } as never)) as Response;
+    expect(res.status).toBe(200);
+    expect(abChecksOfRegression(db, rid)[0]).toMatchObject({ state: "unavailable", note: "Interleaved A/B could not decide: the job was cancelled before it ran" });
+  });
 });

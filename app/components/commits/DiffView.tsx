@@ -10,7 +10,7 @@ const MARK: Record<DiffLine["kind"], string> = { add: "+", del: "−", ctx: " ",
 export function DiffView({ diff, moreHref }: { diff: ParsedDiff; moreHref: string | null }) {
   const hidden = diff.totalLines - diff.shownLines;
   return (
-    <div className="space-y-4" data-testid="diff">
+    <div className="space-y-4" data-testid="diff" data-ident>
       <table className="num text-xs" data-testid="diff-summary">
         <tbody>
           {diff.files.map((f, i) => (
