@@ -6,10 +6,13 @@ import { ErrorView } from "./components/ErrorView";
 import { useNonce } from "./nonce";
 import { themeBootScript } from "./components/ThemeToggle";
 import { checkSameOrigin } from "./services/csrf.server";
+import { pageCacheMiddleware } from "./services/page-cache.server";
 
 /**
  * Every request passes here first: state-changing requests from another origin are refused
- * before any action runs (403; JSON for /api/...).
+ * before any action runs (403; JSON for /api/...). Then the heavy read-only pages are served
+ * from their rendered copy when one exists for this user and data version
+ * (app/services/page-cache.server.ts; authentication still runs per request).
  */
 export const middleware: Route.MiddlewareFunction[] = [
   async ({ request }, next) => {
@@ -22,6 +25,7 @@ export const middleware: Route.MiddlewareFunction[] = [
     }
     return next();
   },
+  ({ request }, next) => pageCacheMiddleware(request, next),
 ];
 
 export const meta: Route.MetaFunction = () => [

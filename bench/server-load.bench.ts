@@ -11,8 +11,12 @@
  *
  * Data: the demo database (`npm run seed`); pass `--db <file>` to reuse an already seeded copy
  * (seeding runs the quick suite, minutes on a shared machine). Timings on a shared machine are
- * noisy: the idle and loaded figures are measured in the same run, one after the other.
+ * noisy: the idle and loaded figures are measured in the same run, one after the other, and
+ * each row shows the machine's 1-minute load average when it was measured (2 cores: a load
+ * above 2 means other processes were waiting for a core too).
  */
+import fs from "node:fs";
+import os from "node:os";
 import { chainProblem } from "../tests/helpers/load-problem";
 import { startTestServer } from "../tests/helpers/server";
 
@@ -65,6 +69,13 @@ function pct(xs: number[], p: number): number {
   const s = [...xs].sort((a, b) => a - b);
   return s[Math.min(s.length - 1, Math.ceil((p / 100) * s.length) - 1)]!;
 }
+/** CPU time (user + system, ms) a process has used, from /proc (Linux; clock ticks of 10 ms). */
+function cpuMsOf(pid: number): number {
+  const stat = fs.readFileSync(`/proc/${pid}/stat`, "utf8");
+  const f = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
+  return (Number(f[11]) + Number(f[12])) * 10;
+}
+const load = () => os.loadavg()[0]!.toFixed(1).padStart(5);
 const fmt = (xs: number[]) => `${pct(xs, 50).toFixed(0).padStart(7)} ${pct(xs, 95).toFixed(0).padStart(7)} ${Math.max(...xs).toFixed(0).padStart(7)}`;
 
 try {
@@ -77,6 +88,7 @@ try {
     idle.health.push(await timed("/api/health"));
     idle.overview.push(await timed("/"));
   }
+  const loadIdle = load();
   const oversize = await trial(chainProblem(150), "load-chain-150");
   const heavy = chainProblem(40);
   let running = true;
@@ -88,18 +100,19 @@ try {
     loaded.overview.push(await timed("/"));
     await new Promise((r) => setTimeout(r, 50));
   }
+  const loadTrials = load();
   const results = await trials;
-  console.log(`\n1. Requests while 4 heavy trial solves run (40 states × 60 intervals, Hermite–Simpson); machine shared`);
+  console.log(`\n1. Requests while 4 heavy trial solves run (40 states × 60 intervals, Hermite–Simpson); ${os.availableParallelism()} cores, machine shared`);
   console.log(`   trials: ${results.map((r) => `${r.status} ${r.outcome} in ${(r.ms / 1000).toFixed(1)} s`).join("; ")}`);
   console.log(`   150-state trial: ${oversize.status} in ${oversize.ms.toFixed(0)} ms (${oversize.outcome})`);
-  console.log(`   ${"route".padEnd(28)} ${"n".padStart(4)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/100ms".padStart(10)}`);
+  console.log(`   ${"route".padEnd(28)} ${"n".padStart(4)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/100ms".padStart(10)} ${"load".padStart(5)}`);
   for (const [label, xs] of [
     ["/api/health, idle", idle.health],
     ["/api/health, 4 trials", loaded.health],
     ["/ (overview), idle", idle.overview],
     ["/ (overview), 4 trials", loaded.overview],
   ] as const)
-    console.log(`   ${label.padEnd(28)} ${String(xs.length).padStart(4)} ${fmt(xs)} ${(pct(xs, 95) / HEALTH_GOAL_MS).toFixed(2).padStart(10)}`);
+    console.log(`   ${label.padEnd(28)} ${String(xs.length).padStart(4)} ${fmt(xs)} ${(pct(xs, 95) / HEALTH_GOAL_MS).toFixed(2).padStart(10)} ${label.includes("idle") ? loadIdle : loadTrials}`);
 
   }
   // ---- 2. many readers ------------------------------------------------------------------
@@ -110,12 +123,16 @@ try {
     try {
       const uncachedCookie = await signInAt(uncached.url, "engineer@arcwatch.test", "engineer-demo-pass");
       console.log(`\n2. ${READERS} concurrent GETs per page (after one warm-up request); cache on, then off (ARCWATCH_PAGE_CACHE=0)`);
-      console.log(`   ${"page".padEnd(24)} ${"first ms".padStart(8)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/2s".padStart(7)}`);
+      console.log(`   Server CPU per request (user + system of the server process, /proc) does not depend on what else the machine runs;`);
+      console.log(`   ${READERS} × that is the time one core needs for the whole burst, i.e. about the p95 on an idle machine.`);
+      console.log(`   ${"page".padEnd(24)} ${"first ms".padStart(8)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/2s".padStart(7)} ${"CPU ms/req".padStart(10)} ${`CPU×${READERS} s`.padStart(10)} ${"load".padStart(5)}`);
       for (const page of ["/compare", "/problems", "/"]) {
-        for (const [label, at, c] of [["cache on", base, cookie], ["cache off", uncached.url, uncachedCookie]] as const) {
-          const first = await timedAt(at, c, page);
-          const xs = await Promise.all(Array.from({ length: READERS }, () => timedAt(at, c, page)));
-          console.log(`   ${`${page}, ${label}`.padEnd(24)} ${first.toFixed(0).padStart(8)} ${fmt(xs)} ${(pct(xs, 95) / PAGE_GOAL_MS).toFixed(2).padStart(7)}`);
+        for (const [label, srv, c] of [["cache on", server, cookie], ["cache off", uncached, uncachedCookie]] as const) {
+          const first = await timedAt(srv.url, c, page);
+          const cpu0 = cpuMsOf(srv.child.pid!);
+          const xs = await Promise.all(Array.from({ length: READERS }, () => timedAt(srv.url, c, page)));
+          const perReq = (cpuMsOf(srv.child.pid!) - cpu0) / READERS;
+          console.log(`   ${`${page}, ${label}`.padEnd(24)} ${first.toFixed(0).padStart(8)} ${fmt(xs)} ${(pct(xs, 95) / PAGE_GOAL_MS).toFixed(2).padStart(7)} ${perReq.toFixed(1).padStart(10)} ${((perReq * READERS) / 1000).toFixed(2).padStart(10)} ${load()}`);
         }
       }
     } finally {
