@@ -32,7 +32,7 @@ export interface MetricEntry extends Entry {
 
 export const METRICS = {
   objective: { label: "Objective J", unit: "", definition: "The value of the problem's cost functional at the solution returned." },
-  objectiveErrorRel: { label: "Objective error (relative)", unit: "", recorded: "objective_error_rel", definition: "|J − J_ref| / max(1, |J_ref|): the objective's distance from the trusted reference, relative for large objectives and absolute near zero. Whenever a page says “objective error” it means this number." },
+  objectiveErrorRel: { label: "Objective error (relative)", unit: "", recorded: "objective_error_rel", definition: "|J − J_ref| / |J_ref| (|J_ref| floored at 1e-12): the objective's distance from the trusted reference, relative to the reference objective. Whenever a page says “objective error” it means this number." },
   objectiveErrorAbs: { label: "Objective error (absolute)", unit: "", definition: "|J − J_ref| without scaling." },
   stateError: { label: "State error (max)", unit: "", recorded: "state_error", definition: "The largest absolute difference between any state of the solution and the reference trajectory, over the reference's time grid. Never mixed with the objective error." },
   controlError: { label: "Control error (max)", unit: "", recorded: "control_error", definition: "The largest absolute difference between a control and the reference control, away from switching instants." },

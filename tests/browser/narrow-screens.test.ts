@@ -6,6 +6,7 @@
  * camelCase outside code), so every such name went through app/vocabulary.ts. At 1440 px the
  * admin's navigation is one row.
  */
+import { execFileSync } from "node:child_process";
 import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { chromiumAvailable, hydrated, launchBrowser, screenshot, signInAs } from "../helpers/browser";
@@ -102,6 +103,8 @@ describe.runIf(run)("every page at phone width; one vocabulary on screen", () =>
       "/regressions",
       ...(regId ? [`/regressions/${regId}`] : []),
       ...(commitLink ? [commitLink] : []),
+      // the commit page of the checkout's own HEAD: always in the repository the server reads
+      `/commits/${execFileSync("git", ["rev-parse", "HEAD"], { encoding: "utf8" }).trim()}`,
       "/run-suite",
       "/settings",
       "/account",
@@ -116,7 +119,7 @@ describe.runIf(run)("every page at phone width; one vocabulary on screen", () =>
     await page.setViewportSize({ width: 390, height: 844 });
     const paths = await pagesToRead();
     // Every page of the app; a commit page only when the regression's commits are in the repository (demo ones are not).
-    expect(paths.length, paths.join(" ")).toBeGreaterThanOrEqual(19);
+    expect(paths.length, paths.join(" ")).toBeGreaterThanOrEqual(20);
     const problems: string[] = [];
     for (const p of paths) {
       await page.goto(`${server.url}${p}`);
