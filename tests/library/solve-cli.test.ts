@@ -26,7 +26,7 @@ describe("solve command", () => {
     expect(Math.abs(rep.objective - 3.75)).toBeLessThan(1e-8);
     expect(rep.trajectory.states.x.length).toBe(13);
     expect(rep.errors.stateMax).toBeLessThan(1e-8);
-    expect(r.stderr).toMatch(/step\s+ph\s+objective/);
+    expect(r.stderr).toMatch(/step\s+│\s+objective\s+primal inf\./);
   });
 
   it("bad options and missing problems exit 2 with the reason", () => {
