@@ -16,12 +16,11 @@ import { databasePath, type Db } from "~/db/client.server";
 import type { JobRow } from "~/db/schema";
 import { finishJob, heartbeatJob, type BenchProgress } from "~/models/jobs.server";
 import { abJobPayload, abResultSchema } from "~/runs/ab-result";
-import { parseRunEvent, RUN_EVENTS_FD_ENV } from "~/runs/events";
+import { RUN_EVENTS_FD_ENV } from "~/runs/events";
 import { afterAbJob } from "./ab-confirm.server";
 import { repoRoot } from "./git.server";
+import { onRunEvents, superviseJobChild } from "./job-child.server";
 
-const HEARTBEAT_MS = 1000;
-const KILL_GRACE_MS = 15_000;
 
 /** Runs one claimed "ab" job to its end (never throws: a failure is the job's recorded result). */
 export async function runAbJob(db: Db, job: JobRow, onChild: (c: ChildProcess | null) => void = () => undefined): Promise<void> {
@@ -56,32 +55,17 @@ export async function runAbJob(db: Db, job: JobRow, onChild: (c: ChildProcess | 
     let stdout = "";
     child.stdout!.on("data", (d: Buffer) => (stdout += d.toString("utf8")));
     child.stderr!.on("data", (d: Buffer) => append(d.toString("utf8").replace(/\r?\x1b\[2K/g, "")));
-    let partial = "";
-    (child.stdio[3] as NodeJS.ReadableStream | null)?.on("data", (d: Buffer) => {
-      partial += d.toString("utf8");
-      const lines = partial.split("\n");
-      partial = lines.pop() ?? "";
-      for (const line of lines) {
-        const e = parseRunEvent(line);
-        if (e?.event !== "trial") continue;
-        const rate = progress.elapsedSeconds > 0 && e.done > 0 ? progress.elapsedSeconds / e.done : null;
-        Object.assign(progress, { done: e.done, total: e.total, phase: "running", current: `${e.key} · block ${e.block + 1} · ${e.side === "A" ? "A (base)" : "B (head)"}`, etaSeconds: rate !== null ? rate * (e.total - e.done) : null });
-      }
+    onRunEvents(child, (e) => {
+      if (e.event !== "trial") return;
+      const rate = progress.elapsedSeconds > 0 && e.done > 0 ? progress.elapsedSeconds / e.done : null;
+      Object.assign(progress, { done: e.done, total: e.total, phase: "running", current: `${e.key} · block ${e.block + 1} · ${e.side === "A" ? "A (base)" : "B (head)"}`, etaSeconds: rate !== null ? rate * (e.total - e.done) : null });
     });
-    const started = Date.now();
-    let killTimer: NodeJS.Timeout | null = null;
-    const beat = setInterval(() => {
-      progress.elapsedSeconds = (Date.now() - started) / 1000;
+    const code = await superviseJobChild(child, (elapsed) => {
+      progress.elapsedSeconds = elapsed;
       const status = heartbeatJob(db, job.id, progress, log);
       log = "";
-      if (status === "cancelled" && !killTimer) {
-        child.kill("SIGTERM");
-        killTimer = setTimeout(() => child.kill("SIGKILL"), KILL_GRACE_MS);
-      }
-    }, HEARTBEAT_MS);
-    const code: number | null = await new Promise((resolve) => child.once("close", (c) => resolve(c)));
-    clearInterval(beat);
-    if (killTimer) clearTimeout(killTimer);
+      return status;
+    });
     onChild(null);
     Object.assign(progress, { phase: "finishing", current: null, etaSeconds: null });
     append(`\n[exit ${code}]\n`);

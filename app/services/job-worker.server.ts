@@ -24,7 +24,7 @@ import { databasePath, getDb, type Db } from "~/db/client.server";
 import { benchJobPayload, claimNextJob, finishJob, heartbeatJob, labelJobRuns, markDeadJobs, runOfJob, setJobPid, type BenchProgress } from "~/models/jobs.server";
 import { caseCountOfRun } from "~/models/runs.server";
 import { problemLibraryFor } from "~/models/library.server";
-import { parseRunEvent, RUN_EVENTS_FD_ENV, type RunEvent } from "~/runs/events";
+import { RUN_EVENTS_FD_ENV, type RunEvent } from "~/runs/events";
 import { canonicalJson, expandCases, suitePath } from "~/runs/suite";
 import { problemCheckSuite } from "~/runs/suite-changes";
 import { loadSuiteWithChanges } from "~/models/suite-changes.server";
@@ -32,12 +32,10 @@ import os from "node:os";
 import type { JobRow } from "~/db/schema";
 import { runAbJob } from "./ab-job.server";
 import { afterAbJob } from "./ab-confirm.server";
+import { onRunEvents, superviseJobChild } from "./job-child.server";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
-const HEARTBEAT_MS = 1000;
-/** Seconds between SIGTERM and SIGKILL when a cancelled child does not stop. */
-const KILL_GRACE_MS = 15_000;
 
 /** Folds one runner event into the job's progress. */
 export function applyRunEvent(progress: BenchProgress, e: RunEvent, order: string[]): void {
@@ -182,36 +180,20 @@ async function runBenchJob(db: Db, job: JobRow, state: WorkerState): Promise<voi
     child.stdout!.on("data", onData);
     child.stderr!.on("data", onData);
     let sawEvents = false;
-    let partial = "";
-    (child.stdio[3] as NodeJS.ReadableStream | null)?.on("data", (d: Buffer) => {
-      partial += d.toString("utf8");
-      const lines = partial.split("\n");
-      partial = lines.pop() ?? "";
-      for (const line of lines) {
-        const e = parseRunEvent(line);
-        if (!e) continue;
-        sawEvents = true;
-        applyRunEvent(progress, e, order);
-      }
+    onRunEvents(child, (e) => {
+      sawEvents = true;
+      applyRunEvent(progress, e, order);
     });
-    const started = Date.now();
-    let killTimer: NodeJS.Timeout | null = null;
-    const beat = setInterval(() => {
-      progress.elapsedSeconds = (Date.now() - started) / 1000;
+    const code = await superviseJobChild(child, (elapsed) => {
+      progress.elapsedSeconds = elapsed;
       progress.runId ??= runOfJob(db, job.id)?.id ?? null;
       // A commit whose runner writes no events: the cases it has recorded so far.
       if (!sawEvents && progress.runId) progress.done = caseCountOfRun(db, progress.runId);
       if (progress.runId && payload.ref && !/^[0-9a-f]{7,40}$/.test(payload.ref)) labelJobRuns(db, job.id, payload.ref);
       const status = heartbeatJob(db, job.id, progress, log);
       log = "";
-      if (status === "cancelled" && !killTimer) {
-        child.kill("SIGTERM");
-        killTimer = setTimeout(() => child.kill("SIGKILL"), KILL_GRACE_MS);
-      }
-    }, HEARTBEAT_MS);
-    const code: number | null = await new Promise((resolve) => child.once("close", (c) => resolve(c)));
-    clearInterval(beat);
-    if (killTimer) clearTimeout(killTimer);
+      return status;
+    });
     state.child = null;
     progress.phase = "finishing";
     if (payload.ref && !/^[0-9a-f]{7,40}$/.test(payload.ref)) labelJobRuns(db, job.id, payload.ref);
