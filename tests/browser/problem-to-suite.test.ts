@@ -14,24 +14,10 @@ import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { chromiumAvailable, hydrated, launchBrowser, screenshot, signInAs } from "../helpers/browser";
 import { ROOT, startTestServer, type RunningServer } from "../helpers/server";
+import { restToRestProblem } from "../helpers/rest-to-rest";
 
-/** Our own double integrator: minimise ∫u²/2, (0,0) → (1,0) in 1 s; J* = 6 with u = 6 − 12t (worked by hand). */
-const DOTTEREL = {
-  format: "arcwatch-problem/1",
-  title: "Dotterel sled, rest-to-rest in one second",
-  description: "Minimum-energy double integrator of the Dotterel test sled.",
-  tags: ["smooth", "dotterel-test-tag"],
-  constants: { umax: 20 },
-  states: [{ name: "x", unit: "m" }, { name: "v", unit: "m/s" }],
-  controls: [{ name: "u", unit: "m/s^2", lower: "-umax", upper: "umax" }],
-  dynamics: { x: "v", v: "u" },
-  horizon: { initialTime: 0, finalTime: { fixed: 1 } },
-  initial: { x: 0, v: 0 },
-  final: { x: 1, v: 0 },
-  objective: { sense: "min", running: "u^2/2" },
-  guess: { kind: "linear" },
-  reference: { objective: { value: 6, tolerance: 1e-9, provenance: { kind: "analytic", detail: "u = 6 − 12t, J = 6" } } },
-};
+/** Our own double integrator (tests/helpers/rest-to-rest.ts): J* = 6. */
+const DOTTEREL = restToRestProblem("Dotterel sled, rest-to-rest in one second", "Minimum-energy double integrator of the Dotterel test sled.", "dotterel-test-tag");
 
 const run = chromiumAvailable();
 
