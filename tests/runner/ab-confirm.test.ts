@@ -18,6 +18,7 @@ import { openDatabase } from "~/db/client.server";
 import { abChecks, jobs, outbox, regressionEvents, regressions, subscriptions, users } from "~/db/schema";
 import { stopStandin } from "~/services/mail.server";
 import { REPO, tempDir } from "./helpers";
+import { standInExecutor } from "../helpers/stand-in-executor";
 
 afterAll(async () => {
   await stopStandin();
@@ -34,22 +35,7 @@ function git(cwd: string, ...args: string[]): string {
  */
 const WORK = 40_000;
 
-/** A solver stand-in whose work per solve is `work` × intervals floating-point steps. */
-const executor = (work: number) => `
-export const createExecutor = () => ({
-  prepare(spec: { problemId: string; scheme: string; intervals: number }) {
-    return {
-      solve() {
-        let acc = 0;
-        for (let i = 1; i <= ${work} * spec.intervals; i++) acc += Math.sin(i) / i;
-        return { problemId: spec.problemId, versionHash: "ab-confirm-test", scheme: spec.scheme, intervals: spec.intervals, status: "optimal", message: null,
-          objective: 1 + acc * 0, finalTime: 1, iterations: 10, constraintViolation: 0,
-          errors: { objectiveAbs: 0, objectiveRel: 0, finalTimeAbs: 0, stateMax: 0, controlMax: 0 } };
-      },
-    };
-  },
-});
-`;
+const executor = (work: number) => standInExecutor(work, "ab-confirm-test");
 
 function makeRepo(name: string, thresholds: Record<string, unknown> = {}): string {
   const repo = tempDir(name);

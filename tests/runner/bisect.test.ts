@@ -11,27 +11,13 @@ import { execFileSync, spawnSync } from "node:child_process";
 import fs from "node:fs";
 import path from "node:path";
 import { REPO, tempDir } from "./helpers";
+import { standInExecutor } from "../helpers/stand-in-executor";
 
 function git(cwd: string, ...args: string[]): string {
   return execFileSync("git", args, { cwd, encoding: "utf8", env: { ...process.env, GIT_AUTHOR_NAME: "Arcwatch Test", GIT_AUTHOR_EMAIL: "test@example.com", GIT_COMMITTER_NAME: "Arcwatch Test", GIT_COMMITTER_EMAIL: "test@example.com" } }).trim();
 }
 
-/** A solver stand-in whose work per solve is `work` × intervals floating-point steps. */
-const executor = (work: number) => `
-export const createExecutor = () => ({
-  prepare(spec: { problemId: string; scheme: string; intervals: number }) {
-    return {
-      solve() {
-        let acc = 0;
-        for (let i = 1; i <= ${work} * spec.intervals; i++) acc += Math.sin(i) / i;
-        return { problemId: spec.problemId, versionHash: "bisect-test", scheme: spec.scheme, intervals: spec.intervals, status: "optimal", message: null,
-          objective: 1 + acc * 0, finalTime: 1, iterations: 10, constraintViolation: 0,
-          errors: { objectiveAbs: 0, objectiveRel: 0, finalTimeAbs: 0, stateMax: 0, controlMax: 0 } };
-      },
-    };
-  },
-});
-`;
+const executor = (work: number) => standInExecutor(work, "bisect-test");
 
 describe("bisection with interleaved A/B comparisons", () => {
   it("names the commit that planted a slowdown three commits back", { timeout: 600_000 }, async () => {
