@@ -10,25 +10,17 @@
 import { useId, useState } from "react";
 import { CartesianGrid, Line, LineChart, ReferenceArea, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
 import { eventWords, eventsOfRow } from "~/engine/nlp/iteration-log";
+import type { IterationRecord } from "~/engine/nlp/types";
 import { logDomain, logTickLabel, logTicks, loggable } from "~/components/compare/log-axis";
 import { niceTicks } from "~/components/charts/ticks";
 
 export type LogRow = Record<string, unknown>;
 
-interface Iter {
-  iter: number;
-  f: number;
-  infPr: number;
-  infDu: number;
-  mu: number;
-  normD: number;
-  deltaW: number;
-  alphaPr: number;
-  alphaDu: number;
-  lsTrials: number;
+/** One row of the log as drawn: the solver's measures, whether it was a restoration iteration, its events in words. */
+type Iter = Pick<IterationRecord, "iter" | "f" | "infPr" | "infDu" | "mu" | "normD" | "deltaW" | "alphaPr" | "alphaDu" | "lsTrials"> & {
   restoration: boolean;
   words: string[];
-}
+};
 
 const num = (v: unknown) => (typeof v === "number" ? v : typeof v === "string" && v.trim() !== "" ? Number(v) : NaN);
 
