@@ -71,21 +71,32 @@ function securityHeaders() {
 
 /** Grace period for a refused client to read its answer before the connection is cut (ms). */
 const REFUSE_GRACE_MS = 1000;
+/** At most this much of a refused body is read (and discarded) during the grace period. */
+const REFUSE_DRAIN_BYTES = 1024 * 1024;
 
 /**
- * Sends a small plain-text or JSON refusal without reading the body into memory. What the
- * client still sends is discarded for REFUSE_GRACE_MS (so it can read the answer; closing a
- * socket with unread data resets it), then the connection is cut.
+ * Sends a small plain-text or JSON refusal without reading the body into memory, with
+ * `Connection: close`. What the client still sends is discarded for REFUSE_GRACE_MS or up to
+ * REFUSE_DRAIN_BYTES, whichever comes first (so it can read the answer: closing a socket with
+ * unread data resets it), then the connection is cut. Bounded by bytes as well as time: on
+ * loopback a client that keeps writing pushed 40 MB through a 1 s grace period.
  */
 function refuse(req, res, status, message) {
+  res.set("Connection", "close");
   if (req.path.startsWith("/api/")) res.status(status).json({ error: message });
   else res.status(status).type("text/plain").send(message);
   res.once("finish", () => {
     req.unpipe();
-    req.resume();
-    setTimeout(() => {
+    let drained = 0;
+    const cut = () => {
       if (!req.complete) req.socket?.destroy();
-    }, REFUSE_GRACE_MS).unref();
+    };
+    req.on("data", (chunk) => {
+      drained += chunk.length;
+      if (drained > REFUSE_DRAIN_BYTES) cut();
+    });
+    req.resume();
+    setTimeout(cut, REFUSE_GRACE_MS).unref();
   });
 }
 
