@@ -1,6 +1,6 @@
 /**
  * npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>]
- *                  [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--base-url <url>] [--job <id>]
+ *                  [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--confirm] [--base-url <url>] [--job <id>]
  *
  * Runs a suite on the current checkout, records it in SQLite (ARCWATCH_DB or --db), compares it
  * with the baseline and prints a summary table (or, with --json, one JSON document on stdout).
@@ -10,6 +10,10 @@
  * `--machine-class <label>` names the class timings are compared within (default: the machine key).
  * `--ab <base>..<head>`: interleaved A/B of two commits in their own worktrees (bench/runner/ab.ts);
  * `--bisect <good>..<bad> --cases <keys>`: the first bad commit by A/B bisection (bench/runner/bisect.ts).
+ * `--confirm` (for CI runners): new speed regressions are put to an interleaved A/B of the baseline
+ * commit against this one at once, in this process, and count towards the exit code only when it
+ * confirms them (a cleared one is recorded with its verdict). Without it they count at once and the
+ * server's job worker confirms them later (their e-mail waits).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
  * (app/runs/events.ts; the job worker reads it).
@@ -31,7 +35,7 @@ import { renderTable, fmtNum, tally } from "./runner/table";
 import { MACHINE_CLASS_PATTERN, parseShard, renderPlan } from "../app/runs/shards";
 
 const USAGE =
-  "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
+  "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--confirm] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
   "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--json]\n" +
   "       npm run bench -- --suite <name|file> --bisect <good>..<bad> --cases <key,...> [--blocks <n>] [--json]";
 
@@ -70,6 +74,8 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
     }
   }
   if (s.alerts) parts.push(`alerts: ${s.alerts.sent.length} sent${s.alerts.errors.length ? `, ${s.alerts.errors.length} failed` : ""}`);
+  const c = s.alerts?.check;
+  if (c && c.jobId === null) parts.push(c.note ?? `interleaved A/B: ${c.state}`, c.state === "cleared" ? "the speed regression(s) were cleared: they do not fail this run" : c.state === "confirmed" ? "the speed regression(s) stand" : "the speed regression(s) stand unconfirmed");
   if (s.alerts?.abJobId) parts.push(`speed regression(s) await interleaved A/B job ${s.alerts.abJobId}: their e-mail goes out once it confirms them`);
   else if (s.alerts?.unconfirmed) parts.push(`speed regression(s) e-mailed unconfirmed: ${s.alerts.unconfirmed}`);
   return parts.join("\n");
@@ -100,6 +106,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         jobs: { type: "string" },
         json: { type: "boolean", default: false },
         "no-alerts": { type: "boolean", default: false },
+        confirm: { type: "boolean", default: false },
         "base-url": { type: "string" },
         job: { type: "string" },
         shard: { type: "string" },
@@ -168,13 +175,14 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
   }
   if (args.ab || args.bisect) return compareCommits(args);
   // the database, the runner and the engine are loaded only now, so that --help answers at once
-  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV }] = await Promise.all([
+  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV, formatRunEvent }] = await Promise.all([
     import("../app/db/client.server"),
     import("../app/services/mail.server"),
     import("./runner/run-suite"),
     import("./runner/upload"),
     import("../app/runs/events"),
   ]);
+  const sink = eventsSink(RUN_EVENTS_FD_ENV);
   const { shardPlanForSuite } = await import("./runner/shard-plan");
   const db = args.db ? openDatabase(args.db) : getDb();
   if (args.plan && shard) {
@@ -207,8 +215,14 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
       jobs,
       signal: controller.signal,
       progress: args.json ? null : process.stderr,
-      events: eventsSink(RUN_EVENTS_FD_ENV),
+      events: sink,
       alerts: !args["no-alerts"],
+      confirm: args.confirm,
+      onConfirmTrial: (i) => {
+        if (!args.json) process.stderr.write(`\r\x1b[2Kconfirming by interleaved A/B: ${i.done}/${i.total} ${i.key} block ${i.block + 1} ${i.side}`);
+        if (!args.json && i.done === i.total) process.stderr.write("\n");
+        sink?.write(formatRunEvent({ event: "trial", ...i }));
+      },
       baseUrl: args["base-url"],
       jobId,
       shard,
@@ -242,6 +256,9 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         baseline: summary.detection ? { runId: summary.detection.baselineRunId, commit: summary.detection.baselineCommit } : null,
         findings: summary.detection?.findings ?? [],
         newRegressions: summary.detection?.newRegressions ?? 0,
+        // `--confirm`: the A/B verdict on the speed regressions, and the new regressions that stand after it.
+        confirmation: summary.alerts?.check && summary.alerts.check.jobId === null ? { state: summary.alerts.check.state, note: summary.alerts.check.note, result: summary.alerts.check.result } : null,
+        standing: summary.alerts ? summary.alerts.standing : (summary.detection?.newRegressions ?? 0),
         alerts: summary.alerts,
         uploaded,
       };

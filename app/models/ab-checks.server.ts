@@ -6,7 +6,7 @@
 import { desc, eq, inArray, sql } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { abChecks, regressionEvents, regressionMembers, regressions, runs, type AbCheckState } from "~/db/schema";
-import { abSaysSlower, fmtAbRatio, type AbResultDoc } from "~/runs/ab-result";
+import { abSaysSlower, fmtAbRatio, judgeRegression, type AbResultDoc } from "~/runs/ab-result";
 import type { Finding } from "~/runs/rules";
 
 export interface AbCheckView {
@@ -28,6 +28,8 @@ export interface AbCheckView {
 
 type Row = typeof abChecks.$inferSelect;
 
+const byWhom = (jobId: number | null) => (jobId === null ? "run at once by the command line" : `job ${jobId}`);
+
 const view = (r: Row): AbCheckView => ({
   id: r.id,
   jobId: r.jobId,
@@ -46,7 +48,8 @@ const view = (r: Row): AbCheckView => ({
 });
 
 export interface NewAbCheck {
-  jobId: number;
+  /** The "ab" job that runs it; null when the command line runs it at once (`bench --confirm`). */
+  jobId: number | null;
   suiteName: string;
   base: string;
   head: string;
@@ -65,7 +68,7 @@ export function insertAbCheck(db: Db, c: NewAbCheck): AbCheckView {
     .get();
   for (const id of c.regressionIds ?? []) {
     db.insert(regressionEvents)
-      .values({ regressionId: id, userId: null, fromStatus: null, toStatus: null, note: `${c.auto ? "Awaiting" : "Queued"} interleaved A/B (job ${c.jobId}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)} on ${c.cases.length} case(s)${c.alertsHeld ? "; its e-mail waits for the verdict" : ""}.` })
+      .values({ regressionId: id, userId: null, fromStatus: null, toStatus: null, note: `${c.auto ? "Awaiting" : "Queued"} interleaved A/B (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)} on ${c.cases.length} case(s)${c.alertsHeld ? "; its e-mail waits for the verdict" : ""}.` })
       .run();
   }
   return view(row);
@@ -81,7 +84,7 @@ export function getAbCheck(db: Db, id: number): (AbCheckView & { runId: string |
   return r ? { ...view(r), runId: r.runId } : null;
 }
 
-/** Every check that judges regression `id`, newest first. */
+/** Every check that judges regression `id`, newest first, each with its verdict on that regression. */
 export function abChecksOfRegression(db: Db, id: number): AbCheckView[] {
   return db
     .select()
@@ -89,7 +92,8 @@ export function abChecksOfRegression(db: Db, id: number): AbCheckView[] {
     .where(sql`exists (select 1 from json_each(${abChecks.regressionIds}) where json_each.value = ${id})`)
     .orderBy(desc(abChecks.id))
     .all()
-    .map(view);
+    .map(view)
+    .map((c) => ({ ...c, state: abOfRegression(c, id).state }));
 }
 
 /** Checks whose head (or base) is `commit` (full hash), newest first. */
@@ -137,36 +141,68 @@ export function commitsOfRegression(db: Db, id: number): { base: string | null; 
 
 /**
  * Stores the verdict of a finished check (or why there is none) and writes it into the history
- * of each regression it judges. "confirmed": the comparison says slower; "cleared": it does not;
- * "unavailable": the job failed, was cancelled or timed nothing.
+ * of each regression it judges. Each regression is judged on its own cases (a group's members
+ * pooled; app/runs/ab-result.ts `judgeRegression`), stored in the result as `judged`.
+ * "confirmed": at least one judged regression is slower (a check without regressions: the
+ * comparison says slower); "cleared": none is; "unavailable": the job failed, was cancelled or
+ * timed nothing.
  */
 export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc } | { error: string }): AbCheckView | null {
   const c = getAbCheck(db, id);
   if (!c || c.state !== "awaiting") return c;
   let state: AbCheckState;
   let note: string;
+  const perRegression = new Map<number, string>();
+  let result: AbResultDoc | null = null;
   if ("error" in outcome) {
     state = "unavailable";
     note = `Interleaved A/B could not decide: ${outcome.error}`;
   } else {
+    const judged = c.regressionIds.map((rid) => judgeRegression(outcome.result, rid, affectedCases(db, [rid])));
+    result = { ...outcome.result, judged };
     const s = abSaysSlower(outcome.result);
-    if (!s) {
+    const timed = judged.filter((j) => j.verdict !== null);
+    if (c.regressionIds.length ? timed.length === 0 : !s) {
       state = "unavailable";
       note = "Interleaved A/B timed no case (every trial failed).";
     } else {
-      state = s.slower ? "confirmed" : "cleared";
+      state = c.regressionIds.length ? (timed.some((j) => j.verdict === "slower") ? "confirmed" : "cleared") : s!.slower ? "confirmed" : "cleared";
+      const head = `interleaved A/B (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)}`;
       const scope = outcome.result.pooled ? `all ${outcome.result.pooled.cases} cases pooled` : outcome.result.cases[0]?.key ?? "";
-      note = `${state === "confirmed" ? "Confirmed" : "Cleared"} by interleaved A/B (job ${c.jobId}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)}, ${scope}: ${fmtAbRatio(s.ratio, s.low, s.high)} (${outcome.result.blocks} blocks).`;
+      note = `${state === "confirmed" ? "Confirmed" : "Cleared"} by ${head}, ${scope}: ${fmtAbRatio(s?.ratio ?? null, s?.low ?? null, s?.high ?? null)} (${outcome.result.blocks} blocks).`;
+      for (const j of judged) {
+        const what = j.cases.length > 1 ? `its ${j.cases.length} cases pooled` : (j.cases[0] ?? "no case timed");
+        perRegression.set(j.regressionId, j.verdict === null ? `Interleaved A/B timed none of its cases (${byWhom(c.jobId)}).` : `${j.verdict === "slower" ? "Confirmed" : "Cleared"} by ${head}, ${what}: ${fmtAbRatio(j.ratio, j.low, j.high)} (${outcome.result.blocks} blocks).`);
+      }
     }
   }
   db.transaction((tx) => {
     tx.update(abChecks)
-      .set({ state, note, finishedAt: new Date(), resultJson: "result" in outcome ? outcome.result : null })
+      .set({ state, note, finishedAt: new Date(), resultJson: result })
       .where(eq(abChecks.id, id))
       .run();
-    for (const rid of c.regressionIds) tx.insert(regressionEvents).values({ regressionId: rid, userId: null, fromStatus: null, toStatus: null, note }).run();
+    for (const rid of c.regressionIds) tx.insert(regressionEvents).values({ regressionId: rid, userId: null, fromStatus: null, toStatus: null, note: perRegression.get(rid) ?? note }).run();
   });
   return getAbCheck(db, id);
+}
+
+/** The regressions of a settled check that stand: judged slower, or not judged (unconfirmed). */
+export function standingOfCheck(c: AbCheckView): number[] {
+  if (c.state === "awaiting") return c.regressionIds;
+  const judged = c.result?.judged;
+  if (!judged) return c.state === "cleared" ? [] : c.regressionIds;
+  return c.regressionIds.filter((rid) => {
+    const j = judged.find((x) => x.regressionId === rid);
+    return !j || j.verdict === null || j.verdict === "slower";
+  });
+}
+
+/** The verdict on one regression of a check: its own judged shift, else the check's. */
+export function abOfRegression(c: { state: AbCheckState; result: AbResultDoc | null }, rid: number): { state: AbCheckState; ratio: number | null; low: number | null; high: number | null } {
+  const j = c.result?.judged?.find((x) => x.regressionId === rid);
+  if (j) return { state: j.verdict === null ? "unavailable" : j.verdict === "slower" ? "confirmed" : "cleared", ratio: j.ratio, low: j.low, high: j.high };
+  const s = c.result ? abSaysSlower(c.result) : null;
+  return { state: c.state, ratio: s?.ratio ?? null, low: s?.low ?? null, high: s?.high ?? null };
 }
 
 /** Stored regressions as findings again (for an e-mail held until an A/B verdict). */

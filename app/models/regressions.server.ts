@@ -9,7 +9,9 @@ import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { simpleGit } from "simple-git";
 import { z } from "zod";
 import type { Db } from "~/db/client.server";
-import { apiTokens, caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressionMembers, regressions, regressionSightings, runs, subscriptions, timingSamples, users, type RegressionScope, type RegressionStatus } from "~/db/schema";
+import { abChecks, apiTokens, caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressionMembers, regressions, regressionSightings, runs, subscriptions, timingSamples, users, type AbCheckState, type RegressionScope, type RegressionStatus } from "~/db/schema";
+import type { AbResultDoc } from "~/runs/ab-result";
+import { abOfRegression } from "./ab-checks.server";
 import { parseGroupKey } from "~/runs/pooled";
 import { getCaseTrajectory, type CaseTrajectory } from "~/models/cases.server";
 import { repoRoot } from "~/services/git.server";
@@ -46,6 +48,8 @@ export interface RegressionListItem {
   createdAt: number;
   /** Found between demo commits (seeded data, never a real measurement). */
   isDemo: boolean;
+  /** The latest interleaved A/B check judging it (null when none was run). */
+  ab: { state: AbCheckState; ratio: number | null; low: number | null; high: number | null } | null;
 }
 
 export const regressionListQuery = z.object({
@@ -76,7 +80,15 @@ export function listRegressions(db: Db, q: Omit<RegressionListQuery, "demo"> & P
     .orderBy(desc(runs.startedAt), groupsFirst, desc(regressions.id))
     .limit(q.limit)
     .all();
+  return toListItems(db, rows);
+}
+
+type ListRow = { r: typeof regressions.$inferSelect; commitHash: string; commitSubject: string | null; assignee: string | null; isDemo: boolean };
+
+function toListItems(db: Db, rows: ListRow[]): RegressionListItem[] {
+  const ab = latestAbOf(db, rows.map((x) => x.r.id));
   return rows.map(({ r, commitHash, commitSubject, assignee, isDemo }) => ({
+    ab: ab.get(r.id) ?? null,
     isDemo,
     id: r.id,
     caseKey: r.caseKey,
@@ -96,6 +108,21 @@ export function listRegressions(db: Db, q: Omit<RegressionListQuery, "demo"> & P
     commitSubject,
     createdAt: new Date(r.createdAt).getTime(),
   }));
+}
+
+/** The latest A/B check of each regression among `ids` (one query over ab_checks' id lists). */
+function latestAbOf(db: Db, ids: number[]): Map<number, NonNullable<RegressionListItem["ab"]>> {
+  const out = new Map<number, NonNullable<RegressionListItem["ab"]>>();
+  if (!ids.length) return out;
+  const rows = db.all<{ rid: number; state: AbCheckState; result: string | null }>(
+    sql`select json_each.value as rid, ${abChecks.state} as state, ${abChecks.resultJson} as result from ${abChecks}, json_each(${abChecks.regressionIds})
+        where json_each.value in (${sql.join(ids.map((i) => sql`${i}`), sql`, `)}) order by ${abChecks.id} desc`,
+  );
+  for (const row of rows) {
+    if (out.has(row.rid)) continue;
+    out.set(row.rid, abOfRegression({ state: row.state, result: row.result ? (JSON.parse(row.result) as AbResultDoc) : null }, row.rid));
+  }
+  return out;
 }
 
 export interface SideCase {
@@ -241,12 +268,7 @@ function listRegressionsById(db: Db, ids: number[]): RegressionListItem[] {
     .leftJoin(users, eq(users.id, regressions.assigneeId))
     .where(inArray(regressions.id, ids))
     .all();
-  return rows.map(({ r, commitHash, commitSubject, assignee, isDemo }) => ({
-    isDemo,
-    id: r.id, caseKey: r.caseKey, problemId: problemOfCaseKey(r.caseKey), kind: r.kind, direction: r.direction, metric: r.metric, scope: r.scope,
-    before: r.before, after: r.after, ratio: r.ratio, pValue: r.pValue, status: r.status, assignee, runId: r.runId, commitHash, commitSubject,
-    createdAt: new Date(r.createdAt).getTime(),
-  }));
+  return toListItems(db, rows);
 }
 
 // ---------------------------------------------------------------------------------------

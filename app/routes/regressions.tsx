@@ -5,7 +5,8 @@ import { getDb } from "~/db/client.server";
 import { REGRESSION_KINDS, REGRESSION_STATUSES } from "~/db/schema";
 import { listRegressions, regressionListQuery } from "~/models/regressions.server";
 import { requireUser } from "~/services/auth.server";
-import { TONE_CLASS, directionOf, kindLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
+import { TONE_CLASS, directionOf, kindLabel, metricLabel, statusEntry, statusLabel, statusTone } from "~/vocabulary";
+import { fmtAbRatio } from "~/runs/ab-result";
 import { DemoBadge } from "~/components/Caution";
 
 export const meta: Route.MetaFunction = () => [{ title: "Regressions · Arcwatch" }];
@@ -97,6 +98,12 @@ export default function Regressions({ loaderData }: Route.ComponentProps) {
                   <td className={`px-3 py-2 ${statusTone("regression", r.status)}`}>
                     {statusLabel("regression", r.status)}
                     {r.assignee ? <span className="block text-xs text-muted">{r.assignee}</span> : null}
+                    {r.ab ? (
+                      <span className={`block text-xs ${statusTone("ab", r.ab.state)}`} title={statusEntry("ab", r.ab.state)?.definition} data-ab-state={r.ab.state}>
+                        {statusLabel("ab", r.ab.state)}
+                        {r.ab.ratio !== null ? ` ${fmtAbRatio(r.ab.ratio, r.ab.low, r.ab.high)}` : ""}
+                      </span>
+                    ) : null}
                   </td>
                 </tr>
               ))

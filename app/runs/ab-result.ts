@@ -5,6 +5,26 @@
  * command of another version that prints something else is a failed job, not a wrong verdict.
  */
 import { z } from "zod";
+import { pooledShift } from "../engine/stats/hierarchical-bootstrap";
+
+/** A shift is reported only from this ratio on (common practice, no source: 3 %, below the per-case floor). */
+export const AB_MIN_RATIO = 1.03;
+
+/** "slower" when the shift passes AB_MIN_RATIO and its interval lies above 1 (mirrored for "faster"). */
+export const abVerdictOf = (ratio: number, low: number, high: number): AbVerdictWord => (ratio > AB_MIN_RATIO && low > 1 ? "slower" : ratio < 1 / AB_MIN_RATIO && high < 1 ? "faster" : "same");
+
+/**
+ * The pooled shift of several A/B cases: cases as the first stage of a two-stage bootstrap, each
+ * case's paired block ratios (against 1) as the second (app/engine/stats/hierarchical-bootstrap.ts);
+ * the shift is the geometric mean of the cases' ratios. Null with fewer than two usable cases.
+ */
+export function poolAbCases(cases: readonly { ratio: number | null; blockRatios: readonly number[] }[], confidence = 0.99): { ratio: number; low: number; high: number; verdict: AbVerdictWord; cases: number } | null {
+  const usable = cases.filter((c) => c.ratio !== null && Number.isFinite(c.ratio) && c.blockRatios.length > 0);
+  if (usable.length < 2) return null;
+  const ratio = Math.exp(usable.reduce((a, c) => a + Math.log(c.ratio!), 0) / usable.length);
+  const s = pooledShift(usable.map((c) => ({ x: c.blockRatios, y: c.blockRatios.map(() => 1) })), { confidence, seed: 11 });
+  return { ratio, low: s.low, high: s.high, verdict: abVerdictOf(ratio, s.low, s.high), cases: usable.length };
+}
 
 export const AB_VERDICTS = ["slower", "faster", "same"] as const;
 export type AbVerdictWord = (typeof AB_VERDICTS)[number];
@@ -30,8 +50,31 @@ export const abResultSchema = z.object({
   cases: z.array(abCaseSchema),
   pooled: z.object({ ratio: z.number(), low: z.number(), high: z.number(), verdict: z.enum(AB_VERDICTS), cases: z.number().int() }).nullable(),
   method: z.string(),
+  /**
+   * Stored with a check, not printed by the command: the verdict on each regression the check
+   * judges, from that regression's own cases (a group's members pooled), so that a one-scheme
+   * slowdown is not diluted by an unrelated case flagged in the same run.
+   */
+  judged: z
+    .array(z.object({ regressionId: z.number().int(), cases: z.array(z.string()), ratio: num, low: num, high: num, verdict: z.enum(AB_VERDICTS).nullable() }))
+    .optional(),
 });
 export type AbResultDoc = z.infer<typeof abResultSchema>;
+export type AbJudged = NonNullable<AbResultDoc["judged"]>[number];
+
+/**
+ * The verdict on one regression from the A/B cases of `keys` (its own case, or a group's members):
+ * one case's own verdict, or the pooled shift of several. `verdict` null when none was timed.
+ */
+export function judgeRegression(r: AbResultDoc, regressionId: number, keys: readonly string[]): AbJudged {
+  const mine = r.cases.filter((c) => keys.includes(c.key) && c.ratio !== null && c.low !== null && c.high !== null);
+  if (mine.length === 1) {
+    const c = mine[0]!;
+    return { regressionId, cases: [c.key], ratio: c.ratio, low: c.low, high: c.high, verdict: c.verdict };
+  }
+  const p = poolAbCases(mine);
+  return p ? { regressionId, cases: mine.map((c) => c.key), ratio: p.ratio, low: p.low, high: p.high, verdict: p.verdict } : { regressionId, cases: [], ratio: null, low: null, high: null, verdict: null };
+}
 
 /** Payload of an "ab" job: compare `head` with `base` on a suite's cases (default: all of them). */
 export const abJobPayload = z.object({

@@ -9,7 +9,9 @@
  *   get one "ab" job on their affected cases, baseline commit against flagged commit; their e-mail
  *   waits for its verdict. Every other new regression is e-mailed at once. When A/B cannot run
  *   (a commit not in the repository, an external solver, abConfirm off) the e-mail goes out now and
- *   says the slowdown is unconfirmed, and why.
+ *   says the slowdown is unconfirmed, and why. With `confirmNow` (the command line's `--confirm`,
+ *   for CI runners) the A/B runs at once instead: a cleared slowdown is not mailed and does not
+ *   count towards the exit code (`standing`).
  * - `afterAbJob`: the job worker's last step: store the verdict; a confirmed check sends the held
  *   e-mail with the evidence, a cleared one sends nothing, an unavailable one sends it marked
  *   unconfirmed.
@@ -18,7 +20,7 @@ import fs from "node:fs";
 import type { Db } from "~/db/client.server";
 import { eq } from "drizzle-orm";
 import { runs } from "~/db/schema";
-import { abCheckOfJob, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, type AbCheckView } from "~/models/ab-checks.server";
+import { abCheckOfJob, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, type AbCheckView } from "~/models/ab-checks.server";
 import { thresholdsOfRun, type Detection } from "~/models/detection.server";
 import { enqueueJob, type JobSummary } from "~/models/jobs.server";
 import { problemLibraryFor } from "~/models/library.server";
@@ -70,13 +72,24 @@ export interface AlertOrConfirmInput {
   detection: Detection;
   baseUrl?: string;
   root?: string;
+  /** Send e-mail (default true); false still confirms when `confirmNow` is given. */
+  alerts?: boolean;
+  /**
+   * Run the interleaved A/B at once (the command line's `--confirm`) instead of queuing an "ab"
+   * job: the exit code and the e-mail then wait for its verdict.
+   */
+  confirmNow?: (payload: AbJobPayload & { cases: string[] }) => Promise<AbResultDoc>;
 }
 
 export interface AlertOrConfirmResult extends AlertResult {
   /** The A/B job queued to confirm the speed regressions (their e-mail waits for it). */
   abJobId: number | null;
-  /** Why no A/B job was queued for speed regressions, when there were some. */
+  /** Why the speed regressions were not put to an A/B, when there were some. */
   unconfirmed: string | null;
+  /** The A/B check of the speed regressions (settled when run at once). */
+  check: AbCheckView | null;
+  /** New regressions that stand: all of them, less the speed ones an A/B run at once cleared. */
+  standing: number;
 }
 
 const isSpeed = (f: Finding) => f.direction === "regression" && f.kind === "speed";
@@ -85,13 +98,15 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
   const fresh = input.detection.inserted.filter((i) => i.finding.direction === "regression");
   const speed = fresh.filter((i) => isSpeed(i.finding));
   const rest = fresh.filter((i) => !isSpeed(i.finding));
-  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, unconfirmed: null };
+  const mail = input.alerts !== false;
+  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, unconfirmed: null, check: null, standing: fresh.length };
   const send = async (items: typeof fresh, note?: string) => {
-    if (!items.length) return;
+    if (!items.length || !mail) return;
     const r = await sendRegressionAlerts(db, { runId: input.runId, suiteName: input.suiteName, commit: input.commit, regressions: items, baseUrl: input.baseUrl, note });
     out.sent.push(...r.sent);
     out.errors.push(...r.errors);
   };
+  let confirmedNow: { items: typeof fresh; note: string } | null = null;
   if (speed.length) {
     let why: string | null = null;
     const base = input.detection.baselineCommit;
@@ -102,7 +117,19 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
       const ids = speed.map((s) => s.id);
       const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases: affectedCases(db, ids) }, input.root ?? repoRoot());
       if (!checked.ok) why = checked.message;
-      else {
+      else if (input.confirmNow) {
+        const check = insertAbCheck(db, { jobId: null, suiteName: checked.payload.suite, base: checked.payload.base, head: checked.payload.head, cases: checked.payload.cases, regressionIds: ids, runId: input.runId, auto: true, alertsHeld: mail });
+        let outcome: { result: AbResultDoc } | { error: string };
+        try {
+          outcome = { result: await input.confirmNow(checked.payload) };
+        } catch (err) {
+          outcome = { error: (err as Error).message };
+        }
+        out.check = settleAbCheck(db, check.id, outcome);
+        const stand = out.check ? standingOfCheck(out.check) : ids;
+        out.standing -= speed.length - stand.length;
+        if (stand.length && out.check) confirmedNow = { items: speed.filter((i) => stand.includes(i.id)), note: heldNote(out.check) };
+      } else if (mail) {
         const { job } = queueAbJob(db, checked.payload, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
         out.abJobId = job.id;
       }
@@ -115,6 +142,7 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
   // Sorted as found: the e-mail lists groups first by itself.
   rest.sort((a, b) => a.id - b.id);
   await send(rest, out.unconfirmed ? `Speed findings are unconfirmed: interleaved A/B could not run (${out.unconfirmed}).` : undefined);
+  if (confirmedNow) await send(confirmedNow.items, confirmedNow.note);
   return out;
 }
 
@@ -126,16 +154,21 @@ export async function afterAbJob(db: Db, jobId: number, outcome: { result: AbRes
   if (!settled || !settled.alertsHeld || settled.state === "cleared" || settled.state === "awaiting") return settled;
   const full = getAbCheck(db, c.id);
   if (!full?.runId) return settled;
-  const items = regressionsAsFindings(db, settled.regressionIds);
+  // Only the regressions the verdict leaves standing (a cleared one in a confirmed check is not mailed).
+  const items = regressionsAsFindings(db, standingOfCheck(settled));
   const commit = commitMetaOfRun(db, full.runId);
   if (!items.length || !commit) return settled;
-  const s = settled.result ? abSaysSlower(settled.result) : null;
-  const note =
-    settled.state === "confirmed" && s
-      ? `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${fmtAbRatio(s.ratio, s.low, s.high)}.`
-      : `Speed findings are unconfirmed: ${settled.note ?? "interleaved A/B could not decide"}.`;
-  await sendRegressionAlerts(db, { runId: full.runId, suiteName: settled.suiteName, commit, regressions: items, baseUrl, note });
+  await sendRegressionAlerts(db, { runId: full.runId, suiteName: settled.suiteName, commit, regressions: items, baseUrl, note: heldNote(settled) });
   return settled;
+}
+
+/** The line a held e-mail carries: the A/B evidence, per regression where the check judged each. */
+function heldNote(c: AbCheckView): string {
+  if (c.state !== "confirmed") return `Speed findings are unconfirmed: ${c.note ?? "interleaved A/B could not decide"}.`;
+  const judged = (c.result?.judged ?? []).filter((j) => j.verdict === "slower");
+  if (judged.length) return `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${judged.map((j) => `${j.cases.length > 1 ? `${j.cases.length} cases pooled` : j.cases[0]} ${fmtAbRatio(j.ratio, j.low, j.high)}`).join("; ")}.`;
+  const s = c.result ? abSaysSlower(c.result) : null;
+  return `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${fmtAbRatio(s?.ratio ?? null, s?.low ?? null, s?.high ?? null)}.`;
 }
 
 function commitMetaOfRun(db: Db, runId: string): CommitMeta | null {

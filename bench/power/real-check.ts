@@ -38,6 +38,10 @@ interface BenchJson {
   commit: { commitHash: string };
   findings: BenchFinding[];
   newRegressions: number;
+  /** `--confirm`: the A/B verdict on the run's new speed regressions (null when there were none). */
+  confirmation: { state: string; note: string | null } | null;
+  /** New regressions that stand after the confirmation. */
+  standing: number;
   counts: { solved: number };
 }
 
@@ -49,6 +53,10 @@ export interface RealRun {
   code: number | null;
   solved: number;
   findings: BenchFinding[];
+  /** With `confirm`: the A/B verdict on the speed regressions ("confirmed", "cleared", "unavailable") and its words. */
+  confirmation: { state: string; note: string | null } | null;
+  /** New regressions that stand (after the confirmation, with `confirm`). */
+  standing: number;
   seconds: number;
 }
 
@@ -68,6 +76,8 @@ export interface RealCheckOptions {
   onRun?: (r: RealRun) => void;
   /** Keep the temporary repository (default: removed). */
   keep?: boolean;
+  /** Run the bench command with `--confirm`: speed regressions are put to an interleaved A/B at once. */
+  confirm?: boolean;
 }
 
 function git(cwd: string, ...args: string[]): string {
@@ -138,9 +148,9 @@ export async function realCheck(o: RealCheckOptions): Promise<{ runs: RealRun[];
     const runs: RealRun[] = [];
     const measure = async (label: string, fraction: number) => {
       const t0 = Date.now();
-      const r = await runBenchJson<BenchJson>(repo, "power", db);
+      const r = await runBenchJson<BenchJson>(repo, "power", db, o.confirm ? ["--confirm"] : []);
       if (r.json.status !== "complete") throw new Error(`${label}: run ${r.json.status}\n${r.stderr}`);
-      const run: RealRun = { label, fraction, commit: r.json.commit.commitHash, code: r.code, solved: r.json.counts.solved, findings: r.json.findings, seconds: (Date.now() - t0) / 1000 };
+      const run: RealRun = { label, fraction, commit: r.json.commit.commitHash, code: r.code, solved: r.json.counts.solved, findings: r.json.findings, confirmation: r.json.confirmation ?? null, standing: r.json.standing ?? r.json.newRegressions, seconds: (Date.now() - t0) / 1000 };
       runs.push(run);
       o.onRun?.(run);
     };

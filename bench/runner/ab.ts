@@ -18,6 +18,7 @@ import { fileURLToPath } from "node:url";
 import { simpleGit } from "simple-git";
 import type { Db } from "../../app/db/client.server";
 import { pooledShift, type PooledCase } from "../../app/engine/stats/hierarchical-bootstrap";
+import { abVerdictOf, poolAbCases } from "../../app/runs/ab-result";
 import { createPrng } from "../../app/engine/stats/prng";
 import { problemLibraryFor, uploadedProblemsDir, databaseFileOf } from "../../app/models/library.server";
 import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
@@ -26,8 +27,7 @@ import { isSolved, type CaseSpec } from "../../app/runs/types";
 import { resolveCommit } from "./git-meta";
 import { openLane, type Lane } from "./pool";
 
-/** A shift is reported only from this ratio on (common practice, no source: 3 %, below the per-case floor). */
-export const AB_MIN_RATIO = 1.03;
+export { AB_MIN_RATIO } from "../../app/runs/ab-result";
 
 export interface AbOptions {
   db: Db;
@@ -74,7 +74,7 @@ export interface AbResult {
 
 export const AB_METHOD = "randomized multiple interleaved trials (Abedi & Brecht, ICPE 2017): blocks A B B A / B A A B in one sitting, paired block ratios, two-stage bootstrap";
 
-const verdictOf = (ratio: number, low: number, high: number): AbVerdict => (ratio > AB_MIN_RATIO && low > 1 ? "slower" : ratio < 1 / AB_MIN_RATIO && high < 1 ? "faster" : "same");
+const verdictOf = abVerdictOf;
 
 /** `base..head` → [base, head]. */
 export function parseRange(range: string): [string, string] | null {
@@ -183,17 +183,8 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
     await laneB.close();
     if (own) for (const dir of trees.values()) await removeCheckout(root, dir);
   }
-  const usable = out.filter((c) => Number.isFinite(c.ratio));
-  let pooled: AbResult["pooled"] = null;
-  if (usable.length >= 2) {
-    // Cases as the first stage, each case's paired block ratios (against 1) as the second.
-    const lnMean = usable.reduce((a, c) => a + Math.log(c.ratio), 0) / usable.length;
-    const s = pooledShift(
-      usable.map((c) => ({ x: c.blockRatios, y: c.blockRatios.map(() => 1) })),
-      { confidence: opts.confidence ?? 0.99, seed: 11 },
-    );
-    pooled = { ratio: Math.exp(lnMean), low: s.low, high: s.high, verdict: verdictOf(Math.exp(lnMean), s.low, s.high), cases: usable.length };
-  }
+  // Cases as the first stage, each case's paired block ratios (against 1) as the second.
+  const pooled: AbResult["pooled"] = poolAbCases(out.filter((c) => Number.isFinite(c.ratio)), opts.confidence ?? 0.99);
   return { base, head, blocks, repeats, cases: out, pooled, method: AB_METHOD };
 }
 

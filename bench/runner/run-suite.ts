@@ -18,6 +18,7 @@ import { expandCases, suitePath, type LoadedSuite } from "../../app/runs/suite";
 import { loadSuiteWithChanges } from "../../app/models/suite-changes.server";
 import type { CaseOutcome, CommitMeta } from "../../app/runs/types";
 import { alertOrConfirm, type AlertOrConfirmResult as AlertResult } from "../../app/services/ab-confirm.server";
+import { abResultSchema } from "../../app/runs/ab-result";
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
 import { commitMeta, resolveCommit } from "./git-meta";
 import { runCases } from "./pool";
@@ -52,6 +53,13 @@ export interface RunSuiteOptions {
   shard?: { index: number; count: number } | null;
   /** A machine class label: the run is stored and compared under `class:<label>` (./shard-plan.ts). */
   machineClass?: string | null;
+  /**
+   * Put new speed regressions to an interleaved A/B at once (./ab.ts) before deciding the exit
+   * code (`--confirm`): a slowdown the A/B clears is recorded with its verdict and raises nothing.
+   */
+  confirm?: boolean;
+  /** Progress of the A/B run by `confirm`. */
+  onConfirmTrial?: (info: { key: string; block: number; side: "A" | "B"; done: number; total: number }) => void;
 }
 
 export interface RunSummary {
@@ -199,13 +207,21 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   let alerts: AlertResult | null = null;
   // A part of a suite is not judged alone: the server checks the merged run once all parts are in.
   detection = opts.shard ? null : afterRun(db, runId, { baseline });
-  if (detection) {
-    if (opts.alerts !== false && detection.newRegressions > 0) {
-      // Speed findings wait for an interleaved A/B verdict (a queued "ab" job); the rest are e-mailed now.
-      alerts = await alertOrConfirm(db, { runId, suiteName: def.name, commit, detection, baseUrl: opts.baseUrl, root });
-    }
+  if (detection && detection.newRegressions > 0 && !interrupted && (opts.alerts !== false || opts.confirm)) {
+    // Speed findings wait for an interleaved A/B verdict (a queued "ab" job, or with `confirm` one
+    // run here and now); the rest are e-mailed at once.
+    const confirmNow = opts.confirm
+      ? async (p: { base: string; head: string; suite: string; cases: string[] }) => {
+          const { runAb } = await import("./ab");
+          const r = await runAb({ db, root, base: p.base, head: p.head, suite: suite.file, cases: p.cases, signal: opts.signal, onTrial: opts.onConfirmTrial });
+          // JSON has no NaN: the stored document is what `bench --ab --json` prints.
+          return abResultSchema.parse(JSON.parse(JSON.stringify(r)));
+        }
+      : undefined;
+    alerts = await alertOrConfirm(db, { runId, suiteName: def.name, commit, detection, baseUrl: opts.baseUrl, root, alerts: opts.alerts !== false, confirmNow });
   }
-  const exitCode = interrupted ? EXIT_INTERRUPTED : detection && detection.newRegressions > 0 ? EXIT_REGRESSION : 0;
+  const standing = alerts ? alerts.standing : (detection?.newRegressions ?? 0);
+  const exitCode = interrupted ? EXIT_INTERRUPTED : standing > 0 ? EXIT_REGRESSION : 0;
   return {
     runId,
     status,

@@ -17,7 +17,8 @@ useTempDatabase("abjobs");
 const { getDb } = await import("~/db/client.server");
 const { outbox, regressionEvents, regressions, runs, subscriptions, suites, users } = await import("~/db/schema");
 const { enqueueJobInput } = await import("~/models/jobs.server");
-const { checkAbJob, queueAbJob, afterAbJob } = await import("~/services/ab-confirm.server");
+const { checkAbJob, queueAbJob, afterAbJob, alertOrConfirm } = await import("~/services/ab-confirm.server");
+const { listRegressions } = await import("~/models/regressions.server");
 const { abChecksOfRegression } = await import("~/models/ab-checks.server");
 const { parseDiff } = await import("~/services/diff-view.server");
 const { stopStandin } = await import("~/services/mail.server");
@@ -219,5 +220,39 @@ describe("settling a check", () => {
     const res = (await action({ request, params: { id: String(job.id) }, context: {} } as never)) as Response;
     expect(res.status).toBe(200);
     expect(abChecksOfRegression(db, rid)[0]).toMatchObject({ state: "unavailable", note: "Interleaved A/B could not decide: the job was cancelled before it ran" });
+  });
+  it("the regressions list carries the latest A/B verdict of each regression", async () => {
+    const db = getDb();
+    const { rid, runId } = seedRegression(c2, c1);
+    expect(listRegressions(db, { limit: 500 }).find((r) => r.id === rid)!.ab).toBeNull();
+    const { job } = queueAbJob(db, { base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"] }, null, { regressionIds: [rid], runId, auto: true, alertsHeld: false });
+    expect(listRegressions(db, { limit: 500 }).find((r) => r.id === rid)!.ab).toEqual({ state: "awaiting", ratio: null, low: null, high: null });
+    await afterAbJob(db, job.id, { result: verdict(1.31, 1.2, 1.45, "slower") });
+    expect(listRegressions(db, { limit: 500 }).find((r) => r.id === rid)!.ab).toEqual({ state: "confirmed", ratio: 1.31, low: 1.2, high: 1.45 });
+  });
+
+  it("--confirm: an A/B run at once that clears a speed regression leaves nothing standing and mails nothing", async () => {
+    const db = getDb();
+    const before = db.select().from(outbox).all().length;
+    const { rid, runId } = seedRegression(c2, c1);
+    const finding = { caseKey: "pika-rover-dash/euler/6", problemId: "pika-rover-dash", kind: "speed", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.13, ratio: 1.3, pValue: 1e-4, ciLow: 1.1, ciHigh: 1.5, detail: "median 0.100 s → 0.130 s" } as const;
+    const detection = { baselineRunId: null, baselineCommit: c1, findings: [finding], inserted: [{ id: rid, finding }], newRegressions: 1, fixed: [], carried: [] };
+    const asked: unknown[] = [];
+    const commit = { commitHash: c2, branch: "main", subject: "two", author: "T", date: new Date(), dirty: false };
+    const cleared = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, confirmNow: async (p) => (asked.push(p), verdict(1.01, 0.97, 1.05, "same")) });
+    expect(asked).toEqual([{ base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"] }]);
+    expect(cleared).toMatchObject({ standing: 0, abJobId: null, check: { state: "cleared", jobId: null } });
+    expect(db.select().from(outbox).all()).toHaveLength(before);
+    // A confirming verdict keeps it standing and sends the e-mail with the evidence.
+    const again = seedRegression(c2, c1);
+    const confirmed = await alertOrConfirm(db, { runId: again.runId, suiteName: "duo", commit, detection: { ...detection, inserted: [{ id: again.rid, finding }] }, root: repo, confirmNow: async () => verdict(1.28, 1.15, 1.4, "slower") });
+    expect(confirmed).toMatchObject({ standing: 1, check: { state: "confirmed" } });
+    const mail = db.select().from(outbox).all().slice(before);
+    expect(mail.length).toBeGreaterThan(0);
+    expect(mail[0]!.body).toContain("Confirmed by interleaved A/B");
+    // A failing A/B leaves it standing, unconfirmed.
+    const third = seedRegression(c2, c1);
+    const failed = await alertOrConfirm(db, { runId: third.runId, suiteName: "duo", commit, detection: { ...detection, inserted: [{ id: third.rid, finding }] }, root: repo, alerts: false, confirmNow: async () => { throw new Error("worker died"); } });
+    expect(failed).toMatchObject({ standing: 1, check: { state: "unavailable", note: expect.stringContaining("worker died") } });
   });
 });

@@ -1,0 +1,48 @@
+/**
+ * An A/B check judges each regression on its own cases (app/runs/ab-result.ts `judgeRegression`):
+ * seen 2026-12-02 on a loaded 2-core machine, a planted ×1.5 slowdown of the five Hermite–Simpson
+ * cases was flagged as one scheme group, together with a false per-case flag on a trapezoidal case;
+ * pooling all six cases in one verdict gave ×1.275 [0.928, 1.642] and cleared the real slowdown.
+ * The block ratios below are shaped like that run's (six blocks per case, spread of a loaded
+ * machine); they are test data, not measurements.
+ */
+import { describe, expect, it } from "vitest";
+import { judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
+
+const H = "a".repeat(40);
+const slowBlocks = [[1.9, 1.2, 1.6, 1.4, 2.1, 1.3], [1.7, 1.5, 1.2, 1.9, 1.4, 1.6], [1.3, 1.8, 1.5, 1.6, 1.2, 1.9], [1.6, 1.4, 2.0, 1.3, 1.5, 1.7], [1.5, 1.7, 1.4, 1.8, 1.6, 1.2]];
+const sameBlocks = [0.55, 0.8, 0.62, 0.7, 0.9, 0.6];
+const gm = (v: number[]) => Math.exp(v.reduce((a, x) => a + Math.log(x), 0) / v.length);
+const c = (key: string, b: number[]) => ({ key, blockRatios: b, ratio: gm(b), low: Math.min(...b), high: Math.max(...b), verdict: "same" as const, status: "optimal" });
+
+const doc: AbResultDoc = {
+  base: H,
+  head: "b".repeat(40),
+  blocks: 6,
+  repeats: 3,
+  method: "test",
+  pooled: null,
+  cases: [...slowBlocks.map((b, i) => c(`p${i}/hermite-simpson/12`, b)), c("p0/trapezoidal/12", sameBlocks)],
+};
+
+describe("an A/B check judges each regression on its own cases", () => {
+  it("confirms a scheme group and clears an unrelated case that one pooled verdict would have mixed", () => {
+    const hs = slowBlocks.map((_, i) => `p${i}/hermite-simpson/12`);
+    const group = judgeRegression(doc, 1, hs);
+    expect(group.cases).toEqual(hs);
+    expect(group.verdict).toBe("slower");
+    expect(group.low!).toBeGreaterThan(1);
+    const lone = judgeRegression(doc, 2, ["p0/trapezoidal/12"]);
+    expect(lone.cases).toEqual(["p0/trapezoidal/12"]);
+    // One case: its own verdict as the A/B gave it.
+    expect(lone.verdict).toBe("same");
+    // All six pooled: the unrelated case drags the interval across 1.
+    const all = poolAbCases(doc.cases)!;
+    expect(all.low).toBeLessThan(1);
+    expect(all.verdict).toBe("same");
+  });
+
+  it("says so when none of a regression's cases was timed", () => {
+    expect(judgeRegression(doc, 3, ["nowhere/euler/4"])).toEqual({ regressionId: 3, cases: [], ratio: null, low: null, high: null, verdict: null });
+  });
+});
