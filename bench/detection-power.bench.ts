@@ -100,21 +100,34 @@ run("unchanged", unchanged, () => ({ placement: { kind: "none" }, slowdown: 0, a
 
 const count = (out: TrialOutcome[], f: (o: TrialOutcome) => boolean) => out.filter(f).length;
 console.log(`\nRecorded run pairs with SIMULATED plants (${trials} trials per planted row, ${unchanged} unchanged; the first ${pairs.length} are the ${pairs.length} ordered pairs of recorded runs as they are, the rest bootstrap-resampled pairs; detection = a finding on the planted cases or group; one scheme = each of ${schemes.length} schemes in turn):`);
-console.log("| planted | per-case | pooled | A/B (6 blocks) | any finding | other alarms in the same run |");
-console.log("|---|---|---|---|---|---|");
+// `bench --confirm`: a speed finding raises only when the A/B then confirms it. The A/B sitting is
+// simulated independently of the run that flagged (it is a later sitting), on the planted scheme's
+// cases (unchanged: a random scheme's), so "gated" = flagged AND A/B slower.
+const gated = (o: TrialOutcome) => (o.perCase.detected || o.pooled.detected) && !!o.ab?.detected;
+const gatedAlarm = (o: TrialOutcome) => (o.perCase.alarm || o.pooled.alarm) && !!o.ab?.alarm;
+console.log("| planted | per-case | pooled | A/B (6 blocks) | any finding | flagged, then A/B (--confirm) | other alarms in the same run |");
+console.log("|---|---|---|---|---|---|---|");
 for (const r of rows) {
   if (r.label === "unchanged") continue;
   const acc = r.label.startsWith("errors");
   const det = (o: TrialOutcome) => (acc ? o.accuracy.detected : o.perCase.detected);
   const other = count(r.out, (o) => o.perCase.alarm || o.pooled.alarm || o.accuracy.alarm);
   console.log(
-    `| ${r.label} | ${pct(count(r.out, det), r.n)} | ${acc ? "—" : pct(count(r.out, (o) => o.pooled.detected), r.n)} | ${acc || !r.out[0]!.ab ? "—" : pct(count(r.out, (o) => !!o.ab?.detected), r.n)} | ${pct(count(r.out, (o) => o.any.detected), r.n)} | ${pct(other, r.n)} |`,
+    `| ${r.label} | ${pct(count(r.out, det), r.n)} | ${acc ? "—" : pct(count(r.out, (o) => o.pooled.detected), r.n)} | ${acc || !r.out[0]!.ab ? "—" : pct(count(r.out, (o) => !!o.ab?.detected), r.n)} | ${pct(count(r.out, (o) => o.any.detected), r.n)} | ${acc ? pct(count(r.out, det), r.n) : !r.out[0]!.ab ? "—" : pct(count(r.out, gated), r.n)} | ${pct(other, r.n)} |`,
   );
 }
 const u = rows.find((r) => r.label === "unchanged")!;
 console.log(
-  `| unchanged: false alarms per suite run | ${pct(count(u.out, (o) => o.perCase.alarm), u.n)} | ${pct(count(u.out, (o) => o.pooled.alarm), u.n)} | ${u.out[0]!.ab ? pct(count(u.out, (o) => !!o.ab?.alarm), u.n) : "—"} | ${pct(count(u.out, (o) => o.any.alarm), u.n)} | |`,
+  `| unchanged: false alarms per suite run | ${pct(count(u.out, (o) => o.perCase.alarm), u.n)} | ${pct(count(u.out, (o) => o.pooled.alarm), u.n)} | ${u.out[0]!.ab ? pct(count(u.out, (o) => !!o.ab?.alarm), u.n) : "—"} | ${pct(count(u.out, (o) => o.any.alarm), u.n)} | ${u.out[0]!.ab ? pct(count(u.out, (o) => gatedAlarm(o) || o.accuracy.alarm), u.n) : "—"} | |`,
 );
+if (u.out[0]!.ab) {
+  const g10 = count(oneTenRow(), gated) / oneTenRow().length, g20 = count(rows.find((r) => r.label === "+20 %, one scheme")!.out, gated) / trials;
+  const gu = count(u.out, (o) => gatedAlarm(o) || o.accuracy.alarm) / u.n;
+  console.log(`With --confirm (flagged, then A/B): +10 % one scheme ${(100 * g10).toFixed(1)} %, +20 % ${(100 * g20).toFixed(1)} %, unchanged ${(100 * gu).toFixed(1)} % → ${g10 >= 0.95 && g20 === 1 && gu <= 0.01 ? "met" : "NOT met"}`);
+}
+function oneTenRow() {
+  return rows.find((r) => r.label === "+10 %, one scheme")!.out;
+}
 const oneTen = rows.find((r) => r.label === "+10 %, one scheme")!;
 const oneTwenty = rows.find((r) => r.label === "+20 %, one scheme")!;
 const best = (r: Row) => Math.max(count(r.out, (o) => o.any.detected), count(r.out, (o) => !!o.ab?.detected)) / r.n;
