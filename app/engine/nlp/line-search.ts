@@ -10,7 +10,12 @@
  *  - otherwise sufficient decrease (18): θ(α) ≤ (1−γ_θ)θ or φ(α) ≤ φ − γ_φ θ, and the filter is
  *    augmented by (22);
  *  - second-order correction (§2.4) at the first trial when θ(α_max) ≥ θ, at most p_max = 4
- *    times while θ decreases by κ_soc = 0.99;
+ *    times while θ decreases by κ_soc = 0.99; in the regular phase (socMustReduceTheta) a
+ *    corrected step accepted h-type (by (18), θ > θ_min) must also end below θ: a correction
+ *    that trades feasibility for ever smaller decreases of φ stalled ibis-crane-load-flip
+ *    trapezoidal N = 30 at θ = 2.3e-2 for hundreds of iterations while the plain backtracking
+ *    step α_max/2 reduced θ (our safeguard, no source; §2.4 corrects steps that lose to the
+ *    Maratos effect, i.e. whose infeasibility grew, and the corrected step should undo that);
  *  - α < α_min of eq. (23) sends the iteration to the feasibility restoration phase.
  */
 import { CONSTANTS as C } from "./options";
@@ -88,7 +93,7 @@ export function acceptTrial(t: TrialValues, a: number, filter: Filter, theta: nu
 
 export function backtrack(
   host: LineSearchHost, filter: Filter, theta: number, phi: number, gradPhiD: number,
-  alphaMax: number, thetaMin: number, withSoc: boolean,
+  alphaMax: number, thetaMin: number, withSoc: boolean, socMustReduceTheta = false,
 ): LineSearchResult {
   const aMin = alphaMin(theta, gradPhiD, thetaMin);
   let alpha = alphaMax;
@@ -111,7 +116,7 @@ export function backtrack(
           const s = host.secondOrderCorrection(alpha, p === 1);
           if (!s || !Number.isFinite(s.phi) || !Number.isFinite(s.theta)) break;
           const rs = acceptable(s, alpha);
-          if (rs.ok) return { accepted: true, alpha: s.alpha, trials, soc: true, augment: !rs.fType };
+          if (rs.ok && (rs.fType || !socMustReduceTheta || s.theta < theta)) return { accepted: true, alpha: s.alpha, trials, soc: true, augment: !rs.fType };
           tt = s;
         }
       }
