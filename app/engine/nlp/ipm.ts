@@ -152,6 +152,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   /** Acceptable iterates in a row whatever the objective did; the objective at the previous iterate. */
   let acceptableAny = 0;
   let fPrev = NaN;
+  /** The last step was a second-order correction accepted h-type with θ not below the θ it started from. */
+  let socRaisedTheta = false;
   let forceMuUpdate = false;
   let tinyCount = 0;
   let infPr = NaN, infDu = NaN;
@@ -416,7 +418,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
               lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = false; lsAugment = ls.augment; events.push("watchdog-undone");
             }
           } else {
-            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0, phase === "regular");
+            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0, phase === "regular" && socRaisedTheta);
             lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = ls.soc; lsAugment = ls.augment;
             if (ls.accepted) wd.shortened = ls.alpha < alphaMax ? wd.shortened + 1 : 0;
           }
@@ -493,6 +495,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     slacks(w);
     resetBoundMultipliers(mu, sL, sU, hasL, hasU, zL, zU);
     ctx.iter++;
+    socRaisedTheta = lsSoc && lsAugment && theta1(cv) >= thetaFrom;
     rec = { normD, deltaW: corr.deltaW, alphaPr: lsAlpha, alphaDu: alphaZ, lsTrials, events };
     st.mu = mu;
   }

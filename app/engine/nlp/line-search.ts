@@ -10,12 +10,13 @@
  *  - otherwise sufficient decrease (18): θ(α) ≤ (1−γ_θ)θ or φ(α) ≤ φ − γ_φ θ, and the filter is
  *    augmented by (22);
  *  - second-order correction (§2.4) at the first trial when θ(α_max) ≥ θ, at most p_max = 4
- *    times while θ decreases by κ_soc = 0.99; in the regular phase (socMustReduceTheta) a
- *    corrected step accepted h-type (by (18), θ > θ_min) must also end below θ: a correction
- *    that trades feasibility for ever smaller decreases of φ stalled ibis-crane-load-flip
- *    trapezoidal N = 30 at θ = 2.3e-2 for hundreds of iterations while the plain backtracking
- *    step α_max/2 reduced θ (our safeguard, no source; §2.4 corrects steps that lose to the
- *    Maratos effect, i.e. whose infeasibility grew, and the corrected step should undo that);
+ *    times while θ decreases by κ_soc = 0.99. Safeguard (ours, no source): right after a
+ *    corrected step that was accepted h-type without reducing θ, the next corrected step must
+ *    end below θ to be accepted h-type (socMustReduceTheta). Chains of such corrections traded
+ *    feasibility for ever smaller decreases of φ: ibis-crane-load-flip trapezoidal N = 30 sat at
+ *    θ = 2.3e-2 for hundreds of iterations (440 in all) while the plain step α_max/2 reduced θ;
+ *    a single such correction is often a good step (forbidding all of them cost ibis HS and LGR
+ *    ~35 % more iterations);
  *  - α < α_min of eq. (23) sends the iteration to the feasibility restoration phase.
  */
 import { CONSTANTS as C } from "./options";
