@@ -152,8 +152,11 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   /** Acceptable iterates in a row whatever the objective did; the objective at the previous iterate. */
   let acceptableAny = 0;
   let fPrev = NaN;
-  /** The last step was a second-order correction accepted h-type with θ not below the θ it started from. */
-  let socRaisedTheta = false;
+  /**
+   * θ before the last second-order correction that was accepted h-type without reducing θ; while
+   * no accepted step has come below it, a correction must reduce θ (line-search.ts). Infinity: none.
+   */
+  let socGuardTheta = Infinity;
   let forceMuUpdate = false;
   let tinyCount = 0;
   let infPr = NaN, infDu = NaN;
@@ -418,7 +421,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
               lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = false; lsAugment = ls.augment; events.push("watchdog-undone");
             }
           } else {
-            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0, phase === "regular" && socRaisedTheta);
+            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0, phase === "regular" && Number.isFinite(socGuardTheta));
             lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = ls.soc; lsAugment = ls.augment;
             if (ls.accepted) wd.shortened = ls.alpha < alphaMax ? wd.shortened + 1 : 0;
           }
@@ -495,7 +498,11 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     slacks(w);
     resetBoundMultipliers(mu, sL, sU, hasL, hasU, zL, zU);
     ctx.iter++;
-    socRaisedTheta = lsSoc && lsAugment && theta1(cv) >= thetaFrom;
+    {
+      const thetaNew = theta1(cv);
+      if (thetaNew < socGuardTheta) socGuardTheta = Infinity;
+      if (lsSoc && lsAugment && thetaNew >= thetaFrom) socGuardTheta = Math.min(socGuardTheta, thetaFrom);
+    }
     rec = { normD, deltaW: corr.deltaW, alphaPr: lsAlpha, alphaDu: alphaZ, lsTrials, events };
     st.mu = mu;
   }
