@@ -15,7 +15,7 @@ import type { Db } from "~/db/client.server";
 import { caseResults, problems, runs, suites } from "~/db/schema";
 import { getScheme } from "~/engine/schemes/index";
 import { performanceProfile, type PerformanceProfile } from "~/engine/stats/performance-profile";
-import { fitConvergenceOrder } from "~/engine/analysis/convergence-order";
+import { convergenceVerdict, solverErrorFromMessage, type ConvergenceVerdict } from "~/engine/analysis/convergence-verdict";
 import { isSolved } from "~/runs/types";
 import { SCHEMES } from "./problems.server";
 
@@ -43,13 +43,21 @@ export interface ComparePoint {
   solved: boolean;
   error: number | null;
   seconds: number | null;
+  /**
+   * The solver's own error estimate in the units of `error` (objective metric: duality gap ÷
+   * |objective|, read from the case message); null when unknown or for the state metric.
+   */
+  solverError?: number | null;
 }
 
 export interface SchemeConvergence {
   scheme: string;
   theoreticalOrder: number | null;
+  /** Order fitted over the meshes the verdict allows (null: none, see verdict). */
   fittedOrder: number | null;
   fitConstant: number | null;
+  /** Is the error sequence monotone, pre-asymptotic, … (convergence-verdict.ts); single problem only. */
+  verdict: ConvergenceVerdict | null;
   points: { intervals: number; error: number }[];
 }
 
@@ -73,6 +81,8 @@ export interface ProblemOrders {
   problemId: string;
   /** Fitted order per scheme (null: fewer than two meshes above the noise floor). */
   orders: Record<string, number | null>;
+  /** Verdict per scheme (null: no solved mesh); its note is shown beside the order. */
+  verdicts: Record<string, ConvergenceVerdict | null>;
 }
 
 /**
@@ -214,6 +224,8 @@ function casesAt(db: Db, commit: string, problem: string | null, wanted: string 
       objErr: caseResults.objectiveErrorRel,
       stateErr: caseResults.stateError,
       med: caseResults.medianSeconds,
+      objective: caseResults.objective,
+      message: caseResults.message,
     })
     .from(caseResults)
     // uniform meshes only: a refined case's intervals are its first mesh's, not the one its error belongs to
@@ -241,9 +253,15 @@ function casesAt(db: Db, commit: string, problem: string | null, wanted: string 
     sources,
     source,
     points: [...byKey.values()]
-      .map((r) => ({ caseId: r.id, runId: r.runId, suite: suiteOf(r.runId), problemId: r.problemId, scheme: r.scheme, intervals: r.intervals, degree: r.degree, solved: isSolved(r.status), error: r.objErr, stateError: r.stateErr, seconds: r.med }))
+      .map((r) => ({ caseId: r.id, runId: r.runId, suite: suiteOf(r.runId), problemId: r.problemId, scheme: r.scheme, intervals: r.intervals, degree: r.degree, solved: isSolved(r.status), error: r.objErr, stateError: r.stateErr, seconds: r.med, solverError: solverErrorRel(r.message, r.objective) }))
       .sort((x, y) => x.problemId.localeCompare(y.problemId) || x.scheme.localeCompare(y.scheme) || x.intervals - y.intervals),
   };
+}
+
+/** Duality gap in the message ÷ |objective|: the solver's share in the relative objective error's units. */
+function solverErrorRel(message: string | null, objective: number | null): number | null {
+  const gap = solverErrorFromMessage(message);
+  return gap === null || objective === null || !(Math.abs(objective) > 0) ? null : gap / Math.abs(objective);
 }
 
 /** Distinct meshes per (problem, scheme), the largest count over the selection. */
@@ -277,6 +295,16 @@ export function suitesWithSeveralMeshes(db: Db, problemId: string): SuiteWithMes
   return out.sort((a, b) => b.meshesPerScheme - a.meshesPerScheme || a.suite.localeCompare(b.suite));
 }
 
+/**
+ * The verdict on one problem × scheme's solved points (errors below the noise floor left out, as
+ * in the order fit); null without a solved point.
+ */
+function verdictOf(pts: Pick<ComparePoint, "intervals" | "error" | "solverError">[]): ConvergenceVerdict | null {
+  const use = pts.filter((p) => p.error !== null && p.error > 0);
+  if (use.length === 0) return null;
+  return convergenceVerdict(use.map((p) => ({ intervals: p.intervals, error: p.error!, solverError: p.solverError ?? null })), FIT_NOISE_FLOOR);
+}
+
 /** Builds every view of the comparison from a set of cases (exported for tests). */
 export function buildViews(points: Omit<ComparePoint, "runId" | "suite">[], tol: number): Omit<CompareView, "commit" | "commitSubject" | "runIds" | "points" | "sources" | "source" | "maxMeshesPerScheme"> {
   const schemes = SCHEMES.filter((s) => points.some((p) => p.scheme === s));
@@ -285,19 +313,13 @@ export function buildViews(points: Omit<ComparePoint, "runId" | "suite">[], tol:
   const ok = (p: P) => p.solved && p.error !== null && Number.isFinite(p.error);
   const convergence: SchemeConvergence[] = schemes.map((s) => {
     const pts = points.filter((p) => p.scheme === s && ok(p) && p.error! > 0).map((p) => ({ intervals: p.intervals, error: p.error! }));
-    const fitPts = pts.filter((p) => p.error >= FIT_NOISE_FLOOR);
-    const fit = problems.length === 1 ? fitConvergenceOrder(fitPts.map((p) => p.intervals), fitPts.map((p) => p.error)) : null;
-    return { scheme: s, theoreticalOrder: theoretical(s), fittedOrder: fit?.order ?? null, fitConstant: fit?.constant ?? null, points: pts };
+    const verdict = problems.length === 1 ? verdictOf(points.filter((p) => p.scheme === s && ok(p))) : null;
+    return { scheme: s, theoreticalOrder: theoretical(s), fittedOrder: verdict?.order ?? null, fitConstant: verdict?.constant ?? null, verdict, points: pts };
   });
-  const ordersByProblem: ProblemOrders[] = problems.map((pid) => ({
-    problemId: pid,
-    orders: Object.fromEntries(
-      schemes.map((s) => {
-        const pts = points.filter((p) => p.problemId === pid && p.scheme === s && ok(p) && p.error! >= FIT_NOISE_FLOOR);
-        return [s, fitConvergenceOrder(pts.map((p) => p.intervals), pts.map((p) => p.error!))?.order ?? null];
-      }),
-    ),
-  }));
+  const ordersByProblem: ProblemOrders[] = problems.map((pid) => {
+    const verdicts = Object.fromEntries(schemes.map((s) => [s, verdictOf(points.filter((p) => p.problemId === pid && p.scheme === s && ok(p)))]));
+    return { problemId: pid, orders: Object.fromEntries(schemes.map((s) => [s, verdicts[s]?.order ?? null])), verdicts };
+  });
   const cheapest: CheapestRow[] = problems.map((pid) => {
     let best: P | null = null;
     for (const p of points) {
@@ -336,7 +358,7 @@ export function compareAt(db: Db, commitPrefix: string | null, q: Pick<CompareQu
   const c = resolveCommit(db, commitPrefix);
   if (!c) return { commit: null, commitSubject: null, runIds: [], sources: [], source: null, maxMeshesPerScheme: 0, points: [], ...buildViews([], q.tol) };
   const { points: raw, runIds, sources, source } = casesAt(db, c.hash, q.problem, q.suite);
-  const points: ComparePoint[] = raw.map(({ stateError, ...p }) => ({ ...p, error: q.metric === "state" ? stateError : p.error }));
+  const points: ComparePoint[] = raw.map(({ stateError, ...p }) => ({ ...p, error: q.metric === "state" ? stateError : p.error, solverError: q.metric === "state" ? null : p.solverError }));
   return { commit: c.hash, commitSubject: c.subject, runIds, sources, source, maxMeshesPerScheme: maxMeshesPerScheme(points), points, ...buildViews(points, q.tol) };
 }
 

@@ -195,10 +195,13 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
     const ns = c.points.map((p) => p.intervals);
     const nMin = Math.min(...ns);
     const nMax = Math.max(...ns);
-    // Fitted line e = Ĉ N^(−p̂) over the meshes measured (convergence-order.ts).
-    if (c.fittedOrder !== null && c.fitConstant !== null && nMax > nMin) {
+    // Fitted line e = Ĉ N^(−p̂) over the meshes of the fit (convergence-verdict.ts: from the
+    // first mesh of the falling tail when the coarser meshes are pre-asymptotic).
+    const fitFrom = c.verdict?.fromIntervals ?? nMin;
+    if (c.fittedOrder !== null && c.fitConstant !== null && nMax > fitFrom) {
       const line = (n: number) => ({ x: n, y: c.fitConstant! * n ** -c.fittedOrder! });
-      conv.push({ name: `${c.scheme}-fit`, label: `fitted order ${c.fittedOrder.toFixed(2)} (${c.scheme})`, colour, style: "fit", points: [line(nMin), line(nMax)] });
+      const from = c.verdict?.kind === "pre-asymptotic" ? `, from N = ${fitFrom}` : "";
+      conv.push({ name: `${c.scheme}-fit`, label: `fitted order ${c.fittedOrder.toFixed(2)} (${c.scheme}${from})`, colour, style: "fit", points: [line(fitFrom), line(nMax)] });
     }
     const first = [...c.points].sort((a, b) => a.intervals - b.intervals)[0];
     if (c.theoreticalOrder && first && nMax > nMin) {
@@ -228,15 +231,22 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
             </thead>
             <tbody>
               {view.convergence.map((c) => (
-                <tr key={c.scheme} data-order-scheme={c.scheme} data-fitted={c.fittedOrder ?? ""}>
+                <tr key={c.scheme} data-order-scheme={c.scheme} data-fitted={c.fittedOrder ?? ""} data-verdict={c.verdict?.kind ?? ""}>
                   <td className="pr-6">{c.scheme}</td>
-                  <td className="num pr-6 text-right">{c.fittedOrder !== null ? c.fittedOrder.toFixed(2) : new Set(c.points.map((p) => p.intervals)).size < 2 ? <span className="text-muted">one mesh</span> : "—"}</td>
+                  <td className="num pr-6 text-right">
+                    {c.fittedOrder !== null ? c.fittedOrder.toFixed(2) : new Set(c.points.map((p) => p.intervals)).size < 2 ? <span className="text-muted">one mesh</span> : "—"}
+                    {c.verdict?.note && c.verdict.kind !== "too-few" ? (
+                      <span className={`block max-w-md text-left text-xs ${c.verdict.kind === "not-monotone" ? "text-warn" : "text-muted"}`} data-verdict-note>
+                        {c.verdict.note}
+                      </span>
+                    ) : null}
+                  </td>
                   <td className="num text-right">{c.theoreticalOrder ?? "spectral"}</td>
                 </tr>
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point.</p>
+          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error (below 0.1: the pattern is the discretisation's).</p>
         </section>
       ) : (
         <section className="card space-y-2 overflow-x-auto p-4" data-testid="orders-by-problem">
@@ -261,16 +271,22 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
                       {row.problemId}
                     </Link>
                   </td>
-                  {view.convergence.map((c) => (
-                    <td key={c.scheme} className="num pr-4 text-right">
-                      {row.orders[c.scheme] == null ? "—" : row.orders[c.scheme]!.toFixed(2)}
-                    </td>
-                  ))}
+                  {view.convergence.map((c) => {
+                    const v = row.verdicts[c.scheme];
+                    const shown = v?.kind === "not-monotone" ? "not monotone" : v?.kind === "at-floor" ? "at floor" : row.orders[c.scheme] == null ? "—" : row.orders[c.scheme]!.toFixed(2);
+                    return (
+                      <td key={c.scheme} className={`num pr-4 text-right ${v?.kind === "not-monotone" ? "text-warn" : ""}`} data-verdict={v?.kind ?? ""} title={v?.note || undefined}>
+                        {shown}
+                        {v?.kind === "pre-asymptotic" ? <span className="block text-xs text-muted">from N = {v.fromIntervals}</span> : null}
+                        {v?.kind === "not-monotone" && v.cause ? <span className="block text-xs text-muted">{v.cause}</span> : null}
+                      </td>
+                    );
+                  })}
                 </tr>
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions.</p>
+          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions. &ldquo;from N = …&rdquo;: the coarser meshes are pre-asymptotic (the error did not fall there) and the order is fitted from that mesh on; &ldquo;not monotone&rdquo;: the finest mesh&rsquo;s error did not fall, no order, with whose pattern it is (discretisation or solver, from the solver&rsquo;s duality gap); &ldquo;at floor&rdquo;: every error ≤ 1e-10. Hover a cell for the full note.</p>
         </section>
       )}
       <details className="card p-4" data-testid="points-table">

@@ -149,6 +149,14 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
 
   let rec: Omit<IterationRecord, "iter" | "f" | "infPr" | "infDu" | "mu" | "phase"> = { normD: 0, deltaW: 0, alphaPr: 0, alphaDu: 0, lsTrials: 0, events: [] };
   let acceptableCount = 0;
+  /** Acceptable iterates in a row whatever the objective did; the objective at the previous iterate. */
+  let acceptableAny = 0;
+  let fPrev = NaN;
+  /**
+   * θ before the last second-order correction that was accepted h-type without reducing θ; while
+   * no accepted step has come below it, a correction must reduce θ (line-search.ts). Infinity: none.
+   */
+  let socGuardTheta = Infinity;
   let forceMuUpdate = false;
   let tinyCount = 0;
   let infPr = NaN, infDu = NaN;
@@ -257,10 +265,19 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     }
     const mMin = muMin(o.tol);
     const done = (out: IpmOutcome): IpmOutcome => ({ ...out, solverError: solverErr });
-    if (E0.E <= o.acceptableTol && infPr <= 1e2 * o.constrViolTol) acceptableCount++;
-    else acceptableCount = 0;
+    // Acceptable: E_0 ≤ acceptableTol and the objective no longer moving (Ipopt's
+    // acceptable_obj_change_tol); a solve that still descends along a flat direction (a singular
+    // arc's ringing) is left to converge, up to acceptableStallFactor × acceptableIter iterates.
+    const objChange = Math.abs(fUser - fPrev) / Math.max(1, Math.abs(fUser));
+    fPrev = fUser;
+    if (E0.E <= o.acceptableTol && infPr <= 1e2 * o.constrViolTol) {
+      acceptableAny++;
+      acceptableCount = objChange <= o.acceptableObjChangeTol ? acceptableCount + 1 : 0;
+    } else acceptableCount = acceptableAny = 0;
     if (o.acceptableIter > 0 && acceptableCount >= o.acceptableIter)
       return done({ status: "acceptable", message: `acceptable: scaled KKT error ≤ ${o.acceptableTol} for ${acceptableCount} iterations`, infPr, infDu });
+    if (o.acceptableIter > 0 && acceptableAny >= C.acceptableStallFactor * o.acceptableIter)
+      return done({ status: "acceptable", message: `acceptable: scaled KKT error ≤ ${o.acceptableTol} for ${acceptableAny} iterations, objective still changing by ${objChange.toExponential(1)} of |f| per iteration`, infPr, infDu });
     if (ctx.iter >= o.maxIter) return done({ status: "iteration_limit", message: `iteration limit ${o.maxIter} reached`, infPr, infDu });
     if ((performance.now() - ctx.t0) / 1000 > o.maxSeconds) return { status: "time_limit", message: `time limit ${o.maxSeconds} s reached`, infPr, infDu };
     let wMax = 0;
@@ -404,7 +421,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
               lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = false; lsAugment = ls.augment; events.push("watchdog-undone");
             }
           } else {
-            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0);
+            const ls = backtrack(host, filter, theta, phi, gradPhiD, alphaMax, thetaMin, m > 0, phase === "regular" && Number.isFinite(socGuardTheta));
             lsAccepted = ls.accepted; lsAlpha = ls.alpha; lsTrials = ls.trials; lsSoc = ls.soc; lsAugment = ls.augment;
             if (ls.accepted) wd.shortened = ls.alpha < alphaMax ? wd.shortened + 1 : 0;
           }
@@ -481,6 +498,11 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     slacks(w);
     resetBoundMultipliers(mu, sL, sU, hasL, hasU, zL, zU);
     ctx.iter++;
+    {
+      const thetaNew = theta1(cv);
+      if (thetaNew < socGuardTheta) socGuardTheta = Infinity;
+      if (lsSoc && lsAugment && thetaNew >= thetaFrom) socGuardTheta = Math.min(socGuardTheta, thetaFrom);
+    }
     rec = { normD, deltaW: corr.deltaW, alphaPr: lsAlpha, alphaDu: alphaZ, lsTrials, events };
     st.mu = mu;
   }

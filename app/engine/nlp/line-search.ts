@@ -10,7 +10,15 @@
  *  - otherwise sufficient decrease (18): θ(α) ≤ (1−γ_θ)θ or φ(α) ≤ φ − γ_φ θ, and the filter is
  *    augmented by (22);
  *  - second-order correction (§2.4) at the first trial when θ(α_max) ≥ θ, at most p_max = 4
- *    times while θ decreases by κ_soc = 0.99;
+ *    times while θ decreases by κ_soc = 0.99. Safeguard (ours, no source): after a corrected
+ *    step accepted h-type without reducing θ, and until an accepted step brings θ below the θ
+ *    that correction started from, a corrected step must end below θ to be accepted h-type
+ *    (socMustReduceTheta; ipm.ts keeps that θ). Corrections that trade feasibility for ever
+ *    smaller decreases of φ, in chains or alternating with plain steps, kept
+ *    ibis-crane-load-flip trapezoidal N = 30 between θ = 2.6e-3 and 2.3e-2 for hundreds of
+ *    iterations (440 in all, now 63) while the plain step α_max/2 reduced θ. A single such
+ *    correction is often a good step: forbidding all of them cost ibis HS and LGR ~35 % more
+ *    iterations;
  *  - α < α_min of eq. (23) sends the iteration to the feasibility restoration phase.
  */
 import { CONSTANTS as C } from "./options";
@@ -88,7 +96,7 @@ export function acceptTrial(t: TrialValues, a: number, filter: Filter, theta: nu
 
 export function backtrack(
   host: LineSearchHost, filter: Filter, theta: number, phi: number, gradPhiD: number,
-  alphaMax: number, thetaMin: number, withSoc: boolean,
+  alphaMax: number, thetaMin: number, withSoc: boolean, socMustReduceTheta = false,
 ): LineSearchResult {
   const aMin = alphaMin(theta, gradPhiD, thetaMin);
   let alpha = alphaMax;
@@ -111,7 +119,7 @@ export function backtrack(
           const s = host.secondOrderCorrection(alpha, p === 1);
           if (!s || !Number.isFinite(s.phi) || !Number.isFinite(s.theta)) break;
           const rs = acceptable(s, alpha);
-          if (rs.ok) return { accepted: true, alpha: s.alpha, trials, soc: true, augment: !rs.fType };
+          if (rs.ok && (rs.fType || !socMustReduceTheta || s.theta < theta)) return { accepted: true, alpha: s.alpha, trials, soc: true, augment: !rs.fType };
           tt = s;
         }
       }

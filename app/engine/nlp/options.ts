@@ -17,6 +17,7 @@ export const OPTION_SPECS = {
   gapTol: { default: 1e-11, help: "Also required at 'optimal': total duality gap Σ s z + |λᵀc| + Σ z δ (unscaled) ≤ gapTol (1 + |f|), so the barrier leaves no objective floor that grows with the mesh; 0 turns the test off (the former stop; gap.ts)." },
   acceptableTol: { default: 1e-6, help: "E_0 below this for acceptableIter consecutive iterates ends with 'acceptable'." },
   acceptableIter: { default: 15, help: "Consecutive acceptable iterates needed for status 'acceptable'." },
+  acceptableObjChangeTol: { default: 1e-9, help: "An iterate counts as acceptable only if the objective changed by at most this × max(1, |f|) since the previous one (Ipopt's acceptable_obj_change_tol): a solve still descending is not stopped; after acceptableStallFactor × acceptableIter acceptable iterates in a row it stops anyway." },
   maxIter: { default: 3000, help: "Iteration limit (regular and restoration iterations together)." },
   maxSeconds: { default: Infinity, help: "Wall-clock limit in seconds; status 'time_limit' when exceeded." },
   muInit: { default: 0.1, help: "Initial barrier parameter μ_0." },
@@ -113,6 +114,13 @@ export const CONSTANTS = {
   tauFinal: 1 - 1e-6,
   /** Bound relaxation kept in the final steps, as a fraction of boundRelaxFactor (common practice, no source). */
   finalRelaxShrink: 1e-5,
+  /**
+   * 'acceptable' while the objective still moves (acceptableObjChangeTol not met) only after this
+   * many × acceptableIter acceptable iterates in a row, so a solve that creeps at the objective
+   * change limit cannot run to maxIter (common practice, no source; kestrel-2-ascent HS N = 240
+   * crept by 2e-9…2.5e-8 of |f| per iteration for 40 iterations, then converged in 5).
+   */
+  acceptableStallFactor: 4,
   /** Bound multipliers larger than this after restoration are reset to 1 (common practice, no source). */
   boundMultResetThreshold: 1e3,
 } as const;
@@ -122,6 +130,7 @@ export interface ResolvedOptions {
   gapTol: number;
   acceptableTol: number;
   acceptableIter: number;
+  acceptableObjChangeTol: number;
   maxIter: number;
   maxSeconds: number;
   muInit: number;
@@ -153,6 +162,7 @@ export function resolveOptions(o: NlpOptions | undefined): ResolvedOptions {
     const v = res[k] as number;
     if (typeof v !== "number" || !(v > 0)) throw new Error(`options.${k}: must be a positive number, got ${String(v)}`);
   }
+  if (typeof res.acceptableObjChangeTol !== "number" || !(res.acceptableObjChangeTol >= 0)) throw new Error(`options.acceptableObjChangeTol: must be a non-negative number, got ${String(res.acceptableObjChangeTol)}`);
   if (typeof res.gapTol !== "number" || !(res.gapTol >= 0)) throw new Error(`options.gapTol: must be a non-negative number, got ${String(res.gapTol)}`);
   if (!Number.isInteger(res.maxIter) || res.maxIter < 0) throw new Error(`options.maxIter: must be a non-negative integer, got ${res.maxIter}`);
   if (!Number.isInteger(res.acceptableIter) || res.acceptableIter < 0) throw new Error(`options.acceptableIter: must be a non-negative integer`);

@@ -85,6 +85,8 @@ export interface NlpOptions {
   /** Acceptable tolerance and number of consecutive acceptable iterates. Default 1e-6, 15. */
   acceptableTol?: number;
   acceptableIter?: number;
+  /** An iterate counts toward 'acceptable' only if f moved by at most this × max(1, |f|). Default 1e-9. */
+  acceptableObjChangeTol?: number;
   maxIter?: number;
   /** Wall-clock limit in seconds. Default Infinity. */
   maxSeconds?: number;
