@@ -5,7 +5,8 @@
  *
  *   node --import tsx bench/side-by-side-child.ts N trapezoidal|hermite-simpson [warm] [--fixture path]
  *
- * N = 0 loads everything without solving (the "loaded" memory figure). ARCWATCH_PRINT=1 prints the
+ * N = 0 loads everything without solving (the "loaded" memory figure). ARCWATCH_GAP_TOL sets the
+ * solver's gapTol (0: the stop without the duality-gap test). ARCWATCH_PRINT=1 prints the
  * iteration log of the timed solve; ARCWATCH_PROFILE=file writes a CPU profile of the timed (warm when
  * asked) solve only, through node:inspector, so that loading and the warm-up do not dilute it.
  */
@@ -39,6 +40,10 @@ const problem = {
   guess: { tf: 1, at(tau: number, out: Float64Array) { out[0] = 1; out[1] = tau * (1 - tau); out[2] = 1 - 0.4 * tau; out[3] = 1.75; } },
 };
 
+/** ARCWATCH_GAP_TOL=0: the former stop without the duality-gap test (like for like with the reference's stop). */
+const gapTol = process.env.ARCWATCH_GAP_TOL ? Number(process.env.ARCWATCH_GAP_TOL) : null;
+if (gapTol !== null && !(gapTol >= 0)) throw new Error(`side-by-side child: ARCWATCH_GAP_TOL must be a number ≥ 0, got ${process.env.ARCWATCH_GAP_TOL}`);
+
 interface Measured { iterations: number; status: string; seconds: number; cpuSeconds: number; objective: number | null; warmCpuSeconds?: number }
 
 const profileFile = process.env.ARCWATCH_PROFILE ?? "";
@@ -60,7 +65,7 @@ async function profiled<T>(on: boolean, f: () => T): Promise<T> {
 function run(n: number): Measured {
   const tr = getScheme(scheme).transcribe(problem, { intervals: n });
   const c0 = process.cpuUsage();
-  const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0 });
+  const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0, ...(gapTol !== null ? { gapTol } : {}) });
   const c1 = process.cpuUsage(c0);
   const ok = r.status === "optimal" || r.status === "acceptable";
   return { iterations: r.iterations, status: r.status, seconds: r.seconds, cpuSeconds: (c1.user + c1.system) / 1e6, objective: ok ? tr.recover(r).objective : null };

@@ -13,7 +13,8 @@
  * reference's t_f ≥ 0), N uniform intervals, from the COPS start h = 1, v = s(1 − s), m = 1 − 0.4 s,
  * T = 1.75, t_f = 1 (s = t/t_f), tolerance 1e-8 on the scaled KKT error. Arcwatch runs with its
  * defaults otherwise (including the duality-gap test, app/engine/nlp/gap.ts, which the reference does
- * not have: its extra iterations are counted against Arcwatch).
+ * not have: its extra iterations are counted against Arcwatch; ARCWATCH_GAP_TOL=0 turns it off for a
+ * like-for-like stop, passed on to the child).
  *
  * For each N the two programs run ALTERNATELY, R times each, each in its own process (so that the
  * interleaving shares the machine's load between them), best of R:
@@ -34,7 +35,8 @@
  *    the same child process that loads everything without solving ("loaded": what the solve itself
  *    costs). The Arcwatch side runs from an esbuild bundle of bench/side-by-side-child.ts (no
  *    TypeScript loader in the process; ARCWATCH_CHILD_TSX=1 runs it through tsx as before).
- * Ratios are Arcwatch ÷ reference. Times on a shared machine are noisy: compare ratios, not seconds;
+ * Ratios are Arcwatch ÷ reference; "warm/iter" compares CPU seconds per iteration (warm ÷ the
+ * reference's), the cost of an iteration apart from how many each solver takes. Times on a shared machine are noisy: compare ratios, not seconds;
  * the load average is printed before and after. Last, the least-squares exponent p of Arcwatch's
  * CPU time per iteration (warm) ≈ C·N^p over N ≥ 400 (goal p ≤ 1.05: linear work per iteration).
  */
@@ -174,14 +176,16 @@ const bin = referenceBinary();
 const empty = measured(process.execPath, ["-e", "0"]).rssKb;
 const loaded = runArcwatch(0, "trapezoidal")?.rssKb ?? null;
 const load = () => loadavg().map((v) => v.toFixed(1)).join(" ");
+if (process.env.ARCWATCH_GAP_TOL) console.log(`Arcwatch with gapTol = ${process.env.ARCWATCH_GAP_TOL} (ARCWATCH_GAP_TOL)`);
 console.log(`machine: ${cpus()[0]?.model ?? "?"} × ${cpus().length}, ${process.platform} ${process.arch}, Node ${process.version}; load average (1, 5, 15 min) ${load()}`);
 console.log(`peak memory of an empty Node process ${mb(empty)} MB; of one that loads the engine without solving ${mb(loaded)} MB`);
+const perIteration = (s: number | null | undefined, iterations: number | undefined) => (s != null && iterations ? s / iterations : null);
 const cpuS = (r: Run | null) => (r ? r.cpuSeconds.toFixed(3).padStart(6) : "     —");
 const wallS = (r: Run | null) => (r ? r.seconds.toFixed(3).padStart(6) : "     —");
 
 for (const scheme of schemes) {
   console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best CPU of ${reps}; reference and Arcwatch alternate)`);
-  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
+  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  warm/iter ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
   const perIter: [number, number][] = [];
   for (const N of Ns) {
     const refRuns: (Run | null)[] = [];
@@ -200,7 +204,7 @@ for (const scheme of schemes) {
     console.log(
       `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${cpuS(ref)}  ${wallS(ref)} ${mb(ref?.rssKb ?? null).padStart(4)} | ` +
         `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${our?.warmCpuSeconds != null ? our.warmCpuSeconds.toFixed(3).padStart(6) : "     —"}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
-        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
+        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(perIteration(our?.warmCpuSeconds, our?.iterations), perIteration(ref?.cpuSeconds, ref?.iterations)).padStart(15)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
     );
   }
   if (perIter.length >= 2) {
