@@ -13,7 +13,8 @@
  * reference's t_f ≥ 0), N uniform intervals, from the COPS start h = 1, v = s(1 − s), m = 1 − 0.4 s,
  * T = 1.75, t_f = 1 (s = t/t_f), tolerance 1e-8 on the scaled KKT error. Arcwatch runs with its
  * defaults otherwise (including the duality-gap test, app/engine/nlp/gap.ts, which the reference does
- * not have: its extra iterations are counted against Arcwatch).
+ * not have: its extra iterations are counted against Arcwatch; ARCWATCH_GAP_TOL=0 turns it off for a
+ * like-for-like stop, passed on to the child).
  *
  * For each N the two programs run ALTERNATELY, R times each, each in its own process (so that the
  * interleaving shares the machine's load between them), best of R:
@@ -30,15 +31,17 @@
  *    process of its own, so that the memory columns stay those of the cold solve;
  *    ARCWATCH_COLD_ONLY=1 skips it);
  *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
- *    set minus that of an empty Node process (`node -e 0`) — the issue's measure, which includes
- *    the TypeScript loader (tsx) and the engine's modules — and minus that of the same child
- *    process that loads everything without solving ("loaded": what the solve itself costs).
- * Ratios are Arcwatch ÷ reference. Times on a shared machine are noisy: compare ratios, not seconds;
+ *    set minus that of an empty Node process (`node -e 0`) — the issue's measure — and minus that of
+ *    the same child process that loads everything without solving ("loaded": what the solve itself
+ *    costs). The Arcwatch side runs from an esbuild bundle of bench/side-by-side-child.ts (no
+ *    TypeScript loader in the process; ARCWATCH_CHILD_TSX=1 runs it through tsx as before).
+ * Ratios are Arcwatch ÷ reference; "warm/iter" compares CPU seconds per iteration (warm ÷ the
+ * reference's), the cost of an iteration apart from how many each solver takes. Times on a shared machine are noisy: compare ratios, not seconds;
  * the load average is printed before and after. Last, the least-squares exponent p of Arcwatch's
  * CPU time per iteration (warm) ≈ C·N^p over N ≥ 400 (goal p ≤ 1.05: linear work per iteration).
  */
 import { spawnSync } from "node:child_process";
-import { existsSync, readFileSync, statSync } from "node:fs";
+import { existsSync, rmSync, statSync } from "node:fs";
 import { cpus, loadavg, tmpdir } from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
@@ -59,50 +62,6 @@ interface Run {
   warmCpuSeconds?: number | null;
   objective: number | null;
   rssKb: number | null;
-}
-
-// ---------------------------------------------------------------------------------------------
-// Child mode: one Arcwatch solve in this process, JSON on stdout.
-if (process.argv[2] === "--child") {
-  const N = Number(process.argv[3]);
-  const scheme = process.argv[4] as "trapezoidal" | "hermite-simpson";
-  const warm = process.argv[5] === "warm";
-  const { compileProblemSource } = await import("../app/engine/problem/compile");
-  const { getScheme } = await import("../app/engine/schemes/index");
-  const { solveNlp } = await import("../app/engine/nlp/index");
-  const { clearAnalysisCache } = await import("../app/engine/sparse/index");
-  const fixture = JSON.parse(readFileSync(path.join(HERE, "../tests/schemes/fixtures/cops-goddard.json"), "utf8"));
-  for (const s of [...fixture.states, ...fixture.controls]) s.scale = 1;
-  fixture.horizon.finalTime.free = { lower: 1e-3, upper: 10, guess: 1 };
-  const compiled = compileProblemSource("cops-goddard-side-by-side", { problemJson: JSON.stringify(fixture) });
-  if (!compiled.ok) throw new Error(`cops-goddard fixture does not compile: ${JSON.stringify(compiled.errors)}`);
-  // The COPS start (states h, v, m then control T at s = τ).
-  const problem = {
-    ...compiled.problem,
-    guess: { tf: 1, at(tau: number, out: Float64Array) { out[0] = 1; out[1] = tau * (1 - tau); out[2] = 1 - 0.4 * tau; out[3] = 1.75; } },
-  };
-  const run = (n: number) => {
-    const tr = getScheme(scheme).transcribe(problem, { intervals: n });
-    const c0 = process.cpuUsage();
-    const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0 });
-    const c1 = process.cpuUsage(c0);
-    const ok = r.status === "optimal" || r.status === "acceptable";
-    return { iterations: r.iterations, status: r.status, seconds: r.seconds, cpuSeconds: (c1.user + c1.system) / 1e6, objective: ok ? tr.recover(r).objective : null };
-  };
-  let out: Omit<Run, "rssKb"> = { iterations: 0, status: "loaded", seconds: 0, cpuSeconds: 0, objective: null };
-  if (N > 0) {
-    run(50);
-    out = run(N);
-    if (warm) {
-      // Warm: the third solve of this N in the process, the symbolic-analysis cache emptied first so
-      // that the analysis is paid as in the cold solve (a bench worker's timed repeats would reuse it).
-      run(N);
-      clearAnalysisCache();
-      out = { ...out, warmCpuSeconds: run(N).cpuSeconds };
-    }
-  }
-  process.stdout.write(JSON.stringify(out) + "\n");
-  process.exit(0);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -164,9 +123,38 @@ function runReference(bin: string, N: number, scheme: string): Run | null {
   return { iterations: Number(f[4]), status: f[5] === "0" ? "optimal" : f[5] === "1" ? "acceptable" : `status ${f[5]}`, seconds: Number(f[6]), cpuSeconds: Number(f[11]), objective: Number(f[8]), rssKb: r.rssKb };
 }
 
-const self = fileURLToPath(import.meta.url);
+/**
+ * The Arcwatch side (bench/side-by-side-child.ts) as one esbuild bundle in the system temp folder:
+ * the child process then holds the engine's code and nothing of a TypeScript loader, so that its
+ * memory and start figures are the engine's. Every package is bundled (only the parts the engine
+ * uses are loaded). ARCWATCH_CHILD_TSX=1 runs the TypeScript sources through tsx instead.
+ */
+const CHILD_SOURCE = path.join(HERE, "side-by-side-child.ts");
+const FIXTURE = path.join(HERE, "../tests/schemes/fixtures/cops-goddard.json");
+async function childCommand(): Promise<string[]> {
+  if (process.env.ARCWATCH_CHILD_TSX) return ["--import", "tsx", CHILD_SOURCE];
+  const { build } = await import("esbuild");
+  const outfile = path.join(tmpdir(), `arcwatch-side-by-side-child-${process.pid}.mjs`);
+  const t0 = performance.now();
+  await build({
+    entryPoints: [CHILD_SOURCE],
+    outfile,
+    bundle: true,
+    format: "esm",
+    platform: "node",
+    target: "node20",
+    logLevel: "warning",
+    legalComments: "none",
+    // bundled CommonJS (inside mathjs) may call require()
+    banner: { js: 'import { createRequire as __arcwatchRequire } from "node:module"; const require = __arcwatchRequire(import.meta.url);' },
+  });
+  console.log(`Arcwatch side bundled with esbuild into ${outfile} (${((performance.now() - t0) / 1000).toFixed(1)} s)`);
+  process.on("exit", () => rmSync(outfile, { force: true }));
+  return [outfile];
+}
+const child = await childCommand();
 function runArcwatch(N: number, scheme: string, warm = false): Run | null {
-  const r = measured(process.execPath, ["--import", "tsx", self, "--child", String(N), scheme, ...(warm ? ["warm"] : [])]);
+  const r = measured(process.execPath, [...child, String(N), scheme, ...(warm ? ["warm"] : []), "--fixture", FIXTURE]);
   const line = r.stdout.trim().split("\n").pop();
   if (!r.ok || !line) {
     console.log(`Arcwatch child failed (N = ${N}, ${scheme}): ${r.stderr.slice(-400)}`);
@@ -188,14 +176,16 @@ const bin = referenceBinary();
 const empty = measured(process.execPath, ["-e", "0"]).rssKb;
 const loaded = runArcwatch(0, "trapezoidal")?.rssKb ?? null;
 const load = () => loadavg().map((v) => v.toFixed(1)).join(" ");
+if (process.env.ARCWATCH_GAP_TOL) console.log(`Arcwatch with gapTol = ${process.env.ARCWATCH_GAP_TOL} (ARCWATCH_GAP_TOL)`);
 console.log(`machine: ${cpus()[0]?.model ?? "?"} × ${cpus().length}, ${process.platform} ${process.arch}, Node ${process.version}; load average (1, 5, 15 min) ${load()}`);
 console.log(`peak memory of an empty Node process ${mb(empty)} MB; of one that loads the engine without solving ${mb(loaded)} MB`);
+const perIteration = (s: number | null | undefined, iterations: number | undefined) => (s != null && iterations ? s / iterations : null);
 const cpuS = (r: Run | null) => (r ? r.cpuSeconds.toFixed(3).padStart(6) : "     —");
 const wallS = (r: Run | null) => (r ? r.seconds.toFixed(3).padStart(6) : "     —");
 
 for (const scheme of schemes) {
   console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best CPU of ${reps}; reference and Arcwatch alternate)`);
-  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
+  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  warm/iter ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
   const perIter: [number, number][] = [];
   for (const N of Ns) {
     const refRuns: (Run | null)[] = [];
@@ -214,7 +204,7 @@ for (const scheme of schemes) {
     console.log(
       `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${cpuS(ref)}  ${wallS(ref)} ${mb(ref?.rssKb ?? null).padStart(4)} | ` +
         `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${our?.warmCpuSeconds != null ? our.warmCpuSeconds.toFixed(3).padStart(6) : "     —"}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
-        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
+        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(perIteration(our?.warmCpuSeconds, our?.iterations), perIteration(ref?.cpuSeconds, ref?.iterations)).padStart(15)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
     );
   }
   if (perIter.length >= 2) {

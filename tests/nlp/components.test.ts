@@ -77,6 +77,29 @@ describe("KKT system and inertia correction (Algorithm IC, §3.1)", () => {
     });
   }
 
+  it("with the default solver (signs, 2×2 pairs): values summed straight into the factor's storage after the first factor solve as dense LU", () => {
+    const N = 30, m = 12;
+    const d = randomKkt(N, m, 11);
+    const pairsFactory = (n: number, r: Int32Array, c: Int32Array, signs?: Int8Array) => new SymmetricSolver(n, r, c, { pivotTolerance: 1e-20, signs, pairs: true });
+    const kkt = new KktSystem(N, m, d.hR, d.hC, d.jR, d.jC, pairsFactory);
+    expect(kkt.solver.assembly!()).toBeNull(); // the pairing reads the first values
+    const rr = rng(12);
+    for (const [dw, dc] of [[1, 0.5], [2, 1e-3], [5, 0]] as const) {
+      const diag = Float64Array.from({ length: N }, () => 0.5 + Math.abs(rr()));
+      const inertia = kkt.factor(d.hV, diag, dw, d.jV, dc);
+      expect(kkt.solver.assembly!()).not.toBeNull();
+      const A = denseKkt(N, m, d, diag, dw, dc);
+      const ev = new EigenvalueDecomposition(A).realEigenvalues;
+      expect(inertia.positive).toBe(ev.filter((v) => v > 0).length);
+      expect(inertia.negative).toBe(ev.filter((v) => v < 0).length);
+      const b = Float64Array.from({ length: N + m }, () => rr());
+      const x = new Float64Array(N + m);
+      kkt.solve(b, x);
+      const xd = denseSolve(A, Matrix.columnVector(Array.from(b))).to1DArray();
+      for (let i = 0; i < N + m; i++) expect(Math.abs(x[i] - xd[i])).toBeLessThan(1e-9 * Math.max(1, Math.abs(xd[i])));
+    }
+  });
+
   it("positive definite Hessian needs no δ_w", () => {
     const N = 10, m = 4;
     const d = randomKkt(N, m, 9);

@@ -13,7 +13,10 @@
  *   [dEnd, dEnd+nnzJ)    J at (N + row, col)
  *   [jEnd, jEnd+m)       −δ_c at (N + j, N + j)
  *
- * Duplicated triplets are summed by the symmetric solver.
+ * Duplicated triplets are summed by the symmetric solver. Once the solver has analysed the
+ * pattern and offers direct assembly (sparse SymmetricSolver.assembly), the values are summed
+ * straight into its permuted storage through its triplet → slot map instead (no copy, no second
+ * pass; same sums in the same order).
  */
 import type { Inertia, SymmetricSolverLike } from "../sparse/types";
 
@@ -57,6 +60,19 @@ export class KktSystem {
    * δ_w, jVals (nnzJ), δ_c; then factorise and return the inertia.
    */
   factor(hVals: Float64Array | null, diag: Float64Array, deltaW: number, jVals: Float64Array, deltaC: number): Inertia {
+    const direct = this.solver.factorAssembled ? this.solver.assembly?.() : null;
+    if (direct) {
+      // Straight into the factor's storage through the solver's slot map: the same sums in the
+      // same (triplet) order as factor(values), without the triplet array.
+      const { slots, values: Cx } = direct;
+      Cx.fill(0);
+      const { hEnd, dEnd, jEnd, N, m } = this;
+      if (hVals) for (let k = 0; k < hEnd; k++) Cx[slots[k]] += hVals[k];
+      for (let i = 0; i < N; i++) Cx[slots[hEnd + i]] += diag[i] + deltaW;
+      for (let k = dEnd; k < jEnd; k++) Cx[slots[k]] += jVals[k - dEnd];
+      for (let j = 0; j < m; j++) Cx[slots[jEnd + j]] += -deltaC;
+      return this.solver.factorAssembled!();
+    }
     const v = this.values;
     if (hVals) v.set(hVals, 0);
     else v.fill(0, 0, this.hEnd);

@@ -135,6 +135,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private normA = -1;
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
   private factored = false;
+  private assembled: { slots: Int32Array; values: Float64Array } | null = null;
   // solve() workspaces, length n
   private readonly bp: Float64Array;
   private readonly xp: Float64Array;
@@ -289,7 +290,25 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const slot = this.slot;
     Cx.fill(0);
     for (let t = 0; t < this.nT; t++) Cx[slot[t]] += values[t];
-    ldlNumeric(this.C, Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork, this.signsPermuted, this.regularization);
+    return this.factorAssembled();
+  }
+
+  /**
+   * The triplet → storage slot map and the value storage of the factor's permuted matrix, for a
+   * caller that sums its values there itself (no triplet array, no copy); null until the analysis
+   * has run (with `pairs`: until the first factor()). The arrays are this solver's own: write only
+   * `values`, then call factorAssembled().
+   */
+  assembly(): { slots: Int32Array; values: Float64Array } | null {
+    if (!this.analysed) return null;
+    if (this.assembled === null) this.assembled = { slots: this.slot, values: this.Cx };
+    return this.assembled;
+  }
+
+  /** Numeric LDLᵀ of the values summed into assembly().values; as factor(). */
+  factorAssembled(): Inertia {
+    if (!this.analysed) throw new Error("sparse/SymmetricSolver.factorAssembled: no analysis yet; call factor(values) first");
+    ldlNumeric(this.C, this.Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork, this.signsPermuted, this.regularization);
     this.normA = -1; // computed by the first solve that needs it
     this.factored = true;
     const { ok, positive, negative, zero, regularized, regularizedNegative } = this.inertiaWork;

@@ -39,4 +39,13 @@ export interface SymmetricSolverLike {
   factor(values: Float64Array): Inertia;
   /** Solve A x = b using the last factorisation; refinementSteps default 1 (residual-checked). */
   solve(b: Float64Array, x: Float64Array, refinementSteps?: number): void;
+  /**
+   * Optional direct assembly: once the symbolic analysis has run, `slots[t]` is the position of
+   * triplet t in `values`, the matrix in the factor's own (permuted) storage order, and
+   * factorAssembled() factors what the caller has summed into `values` (zero it first). Null
+   * before the analysis (a solver whose ordering depends on the values analyses in its first
+   * factor()). Equivalent to factor(v) with v[t] summed into values[slots[t]] in triplet order.
+   */
+  assembly?(): { slots: Int32Array; values: Float64Array } | null;
+  factorAssembled?(): Inertia;
 }

@@ -1,0 +1,88 @@
+/**
+ * The Arcwatch side of bench/side-by-side.bench.ts: one process, one solve (after a JIT warm-up), a
+ * JSON line on stdout. Run from an esbuild bundle (bench/side-by-side.bench.ts builds it), so that the
+ * process holds the engine and nothing of a TypeScript loader; also runnable from source:
+ *
+ *   node --import tsx bench/side-by-side-child.ts N trapezoidal|hermite-simpson [warm] [--fixture path]
+ *
+ * N = 0 loads everything without solving (the "loaded" memory figure). ARCWATCH_GAP_TOL sets the
+ * solver's gapTol (0: the stop without the duality-gap test). ARCWATCH_PRINT=1 prints the
+ * iteration log of the timed solve; ARCWATCH_PROFILE=file writes a CPU profile of the timed (warm when
+ * asked) solve only, through node:inspector, so that loading and the warm-up do not dilute it.
+ */
+import { readFileSync, writeFileSync } from "node:fs";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+import { compileProblemSource } from "../app/engine/problem/compile";
+import { getScheme } from "../app/engine/schemes/index";
+import { solveNlp } from "../app/engine/nlp/index";
+import { clearAnalysisCache } from "../app/engine/sparse/index";
+
+const args = process.argv.slice(2);
+const fixtureAt = args.indexOf("--fixture");
+const fixturePath = fixtureAt >= 0 ? args[fixtureAt + 1] : path.join(path.dirname(fileURLToPath(import.meta.url)), "../tests/schemes/fixtures/cops-goddard.json");
+const N = Number(args[0]);
+const scheme = args[1] as "trapezoidal" | "hermite-simpson";
+const warm = args[2] === "warm";
+if (!Number.isInteger(N) || N < 0 || (scheme !== "trapezoidal" && scheme !== "hermite-simpson")) {
+  console.error(`side-by-side child: usage N trapezoidal|hermite-simpson [warm] [--fixture path], got ${args.join(" ")}`);
+  process.exit(2);
+}
+
+const fixture = JSON.parse(readFileSync(fixturePath, "utf8"));
+for (const s of [...fixture.states, ...fixture.controls]) s.scale = 1;
+fixture.horizon.finalTime.free = { lower: 1e-3, upper: 10, guess: 1 };
+const compiled = compileProblemSource("cops-goddard-side-by-side", { problemJson: JSON.stringify(fixture) });
+if (!compiled.ok) throw new Error(`cops-goddard fixture (${fixturePath}) does not compile: ${JSON.stringify(compiled.errors)}`);
+// The COPS start (states h, v, m then control T at s = τ).
+const problem = {
+  ...compiled.problem,
+  guess: { tf: 1, at(tau: number, out: Float64Array) { out[0] = 1; out[1] = tau * (1 - tau); out[2] = 1 - 0.4 * tau; out[3] = 1.75; } },
+};
+
+/** ARCWATCH_GAP_TOL=0: the former stop without the duality-gap test (like for like with the reference's stop). */
+const gapTol = process.env.ARCWATCH_GAP_TOL ? Number(process.env.ARCWATCH_GAP_TOL) : null;
+if (gapTol !== null && !(gapTol >= 0)) throw new Error(`side-by-side child: ARCWATCH_GAP_TOL must be a number ≥ 0, got ${process.env.ARCWATCH_GAP_TOL}`);
+
+interface Measured { iterations: number; status: string; seconds: number; cpuSeconds: number; objective: number | null; warmCpuSeconds?: number }
+
+const profileFile = process.env.ARCWATCH_PROFILE ?? "";
+async function profiled<T>(on: boolean, f: () => T): Promise<T> {
+  if (!on || !profileFile) return f();
+  const { Session } = await import("node:inspector/promises");
+  const s = new Session();
+  s.connect();
+  await s.post("Profiler.enable");
+  await s.post("Profiler.setSamplingInterval", { interval: 200 });
+  await s.post("Profiler.start");
+  const out = f();
+  const { profile } = await s.post("Profiler.stop");
+  writeFileSync(profileFile, JSON.stringify(profile));
+  s.disconnect();
+  return out;
+}
+
+function run(n: number): Measured {
+  const tr = getScheme(scheme).transcribe(problem, { intervals: n });
+  const c0 = process.cpuUsage();
+  const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0, ...(gapTol !== null ? { gapTol } : {}) });
+  const c1 = process.cpuUsage(c0);
+  const ok = r.status === "optimal" || r.status === "acceptable";
+  return { iterations: r.iterations, status: r.status, seconds: r.seconds, cpuSeconds: (c1.user + c1.system) / 1e6, objective: ok ? tr.recover(r).objective : null };
+}
+
+let out: Measured = { iterations: 0, status: "loaded", seconds: 0, cpuSeconds: 0, objective: null };
+if (N > 0) {
+  run(50);
+  out = await profiled(!warm, () => run(N));
+  if (warm) {
+    // Warm: the third solve of this N in the process, the symbolic-analysis cache emptied first so
+    // that the analysis is paid as in the cold solve (a bench worker's timed repeats would reuse it).
+    run(N);
+    clearAnalysisCache();
+    const w = await profiled(true, () => run(N));
+    out = { ...out, warmCpuSeconds: w.cpuSeconds };
+  }
+}
+process.stdout.write(JSON.stringify(out) + "\n");
+process.exit(0);
