@@ -8,7 +8,13 @@ import { busyResponse, readSubmissionOffThread, SolverPoolBusy } from "~/service
 /** GET /api/problems/:id (viewer or token): TeX of every expression, constants, bounds, references with provenance, best result per scheme, versions. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireUser(request);
-  const r = getProblemDetail(getDb(), params.id);
+  let r;
+  try {
+    r = await getProblemDetail(getDb(), params.id); // compiled on a solver thread
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyResponse(err);
+    throw err;
+  }
   if (!r.ok) return Response.json({ error: r.message }, { status: r.status });
   return Response.json(r.detail);
 }

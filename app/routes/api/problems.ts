@@ -9,7 +9,13 @@ import { busyResponse, readSubmissionOffThread, SolverPoolBusy } from "~/service
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
   const url = new URL(request.url);
-  return Response.json({ problems: listProblemLibrary(getDb(), { tag: url.searchParams.get("tag") ?? undefined, q: url.searchParams.get("q") ?? undefined }) });
+  try {
+    // each problem compiled on a solver thread, kept by content (app/services/problem-views.server.ts)
+    return Response.json({ problems: await listProblemLibrary(getDb(), { tag: url.searchParams.get("tag") ?? undefined, q: url.searchParams.get("q") ?? undefined }) });
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyResponse(err);
+    throw err;
+  }
 }
 
 /**
