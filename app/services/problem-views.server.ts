@@ -18,7 +18,7 @@
  *   kept in a smaller cache of its own (it can be large).
  */
 import { createHash } from "node:crypto";
-import type { ProblemError } from "~/engine/problem/errors";
+import { formatProblemError, type ProblemError } from "~/engine/problem/errors";
 import { label, readProblemFiles } from "~/engine/problem/load";
 import type { ProblemSourceFiles } from "~/engine/problem/compile";
 import type { ProblemLibrary } from "~/engine/problem/library";
@@ -193,11 +193,13 @@ function compileOffThread(sources: Source[], withSeries: boolean): Map<string, P
     while (rest.length > 0) {
       const items: ProblemViewRequest[] = rest.map((src) => ({ key: src.key, id: src.id, files: src.files, label: src.label, series: withSeries }));
       s.stats.tasks++;
-      const out = await solverPool().run<{ items: number }>({ kind: "problem-views", items }, viewWallMs(), (value) => {
-        const a = value as ProblemViewAnswer;
+      const answer = (a: ProblemViewAnswer) => {
         s.stats.compiled++;
         finish(a.key, outcomeOf(a), withSeries ? (a.ok ? a.series : null) : undefined);
-      });
+      };
+      // each problem's answer but the last comes as a partial one; the last is the task's result
+      const out = await solverPool().run<{ last: ProblemViewAnswer | null }>({ kind: "problem-views", items }, viewWallMs(), (value) => answer(value as ProblemViewAnswer));
+      if (out.ok && out.value.last) answer(out.value.last);
       const left = rest.filter((src) => settle.has(src.key));
       if (out.ok || left.length === 0) {
         for (const src of left) finish(src.key, { ok: false, reason: "crashed", message: "The solver thread gave no answer for this problem." });
@@ -277,13 +279,11 @@ export async function problemReferenceSeries(id: string): Promise<ProblemViewLoo
   return (await problemViews([id], { series: true })).get(id) ?? null;
 }
 
-/** One line for a page: the first errors (at most three) or why there is no answer. */
+/** One line for a page: the first errors (at most three; file, field and column each) or why there is no answer. */
 export function outcomeMessage(o: Exclude<ViewOutcome, { ok: true }>): string {
   if (o.reason !== "errors") return o.message;
-  return o.errors
-    .slice(0, 3)
-    .map((e) => `${e.path ? `${e.path}: ` : ""}${e.message}`)
-    .join("; ");
+  const more = o.errors.length > 3 ? ` (and ${o.errors.length - 3} more)` : "";
+  return o.errors.slice(0, 3).map(formatProblemError).join("; ") + more;
 }
 
 export { SolverPoolBusy };

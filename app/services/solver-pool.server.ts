@@ -9,8 +9,9 @@
  * - Hard wall-clock limit per task, from the moment a thread takes it: past it the thread is
  *   terminated (`Worker.terminate()` stops it even inside a numeric loop) and replaced; the
  *   task resolves with a `timeout` outcome. The solver's own time limit covers iterations only.
- *   A task made of several items (the problem views) posts one `partial` answer per item; each
- *   restarts the clock, so the limit holds per item and a slow item stops only the items after it.
+ *   A task made of several items (the problem views) posts a `partial` answer per item but the
+ *   last (the result); each restarts the clock, so the limit holds per item and a slow item
+ *   stops only the items after it.
  * - Memory: each thread's heap is capped (resourceLimits), so one huge problem cannot take
  *   the server down; a thread that dies reports its task as failed.
  *

@@ -12,7 +12,11 @@ import { deserializeForm, type SolverTask } from "./solver-pool.server";
 
 async function perform(task: SolverTask, partial: (value: unknown) => void): Promise<unknown> {
   if (task.kind === "problem-views") {
+    // One `partial` answer per problem but the last, which is the task's result: the thread is
+    // free again the moment its last answer arrives (a reader's next request finds it idle).
+    let last: ProblemViewAnswer | null = null;
     for (const item of task.items) {
+      if (last) partial(last);
       let answer: ProblemViewAnswer;
       try {
         answer = computeProblemView(item);
@@ -20,9 +24,9 @@ async function perform(task: SolverTask, partial: (value: unknown) => void): Pro
         // a compiler fault, not the file's: still an answer for this problem, not a lost task
         answer = { key: item.key, ok: false, errors: [{ file: item.label, path: "", message: `the compiler failed: ${err instanceof Error ? err.message : String(err)}` }] };
       }
-      partial(answer);
+      last = answer;
     }
-    return { items: task.items.length };
+    return { last };
   }
   const form = deserializeForm(task.form);
   if (task.kind === "submission") return { sub: await readProblemSubmission(form, task.fixedId) };
