@@ -187,7 +187,7 @@ describe("adding a problem", () => {
     expect(entry!.schemes["hermite-simpson"]).toMatchObject({ cases: 1, solved: 1, bestErrorRel: 1e-7 });
     expect(lib.some((e) => e.id === "pika-rover-dash" && e.origin === "library")).toBe(true);
     expect(problemsModel.saveUploadedProblem(db, "pika-rover-dash", files, "create")).toMatchObject({ ok: false, idError: expect.stringMatching(/checkout's library/) });
-  });
+  }, 180_000); // the detail and the list start a solver thread (seconds on a loaded machine)
 
   it("the runner's library includes the uploaded problem, selected by its tag", () => {
     // One place computes the uploaded folder, for the pages and the runner alike.

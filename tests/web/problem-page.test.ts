@@ -19,7 +19,7 @@ describe("problem detail", () => {
     expect(byName.get("initial(x)")).toEqual({ kind: "initial", name: "initial(x)", tex: "x(t_{0})", lower: 0, upper: 0 });
     expect(byName.get("final(x)")).toEqual({ kind: "final", name: "final(x)", tex: "x(t_{f})", lower: 40, upper: 40 });
     expect(byName.get("final(v)")?.lower).toBe(0);
-  });
+  }, 180_000); // the first read starts a solver thread (seconds on a loaded machine)
 
   it("kestrel-2-ascent: the intermediate rho prints as ρ on its left-hand side too", async () => {
     const r = await getProblemDetail(getDb(), "kestrel-2-ascent");
