@@ -5,7 +5,7 @@ import { listProblemLibrary, saveUploadedProblem, submissionForm } from "~/model
 import { requireRole, requireUser } from "~/services/auth.server";
 import { busyResponse, readSubmissionOffThread, SolverPoolBusy } from "~/services/solver-pool.server";
 
-/** GET /api/problems[?tag=&q=] (viewer or token): the library with tags, provenance and each scheme's state on main. */
+/** GET /api/problems[?tag=&q=] (viewer or token): the library with tags, provenance and each scheme's state on main (problems compiled on a solver thread; 503 with Retry-After when its queue is full). */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
   const url = new URL(request.url);
