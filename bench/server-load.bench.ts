@@ -6,6 +6,12 @@
  *    they run, /api/health and the overview (/) are requested one after another. Prints their
  *    p50 / p95 / max latency, the same figures with the server idle, and p95 / 100 ms (the goal).
  *    A 150-state trial is posted too: it must be refused by the size check at once.
+ * 3. First reads of big uploaded problems (`--only views`): 4 problems within the trial size limits
+ *    that are slow to compile (40 states, nested intermediates, about 2 s of CPU each;
+ *    tests/helpers/load-problem.ts) are written to the server's uploaded folder and their pages
+ *    requested at once (each compiles on a solver thread); meanwhile /api/health and / are
+ *    requested one after another. Prints p50 / p95 / max, the idle figures, p95 / 100 ms, and the
+ *    solver-thread CPU the 4 compiles took (server process CPU during the reads, /proc).
  * 2. Many readers: 200 concurrent GETs of each heavy page (/compare, /problems, /), after one
  *    warm-up request. Prints p50 / p95 / max and p95 / 2 s (the goal).
  *
@@ -17,12 +23,13 @@
  */
 import fs from "node:fs";
 import os from "node:os";
-import { chainProblem } from "../tests/helpers/load-problem";
+import path from "node:path";
+import { chainProblem, nestedProblem } from "../tests/helpers/load-problem";
 import { startTestServer } from "../tests/helpers/server";
 
 const args = process.argv.slice(2);
 const dbTemplate = args.includes("--db") ? args[args.indexOf("--db") + 1] : undefined;
-/** `--only trials` or `--only pages` runs one part. */
+/** `--only trials`, `--only views` or `--only pages` runs one part. */
 const only = args.includes("--only") ? args[args.indexOf("--only") + 1] : undefined;
 const READERS = 200;
 const HEALTH_GOAL_MS = 100;
@@ -80,7 +87,7 @@ const fmt = (xs: number[]) => `${pct(xs, 50).toFixed(0).padStart(7)} ${pct(xs, 9
 
 try {
   // ---- 1. trial solves ------------------------------------------------------------------
-  if (only !== "pages") {
+  if (only === undefined || only === "trials") {
   const idle = { health: [] as number[], overview: [] as number[] };
   await timed("/api/health");
   await timed("/");
@@ -115,8 +122,58 @@ try {
     console.log(`   ${label.padEnd(28)} ${String(xs.length).padStart(4)} ${fmt(xs)} ${(pct(xs, 95) / HEALTH_GOAL_MS).toFixed(2).padStart(10)} ${label.includes("idle") ? loadIdle : loadTrials}`);
 
   }
+  // ---- 3. first reads of big uploaded problems -------------------------------------------
+  if (only === undefined || only === "views") {
+    const idle = { health: [] as number[], overview: [] as number[] };
+    await timed("/api/health");
+    await timed("/");
+    for (let i = 0; i < 20; i++) {
+      idle.health.push(await timed("/api/health"));
+      idle.overview.push(await timed("/"));
+    }
+    const loadIdle = load();
+    // the server's uploaded folder: problems/ beside its database (app/models/library.server.ts)
+    const uploads = path.join(path.dirname(server.dbFile), "problems");
+    const ids = [1, 2, 3, 4].map((i) => `load-nest-${i}`);
+    for (const [i, id] of ids.entries()) {
+      fs.mkdirSync(path.join(uploads, id), { recursive: true });
+      fs.writeFileSync(path.join(uploads, id, "problem.json"), nestedProblem(8, `Load nest ${i + 1}`));
+    }
+    const cpu0 = cpuMsOf(server.child.pid!);
+    let reading = true;
+    const reads = Promise.all(
+      ids.map(async (id) => {
+        const t0 = performance.now();
+        const r = await fetch(`${base}/problems/${id}`, { headers: { Cookie: cookie } });
+        const text = await r.text();
+        return { status: r.status, ms: performance.now() - t0, titled: text.includes("Load nest") };
+      }),
+    ).finally(() => (reading = false));
+    const loaded = { health: [] as number[], overview: [] as number[] };
+    await new Promise((r) => setTimeout(r, 100));
+    while (reading) {
+      loaded.health.push(await timed("/api/health"));
+      loaded.overview.push(await timed("/"));
+      await new Promise((r) => setTimeout(r, 50));
+    }
+    const loadReads = load();
+    const results = await reads;
+    const cpu = cpuMsOf(server.child.pid!) - cpu0;
+    const second = await Promise.all(ids.map((id) => timed(`/problems/${id}`)));
+    console.log(`\n3. Requests while 4 first reads of big uploaded problem pages compile (40 states, nested intermediates); ${os.availableParallelism()} cores, machine shared`);
+    console.log(`   first reads: ${results.map((r) => `${r.status}${r.titled ? "" : " (no title!)"} in ${(r.ms / 1000).toFixed(1)} s`).join("; ")}; server CPU meanwhile ${(cpu / 1000).toFixed(1)} s`);
+    console.log(`   second reads (from memory): ${second.map((ms) => `${ms.toFixed(0)} ms`).join(", ")}`);
+    console.log(`   ${"route".padEnd(28)} ${"n".padStart(4)} ${"p50 ms".padStart(7)} ${"p95 ms".padStart(7)} ${"max ms".padStart(7)} ${"p95/100ms".padStart(10)} ${"load".padStart(5)}`);
+    for (const [label, xs] of [
+      ["/api/health, idle", idle.health],
+      ["/api/health, 4 first reads", loaded.health],
+      ["/ (overview), idle", idle.overview],
+      ["/ (overview), 4 first reads", loaded.overview],
+    ] as const)
+      console.log(`   ${label.padEnd(28)} ${String(xs.length).padStart(4)} ${fmt(xs)} ${(pct(xs, 95) / HEALTH_GOAL_MS).toFixed(2).padStart(10)} ${label.includes("idle") ? loadIdle : loadReads}`);
+  }
   // ---- 2. many readers ------------------------------------------------------------------
-  if (only !== "trials") {
+  if (only === undefined || only === "pages") {
     // The same pages from a second server on a copy of the same data with the cache turned off
     // (ARCWATCH_PAGE_CACHE=0), measured right after, for the ratio.
     const uncached = await startTestServer({ dbTemplate, env: { ARCWATCH_JOB_WORKER: "0", ARCWATCH_PAGE_CACHE: "0" } });

@@ -15,6 +15,9 @@ export function ErrorView() {
     } else if (status === 404) {
       title = "Not found";
       detail = message ?? "There is nothing at this address.";
+    } else if (status === 503) {
+      title = "Busy right now";
+      detail = message ?? "The server is busy; try again in a moment.";
     } else {
       title = error.statusText || title;
       detail = message ?? detail;

@@ -1,22 +1,17 @@
 /**
  * One case result with everything the case page shows: all numbers, the NLP iteration log,
- * the recovered trajectory and the problem's reference trajectory (read from the problem
- * folder of this checkout when its version hash matches the case's, otherwise left out and
- * said so). Series are thinned to at most `MAX_POINTS` points for the charts.
+ * the recovered trajectory and the problem's reference trajectory (the problem as it is now in
+ * the library; a note says when its version differs from the case's). Series are thinned to at most `MAX_POINTS` points for the charts.
  */
 import { eq } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, runs, suites, timingSamples } from "~/db/schema";
-import { loadAnyProblem } from "./problems.server";
 import { SOLVED_STATUSES } from "~/runs/types";
 import { caseNumbers } from "~/runs/payload";
+import { outcomeMessage, problemReferenceSeries, SolverPoolBusy } from "~/services/problem-views.server";
+import { MAX_POINTS, thin, type Series } from "./problem-view";
 
-export const MAX_POINTS = 400;
-
-export interface Series {
-  t: number[];
-  columns: Record<string, number[]>;
-}
+export { MAX_POINTS, type Series };
 
 export interface CaseDetail {
   id: number;
@@ -43,14 +38,8 @@ export interface CaseTrajectory {
   referenceNote: string | null;
   stateNames: string[];
   controlNames: string[];
-}
-
-function thin(t: number[], columns: Record<string, number[]>): Series {
-  const n = t.length;
-  if (n <= MAX_POINTS) return { t, columns };
-  const step = (n - 1) / (MAX_POINTS - 1);
-  const idx = Array.from({ length: MAX_POINTS }, (_, i) => Math.round(i * step));
-  return { t: idx.map((i) => t[i]!), columns: Object.fromEntries(Object.entries(columns).map(([k, v]) => [k, idx.map((i) => v[i]!)])) };
+  /** The reference was left out because the solver threads were busy (do not keep this answer). */
+  referenceBusy?: true;
 }
 
 export function getCase(db: Db, id: number): CaseDetail | null {
@@ -89,42 +78,35 @@ export function getCase(db: Db, id: number): CaseDetail | null {
   };
 }
 
-const referenceCache = new Map<string, { hash: string; series: Series | null; states: string[]; controls: string[] } | null>();
-
-function referenceFor(problemId: string): { hash: string; series: Series | null; states: string[]; controls: string[] } | null {
-  if (referenceCache.has(problemId)) return referenceCache.get(problemId)!;
-  let out: { hash: string; series: Series | null; states: string[]; controls: string[] } | null = null;
-  try {
-    // The checkout's library first, then problems added from the browser (app/models/problems.server.ts).
-    const r = loadAnyProblem(problemId)?.result;
-    if (r?.ok) {
-      const tr = r.problem.reference.trajectory;
-      out = {
-        hash: r.problem.versionHash,
-        series: tr ? thin(Array.from(tr.t), Object.fromEntries(Object.entries(tr.columns).map(([k, v]) => [k, Array.from(v)]))) : null,
-        states: r.problem.states.map((s) => s.name),
-        controls: r.problem.controls.map((s) => s.name),
-      };
-    }
-  } catch {
-    out = null;
-  }
-  referenceCache.set(problemId, out);
-  return out;
-}
-
-export function getCaseTrajectory(db: Db, id: number): CaseTrajectory | null {
+/**
+ * The case's recovered trajectory and the problem's reference (compiled on a solver thread,
+ * app/services/problem-views.server.ts). With the solver queue full the case's own series are
+ * still returned, the reference left out and `referenceBusy` set.
+ */
+export async function getCaseTrajectory(db: Db, id: number): Promise<CaseTrajectory | null> {
   const row = db.select({ traj: caseResults.trajectoryJson, problemId: caseResults.problemId, hash: caseResults.problemVersionHash }).from(caseResults).where(eq(caseResults.id, id)).get();
   if (!row) return null;
   const tr = (row.traj ?? null) as { t?: number[]; states?: Record<string, number[]>; tu?: number[]; controls?: Record<string, number[]>; tLambda?: number[] | null; costates?: Record<string, number[]> | null } | null;
-  const ref = referenceFor(row.problemId);
   let referenceNote: string | null = null;
   let reference: Series | null = null;
-  if (!ref) referenceNote = `The problem ${row.problemId} is neither in this checkout's problems/ folder nor among the uploaded problems, so no reference is drawn.`;
-  else if (!ref.series) referenceNote = `The problem ${row.problemId} has no reference trajectory.`;
-  else {
-    reference = ref.series;
-    if (ref.hash !== row.hash) referenceNote = "The problem file changed since this case ran: the reference drawn is the current one.";
+  let referenceBusy = false;
+  let names: { states: string[]; controls: string[] } | null = null;
+  try {
+    const ref = await problemReferenceSeries(row.problemId);
+    if (!ref) referenceNote = `The problem ${row.problemId} is neither in this checkout's problems/ folder nor among the uploaded problems, so no reference is drawn.`;
+    else if (!ref.outcome.ok) referenceNote = `The problem ${row.problemId} does not compile as it is now (${outcomeMessage(ref.outcome).slice(0, 300)}), so no reference is drawn.`;
+    else {
+      names = { states: ref.outcome.view.stateNames, controls: ref.outcome.view.controlNames };
+      if (!ref.series) referenceNote = `The problem ${row.problemId} has no reference trajectory.`;
+      else {
+        reference = ref.series;
+        if (ref.outcome.view.versionHash !== row.hash) referenceNote = "The problem file changed since this case ran: the reference drawn is the current one.";
+      }
+    }
+  } catch (err) {
+    if (!(err instanceof SolverPoolBusy)) throw err;
+    referenceBusy = true;
+    referenceNote = "The server is busy with other solves, so the reference is not drawn this time; reload in a moment.";
   }
   return {
     solution: {
@@ -134,7 +116,8 @@ export function getCaseTrajectory(db: Db, id: number): CaseTrajectory | null {
     },
     reference,
     referenceNote,
-    stateNames: ref?.states ?? Object.keys(tr?.states ?? {}),
-    controlNames: ref?.controls ?? Object.keys(tr?.controls ?? {}),
+    stateNames: names?.states ?? Object.keys(tr?.states ?? {}),
+    controlNames: names?.controls ?? Object.keys(tr?.controls ?? {}),
+    ...(referenceBusy ? { referenceBusy: true as const } : {}),
   };
 }

@@ -11,11 +11,11 @@ import type { Db } from "~/db/client.server";
 import { libraryProblemsDir, uploadedProblemsDir, webProblemLibrary } from "./library.server";
 import { caseResults, problemVersions, runs } from "~/db/schema";
 import { compileProblemSource, type ProblemSourceFiles } from "~/engine/problem/compile";
-import type { ProblemError } from "~/engine/problem/errors";
-import { loadFromLibrary, loadProblemById, PROBLEM_ID_PATTERN } from "~/engine/problem/load";
-import type { CompiledProblem, Provenance } from "~/engine/problem/types";
+import { PROBLEM_ID_PATTERN } from "~/engine/problem/files";
 import { solveProblem } from "~/engine/solve";
-import { nameToTex, toTex } from "~/engine/expr/tex";
+import type { ProblemView, ProvenanceLine } from "./problem-view";
+export type { BoundRow, EndConditionRow, ProvenanceLine } from "./problem-view";
+import { outcomeMessage, problemView, problemViews, type ProblemOrigin } from "~/services/problem-views.server";
 import { BUILDER_FIELDS, buildProblemJson, builderFieldOf, describeBuilderError, errorsByField, uploadFieldOf, type BuilderOrigins } from "~/engine/problem/form";
 import { isSolved } from "~/runs/types";
 import { savePlanOf, type SavePlan } from "./problem-save.server";
@@ -31,40 +31,7 @@ export const MAX_REFERENCE_UPLOAD_BYTES = 4 * 1024 * 1024;
 
 export { libraryProblemsDir, uploadedProblemsDir };
 
-export type ProblemOrigin = "library" | "uploaded";
-
-/** Compiles a problem by id from the web library (the checkout first, then the uploaded folder). */
-export function loadAnyProblem(id: string): { origin: ProblemOrigin; result: ReturnType<typeof loadProblemById> } | null {
-  const lib = webProblemLibrary();
-  const i = lib.rootIndexOf(id);
-  if (i < 0) return null;
-  return { origin: i === 0 ? "library" : "uploaded", result: loadFromLibrary(lib, id) };
-}
-
-export interface ProvenanceLine {
-  quantity: string;
-  kind: string;
-  text: string;
-}
-
-function provenanceText(p: Provenance): string {
-  const parts = [("citation" in p && p.citation) || "", p.detail ?? ""].filter(Boolean);
-  if (p.kind === "shooting" && p.residual !== undefined) parts.push(`residual ${p.residual.toExponential(1)}`);
-  return parts.join(" — ");
-}
-
-export function referenceProvenance(p: CompiledProblem): ProvenanceLine[] {
-  const r = p.reference;
-  const out: ProvenanceLine[] = [];
-  const add = (quantity: string, prov: Provenance | undefined) => {
-    if (prov) out.push({ quantity, kind: prov.kind, text: provenanceText(prov) });
-  };
-  add("objective", r.objective?.provenance);
-  add("final time", r.finalTime?.provenance);
-  add("switching times", r.switchingTimes?.provenance);
-  add("trajectory", r.trajectory?.provenance);
-  return out;
-}
+export type { ProblemOrigin };
 
 export interface SchemeState {
   cases: number;
@@ -120,33 +87,39 @@ function schemeStatesOnMain(db: Db, problemId?: string): Map<string, Partial<Rec
   return out;
 }
 
-function formatErrors(errors: ProblemError[]): string {
-  return errors
-    .slice(0, 3)
-    .map((e) => `${e.path ? `${e.path}: ` : ""}${e.message}`)
-    .join("; ");
-}
-
 /** Problems in the library: the checkout's folders plus those added in Arcwatch (no compilation). */
 export function libraryProblemCount(): number {
   return webProblemLibrary().ids().length;
 }
 
-/** Every problem of the checkout and every uploaded one (a checkout problem wins on a shared id). */
+/** Id and title of every problem, from the files as the schema reads them (no compilation; the compare page's picker). */
+export function libraryProblemTitles(): { id: string; title: string }[] {
+  const library = webProblemLibrary();
+  return library
+    .ids()
+    .sort((a, b) => library.rootIndexOf(a) - library.rootIndexOf(b) || (a < b ? -1 : a > b ? 1 : 0))
+    .map((id) => ({ id, title: library.facts(id)?.title ?? id }));
+}
 
-export function listProblemLibrary(db: Db, filter: { tag?: string; q?: string } = {}): LibraryEntry[] {
-  const states = schemeStatesOnMain(db);
-  const entries: LibraryEntry[] = [];
+/**
+ * Every problem of the checkout and every uploaded one (a checkout problem wins on a shared id),
+ * each compiled on a solver thread (app/services/problem-views.server.ts; kept by content, so
+ * only new or edited files are compiled). Throws SolverPoolBusy when the solver queue is full.
+ */
+export async function listProblemLibrary(db: Db, filter: { tag?: string; q?: string } = {}): Promise<LibraryEntry[]> {
   const library = webProblemLibrary();
   // The checkout's problems first, then the uploaded ones, each alphabetically.
   const ids = library.ids().sort((a, b) => library.rootIndexOf(a) - library.rootIndexOf(b) || (a < b ? -1 : a > b ? 1 : 0));
+  const views = await problemViews(ids, { library });
+  const states = schemeStatesOnMain(db);
+  const entries: LibraryEntry[] = [];
   for (const id of ids) {
-    const loaded = loadAnyProblem(id);
+    const loaded = views.get(id);
     if (!loaded) continue;
-    const r = loaded.result;
+    const o = loaded.outcome;
     const base = { id, origin: loaded.origin, schemes: states.get(id) ?? {} };
-    if (r.ok) entries.push({ ...base, title: r.problem.title, tags: r.problem.tags, provenance: referenceProvenance(r.problem), error: null });
-    else entries.push({ ...base, title: id, tags: [], provenance: [], error: formatErrors(r.errors) });
+    if (o.ok) entries.push({ ...base, title: o.view.title, tags: o.view.tags, provenance: o.view.provenance, error: null });
+    else entries.push({ ...base, title: id, tags: [], provenance: [], error: outcomeMessage(o) });
   }
   const q = filter.q?.trim().toLowerCase();
   return entries.filter((e) => (!filter.tag || e.tags.includes(filter.tag)) && (!q || e.id.includes(q) || e.title.toLowerCase().includes(q)));
@@ -195,67 +168,25 @@ export function bestResultsPerScheme(db: Db, problemId: string): BestResult[] {
   return SCHEMES.filter((s) => best.has(s)).map((s) => best.get(s)!);
 }
 
-export interface BoundRow {
-  name: string;
-  kind: "state" | "control" | "path";
-  unit: string;
-  lower: number | null;
-  upper: number | null;
-  tex?: string;
-}
-
-export interface ProblemDetail {
-  id: string;
+/** The problem page: the compiled problem's view (./problem-view.ts) and what the database holds about it. */
+export interface ProblemDetail extends ProblemView {
   origin: ProblemOrigin;
-  title: string;
-  description: string;
-  tags: string[];
-  versionHash: string;
-  sense: "min" | "max";
-  horizon: CompiledProblem["horizon"];
-  /** TeX per JSON path of the file ("dynamics.v", "path[0].expr", "objective.terminal", ...). */
-  tex: Record<string, string>;
-  stateNames: string[];
-  controlNames: string[];
-  constants: { name: string; value: number }[];
-  bounds: BoundRow[];
-  reference: {
-    objective: { value: number; tolerance: number } | null;
-    finalTime: { value: number; tolerance: number } | null;
-    switchingTimes: number[] | null;
-    arcs: string[] | null;
-    trajectoryPoints: number | null;
-  };
-  provenance: ProvenanceLine[];
-  warnings: string[];
   best: BestResult[];
   versions: { id: number; contentHash: string; createdAt: number; results: number }[];
   states: Partial<Record<string, SchemeState>>;
-  /**
-   * Initial and final conditions and the general endpoint constraints, in the compiled order:
-   * `tex` is the constrained expression (x(t_0), x(t_f) or the constraint's expression), with
-   * its bounds (equal bounds: a fixed value).
-   */
-  endConditions: EndConditionRow[];
-  /** TeX of each declared name (states, controls, constants, intermediates), as the equations print it. */
-  names: Record<string, string>;
 }
 
-export interface EndConditionRow {
-  kind: "initial" | "final" | "endpoint";
-  name: string;
-  tex: string;
-  lower: number | null;
-  upper: number | null;
-}
-
-const finite = (v: number) => (Number.isFinite(v) ? v : null);
-
-export function getProblemDetail(db: Db, id: string): { ok: true; detail: ProblemDetail } | { ok: false; status: 404 | 422; message: string } {
-  const loaded = loadAnyProblem(id);
+/**
+ * The problem page's data. The problem is compiled on a solver thread (never here) and its view
+ * kept by content; a compile error is a 422 naming file, field and column, a compile stopped by
+ * the wall limit a 422 saying so. Throws SolverPoolBusy when the solver queue is full.
+ */
+export async function getProblemDetail(db: Db, id: string): Promise<{ ok: true; detail: ProblemDetail } | { ok: false; status: 404 | 422; message: string }> {
+  const loaded = await problemView(id);
   if (!loaded) return { ok: false, status: 404, message: `No problem '${id.slice(0, 80)}' in the library.` };
-  if (!loaded.result.ok) return { ok: false, status: 422, message: `The problem file does not compile: ${formatErrors(loaded.result.errors)}` };
-  const p = loaded.result.problem;
+  const o = loaded.outcome;
+  if (!o.ok) return { ok: false, status: 422, message: o.reason === "errors" ? `The problem file does not compile: ${outcomeMessage(o)}` : outcomeMessage(o) };
+  const view = o.view;
   const versions = db
     .select({ id: problemVersions.id, contentHash: problemVersions.contentHash, createdAt: problemVersions.createdAt })
     .from(problemVersions)
@@ -271,54 +202,16 @@ export function getProblemDetail(db: Db, id: string): { ok: true; detail: Proble
       .all()
       .map((r) => [r.hash, Number(r.n)]),
   );
-  const r = p.reference;
   const detail: ProblemDetail = {
+    ...view,
     id,
     origin: loaded.origin,
-    title: p.title,
-    description: p.description,
-    tags: p.tags,
-    versionHash: p.versionHash,
-    sense: p.sense,
-    horizon: p.horizon,
-    tex: p.symbolic.tex,
-    stateNames: p.states.map((s) => s.name),
-    controlNames: p.controls.map((c) => c.name),
-    constants: Object.entries(p.constants).map(([name, value]) => ({ name, value })),
-    bounds: [
-      ...p.states.map((s) => ({ name: s.name, kind: "state" as const, unit: s.unit, lower: finite(s.lower), upper: finite(s.upper) })),
-      ...p.controls.map((c) => ({ name: c.name, kind: "control" as const, unit: c.unit, lower: finite(c.lower), upper: finite(c.upper) })),
-      ...p.pathInfo.map((c, k) => ({ name: c.name, kind: "path" as const, unit: "", lower: finite(c.lower), upper: finite(c.upper), tex: p.symbolic.tex[`path[${k}].expr`] })),
-    ],
-    reference: {
-      objective: r.objective ? { value: r.objective.value, tolerance: r.objective.tolerance } : null,
-      finalTime: r.finalTime ? { value: r.finalTime.value, tolerance: r.finalTime.tolerance } : null,
-      switchingTimes: r.switchingTimes?.values ?? null,
-      arcs: r.arcs ?? null,
-      trajectoryPoints: r.trajectory ? r.trajectory.t.length : null,
-    },
-    provenance: referenceProvenance(p),
-    warnings: p.warnings,
     best: bestResultsPerScheme(db, id),
     versions: versions.map((v) => ({ id: v.id, contentHash: v.contentHash, createdAt: new Date(v.createdAt).getTime(), results: counts.get(v.contentHash) ?? 0 })),
     states: schemeStatesOnMain(db, id).get(id) ?? {},
-    endConditions: p.endpointInfo.map((info, k): EndConditionRow => {
-      const node = p.symbolic.endpoint?.[k];
-      const kind = info.name.startsWith("initial(") ? "initial" : info.name.startsWith("final(") ? "final" : "endpoint";
-      let tex = info.name;
-      try {
-        if (node) tex = toTex(node);
-      } catch {
-        /* keep the name */
-      }
-      return { kind, name: info.name, tex, lower: finite(info.lower), upper: finite(info.upper) };
-    }),
-    names: Object.fromEntries(
-      [...p.states.map((s) => s.name), ...p.controls.map((c) => c.name), ...Object.keys(p.constants), ...Object.keys(p.symbolic.tex).filter((k) => k.startsWith("intermediates.")).map((k) => k.slice("intermediates.".length))].map((n) => [n, nameToTex(n)]),
-    ),
   };
-  if (!versions.some((v) => v.contentHash === p.versionHash)) {
-    detail.versions.unshift({ id: 0, contentHash: p.versionHash, createdAt: 0, results: counts.get(p.versionHash) ?? 0 });
+  if (!versions.some((v) => v.contentHash === view.versionHash)) {
+    detail.versions.unshift({ id: 0, contentHash: view.versionHash, createdAt: 0, results: counts.get(view.versionHash) ?? 0 });
   }
   return { ok: true, detail };
 }

@@ -15,7 +15,7 @@ import { abOfRegression } from "./ab-checks.server";
 import { parseGroupKey } from "~/runs/pooled";
 import { getCaseTrajectory, type CaseTrajectory } from "~/models/cases.server";
 import { repoRoot } from "~/services/git.server";
-import { loadAnyProblem } from "./problems.server";
+import { webProblemLibrary } from "./library.server";
 
 /** The problem of a case key; a problem group's problem; the group key itself for other groups. */
 export function problemOfCaseKey(key: string): string {
@@ -167,7 +167,7 @@ export interface RegressionDetail {
   subscribed: boolean;
 }
 
-function sideCase(db: Db, runId: string | null, caseKey: string): SideCase | null {
+async function sideCase(db: Db, runId: string | null, caseKey: string): Promise<SideCase | null> {
   if (!runId) return null;
   // only the columns shown: the full rows carry JSON (iteration log, machine) parsed for nothing
   const row = db
@@ -183,7 +183,7 @@ function sideCase(db: Db, runId: string | null, caseKey: string): SideCase | nul
   const samples = db.select({ s: timingSamples.samplesJson }).from(timingSamples).where(eq(timingSamples.caseResultId, row.c.id)).get()?.s ?? [];
   let trajectory: CaseTrajectory | null = null;
   try {
-    trajectory = getCaseTrajectory(db, row.c.id);
+    trajectory = await getCaseTrajectory(db, row.c.id);
   } catch {
     trajectory = null;
   }
@@ -204,7 +204,8 @@ function sideCase(db: Db, runId: string | null, caseKey: string): SideCase | nul
   };
 }
 
-export function getRegressionDetail(db: Db, id: number, viewerId: number): RegressionDetail | null {
+/** The regression page's data; the sides' trajectories need the problem's reference (compiled on a solver thread). */
+export async function getRegressionDetail(db: Db, id: number, viewerId: number): Promise<RegressionDetail | null> {
   const [item] = listRegressionsById(db, [id]);
   const r = db.select().from(regressions).where(eq(regressions.id, id)).get();
   if (!item || !r) return null;
@@ -246,12 +247,13 @@ export function getRegressionDetail(db: Db, id: number, viewerId: number): Regre
     .orderBy(asc(runs.startedAt))
     .all()
     .map(({ s, subject }) => ({ runId: s.runId, commitHash: s.commitHash, commitSubject: subject, ratio: s.ratio, ciLow: s.ciLow, ciHigh: s.ciHigh, at: new Date(s.seenAt).getTime() }));
+  const [before, after] = [await sideCase(db, r.baselineRunId, r.caseKey), await sideCase(db, r.runId, r.caseKey)];
   return {
     regression: { ...item, ciLow: r.ciLow, ciHigh: r.ciHigh, reason: r.reason, fixingCommit: r.fixingCommit, assigneeId: r.assigneeId, baselineRunId: r.baselineRunId },
     members,
     sightings,
-    before: sideCase(db, r.baselineRunId, r.caseKey),
-    after: sideCase(db, r.runId, r.caseKey),
+    before,
+    after,
     events,
     comments: cs,
     assignable,
@@ -432,6 +434,12 @@ export function addRegressionComment(db: Db, id: number, userId: number, body: s
   return true;
 }
 
+/** The problem a regression is about (from its case key), without the rest of the detail; null for an unknown id. */
+export function problemOfRegression(db: Db, id: number): string | null {
+  const r = db.select({ caseKey: regressions.caseKey }).from(regressions).where(eq(regressions.id, id)).get();
+  return r ? problemOfCaseKey(r.caseKey) : null;
+}
+
 /** Subscribes (or not) a user to e-mail about regressions on one problem (the runner's alerts read it). */
 export function setProblemSubscription(db: Db, userId: number, problemId: string, on: boolean): boolean {
   if (!on) {
@@ -439,9 +447,9 @@ export function setProblemSubscription(db: Db, userId: number, problemId: string
     return true;
   }
   if (!db.select({ id: problems.id }).from(problems).where(eq(problems.id, problemId)).get()) {
-    const loaded = loadAnyProblem(problemId);
-    if (!loaded || !loaded.result.ok) return false;
-    const p = loaded.result.problem;
+    // title, description and tags as the schema reads the file, as the recorder stores them (no compiling)
+    const p = webProblemLibrary().facts(problemId);
+    if (!p) return false;
     db.insert(problems).values({ id: problemId, title: p.title, description: p.description, tagsJson: p.tags }).onConflictDoNothing().run();
   }
   db.insert(subscriptions).values({ userId, problemId }).onConflictDoNothing().run();

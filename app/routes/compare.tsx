@@ -5,7 +5,8 @@ import { CheapestTable, CompareViews, SourcesTable, sourceLabel } from "~/compon
 import { RouteErrorBoundary } from "~/components/ErrorView";
 import { getDb } from "~/db/client.server";
 import { parseCompareQuery } from "~/models/compare.server";
-import { cachedCompare, cachedComparableCommits, cachedProblemLibrary } from "~/services/data-cache.server";
+import { cachedCompare, cachedComparableCommits } from "~/services/data-cache.server";
+import { libraryProblemTitles } from "~/models/problems.server";
 import { requireUser } from "~/services/auth.server";
 import { refinementCostForRuns } from "~/models/refinement-cost.server";
 import { RefinementCostPanel } from "~/components/compare/RefinementCostPanel";
@@ -19,7 +20,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const db = getDb();
   const q = parseCompareQuery(new URL(request.url).searchParams);
   const result = cachedCompare(db, q);
-  return { result, commits: cachedComparableCommits(db), problems: cachedProblemLibrary(db).map((p) => ({ id: p.id, title: p.title })), refinement: refinementCostForRuns(db, result.a.runIds, q.problem, SCHEMES) };
+  return { result, commits: cachedComparableCommits(db), problems: libraryProblemTitles(), refinement: refinementCostForRuns(db, result.a.runIds, q.problem, SCHEMES) };
 }
 
 /**

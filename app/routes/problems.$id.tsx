@@ -17,13 +17,27 @@ import { getProblemDetail } from "~/models/problems.server";
 import { SCHEMES } from "~/components/problems/schemes";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
+import { busyPage, SolverPoolBusy } from "~/services/solver-pool.server";
+
+/** A refusal's Retry-After (solver threads busy) reaches the browser with the error page. */
+export const headers: Route.HeadersFunction = ({ errorHeaders }) => {
+  const retry = errorHeaders?.get("Retry-After");
+  return retry ? { "Retry-After": retry } : new Headers();
+};
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.detail.title ?? "Problem"} · Arcwatch` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
   const db = getDb();
-  const r = getProblemDetail(db, params.id);
+  let r;
+  try {
+    // compiled on a solver thread and kept by content (app/services/problem-views.server.ts)
+    r = await getProblemDetail(db, params.id);
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) throw busyPage(err);
+    throw err;
+  }
   if (!r.ok) throw data({ message: r.message }, { status: r.status });
   const engineer = roleAtLeast(user.role, "engineer");
   return {

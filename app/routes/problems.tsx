@@ -7,6 +7,13 @@ import { cachedProblemLibrary } from "~/services/data-cache.server";
 import { SCHEMES } from "~/components/problems/schemes";
 import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
+import { busyPage, SolverPoolBusy } from "~/services/solver-pool.server";
+
+/** A refusal's Retry-After (solver threads busy) reaches the browser with the error page. */
+export const headers: Route.HeadersFunction = ({ errorHeaders }) => {
+  const retry = errorHeaders?.get("Retry-After");
+  return retry ? { "Retry-After": retry } : new Headers();
+};
 
 export const meta: Route.MetaFunction = () => [{ title: "Problem library · Arcwatch" }];
 
@@ -15,7 +22,14 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const tag = url.searchParams.get("tag") ?? undefined;
   const q = url.searchParams.get("q") ?? undefined;
-  const all = cachedProblemLibrary(getDb());
+  let all;
+  try {
+    // each problem compiled on a solver thread, kept by content (app/services/problem-views.server.ts)
+    all = await cachedProblemLibrary(getDb());
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) throw busyPage(err);
+    throw err;
+  }
   const tags = [...new Set(all.flatMap((p) => p.tags))].sort();
   const entries = all.filter((e) => (!tag || e.tags.includes(tag)) && (!q || e.id.includes(q.toLowerCase()) || e.title.toLowerCase().includes(q.toLowerCase())));
   return { entries, tags, canAdd: roleAtLeast(user.role, "engineer") };

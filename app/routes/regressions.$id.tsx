@@ -11,7 +11,7 @@ import { requireUser } from "~/services/auth.server";
 import { roleAtLeast } from "~/services/roles";
 import { METRICS, TONE_CLASS, directionOf, kindLabel, metricAxisLabel, metricLabel, statusLabel, statusTone } from "~/vocabulary";
 import { DemoBadge } from "~/components/Caution";
-import { cachedByData, PROBLEM_FILES_MAX_AGE_MS } from "~/services/data-cache.server";
+import { cachedByDataAsync, PROBLEM_FILES_MAX_AGE_MS } from "~/services/data-cache.server";
 import { AbPanel } from "~/components/regressions/AbPanel";
 import { abChecksOfRegression } from "~/models/ab-checks.server";
 
@@ -22,7 +22,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const id = Number(params.id);
   const db = getDb();
   // once per data version (any write, a sign-in included, recomputes it): app/services/data-cache.server.ts
-  const detail = Number.isInteger(id) ? cachedByData(db, "regression-detail", `${id}:${user.id}`, () => getRegressionDetail(db, id, user.id), PROBLEM_FILES_MAX_AGE_MS) : null;
+  const detail = Number.isInteger(id) ? await cachedByDataAsync(db, "regression-detail", `${id}:${user.id}`, () => getRegressionDetail(db, id, user.id), PROBLEM_FILES_MAX_AGE_MS, (d) => !d?.before?.trajectory?.referenceBusy && !d?.after?.trajectory?.referenceBusy) : null;
   if (!detail) throw data({ message: "No such regression." }, { status: 404 });
   // Demo commits are invented: asking git about them only costs time (100–600 ms measured).
   const between = detail.regression.isDemo ? { commits: [], note: "Demo data: these commits are invented and are in no repository." } : await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);

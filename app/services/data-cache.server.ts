@@ -10,8 +10,9 @@
  * Entries whose computation also reads files (the problem library) carry a maximum age too,
  * so an edited problems/ folder is seen within PROBLEM_FILES_MAX_AGE_MS.
  *
- * Concurrent readers of a missing entry on this thread compute it once: the computations are
- * synchronous (better-sqlite3), so the first request fills the entry before the next runs.
+ * Concurrent readers of a missing entry on this thread compute it once: the synchronous
+ * computations (better-sqlite3) fill the entry before the next request runs; the ones that
+ * await a solver thread (`cachedByDataAsync`) share one promise.
  * Cached values are shared between requests: callers must not mutate them.
  */
 import type { Db } from "~/db/client.server";
@@ -62,6 +63,46 @@ export function cachedByData<T>(db: Db, name: string, key: string, compute: () =
   return value;
 }
 
+/**
+ * `cachedByData` for a computation that awaits (work on a solver thread). The entry is keyed by
+ * the version read BEFORE the computation: a write while it awaited makes the entry too old to
+ * hit, never a stale hit. Concurrent readers of a missing entry share one computation. A value
+ * for which `keep` says false is returned but not kept (e.g. a part left out while the solver
+ * threads were busy).
+ */
+export async function cachedByDataAsync<T>(db: Db, name: string, key: string, compute: () => Promise<T>, maxAgeMs = Infinity, keep: (value: T) => boolean = () => true): Promise<T> {
+  if (process.env.ARCWATCH_PAGE_CACHE === "0") return compute();
+  let cache = caches.get(name);
+  if (!cache) caches.set(name, (cache = new Map()));
+  const version = dataVersion(db);
+  const now = Date.now();
+  const hit = cache.get(key);
+  if (hit && hit.version === version && now - hit.at <= maxAgeMs) {
+    cache.delete(key);
+    cache.set(key, hit);
+    hits++;
+    return hit.value as T;
+  }
+  const flightKey = `${name}\n${key}\n${version}`;
+  const flying = inflight.get(flightKey);
+  if (flying) return flying as Promise<T>;
+  misses++;
+  const p = compute().then((value) => {
+    if (keep(value)) {
+      cache.set(key, { version, at: now, value });
+      while (cache.size > MAX_ENTRIES) cache.delete(cache.keys().next().value!);
+    }
+    return value;
+  });
+  inflight.set(flightKey, p);
+  void p.then(
+    () => inflight.delete(flightKey),
+    () => inflight.delete(flightKey),
+  );
+  return p;
+}
+const inflight = new Map<string, Promise<unknown>>();
+
 export function cacheStats() {
   return { hits, misses, entries: [...caches.values()].reduce((n, c) => n + c.size, 0) };
 }
@@ -72,8 +113,9 @@ export function clearDataCache(): void {
 
 // ---- the cached reads of the heavy pages ---------------------------------------------------
 
+/** The problem list (problems compiled on a solver thread; throws SolverPoolBusy when its queue is full). */
 export function cachedProblemLibrary(db: Db): ReturnType<typeof listProblemLibrary> {
-  return cachedByData(db, "problem-library", "", () => listProblemLibrary(db), PROBLEM_FILES_MAX_AGE_MS);
+  return cachedByDataAsync(db, "problem-library", "", () => listProblemLibrary(db), PROBLEM_FILES_MAX_AGE_MS);
 }
 
 export function cachedCompare(db: Db, q: CompareQuery): ReturnType<typeof compare> {

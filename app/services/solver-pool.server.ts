@@ -9,6 +9,9 @@
  * - Hard wall-clock limit per task, from the moment a thread takes it: past it the thread is
  *   terminated (`Worker.terminate()` stops it even inside a numeric loop) and replaced; the
  *   task resolves with a `timeout` outcome. The solver's own time limit covers iterations only.
+ *   A task made of several items (the problem views) posts a `partial` answer per item but the
+ *   last (the result); each restarts the clock, so the limit holds per item and a slow item
+ *   stops only the items after it.
  * - Memory: each thread's heap is capped (resourceLimits), so one huge problem cannot take
  *   the server down; a thread that dies reports its task as failed.
  *
@@ -22,11 +25,13 @@ import path from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
 import { data } from "react-router";
+import type { ProblemViewRequest } from "~/models/problem-view";
 import { TRIAL_MAX_SECONDS, type Submission, type TrialResult } from "~/models/problems.server";
 
 export type SolverTask =
   | { kind: "submission"; form: SerializedForm; fixedId?: string }
-  | { kind: "trial"; form: SerializedForm; scheme: string; intervals: number };
+  | { kind: "trial"; form: SerializedForm; scheme: string; intervals: number }
+  | { kind: "problem-views"; items: ProblemViewRequest[] };
 
 /** A form's entries in a shape that crosses to a thread: strings, and files as bytes. */
 export type SerializedForm = [string, string | { name: string; type: string; bytes: Uint8Array }][];
@@ -42,6 +47,11 @@ export class SolverPoolBusy extends Error {
 /** A 503 answer for a full queue (JSON on the API). */
 export function busyResponse(err: SolverPoolBusy): Response {
   return Response.json({ error: err.message }, { status: 503, headers: { "Retry-After": String(err.retryAfterSeconds) } });
+}
+
+/** A 503 for a page's loader to throw: the error page says why, and Retry-After goes out with it (the route's `headers` passes `errorHeaders` on). */
+export function busyPage(err: SolverPoolBusy) {
+  return data({ message: err.message }, { status: 503, headers: { "Retry-After": String(err.retryAfterSeconds) } });
 }
 
 /** A 503 answer for a page's form: the message at the form, what was typed kept (files' names dropped). */
@@ -82,6 +92,7 @@ interface Pending {
   task: SolverTask;
   timeoutMs: number;
   resolve: (o: TaskOutcome<unknown>) => void;
+  onPartial?: (value: unknown) => void;
 }
 
 let nextId = 1;
@@ -100,14 +111,18 @@ class SolverPool {
     return { size: this.size, busy: this.slots.filter((s) => s.busy).length, queued: this.queue.length, maxQueue: this.maxQueue };
   }
 
-  run<T>(task: SolverTask, timeoutMs: number): Promise<TaskOutcome<T>> {
+  /**
+   * Runs `task` on a thread. `onPartial` receives each partial answer of a task of several items
+   * (each restarts the wall-clock limit). Throws SolverPoolBusy at once when the queue is full.
+   */
+  run<T>(task: SolverTask, timeoutMs: number, onPartial?: (value: unknown) => void): Promise<TaskOutcome<T>> {
     const idle = this.idleSlot();
     if (!idle && this.queue.length >= this.maxQueue) {
       // A rough wait: the queue ahead, one task per thread at a time, about 10 s each (common practice, no source).
       throw new SolverPoolBusy(Math.max(5, Math.ceil(((this.queue.length + 1) / this.size) * 10)));
     }
     return new Promise((resolve) => {
-      const pending: Pending = { task, timeoutMs, resolve: resolve as (o: TaskOutcome<unknown>) => void };
+      const pending: Pending = { task, timeoutMs, resolve: resolve as (o: TaskOutcome<unknown>) => void, ...(onPartial ? { onPartial } : {}) };
       if (idle) this.dispatch(idle, pending);
       else this.queue.push(pending);
     });
@@ -171,9 +186,19 @@ class SolverPool {
       pending.resolve(outcome);
       this.drain();
     };
+    const startClock = () => {
+      if (timer) clearTimeout(timer);
+      timer = setTimeout(
+        () => finish({ ok: false, reason: "timeout", message: `Stopped after ${Math.round(pending.timeoutMs / 1000)} s, the limit for work done for a web request.` }, false),
+        pending.timeoutMs,
+      );
+    };
     const onMessage = (m: { type: string; id?: number; value?: unknown; message?: string }) => {
-      if (m.id !== id) return;
-      if (m.type === "result") finish({ ok: true, value: m.value }, true);
+      if (m.id !== id || settled) return;
+      if (m.type === "partial") {
+        startClock();
+        pending.onPartial?.(m.value);
+      } else if (m.type === "result") finish({ ok: true, value: m.value }, true);
       else if (m.type === "failed") finish({ ok: false, reason: "crashed", message: m.message ?? "The solver thread failed." }, true);
     };
     const onError = (e: Error) => finish({ ok: false, reason: "crashed", message: `The solver thread failed: ${e.message}` }, false);
@@ -184,10 +209,7 @@ class SolverPool {
     slot.ready.then(
       () => {
         if (settled) return;
-        timer = setTimeout(
-          () => finish({ ok: false, reason: "timeout", message: `Stopped after ${Math.round(pending.timeoutMs / 1000)} s, the limit for work done for a web request.` }, false),
-          pending.timeoutMs,
-        );
+        startClock();
         slot.worker.postMessage({ type: "task", id, task: pending.task });
       },
       (err: Error) => finish({ ok: false, reason: "crashed", message: `The solver thread could not start: ${err.message}` }, false),

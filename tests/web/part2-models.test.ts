@@ -168,7 +168,7 @@ describe("adding a problem", () => {
     expect(second.ok && second.newVersion).toBe(true);
     if (!second.ok) return;
     expect(second.versionHash).not.toBe(first.versionHash);
-    const detail = problemsModel.getProblemDetail(db, "plover-cart");
+    const detail = await problemsModel.getProblemDetail(db, "plover-cart");
     expect(detail.ok).toBe(true);
     if (!detail.ok) return;
     expect(detail.detail.title).toBe("Plover cart (edited)");
@@ -181,13 +181,13 @@ describe("adding a problem", () => {
     expect(refs[0]!.provenanceJson).toEqual({ objective: { kind: "analytic", detail: "u = 6 − 12t" } });
     expect(detail.detail.best[0]).toMatchObject({ scheme: "hermite-simpson", intervals: 10 });
 
-    const lib = problemsModel.listProblemLibrary(db);
+    const lib = await problemsModel.listProblemLibrary(db);
     const entry = lib.find((e) => e.id === "plover-cart");
     expect(entry).toMatchObject({ origin: "uploaded", tags: ["smooth", "plover-test-tag"] });
     expect(entry!.schemes["hermite-simpson"]).toMatchObject({ cases: 1, solved: 1, bestErrorRel: 1e-7 });
     expect(lib.some((e) => e.id === "pika-rover-dash" && e.origin === "library")).toBe(true);
     expect(problemsModel.saveUploadedProblem(db, "pika-rover-dash", files, "create")).toMatchObject({ ok: false, idError: expect.stringMatching(/checkout's library/) });
-  });
+  }, 180_000); // the detail and the list start a solver thread (seconds on a loaded machine)
 
   it("the runner's library includes the uploaded problem, selected by its tag", () => {
     // One place computes the uploaded folder, for the pages and the runner alike.
@@ -276,13 +276,13 @@ describe("roles on part 2 routes", () => {
     expect(await statusOf(api.action(args(formPost(`${BASE}/api/regressions/${reg.id}`, { intent: "expected", reason: " " }, { Cookie: cookies.engineer! }))))).toBe(400);
     expect(await statusOf(api.action(args(formPost(`${BASE}/api/regressions/${reg.id}`, { intent: "expected", reason: "New line search trades time for robustness." }, { Cookie: cookies.engineer! }))))).toBe(200);
     expect(triageRegression(db, reg.id, ids.engineer!, { intent: "assign", assigneeId: ids.viewer! })).toMatchObject({ ok: false, errors: { assigneeId: expect.any(String) } });
-    const d = getRegressionDetail(db, reg.id, ids.viewer!)!;
+    const d = (await getRegressionDetail(db, reg.id, ids.viewer!))!;
     expect(d.regression.status).toBe("expected");
     expect(d.events.at(-1)).toMatchObject({ user: "engineer person", fromStatus: "open", toStatus: "expected", note: "Marked expected: New line search trades time for robustness." });
     expect(d.comments).toMatchObject([{ user: "viewer person", body: "Seen it too." }]);
     expect(d.before?.runId).toBe("run-old");
     expect(listRegressions(db, { status: "expected", limit: 10 }).map((r) => r.id)).toEqual([reg.id]);
     expect(await statusOf(api.action(args(formPost(`${BASE}/api/regressions/${reg.id}`, { intent: "subscribe" }, { Cookie: cookies.viewer! }))))).toBe(200);
-    expect(getRegressionDetail(db, reg.id, ids.viewer!)!.subscribed).toBe(true);
+    expect((await getRegressionDetail(db, reg.id, ids.viewer!))!.subscribed).toBe(true);
   });
 });

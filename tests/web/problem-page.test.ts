@@ -12,17 +12,17 @@ const { getProblemDetail, readProblemSubmission } = await import("~/models/probl
 const { emptyBuilderValues } = await import("~/components/problems/form-model");
 
 describe("problem detail", () => {
-  it("pika-rover-dash: x(0) = 0 and x(t_f) = 40, as in problems/pika-rover-dash/problem.json", () => {
-    const r = getProblemDetail(getDb(), "pika-rover-dash");
+  it("pika-rover-dash: x(0) = 0 and x(t_f) = 40, as in problems/pika-rover-dash/problem.json", async () => {
+    const r = await getProblemDetail(getDb(), "pika-rover-dash");
     if (!r.ok) throw new Error(r.message);
     const byName = new Map(r.detail.endConditions.map((c) => [c.name, c]));
     expect(byName.get("initial(x)")).toEqual({ kind: "initial", name: "initial(x)", tex: "x(t_{0})", lower: 0, upper: 0 });
     expect(byName.get("final(x)")).toEqual({ kind: "final", name: "final(x)", tex: "x(t_{f})", lower: 40, upper: 40 });
     expect(byName.get("final(v)")?.lower).toBe(0);
-  });
+  }, 180_000); // the first read starts a solver thread (seconds on a loaded machine)
 
-  it("kestrel-2-ascent: the intermediate rho prints as ρ on its left-hand side too", () => {
-    const r = getProblemDetail(getDb(), "kestrel-2-ascent");
+  it("kestrel-2-ascent: the intermediate rho prints as ρ on its left-hand side too", async () => {
+    const r = await getProblemDetail(getDb(), "kestrel-2-ascent");
     if (!r.ok) throw new Error(r.message);
     expect(r.detail.names.rho).toBe("\\rho");
     expect(r.detail.tex["dynamics.v"]).toContain("D"); // the drag intermediate appears by name

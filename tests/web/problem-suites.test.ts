@@ -67,7 +67,7 @@ describe("suite changes from the problem page", () => {
     expect((await act(engineer, { intent: "remove-from-suite", suite: "quick" })).status).toBe(302);
     expect(listSuiteChanges(db, "quick").map((c) => [c.version, c.action])).toEqual([[1, "add"], [2, "remove"]]);
     expect(await quickView()).toMatchObject({ included: false, via: "removed" });
-  });
+  }, 180_000); // the page's loader starts a solver thread (seconds on a loaded machine)
 
   it("Run it now queues the problem's own suite (viewer refused)", async () => {
     expect((await act(viewer, { intent: "run-now" })).status).toBe(403);

@@ -20,7 +20,8 @@ const cache = new Map<string, CompileResult>();
 /** Cache entries kept at most (oldest dropped first). */
 const MAX_CACHE_ENTRIES = 500;
 
-function label(file: string): string {
+/** How errors name a file: relative to the working directory when inside it, with "/" separators. */
+export function label(file: string): string {
   const rel = path.relative(process.cwd(), file);
   return (rel && !rel.startsWith("..") && !path.isAbsolute(rel) ? rel : file).split(path.sep).join("/");
 }

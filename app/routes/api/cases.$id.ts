@@ -17,7 +17,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const db = getDb();
   const part = new URL(request.url).searchParams.get("part");
   if (part === "trajectory") {
-    const tr = getCaseTrajectory(db, id);
+    const tr = await getCaseTrajectory(db, id);
     if (!tr) return Response.json({ error: `No case ${id}.` }, { status: 404 });
     if (wantsCsv(request)) {
       const s = tr.solution.states;

@@ -5,10 +5,19 @@ import { getProblemDetail, saveUploadedProblem, submissionForm } from "~/models/
 import { requireRole, requireUser } from "~/services/auth.server";
 import { busyResponse, readSubmissionOffThread, SolverPoolBusy } from "~/services/solver-pool.server";
 
-/** GET /api/problems/:id (viewer or token): TeX of every expression, constants, bounds, references with provenance, best result per scheme, versions. */
+/**
+ * GET /api/problems/:id (viewer or token): TeX of every expression, constants, bounds, references with provenance, best result per scheme, versions.
+ * The problem is compiled on a solver thread (kept by content): 422 when it does not compile (file, field, column), 503 with Retry-After when the solver queue is full.
+ */
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireUser(request);
-  const r = getProblemDetail(getDb(), params.id);
+  let r;
+  try {
+    r = await getProblemDetail(getDb(), params.id); // compiled on a solver thread
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyResponse(err);
+    throw err;
+  }
   if (!r.ok) return Response.json({ error: r.message }, { status: r.status });
   return Response.json(r.detail);
 }

@@ -5,11 +5,17 @@ import { listProblemLibrary, saveUploadedProblem, submissionForm } from "~/model
 import { requireRole, requireUser } from "~/services/auth.server";
 import { busyResponse, readSubmissionOffThread, SolverPoolBusy } from "~/services/solver-pool.server";
 
-/** GET /api/problems[?tag=&q=] (viewer or token): the library with tags, provenance and each scheme's state on main. */
+/** GET /api/problems[?tag=&q=] (viewer or token): the library with tags, provenance and each scheme's state on main (problems compiled on a solver thread; 503 with Retry-After when its queue is full). */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireUser(request);
   const url = new URL(request.url);
-  return Response.json({ problems: listProblemLibrary(getDb(), { tag: url.searchParams.get("tag") ?? undefined, q: url.searchParams.get("q") ?? undefined }) });
+  try {
+    // each problem compiled on a solver thread, kept by content (app/services/problem-views.server.ts)
+    return Response.json({ problems: await listProblemLibrary(getDb(), { tag: url.searchParams.get("tag") ?? undefined, q: url.searchParams.get("q") ?? undefined }) });
+  } catch (err) {
+    if (err instanceof SolverPoolBusy) return busyResponse(err);
+    throw err;
+  }
 }
 
 /**

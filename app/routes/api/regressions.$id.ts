@@ -2,7 +2,7 @@ import { z } from "zod";
 import type { Route } from "./+types/regressions.$id";
 import { getDb } from "~/db/client.server";
 import { repoRoot, resolveRef } from "~/services/git.server";
-import { addRegressionComment, commentSchema, commitsBetween, getRegressionDetail, setProblemSubscription, triageRegression, triageSchema } from "~/models/regressions.server";
+import { addRegressionComment, commentSchema, commitsBetween, getRegressionDetail, problemOfRegression, setProblemSubscription, triageRegression, triageSchema } from "~/models/regressions.server";
 import { requireRole, requireUser } from "~/services/auth.server";
 import { fieldErrors } from "~/services/forms.server";
 import { affectedCases, commitsOfRegression } from "~/models/ab-checks.server";
@@ -13,7 +13,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
   const id = Number(params.id);
   const db = getDb();
-  const detail = Number.isInteger(id) ? getRegressionDetail(db, id, user.id) : null;
+  const detail = Number.isInteger(id) ? await getRegressionDetail(db, id, user.id) : null;
   if (!detail) return Response.json({ error: "No such regression." }, { status: 404 });
   const between = await commitsBetween(detail.before?.commitHash ?? null, detail.regression.commitHash);
   return Response.json({ ...detail, commits: between.commits, commitsNote: between.note });
@@ -74,11 +74,11 @@ export async function action({ request, params }: Route.ActionArgs) {
     return Response.json({ ok: true, intent });
   }
   if (intent === "subscribe" || intent === "unsubscribe") {
-    const detail = getRegressionDetail(db, id, user.id);
-    if (!detail) return Response.json({ error: "No such regression." }, { status: 404 });
-    const ok = setProblemSubscription(db, user.id, detail.regression.problemId, intent === "subscribe");
+    const problemId = problemOfRegression(db, id);
+    if (!problemId) return Response.json({ error: "No such regression." }, { status: 404 });
+    const ok = setProblemSubscription(db, user.id, problemId, intent === "subscribe");
     if (!ok) return Response.json({ intent, errors: { form: "That problem is not in the library." } }, { status: 400 });
-    return Response.json({ ok: true, intent, problemId: detail.regression.problemId });
+    return Response.json({ ok: true, intent, problemId });
   }
   return Response.json({ error: `Unknown intent '${z.string().max(40).catch("").parse(intent)}'.` }, { status: 400 });
 }
