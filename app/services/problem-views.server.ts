@@ -242,16 +242,14 @@ export async function problemViews(ids: readonly string[], opts: { series?: bool
       continue;
     }
     const hit = kept(src.key);
-    const series = opts.series ? (hit?.ok ? s.series.get(src.key) : null) : undefined;
-    if (hit && series !== undefined) {
-      s.stats.hits++;
-      out.set(id, { id, origin: src.origin, outcome: hit, ...(opts.series ? { series } : {}) });
-      continue;
-    }
-    if (hit && !opts.series) {
-      s.stats.hits++;
-      out.set(id, { id, origin: src.origin, outcome: hit });
-      continue;
+    if (hit) {
+      // a failed problem has no series; a viewed one may still lack it (asked for without it)
+      const series = !opts.series ? undefined : hit.ok ? s.series.get(src.key) : null;
+      if (!opts.series || series !== undefined) {
+        s.stats.hits++;
+        out.set(id, { id, origin: src.origin, outcome: hit, ...(opts.series ? { series } : {}) });
+        continue;
+      }
     }
     s.stats.misses++;
     const flying = s.inflight.get(opts.series ? `${src.key}\nseries` : src.key);
