@@ -240,7 +240,7 @@ export const TERMS = {
   baseline: { label: "baseline", definition: "The earlier run of the same suite on the same machine that a run is compared with." },
   fittedOrder: { label: "fitted order", definition: "Minus the least-squares slope of log error against log N over at least two meshes; needs two mesh sizes per scheme. Fitted only over the meshes from which the error falls; none when the finest mesh's error does not fall." },
   preAsymptotic: { label: "pre-asymptotic", definition: "The error does not fall between the coarsest meshes but falls from some N on: those coarse meshes are outside the range where error ≈ C·N^(−p), and the order is fitted from that N on." },
-  notMonotone: { label: "not monotone", definition: "The finest mesh's error is not below the previous one: no order is shown. The note says whose pattern it is: the discretisation's (solver share below 0.1) or the solver's." },
+  notMonotone: { label: "not monotone", definition: "The finest mesh's error is not below the previous one: no order is shown. The note names the cause: the discretisation's (solver share below 0.1) or the solver's." },
   solverShare: { label: "solver share", definition: "The solver's estimate of its own objective error (the duality gap) divided by the objective error; near or above 1 the error is the solver's, not the scheme's." },
   theoreticalOrder: { label: "theoretical order", definition: "The order the method has for smooth solutions (spectral for LGR)." },
   tolerance: { label: "tolerance", definition: "The largest error accepted when looking for the cheapest setting." },

@@ -246,7 +246,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error (below 0.1: the pattern is the discretisation's).</p>
+          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error (below 0.1: the discretisation's doing).</p>
         </section>
       ) : (
         <section className="card space-y-2 overflow-x-auto p-4" data-testid="orders-by-problem">
@@ -286,7 +286,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions. &ldquo;from N = …&rdquo;: the coarser meshes are pre-asymptotic (the error did not fall there) and the order is fitted from that mesh on; &ldquo;not monotone&rdquo;: the finest mesh&rsquo;s error did not fall, no order, with whose pattern it is (discretisation or solver, from the solver&rsquo;s duality gap); &ldquo;at floor&rdquo;: every error ≤ 1e-10. Hover a cell for the full note.</p>
+          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions. &ldquo;from N = …&rdquo;: the coarser meshes are pre-asymptotic (the error did not fall there) and the order is fitted from that mesh on; &ldquo;not monotone&rdquo;: the finest mesh&rsquo;s error did not fall, no order, with its cause (discretisation or solver, from the solver&rsquo;s duality gap); &ldquo;at floor&rdquo;: every error ≤ 1e-10. Hover a cell for the full note.</p>
         </section>
       )}
       <details className="card p-4" data-testid="points-table">
