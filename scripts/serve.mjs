@@ -75,14 +75,14 @@ const REFUSE_GRACE_MS = 1000;
 const REFUSE_DRAIN_BYTES = 1024 * 1024;
 
 /**
- * Sends a small plain-text or JSON refusal without reading the body into memory, with
- * `Connection: close`. What the client still sends is discarded for REFUSE_GRACE_MS or up to
- * REFUSE_DRAIN_BYTES, whichever comes first (so it can read the answer: closing a socket with
- * unread data resets it), then the connection is cut. Bounded by bytes as well as time: on
- * loopback a client that keeps writing pushed 40 MB through a 1 s grace period.
+ * Sends a small plain-text or JSON refusal without reading the body into memory (no
+ * `Connection: close`: Node then closes the socket as soon as the answer is out, and the
+ * client's next write resets it before it has read the answer). What the client still sends is discarded, up to REFUSE_DRAIN_BYTES (then
+ * reading pauses), for REFUSE_GRACE_MS (so it can read the answer: closing a socket with unread
+ * data resets it), then the connection is cut. Bounded by bytes as well as time: on loopback a
+ * client that keeps writing pushed 40 MB through a 1 s grace period.
  */
 function refuse(req, res, status, message) {
-  res.set("Connection", "close");
   if (req.path.startsWith("/api/")) res.status(status).json({ error: message });
   else res.status(status).type("text/plain").send(message);
   res.once("finish", () => {
@@ -93,7 +93,9 @@ function refuse(req, res, status, message) {
     };
     req.on("data", (chunk) => {
       drained += chunk.length;
-      if (drained > REFUSE_DRAIN_BYTES) cut();
+      // Stop reading (TCP backpressure holds the client) rather than cut at once: a reset now
+      // could drop the answer from the client's receive buffer before it reads it.
+      if (drained > REFUSE_DRAIN_BYTES) req.pause();
     });
     req.resume();
     setTimeout(cut, REFUSE_GRACE_MS).unref();
