@@ -40,21 +40,28 @@ export function dataVersion(db: Db): string {
   return `${dv}:${tc}`;
 }
 
-/** `compute()` once per data version (and at most `maxAgeMs` old), by `name` and `key`. */
-export function cachedByData<T>(db: Db, name: string, key: string, compute: () => T, maxAgeMs = Infinity): T {
-  // ARCWATCH_PAGE_CACHE=0 turns the cache off (benchmarks compare both ways).
-  if (process.env.ARCWATCH_PAGE_CACHE === "0") return compute();
+/** The cache `name`, and its entry for `key` when fresh (then moved to most recently used, counted as a hit). */
+function lookup(db: Db, name: string, key: string, maxAgeMs: number) {
   let cache = caches.get(name);
   if (!cache) caches.set(name, (cache = new Map()));
   const version = dataVersion(db);
   const now = Date.now();
-  const hit = cache.get(key);
-  if (hit && hit.version === version && now - hit.at <= maxAgeMs) {
+  const entry = cache.get(key);
+  const hit = entry && entry.version === version && now - entry.at <= maxAgeMs ? entry : null;
+  if (hit) {
     cache.delete(key);
     cache.set(key, hit); // most recently used last
     hits++;
-    return hit.value as T;
   }
+  return { cache, hit, now, version };
+}
+
+/** `compute()` once per data version (and at most `maxAgeMs` old), by `name` and `key`. */
+export function cachedByData<T>(db: Db, name: string, key: string, compute: () => T, maxAgeMs = Infinity): T {
+  // ARCWATCH_PAGE_CACHE=0 turns the cache off (benchmarks compare both ways).
+  if (process.env.ARCWATCH_PAGE_CACHE === "0") return compute();
+  const { cache, hit, now } = lookup(db, name, key, maxAgeMs);
+  if (hit) return hit.value as T;
   misses++;
   const value = compute();
   // The computation may itself have written (e.g. a lazily stored row): key by the version after it.
@@ -72,17 +79,8 @@ export function cachedByData<T>(db: Db, name: string, key: string, compute: () =
  */
 export async function cachedByDataAsync<T>(db: Db, name: string, key: string, compute: () => Promise<T>, maxAgeMs = Infinity, keep: (value: T) => boolean = () => true): Promise<T> {
   if (process.env.ARCWATCH_PAGE_CACHE === "0") return compute();
-  let cache = caches.get(name);
-  if (!cache) caches.set(name, (cache = new Map()));
-  const version = dataVersion(db);
-  const now = Date.now();
-  const hit = cache.get(key);
-  if (hit && hit.version === version && now - hit.at <= maxAgeMs) {
-    cache.delete(key);
-    cache.set(key, hit);
-    hits++;
-    return hit.value as T;
-  }
+  const { cache, hit, now, version } = lookup(db, name, key, maxAgeMs);
+  if (hit) return hit.value as T;
   const flightKey = `${name}\n${key}\n${version}`;
   const flying = inflight.get(flightKey);
   if (flying) return flying as Promise<T>;
