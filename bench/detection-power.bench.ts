@@ -24,6 +24,7 @@ import path from "node:path";
 import { spawnSync } from "node:child_process";
 import { parseArgs } from "node:util";
 import { loadSuite, suitePath } from "../app/runs/suite";
+import { AB_CONFIRM_BLOCKS } from "../app/runs/ab-result";
 import { calibrationEffect, fitNoise, readNoiseRuns } from "./power/noise";
 import { realCheck, REPO } from "./power/real-check";
 import { driftTrial, runTrial, type Placement, type Plant, type TrialOutcome } from "./power/simulate";
@@ -79,7 +80,8 @@ const schemes = [...new Set(model.keys.map((k) => model.cases.get(k)!.scheme))];
 const trials = Number(args.trials);
 const unchanged = Number(args.unchanged);
 const seed0 = Number(args.seed);
-const opts = { thresholds: t, repeats, ab: !args["no-ab"], abBlocks: 6, abRepeats: 3, abReplicates: Number(args.replicates) };
+// The automatic confirmation's blocks: rounds of 6 while the verdict is unclear, up to 18.
+const opts = { thresholds: t, repeats, ab: !args["no-ab"], abBlocks: AB_CONFIRM_BLOCKS.blocks, abMaxBlocks: AB_CONFIRM_BLOCKS.maxBlocks, abRepeats: 3, abReplicates: Number(args.replicates) };
 interface Row { label: string; n: number; out: TrialOutcome[] }
 const rows: Row[] = [];
 const pairs: [number, number][] = [];
@@ -105,7 +107,7 @@ console.log(`\nRecorded run pairs with SIMULATED plants (${trials} trials per pl
 // cases (unchanged: a random scheme's), so "gated" = flagged AND A/B slower.
 const gated = (o: TrialOutcome) => (o.perCase.detected || o.pooled.detected) && !!o.ab?.detected;
 const gatedAlarm = (o: TrialOutcome) => (o.perCase.alarm || o.pooled.alarm) && !!o.ab?.alarm;
-console.log("| planted | per-case | pooled | A/B (6 blocks) | any finding | flagged, then A/B (--confirm) | other alarms in the same run |");
+console.log(`| planted | per-case | pooled | A/B (${opts.abBlocks} blocks, up to ${opts.abMaxBlocks} while unclear) | any finding | flagged, then A/B (--confirm) | other alarms in the same run |`);
 console.log("|---|---|---|---|---|---|---|");
 for (const r of rows) {
   if (r.label === "unchanged") continue;

@@ -36,7 +36,7 @@ import { MACHINE_CLASS_PATTERN, parseShard, renderPlan } from "../app/runs/shard
 
 const USAGE =
   "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--confirm] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
-  "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--json]\n" +
+  "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--max-blocks <n>] [--json]\n" +
   "       npm run bench -- --suite <name|file> --bisect <good>..<bad> --cases <key,...> [--blocks <n>] [--json]";
 
 function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
@@ -117,6 +117,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         bisect: { type: "string" },
         cases: { type: "string" },
         blocks: { type: "string" },
+        "max-blocks": { type: "string" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -279,7 +280,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
 }
 
 /** `--ab base..head` (interleaved A/B) and `--bisect good..bad --cases k1,k2` (culprit search). */
-async function compareCommits(args: { suite?: string; ab?: string; bisect?: string; cases?: string; blocks?: string; json?: boolean; db?: string }): Promise<number> {
+async function compareCommits(args: { suite?: string; ab?: string; bisect?: string; cases?: string; blocks?: string; "max-blocks"?: string; json?: boolean; db?: string }): Promise<number> {
   const { parseRange, runAb, abSummary } = await import("./runner/ab");
   const { bisect, bisectSummary } = await import("./runner/bisect");
   const { closeDb, getDb, openDatabase } = await import("../app/db/client.server");
@@ -291,6 +292,11 @@ async function compareCommits(args: { suite?: string; ab?: string; bisect?: stri
   const blocks = args.blocks !== undefined ? Number(args.blocks) : undefined;
   if (blocks !== undefined && (!Number.isInteger(blocks) || blocks < 2)) {
     process.stderr.write(`--blocks must be an integer ≥ 2, got "${args.blocks}"\n`);
+    return 2;
+  }
+  const maxBlocks = args["max-blocks"] !== undefined ? Number(args["max-blocks"]) : undefined;
+  if (maxBlocks !== undefined && (!Number.isInteger(maxBlocks) || maxBlocks < (blocks ?? 2))) {
+    process.stderr.write(`--max-blocks must be an integer ≥ --blocks, got "${args["max-blocks"]}"\n`);
     return 2;
   }
   const cases = args.cases ? args.cases.split(",").map((c) => c.trim()).filter(Boolean) : undefined;
@@ -311,7 +317,7 @@ async function compareCommits(args: { suite?: string; ab?: string; bisect?: stri
       sink?.write(formatRunEvent({ event: "trial", ...i }));
     };
     if (args.ab) {
-      const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, signal: controller.signal, onTrial: progress });
+      const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, maxBlocks, signal: controller.signal, onTrial: progress });
       if (!args.json) process.stderr.write("\n");
       process.stdout.write(args.json ? `${JSON.stringify(r, null, 2)}\n` : `${abSummary(r)}\n`);
       const slow = r.pooled ? r.pooled.verdict === "slower" : r.cases.some((c) => c.verdict === "slower");

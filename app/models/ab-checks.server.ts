@@ -5,7 +5,9 @@
  */
 import { desc, eq, inArray, sql } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
-import { abChecks, regressionEvents, regressionMembers, regressions, runs, type AbCheckState } from "~/db/schema";
+import { abChecks, regressionEvents, regressionMembers, regressions, runs, suites, type AbCheckState } from "~/db/schema";
+import type { Thresholds } from "~/runs/types";
+import { effectiveThresholds } from "./settings.server";
 import { abSaysSlower, fmtAbRatio, judgeRegression, type AbResultDoc } from "~/runs/ab-result";
 import type { Finding } from "~/runs/rules";
 
@@ -139,13 +141,24 @@ export function commitsOfRegression(db: Db, id: number): { base: string | null; 
   return { base, head: r.head, suiteName: r.suiteName };
 }
 
+/** The slowdown an A/B must exclude to clear a finding: the suite's per-case speed floor. */
+function clearBelowOf(db: Db, c: { suiteName: string; runId: string | null }): number {
+  const fromRun = c.runId ? db.select({ t: suites.thresholdsJson }).from(runs).innerJoin(suites, eq(runs.suiteId, suites.id)).where(eq(runs.id, c.runId)).get() : undefined;
+  const fromSuite = fromRun ?? db.select({ t: suites.thresholdsJson }).from(suites).where(eq(suites.name, c.suiteName)).orderBy(desc(suites.id)).limit(1).get();
+  return effectiveThresholds(db, c.suiteName, (fromSuite?.t ?? {}) as Partial<Thresholds>).speedRatio;
+}
+
+const VERDICT_WORD = { slower: "Confirmed", faster: "Cleared", same: "Cleared", unclear: "Not decided" } as const;
+
 /**
  * Stores the verdict of a finished check (or why there is none) and writes it into the history
  * of each regression it judges. Each regression is judged on its own cases (a group's members
- * pooled; app/runs/ab-result.ts `judgeRegression`), stored in the result as `judged`.
- * "confirmed": at least one judged regression is slower (a check without regressions: the
- * comparison says slower); "cleared": none is; "unavailable": the job failed, was cancelled or
- * timed nothing.
+ * pooled; app/runs/ab-result.ts `judgeRegression`) against the suite's speed floor, stored in the
+ * result as `judged`. "confirmed": at least one judged regression is slower (a check without
+ * regressions: the comparison says slower); "cleared": every judged one is the same or faster,
+ * its interval excluding a slowdown of the floor's size; "unavailable" (could not decide): the job
+ * failed, was cancelled or timed nothing, or no regression was confirmed and some interval was too
+ * wide to clear it.
  */
 export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc } | { error: string }): AbCheckView | null {
   const c = getAbCheck(db, id);
@@ -158,21 +171,26 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
     state = "unavailable";
     note = `Interleaved A/B could not decide: ${outcome.error}`;
   } else {
-    const judged = c.regressionIds.map((rid) => judgeRegression(outcome.result, rid, affectedCases(db, [rid])));
+    const floor = clearBelowOf(db, c);
+    const judged = c.regressionIds.map((rid) => judgeRegression(outcome.result, rid, affectedCases(db, [rid]), floor));
     result = { ...outcome.result, judged };
-    const s = abSaysSlower(outcome.result);
+    const s = abSaysSlower(outcome.result, floor);
     const timed = judged.filter((j) => j.verdict !== null);
     if (c.regressionIds.length ? timed.length === 0 : !s) {
       state = "unavailable";
       note = "Interleaved A/B timed no case (every trial failed).";
     } else {
-      state = c.regressionIds.length ? (timed.some((j) => j.verdict === "slower") ? "confirmed" : "cleared") : s!.slower ? "confirmed" : "cleared";
+      const verdicts = c.regressionIds.length ? timed.map((j) => j.verdict!) : [s!.slower ? "slower" : s!.unclear ? "unclear" : "same"];
+      state = verdicts.includes("slower") ? "confirmed" : verdicts.includes("unclear") ? "unavailable" : "cleared";
       const head = `interleaved A/B (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)}`;
       const scope = outcome.result.pooled ? `all ${outcome.result.pooled.cases} cases pooled` : outcome.result.cases[0]?.key ?? "";
-      note = `${state === "confirmed" ? "Confirmed" : "Cleared"} by ${head}, ${scope}: ${fmtAbRatio(s?.ratio ?? null, s?.low ?? null, s?.high ?? null)} (${outcome.result.blocks} blocks).`;
+      const tail = (ratio: number | null, low: number | null, high: number | null, v: string) =>
+        `${fmtAbRatio(ratio, low, high)} (${outcome.result.blocks} blocks)${v === "unclear" ? `: the interval neither lies above 1 nor excludes the suite's ×${floor} speed floor; the finding stays open` : ""}.`;
+      const word = state === "confirmed" ? "Confirmed" : state === "cleared" ? "Cleared" : "Not decided";
+      note = `${word} by ${head}, ${scope}: ${tail(s?.ratio ?? null, s?.low ?? null, s?.high ?? null, state === "unavailable" ? "unclear" : "")}`;
       for (const j of judged) {
         const what = j.cases.length > 1 ? `its ${j.cases.length} cases pooled` : (j.cases[0] ?? "no case timed");
-        perRegression.set(j.regressionId, j.verdict === null ? `Interleaved A/B timed none of its cases (${byWhom(c.jobId)}).` : `${j.verdict === "slower" ? "Confirmed" : "Cleared"} by ${head}, ${what}: ${fmtAbRatio(j.ratio, j.low, j.high)} (${outcome.result.blocks} blocks).`);
+        perRegression.set(j.regressionId, j.verdict === null ? `Interleaved A/B timed none of its cases (${byWhom(c.jobId)}).` : `${VERDICT_WORD[j.verdict]} by ${head}, ${what}: ${tail(j.ratio, j.low, j.high, j.verdict)}`);
       }
     }
   }
@@ -186,7 +204,13 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
   return getAbCheck(db, id);
 }
 
-/** The regressions of a settled check that stand: judged slower, or not judged (unconfirmed). */
+/**
+ * The regressions of a settled check that stand (count in the command line's exit code): judged
+ * slower, or not judged at all (the A/B failed: unconfirmed). One the A/B could not decide on
+ * (`undecidedOfCheck`) stays open and is e-mailed as unconfirmed, but does not fail the run: a
+ * sequential flag that an interleaved comparison of the same commits cannot confirm is weak
+ * evidence on a shared machine.
+ */
 export function standingOfCheck(c: AbCheckView): number[] {
   if (c.state === "awaiting") return c.regressionIds;
   const judged = c.result?.judged;
@@ -197,10 +221,16 @@ export function standingOfCheck(c: AbCheckView): number[] {
   });
 }
 
+/** The regressions of a settled check whose A/B interval was too wide to confirm or clear them. */
+export function undecidedOfCheck(c: AbCheckView): number[] {
+  const judged = c.result?.judged ?? [];
+  return c.regressionIds.filter((rid) => judged.find((x) => x.regressionId === rid)?.verdict === "unclear");
+}
+
 /** The verdict on one regression of a check: its own judged shift, else the check's. */
 export function abOfRegression(c: { state: AbCheckState; result: AbResultDoc | null }, rid: number): { state: AbCheckState; ratio: number | null; low: number | null; high: number | null } {
   const j = c.result?.judged?.find((x) => x.regressionId === rid);
-  if (j) return { state: j.verdict === null ? "unavailable" : j.verdict === "slower" ? "confirmed" : "cleared", ratio: j.ratio, low: j.low, high: j.high };
+  if (j) return { state: j.verdict === null || j.verdict === "unclear" ? "unavailable" : j.verdict === "slower" ? "confirmed" : "cleared", ratio: j.ratio, low: j.low, high: j.high };
   const s = c.result ? abSaysSlower(c.result) : null;
   return { state: c.state, ratio: s?.ratio ?? null, low: s?.low ?? null, high: s?.high ?? null };
 }
@@ -233,4 +263,22 @@ export function regressionsAsFindings(db: Db, ids: number[]): { id: number; find
     };
     return { id: r.id, finding };
   });
+}
+
+/** The A/B verdict on one regression, as lists and detection read it. */
+export type RegressionAb = ReturnType<typeof abOfRegression>;
+
+/** The latest A/B check of each regression among `ids` (one query over ab_checks' id lists). */
+export function latestAbOf(db: Db, ids: readonly number[]): Map<number, RegressionAb> {
+  const out = new Map<number, RegressionAb>();
+  if (!ids.length) return out;
+  const rows = db.all<{ rid: number; state: AbCheckState; result: string | null }>(
+    sql`select json_each.value as rid, ${abChecks.state} as state, ${abChecks.resultJson} as result from ${abChecks}, json_each(${abChecks.regressionIds})
+        where json_each.value in (${sql.join(ids.map((i) => sql`${i}`), sql`, `)}) order by ${abChecks.id} desc`,
+  );
+  for (const row of rows) {
+    if (out.has(row.rid)) continue;
+    out.set(row.rid, abOfRegression({ state: row.state, result: row.result ? (JSON.parse(row.result) as AbResultDoc) : null }, row.rid));
+  }
+  return out;
 }

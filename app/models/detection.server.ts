@@ -14,7 +14,8 @@
  * (open, acknowledged or expected) for the same case, kind, metric and direction on an earlier run
  * of the same branch, suite and machine is the SAME regression seen on a later commit: the run is
  * added to its sightings (regression_sightings) with a note, no new row is opened, and its triage
- * (status, assignee, reason) carries over. Each new row gets a first regression_events row
+ * (status, assignee, reason) carries over, unless an interleaved A/B cleared it or could not
+ * decide (the new sighting then opens a row of its own, which gets its own A/B). Each new row gets a first regression_events row
  * carrying the evidence in words, and its first sighting. An improvement of the same case, kind
  * and metric marks earlier open regressions of the suite on the machine "fixed" (fixing_commit =
  * this one).
@@ -28,6 +29,7 @@ import { caseCalibration, compareCases, driftFinding, type CaseSnapshot, type Dr
 import { isSolved, type Thresholds } from "~/runs/types";
 import { effectiveThresholds } from "./settings.server";
 import { ancestry, repositoryOf } from "./commit-order.server";
+import { latestAbOf } from "./ab-checks.server";
 
 export interface Detection {
   baselineRunId: string | null;
@@ -325,7 +327,7 @@ const finiteOrNull = (v: number | null) => (v !== null && Number.isFinite(v) ? v
  * and direction on an earlier run of the same branch, suite and machine; null when there is none.
  */
 export function openOnBranch(db: Db, at: { runId: string; branch: string; suiteName: string; machineKey: string }, f: Pick<Finding, "caseKey" | "kind" | "metric" | "direction">): number | null {
-  const row = db
+  const rows = db
     .select({ id: regressions.id })
     .from(regressions)
     .innerJoin(runs, eq(runs.id, regressions.runId))
@@ -344,9 +346,13 @@ export function openOnBranch(db: Db, at: { runId: string; branch: string; suiteN
       ),
     )
     .orderBy(desc(regressions.id))
-    .limit(1)
-    .get();
-  return row?.id ?? null;
+    .limit(20)
+    .all();
+  // A regression an interleaved A/B cleared (or could not decide on) is not folded into: a later
+  // sighting would inherit that verdict and never be put to an A/B of its own, so a real slowdown
+  // after a false alarm on the same case would be missed. It opens a row of its own instead.
+  const ab = latestAbOf(db, rows.map((r) => r.id));
+  return rows.find((r) => { const st = ab.get(r.id)?.state; return st !== "cleared" && st !== "unavailable"; })?.id ?? null;
 }
 
 /**

@@ -11,7 +11,7 @@ import { z } from "zod";
 import type { Db } from "~/db/client.server";
 import { abChecks, apiTokens, caseResults, comments, problems, REGRESSION_KINDS, REGRESSION_STATUSES, regressionEvents, regressionMembers, regressions, regressionSightings, runs, subscriptions, timingSamples, users, type AbCheckState, type RegressionScope, type RegressionStatus } from "~/db/schema";
 import type { AbResultDoc } from "~/runs/ab-result";
-import { abOfRegression } from "./ab-checks.server";
+import { latestAbOf } from "./ab-checks.server";
 import { parseGroupKey } from "~/runs/pooled";
 import { getCaseTrajectory, type CaseTrajectory } from "~/models/cases.server";
 import { repoRoot } from "~/services/git.server";
@@ -108,21 +108,6 @@ function toListItems(db: Db, rows: ListRow[]): RegressionListItem[] {
     commitSubject,
     createdAt: new Date(r.createdAt).getTime(),
   }));
-}
-
-/** The latest A/B check of each regression among `ids` (one query over ab_checks' id lists). */
-function latestAbOf(db: Db, ids: number[]): Map<number, NonNullable<RegressionListItem["ab"]>> {
-  const out = new Map<number, NonNullable<RegressionListItem["ab"]>>();
-  if (!ids.length) return out;
-  const rows = db.all<{ rid: number; state: AbCheckState; result: string | null }>(
-    sql`select json_each.value as rid, ${abChecks.state} as state, ${abChecks.resultJson} as result from ${abChecks}, json_each(${abChecks.regressionIds})
-        where json_each.value in (${sql.join(ids.map((i) => sql`${i}`), sql`, `)}) order by ${abChecks.id} desc`,
-  );
-  for (const row of rows) {
-    if (out.has(row.rid)) continue;
-    out.set(row.rid, abOfRegression({ state: row.state, result: row.result ? (JSON.parse(row.result) as AbResultDoc) : null }, row.rid));
-  }
-  return out;
 }
 
 export interface SideCase {

@@ -10,8 +10,27 @@ import { pooledShift } from "../engine/stats/hierarchical-bootstrap";
 /** A shift is reported only from this ratio on (common practice, no source: 3 %, below the per-case floor). */
 export const AB_MIN_RATIO = 1.03;
 
-/** "slower" when the shift passes AB_MIN_RATIO and its interval lies above 1 (mirrored for "faster"). */
-export const abVerdictOf = (ratio: number, low: number, high: number): AbVerdictWord => (ratio > AB_MIN_RATIO && low > 1 ? "slower" : ratio < 1 / AB_MIN_RATIO && high < 1 ? "faster" : "same");
+/**
+ * An A/B says "same" only when its interval excludes a slowdown (and a speed-up) of this size: the
+ * shipped per-case speed floor (app/runs/suite.ts `speedRatio`); a check judging a suite's
+ * regressions uses that suite's floor.
+ */
+export const AB_CLEAR_RATIO = 1.1;
+
+/**
+ * The automatic confirmation of a speed finding: rounds of 6 blocks, up to 18 while unclear
+ * (common practice, no source; 6 blocks cost about 20 s for four small cases).
+ */
+export const AB_CONFIRM_BLOCKS = { blocks: 6, maxBlocks: 18 } as const;
+
+/**
+ * "slower" when the shift passes AB_MIN_RATIO and its interval lies above 1 (mirrored for
+ * "faster"); "same" when the interval lies inside [1/clearBelow, clearBelow]; otherwise "unclear":
+ * the interval is too wide to tell a slowdown the suite cares about from none, and the comparison
+ * must not be read as clearing the finding.
+ */
+export const abVerdictOf = (ratio: number, low: number, high: number, clearBelow = AB_CLEAR_RATIO): AbVerdictWord =>
+  ratio > AB_MIN_RATIO && low > 1 ? "slower" : ratio < 1 / AB_MIN_RATIO && high < 1 ? "faster" : high < clearBelow && low > 1 / clearBelow ? "same" : "unclear";
 
 /**
  * The pooled shift of several A/B cases: cases as the first stage of a two-stage bootstrap, each
@@ -26,7 +45,7 @@ export function poolAbCases(cases: readonly { ratio: number | null; blockRatios:
   return { ratio, low: s.low, high: s.high, verdict: abVerdictOf(ratio, s.low, s.high), cases: usable.length };
 }
 
-export const AB_VERDICTS = ["slower", "faster", "same"] as const;
+export const AB_VERDICTS = ["slower", "faster", "same", "unclear"] as const;
 export type AbVerdictWord = (typeof AB_VERDICTS)[number];
 
 /** JSON has no NaN: a case with no usable block prints null for its ratio and interval. */
@@ -66,14 +85,14 @@ export type AbJudged = NonNullable<AbResultDoc["judged"]>[number];
  * The verdict on one regression from the A/B cases of `keys` (its own case, or a group's members):
  * one case's own verdict, or the pooled shift of several. `verdict` null when none was timed.
  */
-export function judgeRegression(r: AbResultDoc, regressionId: number, keys: readonly string[]): AbJudged {
+export function judgeRegression(r: AbResultDoc, regressionId: number, keys: readonly string[], clearBelow = AB_CLEAR_RATIO): AbJudged {
   const mine = r.cases.filter((c) => keys.includes(c.key) && c.ratio !== null && c.low !== null && c.high !== null);
   if (mine.length === 1) {
     const c = mine[0]!;
-    return { regressionId, cases: [c.key], ratio: c.ratio, low: c.low, high: c.high, verdict: c.verdict };
+    return { regressionId, cases: [c.key], ratio: c.ratio, low: c.low, high: c.high, verdict: abVerdictOf(c.ratio!, c.low!, c.high!, clearBelow) };
   }
   const p = poolAbCases(mine);
-  return p ? { regressionId, cases: mine.map((c) => c.key), ratio: p.ratio, low: p.low, high: p.high, verdict: p.verdict } : { regressionId, cases: [], ratio: null, low: null, high: null, verdict: null };
+  return p ? { regressionId, cases: mine.map((c) => c.key), ratio: p.ratio, low: p.low, high: p.high, verdict: abVerdictOf(p.ratio, p.low, p.high, clearBelow) } : { regressionId, cases: [], ratio: null, low: null, high: null, verdict: null };
 }
 
 /** Payload of an "ab" job: compare `head` with `base` on a suite's cases (default: all of them). */
@@ -87,6 +106,8 @@ export const abJobPayload = z.object({
     .optional(),
   /** Blocks of four trials per case (ABBA or BAAB); default 6. */
   blocks: z.number().int().min(2, "At least 2 blocks.").max(40, "At most 40 blocks.").optional(),
+  /** While the verdict is "unclear", more rounds of `blocks` blocks, up to this many in all. */
+  maxBlocks: z.number().int().min(2, "At least 2 blocks.").max(60, "At most 60 blocks.").optional(),
 });
 export type AbJobPayload = z.infer<typeof abJobPayload>;
 
@@ -94,11 +115,11 @@ export type AbJobPayload = z.infer<typeof abJobPayload>;
  * Does the comparison say "slower"? With several cases the pooled verdict decides (one finding
  * for the group), with one case its own verdict. Null when no case could be timed.
  */
-export function abSaysSlower(r: AbResultDoc): { slower: boolean; ratio: number; low: number; high: number } | null {
-  if (r.pooled) return { slower: r.pooled.verdict === "slower", ratio: r.pooled.ratio, low: r.pooled.low, high: r.pooled.high };
-  const c = r.cases.find((x) => x.ratio !== null && x.low !== null && x.high !== null);
-  if (!c) return null;
-  return { slower: c.verdict === "slower", ratio: c.ratio!, low: c.low!, high: c.high! };
+export function abSaysSlower(r: AbResultDoc, clearBelow = AB_CLEAR_RATIO): { slower: boolean; unclear: boolean; ratio: number; low: number; high: number } | null {
+  const p = r.pooled ?? r.cases.find((x) => x.ratio !== null && x.low !== null && x.high !== null);
+  if (!p) return null;
+  const v = abVerdictOf(p.ratio!, p.low!, p.high!, clearBelow);
+  return { slower: v === "slower", unclear: v === "unclear", ratio: p.ratio!, low: p.low!, high: p.high! };
 }
 
 /** "×1.412 [1.30, 1.55]" */

@@ -20,11 +20,11 @@ import fs from "node:fs";
 import type { Db } from "~/db/client.server";
 import { eq } from "drizzle-orm";
 import { runs } from "~/db/schema";
-import { abCheckOfJob, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, type AbCheckView } from "~/models/ab-checks.server";
+import { abCheckOfJob, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, undecidedOfCheck, type AbCheckView } from "~/models/ab-checks.server";
 import { thresholdsOfRun, type Detection } from "~/models/detection.server";
 import { enqueueJob, type JobSummary } from "~/models/jobs.server";
 import { problemLibraryFor } from "~/models/library.server";
-import { abSaysSlower, fmtAbRatio, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
+import { AB_CONFIRM_BLOCKS, abSaysSlower, fmtAbRatio, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
 import type { Finding } from "~/runs/rules";
 import { expandCases, loadSuite, suitePath } from "~/runs/suite";
 import type { CommitMeta } from "~/runs/types";
@@ -115,7 +115,7 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
     else if (input.commit.dirty) why = "the run measured uncommitted changes";
     else {
       const ids = speed.map((s) => s.id);
-      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases: affectedCases(db, ids) }, input.root ?? repoRoot());
+      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases: affectedCases(db, ids), ...AB_CONFIRM_BLOCKS }, input.root ?? repoRoot());
       if (!checked.ok) why = checked.message;
       else if (input.confirmNow) {
         const check = insertAbCheck(db, { jobId: null, suiteName: checked.payload.suite, base: checked.payload.base, head: checked.payload.head, cases: checked.payload.cases, regressionIds: ids, runId: input.runId, auto: true, alertsHeld: mail });
@@ -128,7 +128,9 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
         out.check = settleAbCheck(db, check.id, outcome);
         const stand = out.check ? standingOfCheck(out.check) : ids;
         out.standing -= speed.length - stand.length;
-        if (stand.length && out.check) confirmedNow = { items: speed.filter((i) => stand.includes(i.id)), note: heldNote(out.check) };
+        // Undecided ones do not fail the run but are still e-mailed, marked unconfirmed.
+        const mailed = out.check ? [...stand, ...undecidedOfCheck(out.check)] : ids;
+        if (mailed.length && out.check) confirmedNow = { items: speed.filter((i) => mailed.includes(i.id)), note: heldNote(out.check) };
       } else if (mail) {
         const { job } = queueAbJob(db, checked.payload, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
         out.abJobId = job.id;
@@ -154,8 +156,8 @@ export async function afterAbJob(db: Db, jobId: number, outcome: { result: AbRes
   if (!settled || !settled.alertsHeld || settled.state === "cleared" || settled.state === "awaiting") return settled;
   const full = getAbCheck(db, c.id);
   if (!full?.runId) return settled;
-  // Only the regressions the verdict leaves standing (a cleared one in a confirmed check is not mailed).
-  const items = regressionsAsFindings(db, standingOfCheck(settled));
+  // Only the regressions the verdict leaves standing or undecided (a cleared one is not mailed).
+  const items = regressionsAsFindings(db, [...standingOfCheck(settled), ...undecidedOfCheck(settled)]);
   const commit = commitMetaOfRun(db, full.runId);
   if (!items.length || !commit) return settled;
   await sendRegressionAlerts(db, { runId: full.runId, suiteName: settled.suiteName, commit, regressions: items, baseUrl, note: heldNote(settled) });
@@ -164,9 +166,13 @@ export async function afterAbJob(db: Db, jobId: number, outcome: { result: AbRes
 
 /** The line a held e-mail carries: the A/B evidence, per regression where the check judged each. */
 function heldNote(c: AbCheckView): string {
-  if (c.state !== "confirmed") return `Speed findings are unconfirmed: ${c.note ?? "interleaved A/B could not decide"}.`;
-  const judged = (c.result?.judged ?? []).filter((j) => j.verdict === "slower");
-  if (judged.length) return `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${judged.map((j) => `${j.cases.length > 1 ? `${j.cases.length} cases pooled` : j.cases[0]} ${fmtAbRatio(j.ratio, j.low, j.high)}`).join("; ")}.`;
+  const judged = c.result?.judged ?? [];
+  const list = (v: string) => judged.filter((j) => j.verdict === v).map((j) => `${j.cases.length > 1 ? `${j.cases.length} cases pooled` : j.cases[0]} ${fmtAbRatio(j.ratio, j.low, j.high)}`);
+  const undecided = list("unclear");
+  const also = undecided.length ? ` Not decided (interval too wide to confirm or clear; unconfirmed): ${undecided.join("; ")}.` : "";
+  if (c.state !== "confirmed") return `Speed findings are unconfirmed: ${c.note ?? "interleaved A/B could not decide"}`.replace(/\.?$/, ".");
+  const slower = list("slower");
+  if (slower.length) return `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${slower.join("; ")}.${also}`;
   const s = c.result ? abSaysSlower(c.result) : null;
   return `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${fmtAbRatio(s?.ratio ?? null, s?.low ?? null, s?.high ?? null)}.`;
 }

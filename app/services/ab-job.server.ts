@@ -35,6 +35,7 @@ export async function runAbJob(db: Db, job: JobRow, onChild: (c: ChildProcess | 
     const args = ["--import", pathToFileURL(path.join(server, "node_modules", "tsx", "dist", "loader.mjs")).href, path.join(server, "bench", "run.ts"), "--suite", payload.suite, "--ab", `${payload.base}..${payload.head}`, "--json", "--db", databasePath()];
     if (payload.cases?.length) args.push("--cases", payload.cases.join(","));
     if (payload.blocks) args.push("--blocks", String(payload.blocks));
+    if (payload.maxBlocks) args.push("--max-blocks", String(payload.maxBlocks));
     append(`$ cd ${root} && node ${args.slice(2).join(" ")}\n`);
     heartbeatJob(db, job.id, progress, log);
     log = "";

@@ -16,7 +16,7 @@ import { createPrng, type Prng } from "../../app/engine/stats/prng";
 import { pooledFindings } from "../../app/runs/pooled";
 import { compareCases, driftFinding, type CaseSnapshot, type Finding } from "../../app/runs/rules";
 import type { Thresholds } from "../../app/runs/types";
-import { AB_MIN_RATIO } from "../runner/ab";
+import { abVerdictOf } from "../../app/runs/ab-result";
 import type { NoiseModel, NoiseRun } from "./noise";
 
 export type Placement = { kind: "scheme"; scheme: string } | { kind: "suite" } | { kind: "none" };
@@ -80,29 +80,37 @@ function snapshot(model: NoiseModel, run: NoiseRun, plant: Plant | null, rng: Pr
 /**
  * The A/B verdict over `keys` (pooled as bench/runner/ab.ts pools its cases). Each block is one
  * sitting: A's and B's trials draw from the samples of ONE recorded run (picked per block), so
- * that they share that moment's load as interleaving makes them do.
+ * that they share that moment's load as interleaving makes them do. Rounds of `blocks` blocks are
+ * added while the verdict is "unclear" (app/runs/ab-result.ts `abVerdictOf`, with the suite's
+ * speed floor), up to `maxBlocks`, as the automatic confirmation does.
  */
-function simulateAb(model: NoiseModel, runs: NoiseRun[], rng: Prng, keys: string[], plant: Plant, blocks: number, repeats: number, seed: number, replicates: number): boolean {
-  const perCase = keys.map((key) => {
-    const c = model.cases.get(key)!;
-    const slow = affects(plant.placement, c.scheme) ? 1 + plant.slowdown : 1;
-    const cases = [];
-    for (let b = 0; b < blocks; b++) {
-      const pool = pick(rng, runs).cases.get(key)!.samples;
-      const draw = (f: number) => Array.from({ length: 2 * repeats }, () => pick(rng, pool) * f);
-      // A B B A (or B A A B): two trials of `repeats` solves per side per block.
-      cases.push({ x: draw(slow), y: draw(1) });
+function simulateAb(model: NoiseModel, runs: NoiseRun[], rng: Prng, keys: string[], plant: Plant, blocks: number, maxBlocks: number, floor: number, repeats: number, seed: number, replicates: number): boolean {
+  const perCase = keys.map(() => [] as { x: number[]; y: number[] }[]);
+  for (let ran = 0; ran + blocks <= Math.max(blocks, maxBlocks); ran += blocks) {
+    keys.forEach((key, i) => {
+      const c = model.cases.get(key)!;
+      const slow = affects(plant.placement, c.scheme) ? 1 + plant.slowdown : 1;
+      for (let b = 0; b < blocks; b++) {
+        const pool = pick(rng, runs).cases.get(key)!.samples;
+        const draw = (f: number) => Array.from({ length: 2 * repeats }, () => pick(rng, pool) * f);
+        // A B B A (or B A A B): two trials of `repeats` solves per side per block.
+        perCase[i]!.push({ x: draw(slow), y: draw(1) });
+      }
+    });
+    const shifts = perCase.map((cases) => pooledShift(cases, { confidence: 0.99, seed: 7, replicates }));
+    let v: ReturnType<typeof abVerdictOf>;
+    if (shifts.length === 1) v = abVerdictOf(shifts[0]!.ratio, shifts[0]!.low, shifts[0]!.high, floor);
+    else {
+      const lnMean = shifts.reduce((a, s) => a + Math.log(s.ratio), 0) / shifts.length;
+      const s = pooledShift(
+        shifts.map((c) => ({ x: c.caseRatios, y: c.caseRatios.map(() => 1) })),
+        { confidence: 0.99, seed: seed + 11, replicates },
+      );
+      v = abVerdictOf(Math.exp(lnMean), s.low, s.high, floor);
     }
-    return pooledShift(cases, { confidence: 0.99, seed: 7, replicates });
-  });
-  const slower = (ratio: number, low: number) => ratio > AB_MIN_RATIO && low > 1;
-  if (perCase.length === 1) return slower(perCase[0]!.ratio, perCase[0]!.low);
-  const lnMean = perCase.reduce((a, s) => a + Math.log(s.ratio), 0) / perCase.length;
-  const s = pooledShift(
-    perCase.map((c) => ({ x: c.caseRatios, y: c.caseRatios.map(() => 1) })),
-    { confidence: 0.99, seed: seed + 11, replicates },
-  );
-  return slower(Math.exp(lnMean), s.low);
+    if (v !== "unclear") return v === "slower";
+  }
+  return false;
 }
 
 export interface TrialOptions {
@@ -111,6 +119,8 @@ export interface TrialOptions {
   /** Run the A/B simulation too (costs most of the time). */
   ab: boolean;
   abBlocks: number;
+  /** Rounds of `abBlocks` while unclear, up to this many blocks (default: no extension). */
+  abMaxBlocks?: number;
   abRepeats: number;
   /** Bootstrap replicates of the A/B intervals (bench/runner/ab.ts uses 2000). */
   abReplicates: number;
@@ -157,7 +167,7 @@ export function runTrial(model: NoiseModel, runs: NoiseRun[], pair: [number, num
     // Confirmation on the cases the plant concerns (unchanged: a random scheme's cases).
     const scheme = plant.placement.kind === "scheme" ? plant.placement.scheme : pick(rng, [...new Set(model.keys.map((k) => model.cases.get(k)!.scheme))]);
     const keys = plant.placement.kind === "suite" ? model.keys : model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
-    const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abRepeats, seed, o.abReplicates);
+    const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.speedRatio, o.abRepeats, seed, o.abReplicates);
     ab = { detected: speedPlanted && slower, alarm: !speedPlanted && slower };
   }
   return { perCase, pooled, any, ab, accuracy: acc };

@@ -18,7 +18,7 @@ import { fileURLToPath } from "node:url";
 import { simpleGit } from "simple-git";
 import type { Db } from "../../app/db/client.server";
 import { pooledShift, type PooledCase } from "../../app/engine/stats/hierarchical-bootstrap";
-import { abVerdictOf, poolAbCases } from "../../app/runs/ab-result";
+import { abVerdictOf, poolAbCases, type AbVerdictWord } from "../../app/runs/ab-result";
 import { createPrng } from "../../app/engine/stats/prng";
 import { problemLibraryFor, uploadedProblemsDir, databaseFileOf } from "../../app/models/library.server";
 import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
@@ -39,6 +39,14 @@ export interface AbOptions {
   /** Only these case keys (default: every case of the suite). */
   cases?: string[];
   blocks?: number;
+  /**
+   * Sequential extension: while the verdict (pooled over the cases, or the one case) is "unclear",
+   * run another `blocks` blocks on every case, up to this many in all (default: `blocks`, no
+   * extension). The intervals are recomputed over all blocks; the verdict is read once per round,
+   * so the 99 % level holds per round, not over the whole sequence (a handful of looks; common
+   * practice, no source).
+   */
+  maxBlocks?: number;
   /** Timed solves per trial. */
   repeats?: number;
   seed?: number;
@@ -49,7 +57,7 @@ export interface AbOptions {
   worktrees?: Map<string, string>;
 }
 
-export type AbVerdict = "slower" | "faster" | "same";
+export type AbVerdict = AbVerdictWord;
 
 export interface AbCase {
   key: string;
@@ -153,39 +161,48 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
   const uploaded = uploadedProblemsDir(databaseFileOf(opts.db));
   const laneA = laneFor(dirA, root, suite.file, suite.definition.solver, uploaded, repeats, suite.definition.clock);
   const laneB = laneFor(dirB, root, suite.file, suite.definition.solver, uploaded, repeats, suite.definition.clock);
-  const out: AbCase[] = [];
-  const total = cases.length * blocks * 4;
+  const maxBlocks = Math.max(blocks, opts.maxBlocks ?? blocks);
+  const perCase = cases.map(() => ({ blocks: [] as PooledCase[], status: "optimal" }));
+  let out: AbCase[] = [];
+  let pooled: AbResult["pooled"] = null;
+  let total = cases.length * blocks * 4;
   let done = 0;
+  let ran = 0;
   try {
-    for (const spec of cases) {
-      const perBlock: PooledCase[] = [];
-      let status = "optimal";
-      for (let b = 0; b < blocks && !opts.signal?.aborted; b++) {
-        const order: ("A" | "B")[] = rng.next() < 0.5 ? ["A", "B", "B", "A"] : ["B", "A", "A", "B"];
-        const got: Record<"A" | "B", number[]> = { A: [], B: [] };
-        for (const side of order) {
-          const o = await (side === "A" ? laneA : laneB).run(spec);
-          if (!isSolved(o.status)) status = `${side}: ${o.status}${o.message ? ` (${o.message})` : ""}`;
-          got[side].push(...o.samples);
-          opts.onTrial?.({ key: spec.key, block: b, side, done: ++done, total });
+    for (;;) {
+      for (const [i, spec] of cases.entries()) {
+        const acc = perCase[i]!;
+        for (let b = ran; b < ran + blocks && !opts.signal?.aborted; b++) {
+          const order: ("A" | "B")[] = rng.next() < 0.5 ? ["A", "B", "B", "A"] : ["B", "A", "A", "B"];
+          const got: Record<"A" | "B", number[]> = { A: [], B: [] };
+          for (const side of order) {
+            const o = await (side === "A" ? laneA : laneB).run(spec);
+            if (!isSolved(o.status)) acc.status = `${side}: ${o.status}${o.message ? ` (${o.message})` : ""}`;
+            got[side].push(...o.samples);
+            opts.onTrial?.({ key: spec.key, block: b, side, done: ++done, total });
+          }
+          if (got.A.length && got.B.length) acc.blocks.push({ x: got.B, y: got.A });
         }
-        if (got.A.length && got.B.length) perBlock.push({ x: got.B, y: got.A });
       }
-      if (perBlock.length === 0) {
-        out.push({ key: spec.key, blockRatios: [], ratio: NaN, low: NaN, high: NaN, verdict: "same", status });
-        continue;
-      }
-      const s = pooledShift(perBlock, { confidence: opts.confidence ?? 0.99, seed: 7 });
-      out.push({ key: spec.key, blockRatios: s.caseRatios, ratio: s.ratio, low: s.low, high: s.high, verdict: verdictOf(s.ratio, s.low, s.high), status });
+      ran += blocks;
+      out = cases.map((spec, i) => {
+        const acc = perCase[i]!;
+        if (acc.blocks.length === 0) return { key: spec.key, blockRatios: [], ratio: NaN, low: NaN, high: NaN, verdict: "unclear", status: acc.status };
+        const s = pooledShift(acc.blocks, { confidence: opts.confidence ?? 0.99, seed: 7 });
+        return { key: spec.key, blockRatios: s.caseRatios, ratio: s.ratio, low: s.low, high: s.high, verdict: verdictOf(s.ratio, s.low, s.high), status: acc.status };
+      });
+      // Cases as the first stage, each case's paired block ratios (against 1) as the second.
+      pooled = poolAbCases(out.filter((c) => Number.isFinite(c.ratio)), opts.confidence ?? 0.99);
+      const deciding = pooled?.verdict ?? out.find((c) => Number.isFinite(c.ratio))?.verdict;
+      if (deciding !== "unclear" || ran + blocks > maxBlocks || opts.signal?.aborted) break;
+      total += cases.length * blocks * 4;
     }
   } finally {
     await laneA.close();
     await laneB.close();
     if (own) for (const dir of trees.values()) await removeCheckout(root, dir);
   }
-  // Cases as the first stage, each case's paired block ratios (against 1) as the second.
-  const pooled: AbResult["pooled"] = poolAbCases(out.filter((c) => Number.isFinite(c.ratio)), opts.confidence ?? 0.99);
-  return { base, head, blocks, repeats, cases: out, pooled, method: AB_METHOD };
+  return { base, head, blocks: ran, repeats, cases: out, pooled, method: AB_METHOD };
 }
 
 /** One line per case, then the pooled line. */

@@ -211,9 +211,9 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     // Speed findings wait for an interleaved A/B verdict (a queued "ab" job, or with `confirm` one
     // run here and now); the rest are e-mailed at once.
     const confirmNow = opts.confirm
-      ? async (p: { base: string; head: string; suite: string; cases: string[] }) => {
+      ? async (p: { base: string; head: string; suite: string; cases: string[]; blocks?: number; maxBlocks?: number }) => {
           const { runAb } = await import("./ab");
-          const r = await runAb({ db, root, base: p.base, head: p.head, suite: suite.file, cases: p.cases, signal: opts.signal, onTrial: opts.onConfirmTrial });
+          const r = await runAb({ db, root, base: p.base, head: p.head, suite: suite.file, cases: p.cases, blocks: p.blocks, maxBlocks: p.maxBlocks, signal: opts.signal, onTrial: opts.onConfirmTrial });
           // JSON has no NaN: the stored document is what `bench --ab --json` prints.
           return abResultSchema.parse(JSON.parse(JSON.stringify(r)));
         }

@@ -7,7 +7,7 @@
  * machine); they are test data, not measurements.
  */
 import { describe, expect, it } from "vitest";
-import { judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
+import { abVerdictOf, judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
 
 const H = "a".repeat(40);
 const slowBlocks = [[1.9, 1.2, 1.6, 1.4, 2.1, 1.3], [1.7, 1.5, 1.2, 1.9, 1.4, 1.6], [1.3, 1.8, 1.5, 1.6, 1.2, 1.9], [1.6, 1.4, 2.0, 1.3, 1.5, 1.7], [1.5, 1.7, 1.4, 1.8, 1.6, 1.2]];
@@ -34,12 +34,31 @@ describe("an A/B check judges each regression on its own cases", () => {
     expect(group.low!).toBeGreaterThan(1);
     const lone = judgeRegression(doc, 2, ["p0/trapezoidal/12"]);
     expect(lone.cases).toEqual(["p0/trapezoidal/12"]);
-    // One case: its own verdict as the A/B gave it.
-    expect(lone.verdict).toBe("same");
-    // All six pooled: the unrelated case drags the interval across 1.
+    // One case, faster than its baseline: cleared.
+    expect(lone.verdict).toBe("faster");
+    // All six pooled: the unrelated case drags the interval across 1, and it still reaches far above
+    // the speed floor: neither a slowdown nor a clearing.
     const all = poolAbCases(doc.cases)!;
     expect(all.low).toBeLessThan(1);
-    expect(all.verdict).toBe("same");
+    expect(all.high).toBeGreaterThan(1.1);
+    expect(all.verdict).toBe("unclear");
+  });
+
+  it("clears only an interval that excludes the suite's speed floor", () => {
+    // The intervals are CI's of 2026-12-02 (tests/runner/power-e2e.test.ts): an unchanged rerun
+    // ×1.041 [0.932, 1.156] and a planted ×1.5 slowdown of one case ×1.347 [0.986, 1.795].
+    expect(abVerdictOf(1.347, 0.986, 1.795)).toBe("unclear");
+    expect(abVerdictOf(1.041, 0.932, 1.156)).toBe("unclear");
+    expect(abVerdictOf(1.041, 0.932, 1.156, 1.2)).toBe("same");
+    expect(abVerdictOf(1.02, 0.96, 1.08)).toBe("same");
+    expect(abVerdictOf(1.3, 1.05, 1.6)).toBe("slower");
+    // Above 1 but below the ×1.03 reporting floor: not a slowdown worth a finding, and cleared.
+    expect(abVerdictOf(1.02, 1.005, 1.04)).toBe("same");
+    expect(abVerdictOf(0.7, 0.6, 0.8)).toBe("faster");
+    // A judged regression uses the floor it is given.
+    const one = { ...doc, cases: [c("q/euler/4", [1.05, 1.1, 1.0, 1.12, 1.08, 1.02])] };
+    const j = judgeRegression(one, 9, ["q/euler/4"], 1.2);
+    expect(j.verdict).toBe("same");
   });
 
   it("says so when none of a regression's cases was timed", () => {

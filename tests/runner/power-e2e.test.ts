@@ -9,7 +9,10 @@
  * per-case finding of an unchanged rerun is expected now and then and is printed, not asserted;
  * what is asserted is the verdict after the interleaved A/B that `--confirm` runs at once: no
  * regression stands for unchanged code (exit 0), and the planted commit is ONE group finding (the
- * scheme) that the A/B confirms (exit 3).
+ * scheme) that the A/B confirms (exit 3). Also seen in that CI run: the planted slowdown's case
+ * findings folded into the unchanged reruns' cleared regressions of the same cases, so only one
+ * case was put to the A/B, whose ×1.347 [0.986, 1.795] was read as "cleared". A cleared regression
+ * no longer absorbs later sightings, and such an interval is now "not decided".
  */
 import { describe, expect, it } from "vitest";
 import { realCheck } from "../../bench/power/real-check";
@@ -39,7 +42,8 @@ describe("detection power, reduced end to end, A/B-confirmed", () => {
       // A speed finding of an unchanged rerun must be cleared by the A/B; nothing else may be raised.
       const speed = r.findings.filter((f) => f.direction === "regression" && f.kind === "speed");
       expect(r.findings.filter((f) => f.direction === "regression" && f.kind !== "speed"), r.label).toEqual([]);
-      if (speed.length) expect(r.confirmation?.state, r.label).toBe("cleared");
+      // Cleared, or not decided (an interval too wide to clear, which stays open but does not fail the run).
+      if (speed.length) expect(["cleared", "unavailable"], r.label).toContain(r.confirmation?.state);
       expect(r.standing, r.label).toBe(0);
       expect(r.code, r.label).toBe(0);
     }

@@ -7,7 +7,9 @@ export const AB_STATE: Record<AbCheckView["state"], { label: string; tone: strin
   Object.entries(AB_CHECK_STATUSES).map(([k, e]) => [k, { label: e.label, tone: TONE_CLASS[e.tone], help: e.definition }]),
 ) as Record<AbCheckView["state"], { label: string; tone: string; help: string }>;
 
-const VERDICT_TONE: Record<string, string> = { slower: "text-bad", faster: "text-good", same: "" };
+const VERDICT_TONE: Record<string, string> = { slower: "text-bad", faster: "text-good", same: "", unclear: "text-warn" };
+/** "unclear": the interval neither lies above 1 nor excludes the speed floor, so it clears nothing. */
+const verdictText = (v: string) => (v === "unclear" ? "unclear: interval too wide" : v);
 
 /**
  * An A/B check: its state, then the paired ratio head/base per case and pooled, with intervals.
@@ -48,16 +50,29 @@ export function AbVerdict({ check, jobLink = true }: { check: AbCheckView; jobLi
                   <td className="pr-4">all {r.pooled.cases} cases, pooled</td>
                   <td className="pr-4">{fmtAbRatio(r.pooled.ratio, r.pooled.low, r.pooled.high)}</td>
                   <td className="pr-4">{r.blocks}</td>
-                  <td className={VERDICT_TONE[r.pooled.verdict]}>{r.pooled.verdict}</td>
+                  <td className={VERDICT_TONE[r.pooled.verdict]}>{verdictText(r.pooled.verdict)}</td>
                 </tr>
               ) : null}
+              {(r.judged ?? []).map((j) => (
+                <tr key={`r${j.regressionId}`} data-judged={j.regressionId}>
+                  <td className="pr-4">
+                    <a className="text-accent hover:underline" href={`/regressions/${j.regressionId}`}>
+                      regression {j.regressionId}
+                    </a>
+                    {j.cases.length > 1 ? `, its ${j.cases.length} cases pooled` : ""}
+                  </td>
+                  <td className="pr-4">{fmtAbRatio(j.ratio, j.low, j.high)}</td>
+                  <td className="pr-4">{r.blocks}</td>
+                  <td className={VERDICT_TONE[j.verdict ?? "unclear"]}>{j.verdict ? verdictText(j.verdict) : "not timed"}</td>
+                </tr>
+              ))}
               {r.cases.map((c) => (
                 <tr key={c.key}>
                   <td className="pr-4">{c.key}</td>
                   <td className="pr-4">{fmtAbRatio(c.ratio, c.low, c.high)}</td>
                   <td className="pr-4">{c.blockRatios.length}</td>
                   <td className={VERDICT_TONE[c.verdict]}>
-                    {c.verdict}
+                    {verdictText(c.verdict)}
                     {c.status !== "optimal" ? ` (${c.status})` : ""}
                   </td>
                 </tr>
