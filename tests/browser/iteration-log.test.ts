@@ -23,9 +23,10 @@ describe.runIf(chromiumAvailable())("the iteration log of a case", () => {
   let caseId = 0;
   let iterations = 0;
 
+  let dir = "";
   beforeAll(async () => {
     server = await startTestServer();
-    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-iterlog-"));
+    dir = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-iterlog-"));
     const suite = path.join(dir, "iterlog.json");
     fs.writeFileSync(suite, JSON.stringify({ format: "arcwatch-suite/1", name: "iterlog", problems: ["pika-rover-dash"], schemes: ["trapezoidal"], meshes: [{ intervals: 12 }], repeats: 3, warmup: 0, jobs: 1 }));
     const r = await runBenchJson<{ status: string }>(ROOT, suite, server.dbFile);
@@ -45,6 +46,7 @@ describe.runIf(chromiumAvailable())("the iteration log of a case", () => {
   afterAll(async () => {
     await closeBrowser?.();
     await server?.stop();
+    if (dir) fs.rmSync(dir, { recursive: true, force: true });
   });
 
   it("draws the measures over iterations and shows the table on demand", async () => {

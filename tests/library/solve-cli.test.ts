@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { spawnSync } from "node:child_process";
-import { mkdtempSync, writeFileSync, mkdirSync } from "node:fs";
+import { mkdtempSync, writeFileSync, mkdirSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 
@@ -43,6 +43,7 @@ describe("solve command", () => {
     mkdirSync(path.join(dir, "broken"));
     writeFileSync(path.join(dir, "broken", "problem.json"), JSON.stringify({ format: "arcwatch-problem/1", title: "x" }));
     const r = run(path.join(dir, "broken"), "--scheme", "lgr");
+    rmSync(dir, { recursive: true, force: true });
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/problem\.json/);
   });

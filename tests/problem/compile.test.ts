@@ -3,10 +3,10 @@
  * references, TeX, version hashes and the cache. Values are checked against the same model
  * written by hand below (the Plover-1 fixture's equations typed in again as TypeScript).
  */
-import { mkdtempSync, readFileSync, writeFileSync, mkdirSync } from "node:fs";
+import { mkdtempSync, readFileSync, writeFileSync, mkdirSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
-import { describe, expect, it } from "vitest";
+import { afterAll, describe, expect, it } from "vitest";
 import katex from "katex";
 import { compileProblemSource, problemVersionHash } from "~/engine/problem/compile";
 import { loadProblem, loadProblemById } from "~/engine/problem/load";
@@ -92,8 +92,12 @@ describe("compiled problem layout", () => {
   });
 });
 
+const made: string[] = [];
+afterAll(() => made.forEach((d) => rmSync(d, { recursive: true, force: true })));
+
 function tempProblem(files: Record<string, string>): string {
   const dir = mkdtempSync(path.join(tmpdir(), "arcwatch-problem-"));
+  made.push(dir);
   const folder = path.join(dir, "lab-cart");
   mkdirSync(folder);
   for (const [n, t] of Object.entries(files)) writeFileSync(path.join(folder, n), t);

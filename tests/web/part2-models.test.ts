@@ -7,12 +7,13 @@
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import { beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { formPost, useTempDatabase } from "../helpers/temp-db";
 
 useTempDatabase("part2");
 const uploads = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-part2-uploads-"));
 process.env.ARCWATCH_UPLOADED_PROBLEMS = uploads;
+afterAll(() => fs.rmSync(uploads, { recursive: true, force: true }));
 
 const { getDb } = await import("~/db/client.server");
 const { createUser } = await import("~/models/users.server");
