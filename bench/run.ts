@@ -13,7 +13,9 @@
  * `--confirm` (for CI runners): new speed regressions are put to an interleaved A/B of the baseline
  * commit against this one at once, in this process, and count towards the exit code only when it
  * confirms them (a cleared one is recorded with its verdict). Without it they count at once and the
- * server's job worker confirms them later (their e-mail waits).
+ * server's job worker confirms them later (their e-mail waits). With `--upload` too, the server's
+ * own check of the uploaded run counts: its speed regressions wait for the A/B job the server
+ * queued (polled through GET /api/runs/:id, at most --confirm-timeout seconds, default 3600).
  * Exit codes: 0 fine, 3 new regression(s), 130 interrupted (SIGINT/SIGTERM), 1 error, 2 bad usage.
  * With ARCWATCH_EVENTS_FD=<n> the progress is also written as JSON lines to file descriptor n
  * (app/runs/events.ts; the job worker reads it).
@@ -35,7 +37,7 @@ import { renderTable, fmtNum, tally } from "./runner/table";
 import { MACHINE_CLASS_PATTERN, parseShard, renderPlan } from "../app/runs/shards";
 
 const USAGE =
-  "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--confirm] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
+  "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--confirm [--confirm-timeout <s>]] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
   "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--max-blocks <n>] [--json]\n" +
   "       npm run bench -- --suite <name|file> --bisect <good>..<bad> --cases <key,...> [--blocks <n>] [--json]";
 
@@ -118,6 +120,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         cases: { type: "string" },
         blocks: { type: "string" },
         "max-blocks": { type: "string" },
+        "confirm-timeout": { type: "string", default: "3600" },
         help: { type: "boolean", default: false },
       },
       strict: true,
@@ -132,6 +135,11 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
   }
   if (!args.suite) {
     process.stderr.write(`--suite is required\n${USAGE}\n`);
+    return 2;
+  }
+  const confirmTimeout = Number(args["confirm-timeout"]);
+  if (!Number.isFinite(confirmTimeout) || confirmTimeout < 0) {
+    process.stderr.write(`--confirm-timeout takes seconds (a number ≥ 0), got "${args["confirm-timeout"]}"\n${USAGE}\n`);
     return 2;
   }
   if (args.upload && !args.token) {
@@ -176,7 +184,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
   }
   if (args.ab || args.bisect) return compareCommits(args);
   // the database, the runner and the engine are loaded only now, so that --help answers at once
-  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun }, { RUN_EVENTS_FD_ENV, formatRunEvent }] = await Promise.all([
+  const [{ closeDb, getDb, openDatabase }, { stopStandin }, { runSuite }, { uploadRun, awaitServerConfirmation }, { RUN_EVENTS_FD_ENV, formatRunEvent }] = await Promise.all([
     import("../app/db/client.server"),
     import("../app/services/mail.server"),
     import("./runner/run-suite"),
@@ -230,6 +238,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
       machineClass: machineClassLabel ?? null,
     });
     let uploaded: { url: string; status: number; body: unknown } | null = null;
+    let serverConfirmation: Awaited<ReturnType<typeof awaitServerConfirmation>> = null;
     let exitCode = summary.exitCode;
     if (args.upload && summary.status !== "interrupted") {
       uploaded = await uploadRun(db, summary.runId, args.upload, args.token!, {
@@ -237,8 +246,16 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         machineClass: machineClassLabel ?? null,
       });
       // The server's check of the uploaded run (for a shard: of the merged run, by the upload that completed it).
-      const remote = uploaded.body as { newRegressions?: unknown } | null;
-      if (exitCode === 0 && typeof remote?.newRegressions === "number" && remote.newRegressions > 0) exitCode = EXIT_REGRESSION;
+      const remote = uploaded.body as { newRegressions?: unknown; abJobId?: unknown; runId?: unknown } | null;
+      let remoteStanding = typeof remote?.newRegressions === "number" ? remote.newRegressions : 0;
+      if (args.confirm && remoteStanding > 0 && typeof remote?.abJobId === "number" && typeof remote.runId === "string") {
+        // `--confirm` with `--upload`: the server queued an A/B job on its speed regressions; wait for its verdict.
+        const verdict = await awaitServerConfirmation(uploaded.url, remote.runId, args.token!, confirmTimeout, args.json ? undefined : (s) => process.stderr.write(`\r\x1b[2K${s}`));
+        if (!args.json) process.stderr.write("\n");
+        serverConfirmation = verdict;
+        if (verdict && verdict.state !== "awaiting") remoteStanding -= verdict.regressionIds.length - verdict.standing.length;
+      }
+      if (exitCode === 0 && remoteStanding > 0) exitCode = EXIT_REGRESSION;
     }
     if (args.json) {
       const out = {
@@ -262,11 +279,13 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         standing: summary.alerts ? summary.alerts.standing : (summary.detection?.newRegressions ?? 0),
         alerts: summary.alerts,
         uploaded,
+        serverConfirmation,
       };
       process.stdout.write(`${JSON.stringify(out, null, 2)}\n`);
     } else {
       process.stdout.write(`${summaryText(summary, tally(summary.outcomes))}\n`);
       if (uploaded) process.stdout.write(`uploaded to ${uploaded.url} (HTTP ${uploaded.status})${uploadNote(uploaded.body)}\n`);
+      if (serverConfirmation) process.stdout.write(`server's interleaved A/B: ${serverConfirmation.state === "awaiting" ? "no verdict in time: the speed regression(s) stand unconfirmed" : `${serverConfirmation.note ?? serverConfirmation.state}; ${serverConfirmation.standing.length} of ${serverConfirmation.regressionIds.length} speed regression(s) stand`}\n`);
     }
     return exitCode;
   } catch (err) {

@@ -282,3 +282,15 @@ export function latestAbOf(db: Db, ids: readonly number[]): Map<number, Regressi
   }
   return out;
 }
+
+/**
+ * The automatic A/B confirmation of a run's speed regressions (the latest check queued by its
+ * detection), as `bench --upload --confirm` polls it through GET /api/runs/:id: its state and
+ * which of its regressions stand (count), were cleared, or could not be decided.
+ */
+export function confirmationOfRun(db: Db, runId: string): { state: AbCheckState; jobId: number | null; note: string | null; regressionIds: number[]; standing: number[]; undecided: number[] } | null {
+  const r = db.select().from(abChecks).where(sql`${abChecks.runId} = ${runId} and ${abChecks.auto} = 1`).orderBy(desc(abChecks.id)).limit(1).get();
+  if (!r) return null;
+  const c = view(r);
+  return { state: c.state, jobId: c.jobId, note: c.note, regressionIds: c.regressionIds, standing: standingOfCheck(c), undecided: c.state === "awaiting" ? [] : undecidedOfCheck(c) };
+}

@@ -28,7 +28,7 @@ import type { Db } from "~/db/client.server";
 import { caseResults, runShards, runs, suites, type RunStatus } from "~/db/schema";
 import type { RunPayload } from "~/runs/payload";
 import { canonicalJson, sha256 } from "~/runs/suite";
-import { afterRun } from "./detection.server";
+import { afterRun, type Detection } from "./detection.server";
 import { ensureSuite, storePayloadCases } from "./recording.server";
 
 /** Hours a sharded run waits for its last shard (ARCWATCH_SHARD_DEADLINE_HOURS, default 6). */
@@ -276,7 +276,7 @@ export function shardProgress(db: Db, runIds: string[]): Map<string, { in: numbe
 }
 
 export type ShardIngest =
-  | { ok: true; created: boolean; runId: string; newRegressions: number; shard: { index: number; count: number; in: number; completed: boolean; status: string; note: string | null } }
+  | { ok: true; created: boolean; runId: string; newRegressions: number; shard: { index: number; count: number; in: number; completed: boolean; status: string; note: string | null }; detection: Detection | null; suiteName: string }
   | { ok: false; status: 400 | 409; error: string };
 
 /**
@@ -318,5 +318,7 @@ export function ingestShard(db: Db, p: RunPayload, tokenId: number | null): Shar
     runId: out.runId,
     newRegressions: detection?.newRegressions ?? 0,
     shard: { index: shard.index, count: out.shardCount, in: out.shardsIn, completed: out.completed, status: out.status, note: out.note },
+    detection,
+    suiteName: p.suite.name,
   };
 }

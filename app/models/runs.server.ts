@@ -12,7 +12,7 @@ import type { Db } from "~/db/client.server";
 import { caseResults, regressions, runs, suites, RUN_STATUSES, type RunRow } from "~/db/schema";
 import { runPayloadSchema } from "~/runs/payload";
 import { SOLVED_STATUSES } from "~/runs/types";
-import { afterRun } from "./detection.server";
+import { afterRun, type Detection } from "./detection.server";
 import { storeRunPayload } from "./recording.server";
 import { ingestShard, shardProgress } from "./run-groups.server";
 
@@ -270,7 +270,16 @@ export function getRun(db: Db, id: string): RunDetail | null {
 export const MAX_INGEST_BYTES = 32 * 1024 * 1024;
 
 export type IngestOutcome =
-  | { ok: true; created: boolean; runId: string; newRegressions: number; shard?: { index: number; count: number; in: number; completed: boolean; status: string; note: string | null } }
+  | {
+      ok: true;
+      created: boolean;
+      runId: string;
+      newRegressions: number;
+      shard?: { index: number; count: number; in: number; completed: boolean; status: string; note: string | null };
+      /** The check's findings, for the step after it (alerts, A/B); not part of the HTTP answer. */
+      detection?: Detection | null;
+      suiteName?: string;
+    }
   | { ok: false; status: 400 | 403 | 409 | 413; error: string; issues?: { path: string; message: string }[] };
 
 /** Reads a request body up to `limit` bytes; null when it is larger. */
@@ -328,7 +337,7 @@ export function ingestRun(db: Db, text: string, by: { tokenId?: number | null; s
     throw err;
   }
   const detection = afterRun(db, id);
-  return { ok: true, created: true, runId: id, newRegressions: detection?.newRegressions ?? 0 };
+  return { ok: true, created: true, runId: id, newRegressions: detection?.newRegressions ?? 0, detection, suiteName: parsed.data.suite.name };
 }
 
 // ---------------------------------------------------------------------------------------

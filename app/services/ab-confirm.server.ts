@@ -177,7 +177,7 @@ function heldNote(c: AbCheckView): string {
   return `Confirmed by interleaved A/B: the flagged commit against its baseline, run alternately in one sitting: ${fmtAbRatio(s?.ratio ?? null, s?.low ?? null, s?.high ?? null)}.`;
 }
 
-function commitMetaOfRun(db: Db, runId: string): CommitMeta | null {
+export function commitMetaOfRun(db: Db, runId: string): CommitMeta | null {
   const r = db.select({ commitHash: runs.commitHash, branch: runs.branch, subject: runs.commitSubject, author: runs.commitAuthor, date: runs.commitDate, dirty: runs.dirty }).from(runs).where(eq(runs.id, runId)).get();
   return r ?? null;
 }

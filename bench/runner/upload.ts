@@ -40,3 +40,27 @@ export async function uploadRun(db: Db, runId: string, url: string, token: strin
   if (!res.ok) throw new Error(`upload to ${target} failed: HTTP ${res.status} ${typeof body === "string" ? body.slice(0, 300) : JSON.stringify(body).slice(0, 300)}`);
   return { url: target, status: res.status, body };
 }
+
+export type ServerConfirmation = { state: string; jobId: number | null; note: string | null; regressionIds: number[]; standing: number[]; undecided: number[] };
+
+/**
+ * Polls GET /api/runs/:id on the server an upload went to until the A/B check of the run's speed
+ * regressions has a verdict (an upload token may read the runs it uploaded). Null when the server
+ * has no check for the run; the last state ("awaiting") when `timeoutSeconds` pass first.
+ */
+export async function awaitServerConfirmation(uploadUrl: string, runId: string, token: string, timeoutSeconds: number, progress?: (s: string) => void, pollMs = 3000): Promise<ServerConfirmation | null> {
+  const url = new URL(`/api/runs/${encodeURIComponent(runId)}`, uploadUrl);
+  const until = Date.now() + timeoutSeconds * 1000;
+  let last: ServerConfirmation | null = null;
+  for (;;) {
+    try {
+      const r = await fetch(url, { headers: { authorization: `Bearer ${token}`, accept: "application/json" } });
+      if (r.ok) last = ((await r.json()) as { confirmation?: ServerConfirmation | null }).confirmation ?? null;
+    } catch {
+      // The server may be restarting: keep polling until the deadline.
+    }
+    if (!last || last.state !== "awaiting" || Date.now() >= until) return last;
+    progress?.(`waiting for the server's interleaved A/B (job ${last.jobId}) on ${last.regressionIds.length} speed regression(s)…`);
+    await new Promise((res) => setTimeout(res, pollMs));
+  }
+}
