@@ -38,6 +38,7 @@ const { values: args } = parseArgs({
     unchanged: { type: "string", default: "528" },
     "no-ab": { type: "boolean", default: false },
     "no-real": { type: "boolean", default: false },
+    "only-speed": { type: "boolean", default: false },
     seed: { type: "string", default: "1" },
     replicates: { type: "string", default: "400" },
   },
@@ -81,7 +82,7 @@ const trials = Number(args.trials);
 const unchanged = Number(args.unchanged);
 const seed0 = Number(args.seed);
 // The automatic confirmation's blocks: rounds of 6 while the verdict is unclear, up to 18.
-const opts = { thresholds: t, repeats, ab: !args["no-ab"], abBlocks: AB_CONFIRM_BLOCKS.blocks, abMaxBlocks: AB_CONFIRM_BLOCKS.maxBlocks, abRepeats: 3, abReplicates: Number(args.replicates) };
+const opts = { thresholds: t, repeats, ab: !args["no-ab"], abBlocks: AB_CONFIRM_BLOCKS.blocks, abMaxBlocks: AB_CONFIRM_BLOCKS.maxBlocks, abRepeats: 3, abReplicates: Number(args.replicates), screen: true };
 interface Row { label: string; n: number; out: TrialOutcome[] }
 const rows: Row[] = [];
 const pairs: [number, number][] = [];
@@ -93,11 +94,11 @@ const run = (label: string, n: number, plantOf: (i: number) => Plant) => {
   process.stderr.write(`simulated ${label} (${n} trials, load ${load()})\n`);
 };
 const oneScheme = (i: number): Placement => ({ kind: "scheme", scheme: schemes[i % schemes.length]! });
-for (const size of [0.05, 0.1, 0.2, 0.5]) {
+for (const size of args["only-speed"] ? [0.1, 0.2] : [0.05, 0.1, 0.2, 0.5]) {
   run(`+${Math.round(size * 100)} %, one scheme`, trials, (i) => ({ placement: oneScheme(i), slowdown: size, accuracyFactor: 1 }));
   run(`+${Math.round(size * 100)} %, whole suite`, trials, () => ({ placement: { kind: "suite" }, slowdown: size, accuracyFactor: 1 }));
 }
-for (const factor of [1.5, 3, 10]) run(`errors ×${factor}, one scheme`, Math.min(trials, 50), (i) => ({ placement: oneScheme(i), slowdown: 0, accuracyFactor: factor }));
+if (!args["only-speed"]) for (const factor of [1.5, 3, 10]) run(`errors ×${factor}, one scheme`, Math.min(trials, 50), (i) => ({ placement: oneScheme(i), slowdown: 0, accuracyFactor: factor }));
 run("unchanged", unchanged, () => ({ placement: { kind: "none" }, slowdown: 0, accuracyFactor: 1 }));
 
 const count = (out: TrialOutcome[], f: (o: TrialOutcome) => boolean) => out.filter(f).length;
@@ -126,6 +127,14 @@ if (u.out[0]!.ab) {
   const g10 = count(oneTenRow(), gated) / oneTenRow().length, g20 = count(rows.find((r) => r.label === "+20 %, one scheme")!.out, gated) / trials;
   const gu = count(u.out, (o) => gatedAlarm(o) || o.accuracy.alarm) / u.n;
   console.log(`With --confirm (flagged, then A/B): +10 % one scheme ${(100 * g10).toFixed(1)} %, +20 % ${(100 * g20).toFixed(1)} %, unchanged ${(100 * gu).toFixed(1)} % → ${g10 >= 0.95 && g20 === 1 && gu <= 0.01 ? "met" : "NOT met"}`);
+}
+if (u.out[0]!.screen) {
+  const rate = (out: TrialOutcome[], f: (o: TrialOutcome) => boolean) => (out.length ? `${((100 * out.filter(f).length) / out.length).toFixed(1)} %` : "—");
+  const meanChecks = (out: TrialOutcome[]) => (out.reduce((a, o) => a + (o.screen?.checks ?? 0), 0) / Math.max(1, out.length)).toFixed(2);
+  console.log(`\nScreening, then A/B against the pooled floor ×${t.pooledSpeedRatio} (every scheme whose cases moved by more than it, or with a finding; ${opts.abBlocks} blocks, up to ${opts.abMaxBlocks} while unclear):`);
+  console.log("| planted | detected | other schemes raised | A/B checks per run |");
+  console.log("|---|---|---|---|");
+  for (const r of rows) if (r.out[0]?.screen) console.log(`| ${r.label} | ${r.label === "unchanged" ? "—" : rate(r.out, (o) => !!o.screen?.detected)} | ${rate(r.out, (o) => !!o.screen?.alarm)} | ${meanChecks(r.out)} |`);
 }
 function oneTenRow() {
   return rows.find((r) => r.label === "+10 %, one scheme")!.out;

@@ -35,6 +35,11 @@ export interface TrialOutcome {
   /** Anything the product raises from one run (per-case or pooled, speed or accuracy). */
   any: { detected: boolean; alarm: boolean };
   ab: { detected: boolean; alarm: boolean } | null;
+  /**
+   * Screening (`--confirm`): every scheme whose cases moved by more than the pooled floor as a
+   * point estimate (or that has a finding) is put to an A/B judged against that floor.
+   */
+  screen: { detected: boolean; alarm: boolean; checks: number } | null;
   accuracy: { detected: boolean; alarm: boolean; findings: number };
 }
 
@@ -121,6 +126,8 @@ export interface TrialOptions {
   abBlocks: number;
   /** Rounds of `abBlocks` while unclear, up to this many blocks (default: no extension). */
   abMaxBlocks?: number;
+  /** Simulate screening too (see TrialOutcome.screen). */
+  screen?: boolean;
   abRepeats: number;
   /** Bootstrap replicates of the A/B intervals (bench/runner/ab.ts uses 2000). */
   abReplicates: number;
@@ -170,7 +177,27 @@ export function runTrial(model: NoiseModel, runs: NoiseRun[], pair: [number, num
     const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.speedRatio, o.abRepeats, seed, o.abReplicates);
     ab = { detected: speedPlanted && slower, alarm: !speedPlanted && slower };
   }
-  return { perCase, pooled, any, ab, accuracy: acc };
+  let screen: TrialOutcome["screen"] = null;
+  if (o.ab && o.screen && plant.accuracyFactor === 1) {
+    const schemes = [...new Set(model.keys.map((k) => model.cases.get(k)!.scheme))];
+    const med = (v: number[]) => [...v].sort((a, b) => a - b)[v.length >> 1]!;
+    const flaggedSchemes = new Set([...speedCases, ...groups].map((f) => (f.scope === "scheme" ? f.caseKey.slice("scheme:".length) : f.scope === "suite" ? "*" : (model.cases.get(f.caseKey)?.scheme ?? ""))));
+    let detected = false;
+    let alarm = false;
+    let checks = 0;
+    for (const scheme of schemes) {
+      const keys = model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
+      const ln = keys.reduce((a, k) => a + Math.log(med(now.get(k)!.samples) / med(base.get(k)!.samples)), 0) / keys.length;
+      if (!(Math.exp(ln) > o.thresholds.pooledSpeedRatio || flaggedSchemes.has(scheme) || flaggedSchemes.has("*"))) continue;
+      checks++;
+      const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.pooledSpeedRatio, o.abRepeats, seed, o.abReplicates);
+      if (!slower) continue;
+      if (speedPlanted && affects(plant.placement, scheme)) detected = true;
+      else alarm = true;
+    }
+    screen = { detected, alarm, checks };
+  }
+  return { perCase, pooled, any, ab, screen, accuracy: acc };
 }
 
 /**

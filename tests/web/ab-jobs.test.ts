@@ -4,13 +4,10 @@
  * and how a finished check settles the regressions it judges (a "same" verdict clears them and
  * sends no e-mail; a failed job leaves them unconfirmed and sends the held e-mail saying so).
  */
-import { execFileSync } from "node:child_process";
 import { randomBytes } from "node:crypto";
-import fs from "node:fs";
-import os from "node:os";
-import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { useTempDatabase } from "../helpers/temp-db";
+import { twoCommitRepo } from "../helpers/two-commit-repo";
 
 useTempDatabase("abjobs");
 
@@ -24,33 +21,21 @@ const { parseDiff } = await import("~/services/diff-view.server");
 const { stopStandin } = await import("~/services/mail.server");
 const { eq } = await import("drizzle-orm");
 
-const ROOT = path.resolve(import.meta.dirname, "..", "..");
-const GIT_ENV = { ...process.env, GIT_AUTHOR_NAME: "T", GIT_AUTHOR_EMAIL: "t@example.com", GIT_COMMITTER_NAME: "T", GIT_COMMITTER_EMAIL: "t@example.com" };
-const git = (cwd: string, ...args: string[]) => execFileSync("git", args, { cwd, encoding: "utf8", env: GIT_ENV }).trim();
-
 let repo = "";
 let c1 = "";
 let c2 = "";
+let removeRepo = () => {};
 
 beforeAll(() => {
-  repo = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-abjobs-repo-"));
-  fs.cpSync(path.join(ROOT, "problems", "pika-rover-dash"), path.join(repo, "problems", "pika-rover-dash"), { recursive: true });
-  fs.mkdirSync(path.join(repo, "bench", "suites"), { recursive: true });
-  fs.writeFileSync(path.join(repo, "bench", "suites", "duo.json"), JSON.stringify({ format: "arcwatch-suite/1", name: "duo", problems: ["pika-rover-dash"], schemes: ["euler", "lgr"], meshes: [{ intervals: 6 }] }));
-  fs.writeFileSync(path.join(repo, "bench", "suites", "far.json"), JSON.stringify({ format: "arcwatch-suite/1", name: "far", problems: ["pika-rover-dash"], schemes: ["euler"], meshes: [{ intervals: 6 }], solver: { kind: "external", label: "x", command: ["x"], repository: "." } }));
-  git(repo, "init", "-q", "-b", "main");
-  git(repo, "add", "-A");
-  git(repo, "commit", "-q", "-m", "one");
-  c1 = git(repo, "rev-parse", "HEAD");
-  fs.writeFileSync(path.join(repo, "notes.txt"), "two\n");
-  git(repo, "add", "-A");
-  git(repo, "commit", "-q", "-m", "two");
-  c2 = git(repo, "rev-parse", "HEAD");
+  ({ repo, c1, c2, remove: removeRepo } = twoCommitRepo("abjobs", [
+    { format: "arcwatch-suite/1", name: "duo", problems: ["pika-rover-dash"], schemes: ["euler", "lgr"], meshes: [{ intervals: 6 }] },
+    { format: "arcwatch-suite/1", name: "far", problems: ["pika-rover-dash"], schemes: ["euler"], meshes: [{ intervals: 6 }], solver: { kind: "external", label: "x", command: ["x"], repository: "." } },
+  ]));
 });
 
 afterAll(async () => {
   await stopStandin();
-  fs.rmSync(repo, { recursive: true, force: true });
+  removeRepo();
 });
 
 describe("the check of an ab job", () => {

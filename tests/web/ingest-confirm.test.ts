@@ -6,14 +6,12 @@
  * ones wait for the verdict, GET /api/runs/:id carries it, and `awaitServerConfirmation` (what
  * `bench --upload --confirm` polls with) waits for it. Timings here are invented test data.
  */
-import { execFileSync } from "node:child_process";
-import fs from "node:fs";
 import http from "node:http";
-import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { useTempDatabase } from "../helpers/temp-db";
 import { pikaCase, runHeader } from "../helpers/run-payload";
+import { twoCommitRepo } from "../helpers/two-commit-repo";
 
 useTempDatabase("ingestconf");
 
@@ -27,31 +25,17 @@ const { loadSuite } = await import("~/runs/suite");
 const { PAYLOAD_FORMAT } = await import("~/runs/payload");
 const { awaitServerConfirmation } = await import("../../bench/runner/upload");
 
-const ROOT = path.resolve(import.meta.dirname, "..", "..");
-const GIT_ENV = { ...process.env, GIT_AUTHOR_NAME: "T", GIT_AUTHOR_EMAIL: "t@example.com", GIT_COMMITTER_NAME: "T", GIT_COMMITTER_EMAIL: "t@example.com" };
-const git = (cwd: string, ...args: string[]) => execFileSync("git", args, { cwd, encoding: "utf8", env: GIT_ENV }).trim();
-
 const BASE_ID = crypto.randomUUID();
 const HEAD_ID = crypto.randomUUID();
 let repo = "";
 let c1 = "";
 let c2 = "";
+let removeRepo = () => {};
 let token = "";
 let suite: ReturnType<typeof loadSuite>;
 
 beforeAll(() => {
-  repo = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-ingestconf-repo-"));
-  fs.cpSync(path.join(ROOT, "problems", "pika-rover-dash"), path.join(repo, "problems", "pika-rover-dash"), { recursive: true });
-  fs.mkdirSync(path.join(repo, "bench", "suites"), { recursive: true });
-  fs.writeFileSync(path.join(repo, "bench", "suites", "trio.json"), JSON.stringify({ format: "arcwatch-suite/1", name: "trio", problems: ["pika-rover-dash"], schemes: ["trapezoidal"], meshes: [{ intervals: 10 }, { intervals: 11 }, { intervals: 12 }] }));
-  git(repo, "init", "-q", "-b", "main");
-  git(repo, "add", "-A");
-  git(repo, "commit", "-q", "-m", "one");
-  c1 = git(repo, "rev-parse", "HEAD");
-  fs.writeFileSync(path.join(repo, "notes.txt"), "two\n");
-  git(repo, "add", "-A");
-  git(repo, "commit", "-q", "-m", "two");
-  c2 = git(repo, "rev-parse", "HEAD");
+  ({ repo, c1, c2, remove: removeRepo } = twoCommitRepo("ingestconf", [{ format: "arcwatch-suite/1", name: "trio", problems: ["pika-rover-dash"], schemes: ["trapezoidal"], meshes: [{ intervals: 10 }, { intervals: 11 }, { intervals: 12 }] }]));
   process.env.ARCWATCH_REPO = repo;
   suite = loadSuite(path.join(repo, "bench", "suites", "trio.json"));
   const db = getDb();
@@ -62,7 +46,7 @@ beforeAll(() => {
 
 afterAll(async () => {
   await stopStandin();
-  fs.rmSync(repo, { recursive: true, force: true });
+  removeRepo();
 });
 
 const samples = (m: number) => Array.from({ length: 12 }, (_, i) => m * (1 + 0.01 * ((i * 7) % 5)));
