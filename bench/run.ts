@@ -77,7 +77,10 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
   }
   if (s.alerts) parts.push(`alerts: ${s.alerts.sent.length} sent${s.alerts.errors.length ? `, ${s.alerts.errors.length} failed` : ""}`);
   const c = s.alerts?.check;
-  if (c && c.jobId === null) parts.push(c.note ?? `interleaved A/B: ${c.state}`, c.state === "cleared" ? "the speed regression(s) were cleared: they do not fail this run" : c.state === "confirmed" ? "the speed regression(s) stand" : "the speed regression(s) stand unconfirmed");
+  if (c && c.jobId === null && s.alerts) {
+    const screened = s.alerts.screened.length ? `, ${s.alerts.screened.length} of them found by screening (a scheme no rule flagged that the A/B found slower)` : "";
+    parts.push(c.note ?? `interleaved A/B: ${c.state}`, `${s.alerts.standing} new regression(s) stand after the A/B${screened}; a speed regression it cleared or could not decide on does not fail this run`);
+  }
   if (s.alerts?.abJobId) parts.push(`speed regression(s) await interleaved A/B job ${s.alerts.abJobId}: their e-mail goes out once it confirms them`);
   else if (s.alerts?.unconfirmed) parts.push(`speed regression(s) e-mailed unconfirmed: ${s.alerts.unconfirmed}`);
   return parts.join("\n");

@@ -8,7 +8,7 @@ import type { Db } from "~/db/client.server";
 import { abChecks, regressionEvents, regressionMembers, regressions, runs, suites, type AbCheckState } from "~/db/schema";
 import type { Thresholds } from "~/runs/types";
 import { effectiveThresholds } from "./settings.server";
-import { abSaysSlower, fmtAbRatio, judgeRegression, type AbResultDoc } from "~/runs/ab-result";
+import { abSaysSlower, fmtAbRatio, judgeRegression, type AbJudged, type AbResultDoc } from "~/runs/ab-result";
 import type { Finding } from "~/runs/rules";
 
 export interface AbCheckView {
@@ -141,11 +141,40 @@ export function commitsOfRegression(db: Db, id: number): { base: string | null; 
   return { base, head: r.head, suiteName: r.suiteName };
 }
 
-/** The slowdown an A/B must exclude to clear a finding: the suite's per-case speed floor. */
-function clearBelowOf(db: Db, c: { suiteName: string; runId: string | null }): number {
+/**
+ * The slowdown an A/B must exclude to clear a finding: the suite's per-case speed floor for a case
+ * regression, its pooled floor for a group (a group is flagged from that size on).
+ */
+function clearBelowOf(db: Db, c: { suiteName: string; runId: string | null }): { case: number; group: number } {
   const fromRun = c.runId ? db.select({ t: suites.thresholdsJson }).from(runs).innerJoin(suites, eq(runs.suiteId, suites.id)).where(eq(runs.id, c.runId)).get() : undefined;
   const fromSuite = fromRun ?? db.select({ t: suites.thresholdsJson }).from(suites).where(eq(suites.name, c.suiteName)).orderBy(desc(suites.id)).limit(1).get();
-  return effectiveThresholds(db, c.suiteName, (fromSuite?.t ?? {}) as Partial<Thresholds>).speedRatio;
+  const t = effectiveThresholds(db, c.suiteName, (fromSuite?.t ?? {}) as Partial<Thresholds>);
+  return { case: t.speedRatio, group: t.pooledSpeedRatio };
+}
+
+/** A check that only screened schemes and found none slower: "cleared", whatever the pooled verdict of all its cases. */
+export function closeScreening(db: Db, id: number, schemes: number): AbCheckView | null {
+  const c = getAbCheck(db, id);
+  if (!c || c.state === "unavailable") return c;
+  db.update(abChecks)
+    .set({ state: "cleared", note: `Screening: interleaved A/B found none of the ${schemes} scheme(s) that moved slower against the suite's pooled floor. ${c.note ?? ""}`.trim() })
+    .where(eq(abChecks.id, id))
+    .run();
+  return getAbCheck(db, id);
+}
+
+/**
+ * Adds a regression found by screening to a settled check with its verdict (slower): the check
+ * then judges it like the others, and is "confirmed".
+ */
+export function addJudged(db: Db, id: number, j: AbJudged): void {
+  const c = getAbCheck(db, id);
+  if (!c || !c.result) return;
+  const result = { ...c.result, judged: [...(c.result.judged ?? []), j] };
+  db.update(abChecks)
+    .set({ regressionIds: [...c.regressionIds, j.regressionId], resultJson: result, state: j.verdict === "slower" ? "confirmed" : c.state })
+    .where(eq(abChecks.id, id))
+    .run();
 }
 
 const VERDICT_WORD = { slower: "Confirmed", faster: "Cleared", same: "Cleared", unclear: "Not decided" } as const;
@@ -171,9 +200,12 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
     state = "unavailable";
     note = `Interleaved A/B could not decide: ${outcome.error}`;
   } else {
-    const floor = clearBelowOf(db, c);
-    const judged = c.regressionIds.map((rid) => judgeRegression(outcome.result, rid, affectedCases(db, [rid]), floor));
+    const floors = clearBelowOf(db, c);
+    const scopes = new Map(c.regressionIds.length ? db.select({ id: regressions.id, scope: regressions.scope }).from(regressions).where(inArray(regressions.id, c.regressionIds)).all().map((r) => [r.id, r.scope] as const) : []);
+    const floorOf = (rid: number) => (scopes.get(rid) && scopes.get(rid) !== "case" ? floors.group : floors.case);
+    const judged = c.regressionIds.map((rid) => judgeRegression(outcome.result, rid, affectedCases(db, [rid]), floorOf(rid)));
     result = { ...outcome.result, judged };
+    const floor = floors.case;
     const s = abSaysSlower(outcome.result, floor);
     const timed = judged.filter((j) => j.verdict !== null);
     if (c.regressionIds.length ? timed.length === 0 : !s) {
@@ -184,13 +216,13 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
       state = verdicts.includes("slower") ? "confirmed" : verdicts.includes("unclear") ? "unavailable" : "cleared";
       const head = `interleaved A/B (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)}`;
       const scope = outcome.result.pooled ? `all ${outcome.result.pooled.cases} cases pooled` : outcome.result.cases[0]?.key ?? "";
-      const tail = (ratio: number | null, low: number | null, high: number | null, v: string) =>
-        `${fmtAbRatio(ratio, low, high)} (${outcome.result.blocks} blocks)${v === "unclear" ? `: the interval neither lies above 1 nor excludes the suite's ×${floor} speed floor; the finding stays open` : ""}.`;
+      const tail = (ratio: number | null, low: number | null, high: number | null, v: string, f = floor) =>
+        `${fmtAbRatio(ratio, low, high)} (${outcome.result.blocks} blocks)${v === "unclear" ? `: the interval neither lies above 1 nor excludes the suite's ×${f} speed floor; the finding stays open` : ""}.`;
       const word = state === "confirmed" ? "Confirmed" : state === "cleared" ? "Cleared" : "Not decided";
       note = `${word} by ${head}, ${scope}: ${tail(s?.ratio ?? null, s?.low ?? null, s?.high ?? null, state === "unavailable" ? "unclear" : "")}`;
       for (const j of judged) {
         const what = j.cases.length > 1 ? `its ${j.cases.length} cases pooled` : (j.cases[0] ?? "no case timed");
-        perRegression.set(j.regressionId, j.verdict === null ? `Interleaved A/B timed none of its cases (${byWhom(c.jobId)}).` : `${VERDICT_WORD[j.verdict]} by ${head}, ${what}: ${tail(j.ratio, j.low, j.high, j.verdict)}`);
+        perRegression.set(j.regressionId, j.verdict === null ? `Interleaved A/B timed none of its cases (${byWhom(c.jobId)}).` : `${VERDICT_WORD[j.verdict]} by ${head}, ${what}: ${tail(j.ratio, j.low, j.high, j.verdict, floorOf(j.regressionId))}`);
       }
     }
   }

@@ -24,7 +24,7 @@ import { and, desc, eq, inArray, ne } from "drizzle-orm";
 import type { Db } from "~/db/client.server";
 import { caseResults, problemVersions, regressionEvents, regressionMembers, regressions, regressionSightings, runs, suites, timingSamples } from "~/db/schema";
 import { referenceArcsOfJson } from "~/engine/problem/library";
-import { pooledFindings } from "~/runs/pooled";
+import { groupKey, pooledFindings, schemeSuspects, type SchemeSuspect } from "~/runs/pooled";
 import { caseCalibration, compareCases, driftFinding, type CaseSnapshot, type DriftPoint, type Finding, type ReferenceArcs } from "~/runs/rules";
 import { isSolved, type Thresholds } from "~/runs/types";
 import { effectiveThresholds } from "./settings.server";
@@ -42,6 +42,8 @@ export interface Detection {
   fixed: number[];
   /** Findings folded into a regression already open on the branch (seen again, triage kept). */
   carried: { id: number; finding: Finding }[];
+  /** Schemes that moved past the pooled floor without a finding: `bench --confirm` screens them by A/B. */
+  suspects?: SchemeSuspect[];
 }
 
 type RunRow = typeof runs.$inferSelect;
@@ -222,9 +224,11 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
   const timings = run.timingsCompared;
   const baseline = findBaseline(db, { runId, suiteName, machineKey: timings ? run.machineKey : null, commit: options.baseline?.commit, branch: options.baseline?.branch, runCommit: run.commitHash, externalRepo: run.externalRepo });
   const findings: Finding[] = [];
+  let suspects: SchemeSuspect[] = [];
   if (baseline) {
     const now = loadCases(db, runId);
     const base = loadCases(db, baseline.id);
+    if (timings) suspects = schemeSuspects(now, base, t);
     // Group findings first: pages and e-mails show them before their member cases. A merged run whose
     // shards came from different machine classes keeps its accuracy checks only.
     findings.push(...pooledFindings(now, base, t).filter((f) => timings || f.kind !== "speed"));
@@ -317,7 +321,31 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
     newRegressions: inserted.filter((i) => i.finding.direction === "regression").length,
     fixed,
     carried,
+    // Schemes already found slower are not screened again.
+    suspects: suspects.filter((x) => !findings.some((f) => f.kind === "speed" && f.direction === "regression" && f.caseKey === groupKey("scheme", x.scheme))),
   };
+}
+
+/**
+ * A scheme slowdown that screening put to an interleaved A/B and the A/B confirmed (`bench
+ * --confirm`; app/services/ab-confirm.server.ts): stored as a group regression of the run, with the
+ * A/B's paired ratio and interval as its evidence (no sequential p-value: the run alone did not
+ * flag it) and its member cases.
+ */
+export function insertScreenedRegression(db: Db, at: { runId: string; baselineRunId: string | null; commitHash: string }, s: SchemeSuspect, ab: { ratio: number; low: number; high: number; note: string }): number {
+  return db.transaction((tx) => {
+    const row = tx
+      .insert(regressions)
+      .values({ runId: at.runId, baselineRunId: at.baselineRunId, caseKey: groupKey("scheme", s.scheme), kind: "speed", direction: "regression", metric: "pooled_median_ratio", before: null, after: null, ratio: ab.ratio, pValue: null, ciLow: ab.low, ciHigh: ab.high, status: "open", scope: "scheme" })
+      .returning({ id: regressions.id })
+      .get();
+    for (const m of s.members) tx.insert(regressionMembers).values({ regressionId: row.id, caseKey: m.caseKey, problemId: m.problemId, ratio: finiteOrNull(m.ratio) }).run();
+    tx.insert(regressionSightings).values({ regressionId: row.id, runId: at.runId, commitHash: at.commitHash, ratio: ab.ratio, ciLow: ab.low, ciHigh: ab.high, pValue: null }).onConflictDoNothing().run();
+    tx.insert(regressionEvents)
+      .values({ regressionId: row.id, userId: null, fromStatus: null, toStatus: "open", note: `Found by screening in run ${at.runId} at ${at.commitHash.slice(0, 10)}: ${s.scheme}, all ${s.members.length} cases moved ×${s.ratio.toFixed(2)} against the baseline${s.relative !== null ? ` (×${s.relative.toFixed(2)} against the run's other schemes)` : ""}, below the evidence a finding needs; ${ab.note}` })
+      .run();
+    return row.id;
+  });
 }
 
 const finiteOrNull = (v: number | null) => (v !== null && Number.isFinite(v) ? v : null);

@@ -59,17 +59,58 @@ function judge(members: Timed[], t: Thresholds, key: string): { ratio: number; l
   return null;
 }
 
-/**
- * Group findings of one run against its baseline (pure given the rows). `calibrationFactor` and
- * the case-level calibrations are applied as in the per-case rule (./rules.ts).
- */
-export function pooledFindings(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>, t: Thresholds): Finding[] {
+/** The timed cases two runs share (both solved, at least 3 samples each). */
+function timedCases(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>): Timed[] {
   const timed: Timed[] = [];
   for (const [key, cur] of now) {
     const old = base.get(key);
     if (!old || !isSolved(cur.status) || !isSolved(old.status) || cur.samples.length < 3 || old.samples.length < 3) continue;
     timed.push({ key, problemId: cur.problemId, scheme: schemeOf(cur), x: [...cur.samples], y: [...old.samples] });
   }
+  return timed;
+}
+
+/** A scheme worth an interleaved A/B although no rule flagged it (`bench --confirm` screening). */
+export interface SchemeSuspect {
+  scheme: string;
+  members: { caseKey: string; problemId: string; ratio: number }[];
+  /** Geometric mean of the members' median ratios against the baseline. */
+  ratio: number;
+  /** The same, divided by that of the run's other cases. */
+  relative: number | null;
+}
+
+/**
+ * Screening for `bench --confirm`: the schemes (with at least `pooledMinCases` timed cases) whose
+ * cases moved by more than `pooledSpeedRatio` as a point estimate, against the baseline or against
+ * the run's other schemes (a run that was fast as a whole hides a one-scheme slowdown from the
+ * first), with no evidence required: the interleaved A/B that follows decides. Measured on the
+ * quick suite's recorded noise (bench/detection-power.bench.ts): about 2.5 schemes per unchanged run.
+ */
+export function schemeSuspects(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>, t: Thresholds): SchemeSuspect[] {
+  const timed = timedCases(now, base).map((c) => ({ ...c, ln: Math.log(median(c.x) / median(c.y)) }));
+  const mean = (v: { ln: number }[]) => v.reduce((a, c) => a + c.ln, 0) / v.length;
+  const floor = Math.log(t.pooledSpeedRatio);
+  const out: SchemeSuspect[] = [];
+  for (const scheme of [...new Set(timed.map((c) => c.scheme))]) {
+    const members = timed.filter((c) => c.scheme === scheme);
+    const others = timed.filter((c) => c.scheme !== scheme);
+    if (members.length < t.pooledMinCases || !members.every((m) => Number.isFinite(m.ln))) continue;
+    const ln = mean(members);
+    const rel = others.length ? ln - mean(others) : null;
+    if (ln > floor || (rel !== null && rel > floor)) {
+      out.push({ scheme, members: members.map((m) => ({ caseKey: m.key, problemId: m.problemId, ratio: Math.exp(m.ln) })), ratio: Math.exp(ln), relative: rel === null ? null : Math.exp(rel) });
+    }
+  }
+  return out;
+}
+
+/**
+ * Group findings of one run against its baseline (pure given the rows). `calibrationFactor` and
+ * the case-level calibrations are applied as in the per-case rule (./rules.ts).
+ */
+export function pooledFindings(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>, t: Thresholds): Finding[] {
+  const timed = timedCases(now, base);
   const groups = (scope: GroupScope, pool: Timed[]): Map<string, Timed[]> => {
     const out = new Map<string, Timed[]>();
     for (const c of pool) {

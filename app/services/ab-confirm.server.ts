@@ -20,11 +20,12 @@ import fs from "node:fs";
 import type { Db } from "~/db/client.server";
 import { eq } from "drizzle-orm";
 import { runs } from "~/db/schema";
-import { abCheckOfJob, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, undecidedOfCheck, type AbCheckView } from "~/models/ab-checks.server";
-import { thresholdsOfRun, type Detection } from "~/models/detection.server";
+import { abCheckOfJob, addJudged, closeScreening, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, undecidedOfCheck, type AbCheckView } from "~/models/ab-checks.server";
+import { insertScreenedRegression, thresholdsOfRun, type Detection } from "~/models/detection.server";
 import { enqueueJob, type JobSummary } from "~/models/jobs.server";
 import { problemLibraryFor } from "~/models/library.server";
-import { AB_CONFIRM_BLOCKS, abSaysSlower, fmtAbRatio, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
+import { AB_CONFIRM_BLOCKS, abSaysSlower, fmtAbRatio, judgeRegression, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
+import { groupKey, type SchemeSuspect } from "~/runs/pooled";
 import type { Finding } from "~/runs/rules";
 import { expandCases, loadSuite, suitePath } from "~/runs/suite";
 import type { CommitMeta } from "~/runs/types";
@@ -88,8 +89,10 @@ export interface AlertOrConfirmResult extends AlertResult {
   unconfirmed: string | null;
   /** The A/B check of the speed regressions (settled when run at once). */
   check: AbCheckView | null;
-  /** New regressions that stand: all of them, less the speed ones an A/B run at once cleared. */
+  /** New regressions that stand: all of them, less the speed ones an A/B run at once cleared, plus screened ones it confirmed. */
   standing: number;
+  /** Regressions found by screening (`--confirm`): schemes no rule flagged that the A/B found slower. */
+  screened: number[];
 }
 
 const isSpeed = (f: Finding) => f.direction === "regression" && f.kind === "speed";
@@ -98,8 +101,10 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
   const fresh = input.detection.inserted.filter((i) => i.finding.direction === "regression");
   const speed = fresh.filter((i) => isSpeed(i.finding));
   const rest = fresh.filter((i) => !isSpeed(i.finding));
+  // Screening: with an A/B run at once, schemes that moved past the pooled floor without a finding are put to it too.
+  const suspects = input.confirmNow ? (input.detection.suspects ?? []) : [];
   const mail = input.alerts !== false;
-  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, unconfirmed: null, check: null, standing: fresh.length };
+  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, unconfirmed: null, check: null, standing: fresh.length, screened: [] };
   const send = async (items: typeof fresh, note?: string) => {
     if (!items.length || !mail) return;
     const r = await sendRegressionAlerts(db, { runId: input.runId, suiteName: input.suiteName, commit: input.commit, regressions: items, baseUrl: input.baseUrl, note });
@@ -107,7 +112,7 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
     out.errors.push(...r.errors);
   };
   let confirmedNow: { items: typeof fresh; note: string } | null = null;
-  if (speed.length) {
+  if (speed.length || suspects.length) {
     let why: string | null = null;
     const base = input.detection.baselineCommit;
     if (!thresholdsOfRun(db, input.runId).abConfirm) why = `A/B confirmation is off for suite ${input.suiteName}`;
@@ -115,7 +120,8 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
     else if (input.commit.dirty) why = "the run measured uncommitted changes";
     else {
       const ids = speed.map((s) => s.id);
-      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases: affectedCases(db, ids), ...AB_CONFIRM_BLOCKS }, input.root ?? repoRoot());
+      const cases = [...new Set([...affectedCases(db, ids), ...suspects.flatMap((x) => x.members.map((m) => m.caseKey))])];
+      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, ...AB_CONFIRM_BLOCKS }, input.root ?? repoRoot());
       if (!checked.ok) why = checked.message;
       else if (input.confirmNow) {
         const check = insertAbCheck(db, { jobId: null, suiteName: checked.payload.suite, base: checked.payload.base, head: checked.payload.head, cases: checked.payload.cases, regressionIds: ids, runId: input.runId, auto: true, alertsHeld: mail });
@@ -126,17 +132,26 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
           outcome = { error: (err as Error).message };
         }
         out.check = settleAbCheck(db, check.id, outcome);
+        // Screened schemes the A/B found slower become group regressions of the run, judged in the same check.
+        if ("result" in outcome && suspects.length) {
+          const found = screenSuspects(db, check.id, input, suspects, outcome.result);
+          out.screened = found.map((f) => f.id);
+          if (found.length) out.check = getAbCheck(db, check.id);
+          else if (!ids.length) out.check = closeScreening(db, check.id, suspects.length);
+          out.standing += found.length;
+          speed.push(...found);
+        }
         const stand = out.check ? standingOfCheck(out.check) : ids;
-        out.standing -= speed.length - stand.length;
+        out.standing -= ids.length - stand.filter((id) => ids.includes(id)).length;
         // Undecided ones do not fail the run but are still e-mailed, marked unconfirmed.
         const mailed = out.check ? [...stand, ...undecidedOfCheck(out.check)] : ids;
         if (mailed.length && out.check) confirmedNow = { items: speed.filter((i) => mailed.includes(i.id)), note: heldNote(out.check) };
-      } else if (mail) {
-        const { job } = queueAbJob(db, checked.payload, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
+      } else if (mail && ids.length) {
+        const { job } = queueAbJob(db, { ...checked.payload, cases: affectedCases(db, ids) }, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
         out.abJobId = job.id;
       }
     }
-    if (why) {
+    if (why && speed.length) {
       out.unconfirmed = why;
       rest.push(...speed);
     }
@@ -145,6 +160,28 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
   rest.sort((a, b) => a.id - b.id);
   await send(rest, out.unconfirmed ? `Speed findings are unconfirmed: interleaved A/B could not run (${out.unconfirmed}).` : undefined);
   if (confirmedNow) await send(confirmedNow.items, confirmedNow.note);
+  return out;
+}
+
+/**
+ * The suspects whose members the A/B judged slower against the pooled floor: each stored as a
+ * group regression of the run (`insertScreenedRegression`) and added to the check with its verdict.
+ */
+function screenSuspects(db: Db, checkId: number, input: AlertOrConfirmInput, suspects: SchemeSuspect[], result: AbResultDoc): { id: number; finding: Finding }[] {
+  const t = thresholdsOfRun(db, input.runId);
+  const out: { id: number; finding: Finding }[] = [];
+  for (const x of suspects) {
+    const keys = x.members.map((m) => m.caseKey);
+    const j = judgeRegression(result, 0, keys, t.pooledSpeedRatio);
+    if (j.verdict !== "slower" || j.ratio === null || j.low === null || j.high === null) continue;
+    const note = `confirmed by interleaved A/B (run at once by the command line): ${input.commit.commitHash.slice(0, 10)} against ${input.detection.baselineCommit!.slice(0, 10)}, its ${keys.length} cases pooled: ${fmtAbRatio(j.ratio, j.low, j.high)} (${result.blocks} blocks).`;
+    const id = insertScreenedRegression(db, { runId: input.runId, baselineRunId: input.detection.baselineRunId, commitHash: input.commit.commitHash }, x, { ratio: j.ratio, low: j.low, high: j.high, note });
+    addJudged(db, checkId, { ...j, regressionId: id });
+    out.push({
+      id,
+      finding: { caseKey: groupKey("scheme", x.scheme), problemId: x.members[0]!.problemId, kind: "speed", direction: "regression", metric: "pooled_median_ratio", before: null, after: null, ratio: j.ratio, pValue: null, ciLow: j.low, ciHigh: j.high, detail: `${x.scheme}, all ${keys.length} cases: found by screening, ${note}`, scope: "scheme", members: x.members.map((m) => ({ caseKey: m.caseKey, problemId: m.problemId, ratio: m.ratio })) },
+    });
+  }
   return out;
 }
 

@@ -207,11 +207,12 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
   let alerts: AlertResult | null = null;
   // A part of a suite is not judged alone: the server checks the merged run once all parts are in.
   detection = opts.shard ? null : afterRun(db, runId, { baseline });
-  if (detection && detection.newRegressions > 0 && !interrupted && (opts.alerts !== false || opts.confirm)) {
+  if (detection && (detection.newRegressions > 0 || (opts.confirm && detection.suspects?.length)) && !interrupted && (opts.alerts !== false || opts.confirm)) {
     // Speed findings wait for an interleaved A/B verdict (a queued "ab" job, or with `confirm` one
     // run here and now); the rest are e-mailed at once.
     const confirmNow = opts.confirm
       ? async (p: { base: string; head: string; suite: string; cases: string[]; blocks?: number; maxBlocks?: number }) => {
+          // Cases of the speed regressions and of the screened schemes (app/services/ab-confirm.server.ts).
           const { runAb } = await import("./ab");
           const r = await runAb({ db, root, base: p.base, head: p.head, suite: suite.file, cases: p.cases, blocks: p.blocks, maxBlocks: p.maxBlocks, signal: opts.signal, onTrial: opts.onConfirmTrial });
           // JSON has no NaN: the stored document is what `bench --ab --json` prints.

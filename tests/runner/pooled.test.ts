@@ -11,7 +11,7 @@ import { normalQuantile } from "~/engine/stats/normal-quantile";
 import { detectRegressions } from "~/models/detection.server";
 import { ensureSuite, finishRun, insertCase, insertRun } from "~/models/recording.server";
 import { triageRegression } from "~/models/regressions.server";
-import { pooledFindings } from "~/runs/pooled";
+import { pooledFindings, schemeSuspects } from "~/runs/pooled";
 import { caseRecordFromOutcome } from "~/runs/record";
 import type { CaseSnapshot } from "~/runs/rules";
 import { DEFAULT_THRESHOLDS, loadSuite } from "~/runs/suite";
@@ -144,3 +144,23 @@ describe("one regression across consecutive commits of a branch", () => {
     db.$client.close();
   });
 });
+
+describe("screening for bench --confirm (schemeSuspects)", () => {
+  it("names a scheme that moved past the pooled floor, against the baseline or against the run's other schemes", () => {
+    const t = { ...DEFAULT_THRESHOLDS, pooledSpeedRatio: 1.05 };
+    const base = suiteRun(1);
+    // Lgr 8 % slower: below what a finding needs at this spread and size, past the screening floor.
+    const lgr = schemeSuspects(suiteRun(2, (s) => (s === "lgr" ? 1.08 : 1)), base, t);
+    expect(lgr.map((x) => x.scheme)).toEqual(["lgr"]);
+    expect(lgr[0]!.members.map((m) => m.caseKey)).toEqual(PROBLEMS.map((p) => `${p}/lgr/20`));
+    expect(lgr[0]!.ratio).toBeGreaterThan(1.05);
+    // The whole run 10 % faster, lgr 8 % slower than it: hidden against the baseline, seen against the other schemes.
+    const hidden = schemeSuspects(suiteRun(3, (s) => (s === "lgr" ? 0.9 * 1.08 : 0.9)), base, t);
+    expect(hidden.map((x) => x.scheme)).toEqual(["lgr"]);
+    expect(hidden[0]!.ratio).toBeLessThan(1);
+    expect(hidden[0]!.relative!).toBeGreaterThan(1.05);
+    // Unchanged: nothing past ×1.05 at a 5 % spread.
+    expect(schemeSuspects(suiteRun(4), base, t)).toEqual([]);
+  });
+});
+

@@ -260,6 +260,38 @@ describe("settling a check", () => {
     expect(mail[0]!.body).toContain("Speed findings are unconfirmed: Not decided");
   });
 
+  it("--confirm screening: a scheme no rule flagged becomes a group regression when the A/B finds it slower", async () => {
+    const db = getDb();
+    const { runId } = seedRegression(c2, c1);
+    const members = ["pika-rover-dash/euler/6", "pika-rover-dash/lgr/6x4"].map((caseKey) => ({ caseKey, problemId: "pika-rover-dash", ratio: 1.08 }));
+    const suspect = { scheme: "euler", members, ratio: 1.08, relative: 1.1 };
+    const detection = { baselineRunId: null, baselineCommit: c1, findings: [], inserted: [], newRegressions: 0, fixed: [], carried: [], suspects: [suspect] };
+    const commit = { commitHash: c2, branch: "main", subject: "two", author: "T", date: new Date(), dirty: false };
+    const both = (ratio: number, low: number, high: number) => ({
+      ...verdict(ratio, low, high, "same"),
+      cases: members.map((m) => ({ key: m.caseKey, blockRatios: [ratio * 0.98, ratio, ratio * 1.02, ratio, ratio * 0.99, ratio * 1.01], ratio, low, high, verdict: "same" as const, status: "optimal" })),
+    });
+    const asked: { cases: string[] }[] = [];
+    const found = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, alerts: false, confirmNow: async (p) => (asked.push(p), both(1.09, 1.07, 1.11)) });
+    expect(asked[0]!.cases).toEqual(members.map((m) => m.caseKey));
+    expect(found.screened).toHaveLength(1);
+    expect(found).toMatchObject({ standing: 1, check: { state: "confirmed" } });
+    const row = db.select().from(regressions).where(eq(regressions.id, found.screened[0]!)).get()!;
+    expect(row).toMatchObject({ caseKey: "scheme:euler", scope: "scheme", kind: "speed", metric: "pooled_median_ratio", pValue: null });
+    expect(row.ciLow!).toBeGreaterThan(1);
+    const notes = db.select({ note: regressionEvents.note }).from(regressionEvents).where(eq(regressionEvents.regressionId, row.id)).all().map((e) => e.note);
+    expect(notes[0]).toMatch(/^Found by screening .*euler, all 2 cases moved ×1\.08.*confirmed by interleaved A\/B/);
+    // Not slower: nothing stored, nothing stands, the check says the screening cleared it.
+    const again = seedRegression(c2, c1);
+    const before = db.select().from(regressions).all().length;
+    const none = await alertOrConfirm(db, { runId: again.runId, suiteName: "duo", commit, detection, root: repo, alerts: false, confirmNow: async () => both(1.0, 0.98, 1.02) });
+    expect(none).toMatchObject({ standing: 0, screened: [], check: { state: "cleared", note: expect.stringMatching(/^Screening: /) } });
+    expect(db.select().from(regressions).all()).toHaveLength(before);
+    // Without --confirm (no A/B at once) suspects are not screened.
+    const queued = await alertOrConfirm(db, { runId: again.runId, suiteName: "duo", commit, detection, root: repo, alerts: false });
+    expect(queued).toMatchObject({ standing: 0, screened: [], abJobId: null, check: null });
+  });
+
   it("a later finding on a case whose regression an A/B cleared opens a regression of its own", async () => {
     // Seen in CI 2026-12-02: an unchanged rerun's false flag on a case was cleared by A/B but stayed
     // open; the planted slowdown on the same case then folded into it and was never put to an A/B.
