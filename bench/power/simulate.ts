@@ -174,7 +174,8 @@ export function runTrial(model: NoiseModel, runs: NoiseRun[], pair: [number, num
     // Confirmation on the cases the plant concerns (unchanged: a random scheme's cases).
     const scheme = plant.placement.kind === "scheme" ? plant.placement.scheme : pick(rng, [...new Set(model.keys.map((k) => model.cases.get(k)!.scheme))]);
     const keys = plant.placement.kind === "suite" ? model.keys : model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
-    const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.speedRatio, o.abRepeats, seed, o.abReplicates);
+    // A group of cases: judged against the pooled floor, as the product judges a group regression.
+    const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.pooledSpeedRatio, o.abRepeats, seed, o.abReplicates);
     ab = { detected: speedPlanted && slower, alarm: !speedPlanted && slower };
   }
   let screen: TrialOutcome["screen"] = null;

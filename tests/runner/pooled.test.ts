@@ -162,5 +162,44 @@ describe("screening for bench --confirm (schemeSuspects)", () => {
     // Unchanged: nothing past ×1.05 at a 5 % spread.
     expect(schemeSuspects(suiteRun(4), base, t)).toEqual([]);
   });
+
+  it("detection returns the suspects of a stored run, not the schemes it already found slower", () => {
+    const dir = tempDir("screen");
+    const db = tempDb(dir);
+    const suite = loadSuite(writeSuite(dir, { name: "screen", problems: ["pika-rover-dash"], schemes: ["lgr"], meshes: [{ intervals: 8 }, { intervals: 10 }, { intervals: 12 }] }));
+    const suiteId = ensureSuite(db, { name: "screen", contentHash: suite.contentHash, definition: suite.definition, thresholds: suite.thresholds });
+    let clock = Date.parse("2026-01-01T00:00:00Z");
+    const add = (commitHash: string, factor: number, seed: number) => {
+      const id = insertRun(db, { suiteId, commitHash, branch: "main", dirty: false, commitSubject: commitHash, commitAuthor: "t", commitDate: null, machine: {}, machineKey: "k", calibrationSeconds: null, startedAt: new Date((clock += 60_000)) });
+      for (const n of [8, 10, 12]) {
+        insertCase(
+          db,
+          id,
+          caseRecordFromOutcome({
+            spec: { key: `pika-rover-dash/lgr/${n}x4`, problemId: "pika-rover-dash", scheme: "lgr", intervals: n, degree: 4 },
+            status: "optimal",
+            message: null,
+            report: { problemId: "pika-rover-dash", versionHash: "v1", scheme: "lgr", intervals: n, status: "optimal", objective: 1, finalTime: 1, iterations: 12, constraintViolation: 0, errors: { objectiveAbs: 1e-6, objectiveRel: 1e-6, finalTimeAbs: 0, stateMax: 1e-5, controlMax: 1e-4 } },
+            samples: times(seed * 10 + n, 10, 0.01 * n * factor, 0.15),
+            wallSeconds: 1,
+          }),
+          null,
+        );
+      }
+      finishRun(db, id, "complete");
+      return id;
+    };
+    add("s0", 1, 1);
+    const t = { ...suite.thresholds, pooledSpeedRatio: 1.05 };
+    // 12 % slower at a 15 % spread: no finding, a suspect.
+    const mild = detectRegressions(db, add("s1", 1.12, 2), { thresholds: t, baseline: { commit: "s0" } });
+    expect(mild.findings.filter((f) => f.kind === "speed")).toEqual([]);
+    expect(mild.suspects!.map((x) => x.scheme)).toEqual(["lgr"]);
+    // Twice as slow: a group finding, so not a suspect any more.
+    const big = detectRegressions(db, add("s2", 2, 3), { thresholds: t, baseline: { commit: "s0" } });
+    expect(big.findings.some((f) => f.caseKey === "scheme:lgr" && f.direction === "regression")).toBe(true);
+    expect(big.suspects).toEqual([]);
+    db.$client.close();
+  });
 });
 
