@@ -167,12 +167,14 @@ export function closeScreening(db: Db, id: number, schemes: number): AbCheckView
  * Adds a regression found by screening to a settled check with its verdict (slower): the check
  * then judges it like the others, and is "confirmed".
  */
-export function addJudged(db: Db, id: number, j: AbJudged): void {
+export function addJudged(db: Db, id: number, j: AbJudged, what: string): void {
   const c = getAbCheck(db, id);
   if (!c || !c.result) return;
   const result = { ...c.result, judged: [...(c.result.judged ?? []), j] };
+  // The check's note says what made it confirmed, before what it said of the findings.
+  const note = `Screening: ${what} confirmed slower, its ${j.cases.length} cases pooled: ${fmtAbRatio(j.ratio, j.low, j.high)}. ${c.note ?? ""}`.trim();
   db.update(abChecks)
-    .set({ regressionIds: [...c.regressionIds, j.regressionId], resultJson: result, state: j.verdict === "slower" ? "confirmed" : c.state })
+    .set({ regressionIds: [...c.regressionIds, j.regressionId], resultJson: result, state: j.verdict === "slower" ? "confirmed" : c.state, note })
     .where(eq(abChecks.id, id))
     .run();
 }

@@ -176,7 +176,7 @@ function screenSuspects(db: Db, checkId: number, input: AlertOrConfirmInput, sus
     if (j.verdict !== "slower" || j.ratio === null || j.low === null || j.high === null) continue;
     const note = `confirmed by interleaved A/B (run at once by the command line): ${input.commit.commitHash.slice(0, 10)} against ${input.detection.baselineCommit!.slice(0, 10)}, its ${keys.length} cases pooled: ${fmtAbRatio(j.ratio, j.low, j.high)} (${result.blocks} blocks).`;
     const id = insertScreenedRegression(db, { runId: input.runId, baselineRunId: input.detection.baselineRunId, commitHash: input.commit.commitHash }, x, { ratio: j.ratio, low: j.low, high: j.high, note });
-    addJudged(db, checkId, { ...j, regressionId: id });
+    addJudged(db, checkId, { ...j, regressionId: id }, `scheme ${x.scheme}`);
     out.push({
       id,
       finding: { caseKey: groupKey("scheme", x.scheme), problemId: x.members[0]!.problemId, kind: "speed", direction: "regression", metric: "pooled_median_ratio", before: null, after: null, ratio: j.ratio, pValue: null, ciLow: j.low, ciHigh: j.high, detail: `${x.scheme}, all ${keys.length} cases: found by screening, ${note}`, scope: "scheme", members: x.members.map((m) => ({ caseKey: m.caseKey, problemId: m.problemId, ratio: m.ratio })) },

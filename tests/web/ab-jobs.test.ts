@@ -275,7 +275,7 @@ describe("settling a check", () => {
     const found = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, alerts: false, confirmNow: async (p) => (asked.push(p), both(1.09, 1.07, 1.11)) });
     expect(asked[0]!.cases).toEqual(members.map((m) => m.caseKey));
     expect(found.screened).toHaveLength(1);
-    expect(found).toMatchObject({ standing: 1, check: { state: "confirmed" } });
+    expect(found).toMatchObject({ standing: 1, check: { state: "confirmed", note: expect.stringMatching(/^Screening: scheme euler confirmed slower, its 2 cases pooled: ×1\.090/) } });
     const row = db.select().from(regressions).where(eq(regressions.id, found.screened[0]!)).get()!;
     expect(row).toMatchObject({ caseKey: "scheme:euler", scope: "scheme", kind: "speed", metric: "pooled_median_ratio", pValue: null });
     expect(row.ciLow!).toBeGreaterThan(1);
