@@ -5,7 +5,7 @@
  * the trajectory over the reference; "Save" posts to the page's action.
  */
 import { useEffect, useRef, useState, type ReactNode, type TextareaHTMLAttributes } from "react";
-import { Form, useFetcher, useNavigation } from "react-router";
+import { Form, useActionData, useFetcher, useNavigation } from "react-router";
 import { TrajectoryChart } from "~/components/charts/TrajectoryChart";
 import { FormError } from "~/components/Field";
 import type { TrialResult } from "~/models/problems.server";
@@ -53,7 +53,18 @@ export function ProblemEditor({ values, errors, idLocked, saveLabel }: { values:
   const trial = useFetcher<{ errors?: Errors; values?: Values; trial?: TrialResult; error?: string }>();
   const formRef = useRef<HTMLFormElement>(null);
   const saving = useNavigation().state === "submitting";
-  const shownErrors: Errors = trial.data?.errors && trial.state === "idle" ? trial.data.errors : errors;
+  // The newest answer's errors win: a trial's (none when it solved) once it answered after the last
+  // save, the save's otherwise. Reading the fetcher's state instead showed a stale save error while
+  // the fetcher revalidated ("loading") after a successful trial.
+  const [latest, setLatest] = useState<"save" | "trial">("save");
+  // Each save answer is a new action-data object (the `errors` prop is a fresh `{}` on every render
+  // when there is none, so it cannot mark a new answer).
+  const saveAnswer = useActionData();
+  useEffect(() => setLatest("save"), [saveAnswer]);
+  useEffect(() => {
+    if (trial.data) setLatest("trial");
+  }, [trial.data]);
+  const shownErrors: Errors = latest === "trial" && trial.data ? (trial.data.errors ?? {}) : errors;
   const v = (k: string) => values[k] ?? "";
   const e = (k: string) => shownErrors[k];
   const t = trial.data?.trial;
