@@ -275,7 +275,8 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         counts: tally(summary.outcomes),
         cases: summary.outcomes.map((o) => ({ key: o.spec.key, status: o.status, message: o.message, objective: o.report?.objective ?? null, errors: o.report?.errors ?? null, iterations: o.report?.iterations ?? null, samples: o.samples })),
         baseline: summary.detection ? { runId: summary.detection.baselineRunId, commit: summary.detection.baselineCommit } : null,
-        findings: summary.detection?.findings ?? [],
+        // Screening's group regressions (`--confirm`) join the run's findings: the A/B found them, not the run alone.
+        findings: [...(summary.detection?.findings ?? []), ...(summary.alerts?.screened ?? []).map((s) => s.finding)],
         newRegressions: summary.detection?.newRegressions ?? 0,
         // `--confirm`: the A/B verdict on the speed regressions, and the new regressions that stand after it.
         confirmation: summary.alerts?.check && summary.alerts.check.jobId === null ? { state: summary.alerts.check.state, note: summary.alerts.check.note, result: summary.alerts.check.result } : null,

@@ -92,7 +92,7 @@ export interface AlertOrConfirmResult extends AlertResult {
   /** New regressions that stand: all of them, less the speed ones an A/B run at once cleared, plus screened ones it confirmed. */
   standing: number;
   /** Regressions found by screening (`--confirm`): schemes no rule flagged that the A/B found slower. */
-  screened: number[];
+  screened: { id: number; finding: Finding }[];
 }
 
 const isSpeed = (f: Finding) => f.direction === "regression" && f.kind === "speed";
@@ -135,7 +135,7 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
         // Screened schemes the A/B found slower become group regressions of the run, judged in the same check.
         if ("result" in outcome && suspects.length) {
           const found = screenSuspects(db, check.id, input, suspects, outcome.result);
-          out.screened = found.map((f) => f.id);
+          out.screened = found;
           if (found.length) out.check = getAbCheck(db, check.id);
           else if (!ids.length) out.check = closeScreening(db, check.id, suspects.length);
           out.standing += found.length;

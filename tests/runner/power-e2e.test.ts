@@ -12,7 +12,10 @@
  * scheme) that the A/B confirms (exit 3). Also seen in that CI run: the planted slowdown's case
  * findings folded into the unchanged reruns' cleared regressions of the same cases, so only one
  * case was put to the A/B, whose ×1.347 [0.986, 1.795] was read as "cleared". A cleared regression
- * no longer absorbs later sightings, and such an interval is now "not decided".
+ * no longer absorbs later sightings, and such an interval is now "not decided". The group finding
+ * may come from the run's own rule or from `--confirm`'s screening (seen in CI 2026-12-02: a slow
+ * unchanged rerun as baseline hid the plant from the rule; screening found it, ×1.302 [1.003,
+ * 1.616]); both are in the command's `findings`.
  */
 import { describe, expect, it } from "vitest";
 import { realCheck } from "../../bench/power/real-check";
@@ -50,7 +53,8 @@ describe("detection power, reduced end to end, A/B-confirmed", () => {
     const planted = runs.find((r) => r.label.startsWith("planted"))!;
     const groups = planted.findings.filter((f) => f.scope && f.scope !== "case" && f.direction === "regression");
     expect(groups.map((g) => g.caseKey)).toEqual(["scheme:hermite-simpson"]);
-    expect(groups[0]!.ratio!).toBeGreaterThan(1.2);
+    // A rule finding estimates ×1.4–1.8 sequentially; a screened one carries the A/B ratio (×1.30–1.36 seen).
+    expect(groups[0]!.ratio!).toBeGreaterThan(1.15);
     expect(groups[0]!.ciLow!).toBeGreaterThan(1);
     expect(planted.confirmation?.state).toBe("confirmed");
     expect(planted.standing).toBeGreaterThan(0);

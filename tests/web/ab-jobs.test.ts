@@ -276,7 +276,8 @@ describe("settling a check", () => {
     expect(asked[0]!.cases).toEqual(members.map((m) => m.caseKey));
     expect(found.screened).toHaveLength(1);
     expect(found).toMatchObject({ standing: 1, check: { state: "confirmed", note: expect.stringMatching(/^Screening: scheme euler confirmed slower, its 2 cases pooled: ×1\.090/) } });
-    const row = db.select().from(regressions).where(eq(regressions.id, found.screened[0]!)).get()!;
+    const row = db.select().from(regressions).where(eq(regressions.id, found.screened[0]!.id)).get()!;
+    expect(found.screened[0]!.finding).toMatchObject({ caseKey: "scheme:euler", scope: "scheme", direction: "regression" });
     expect(row).toMatchObject({ caseKey: "scheme:euler", scope: "scheme", kind: "speed", metric: "pooled_median_ratio", pValue: null });
     expect(row.ciLow!).toBeGreaterThan(1);
     const notes = db.select({ note: regressionEvents.note }).from(regressionEvents).where(eq(regressionEvents.regressionId, row.id)).all().map((e) => e.note);
