@@ -221,7 +221,11 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
       const tail = (ratio: number | null, low: number | null, high: number | null, v: string, f = floor) =>
         `${fmtAbRatio(ratio, low, high)} (${outcome.result.blocks} blocks)${v === "unclear" ? `: the interval neither lies above 1 nor excludes the suite's ×${f} speed floor; the finding stays open` : ""}.`;
       const word = state === "confirmed" ? "Confirmed" : state === "cleared" ? "Cleared" : "Not decided";
-      note = `${word} by ${head}, ${scope}: ${tail(s?.ratio ?? null, s?.low ?? null, s?.high ?? null, state === "unavailable" ? "unclear" : "")}`;
+      // The check's line quotes the judged regression that decided its state (all cases pooled only without regressions).
+      const decisive = judged.find((j) => j.verdict === (state === "confirmed" ? "slower" : "unclear"));
+      note = decisive
+        ? `${word} by ${head}, ${decisive.cases.length > 1 ? `${decisive.cases.length} cases pooled` : decisive.cases[0]}: ${tail(decisive.ratio, decisive.low, decisive.high, decisive.verdict!, floorOf(decisive.regressionId))}`
+        : `${word} by ${head}, ${scope}: ${tail(s?.ratio ?? null, s?.low ?? null, s?.high ?? null, state === "unavailable" ? "unclear" : "")}`;
       for (const j of judged) {
         const what = j.cases.length > 1 ? `its ${j.cases.length} cases pooled` : (j.cases[0] ?? "no case timed");
         perRegression.set(j.regressionId, j.verdict === null ? `Interleaved A/B timed none of its cases (${byWhom(c.jobId)}).` : `${VERDICT_WORD[j.verdict]} by ${head}, ${what}: ${tail(j.ratio, j.low, j.high, j.verdict, floorOf(j.regressionId))}`);
