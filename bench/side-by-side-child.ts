@@ -10,17 +10,15 @@
  * iteration log of the timed solve; ARCWATCH_PROFILE=file writes a CPU profile of the timed (warm when
  * asked) solve only, through node:inspector, so that loading and the warm-up do not dilute it.
  */
-import { readFileSync, writeFileSync } from "node:fs";
-import path from "node:path";
-import { fileURLToPath } from "node:url";
-import { compileProblemSource } from "../app/engine/problem/compile";
+import { writeFileSync } from "node:fs";
+import { copsGoddardFromCopsStart, COPS_GODDARD_FIXTURE } from "./side-by-side-problem";
 import { getScheme } from "../app/engine/schemes/index";
 import { solveNlp } from "../app/engine/nlp/index";
 import { clearAnalysisCache } from "../app/engine/sparse/index";
 
 const args = process.argv.slice(2);
 const fixtureAt = args.indexOf("--fixture");
-const fixturePath = fixtureAt >= 0 ? args[fixtureAt + 1] : path.join(path.dirname(fileURLToPath(import.meta.url)), "../tests/schemes/fixtures/cops-goddard.json");
+const fixturePath = fixtureAt >= 0 ? args[fixtureAt + 1]! : COPS_GODDARD_FIXTURE;
 const N = Number(args[0]);
 const scheme = args[1] as "trapezoidal" | "hermite-simpson";
 const warm = args[2] === "warm";
@@ -29,22 +27,13 @@ if (!Number.isInteger(N) || N < 0 || (scheme !== "trapezoidal" && scheme !== "he
   process.exit(2);
 }
 
-const fixture = JSON.parse(readFileSync(fixturePath, "utf8"));
-for (const s of [...fixture.states, ...fixture.controls]) s.scale = 1;
-fixture.horizon.finalTime.free = { lower: 1e-3, upper: 10, guess: 1 };
-const compiled = compileProblemSource("cops-goddard-side-by-side", { problemJson: JSON.stringify(fixture) });
-if (!compiled.ok) throw new Error(`cops-goddard fixture (${fixturePath}) does not compile: ${JSON.stringify(compiled.errors)}`);
-// The COPS start (states h, v, m then control T at s = τ).
-const problem = {
-  ...compiled.problem,
-  guess: { tf: 1, at(tau: number, out: Float64Array) { out[0] = 1; out[1] = tau * (1 - tau); out[2] = 1 - 0.4 * tau; out[3] = 1.75; } },
-};
+const problem = copsGoddardFromCopsStart(fixturePath);
 
 /** ARCWATCH_GAP_TOL=0: the former stop without the duality-gap test (like for like with the reference's stop). */
 const gapTol = process.env.ARCWATCH_GAP_TOL ? Number(process.env.ARCWATCH_GAP_TOL) : null;
 if (gapTol !== null && !(gapTol >= 0)) throw new Error(`side-by-side child: ARCWATCH_GAP_TOL must be a number ≥ 0, got ${process.env.ARCWATCH_GAP_TOL}`);
 
-interface Measured { iterations: number; status: string; seconds: number; cpuSeconds: number; objective: number | null; warmCpuSeconds?: number }
+interface Measured { iterations: number; status: string; message?: string; seconds: number; cpuSeconds: number; objective: number | null; warmCpuSeconds?: number }
 
 const profileFile = process.env.ARCWATCH_PROFILE ?? "";
 async function profiled<T>(on: boolean, f: () => T): Promise<T> {
@@ -68,7 +57,7 @@ function run(n: number): Measured {
   const r = solveNlp(tr.nlp, { tol: 1e-8, printLevel: n === N && process.env.ARCWATCH_PRINT ? 1 : 0, ...(gapTol !== null ? { gapTol } : {}) });
   const c1 = process.cpuUsage(c0);
   const ok = r.status === "optimal" || r.status === "acceptable";
-  return { iterations: r.iterations, status: r.status, seconds: r.seconds, cpuSeconds: (c1.user + c1.system) / 1e6, objective: ok ? tr.recover(r).objective : null };
+  return { iterations: r.iterations, status: r.status, message: r.message, seconds: r.seconds, cpuSeconds: (c1.user + c1.system) / 1e6, objective: ok ? tr.recover(r).objective : null };
 }
 
 let out: Measured = { iterations: 0, status: "loaded", seconds: 0, cpuSeconds: 0, objective: null };

@@ -169,7 +169,9 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   const firstIter = ctx.iter;
   // Final steps after the KKT test is met (gap.ts): the best converged point so far.
   const polish = {
-    active: false, steps: 0, err: Infinity, infPr: NaN, infDu: NaN,
+    active: false, steps: 0, err: Infinity,
+    /** Gap at the last progress of the final steps, and final steps since then. */
+    ref: Infinity, stale: 0, infPr: NaN, infDu: NaN,
     w: new Float64Array(phase === "regular" ? N : 0), lambda: new Float64Array(phase === "regular" ? m : 0),
     zL: new Float64Array(phase === "regular" ? N : 0), zU: new Float64Array(phase === "regular" ? N : 0),
     /** wL, wU, relaxL, relaxU before the bounds were tightened. */
@@ -218,14 +220,19 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       const how = polish.steps > 0 ? ` after ${polish.steps} final step${polish.steps > 1 ? "s" : ""}` : "";
       return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)}${o.gapTol === 0 ? " (gap test off)" : ` ≤ ${gapTarget.toExponential(2)}`}${how}`, infPr, infDu, solverError: solverErr };
     }
-    if (polish.active && (polish.steps >= C.maxFinalSteps || !Number.isFinite(E0.E) || !Number.isFinite(solverErr))) {
+    if (polish.active && polish.steps > 0) {
+      // Progress of the final steps: the gap halved since the last progress, or a better converged point.
+      if (solverErr < 0.5 * polish.ref || (converged && solverErr < polish.err)) { polish.ref = Math.min(polish.ref, solverErr); polish.stale = 0; }
+      else polish.stale++;
+    }
+    if (polish.active && (polish.steps >= C.maxFinalSteps || polish.stale >= C.finalStallSteps || !Number.isFinite(E0.E) || !Number.isFinite(solverErr))) {
       // The final steps stopped helping: back to the best converged point, gap reported as it is.
       if (converged && solverErr < polish.err) polish.save(w, lambda, zL, zU, solverErr, infPr, infDu);
       polish.restore(w, lambda, zL, zU);
       st.w = w;
       return {
         status: "optimal",
-        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps`,
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps${polish.stale >= C.finalStallSteps ? ` (no progress in the last ${polish.stale})` : ""}`,
         infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
       };
     }
@@ -234,6 +241,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       if (!polish.active || solverErr < polish.err) polish.save(w, lambda, zL, zU, solverErr, infPr, infDu);
       if (!polish.active) {
         polish.active = true;
+        polish.ref = solverErr;
         // Bounds back to within finalRelaxShrink of the problem's own (the relaxation is an
         // objective offset Σ z δ of its own); an active variable keeps 1 % of its slack.
         polish.bounds = [Float64Array.from(wLv), Float64Array.from(wUv), Float64Array.from(P.relaxL ?? []), Float64Array.from(P.relaxU ?? [])];

@@ -108,6 +108,16 @@ export const CONSTANTS = {
    * kestrel-2-ascent and Goddard v ≤ 0.1 at 240 intervals (9–10 needed, measured 2026-12-02).
    */
   maxFinalSteps: 20,
+  /**
+   * The final steps are abandoned (back to the best converged point) after this many steps in a
+   * row that neither halved the gap since the last progress nor gave a better converged point
+   * (common practice, no source). Measured 2026-12-02, COPS Goddard Hermite–Simpson: at N = 3,200
+   * the gap fell from 9.6e-5 to 1.1e-9 in 7 steps and then rose while the scaled KKT error stayed
+   * at 5e-6 … 1e-5 (the coast arc's mass on its bound is a degenerate active bound), so 13 more
+   * steps bought nothing; at N = 400 the steps that do converge (gap 4.8e-6 → 1.2e-10) never go
+   * three in a row without progress.
+   */
+  finalStallSteps: 5,
   /** Smallest slack the final steps leave, in units of ε_mach · max(1, |bound|) (common practice, no source). */
   finalSlackUlps: 100,
   /** Fraction to the boundary of the final steps (1 − μ_f would round to 1; common practice, no source). */

@@ -1,0 +1,37 @@
+/**
+ * The final steps after the KKT test (ipm.ts, gap.ts) are abandoned once they stop making
+ * progress (options.ts `finalStallSteps`): COPS Goddard with separated Hermite–Simpson from the
+ * COPS start (the reference program's problem, bench/side-by-side-problem.ts). At N = 250 the
+ * steps drive the gap from 3.0e-6 to ~1e-9 and then circle: the coast arc's mass sits on its
+ * bound m ≥ 0.6 while the dynamics imply the same value (a degenerate active bound), so the KKT
+ * error stays near 1e-6 and no step converges. Before the rule the solve spent all 20 final steps
+ * (63 iterations, measured 2026-12-02); now it stops after 5 without progress and returns the
+ * same converged point. Iteration counts are regression guards (common practice, no source).
+ *
+ * Objective: h(t_f) = 1.01283 (Dolan, Moré and Munson, Benchmarking Optimization Software with
+ * COPS 3.0, ANL/MCS-TM-273, 2004; the trapezoidal figure at 400 intervals, which the
+ * Hermite–Simpson discrete optimum agrees with to its 6 digits).
+ */
+import { describe, expect, it } from "vitest";
+import { getScheme } from "~/engine/schemes";
+import { solveNlp } from "~/engine/nlp";
+import { copsGoddardFromCopsStart } from "../../bench/side-by-side-problem";
+
+describe("final steps that stop helping", () => {
+  it("COPS Goddard HS N = 250: abandoned after 5 steps without progress, the converged point kept", { timeout: 60_000 }, () => {
+    const tr = getScheme("hermite-simpson").transcribe(copsGoddardFromCopsStart(), { intervals: 250 });
+    const r = solveNlp(tr.nlp, { tol: 1e-8 });
+    expect(r.status, r.message).toBe("optimal");
+    expect(r.message).toMatch(/no progress in the last 5/);
+    expect(r.iterations).toBeLessThanOrEqual(56); // 53 measured; 63 with all 20 final steps
+    expect(Math.abs(tr.recover(r).objective - 1.01283)).toBeLessThan(1e-5);
+  });
+
+  it("COPS Goddard trapezoidal N = 800: final steps that converge are all taken (gap below its target)", { timeout: 60_000 }, () => {
+    const tr = getScheme("trapezoidal").transcribe(copsGoddardFromCopsStart(), { intervals: 800 });
+    const r = solveNlp(tr.nlp, { tol: 1e-8 });
+    expect(r.status, r.message).toBe("optimal");
+    expect(r.message).toMatch(/duality gap \S+ ≤ \S+ after \d+ final steps/);
+    expect(Math.abs(tr.recover(r).objective - 1.01283)).toBeLessThan(1e-5);
+  });
+});
