@@ -38,7 +38,7 @@ import { MACHINE_CLASS_PATTERN, parseShard, renderPlan } from "../app/runs/shard
 
 const USAGE =
   "usage: npm run bench -- --suite <name|file> [--baseline <commit|branch>] [--upload <url> --token <token>] [--db <path>] [--jobs <n>] [--json] [--no-alerts] [--confirm [--confirm-timeout <s>]] [--shard k/n [--plan] [--pipeline <id>]] [--machine-class <label>]\n" +
-  "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--max-blocks <n>] [--json]\n" +
+  "       npm run bench -- --suite <name|file> --ab <base>..<head> [--cases <key,...>] [--blocks <n>] [--max-blocks <n>] [--groups <json>] [--json]\n" +
   "       npm run bench -- --suite <name|file> --bisect <good>..<bad> --cases <key,...> [--blocks <n>] [--json]";
 
 function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
@@ -123,6 +123,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         cases: { type: "string" },
         blocks: { type: "string" },
         "max-blocks": { type: "string" },
+        groups: { type: "string" },
         "confirm-timeout": { type: "string", default: "3600" },
         help: { type: "boolean", default: false },
       },
@@ -303,7 +304,7 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
 }
 
 /** `--ab base..head` (interleaved A/B) and `--bisect good..bad --cases k1,k2` (culprit search). */
-async function compareCommits(args: { suite?: string; ab?: string; bisect?: string; cases?: string; blocks?: string; "max-blocks"?: string; json?: boolean; db?: string }): Promise<number> {
+async function compareCommits(args: { suite?: string; ab?: string; bisect?: string; cases?: string; blocks?: string; "max-blocks"?: string; groups?: string; json?: boolean; db?: string }): Promise<number> {
   const { parseRange, runAb, abSummary } = await import("./runner/ab");
   const { bisect, bisectSummary } = await import("./runner/bisect");
   const { closeDb, getDb, openDatabase } = await import("../app/db/client.server");
@@ -323,6 +324,26 @@ async function compareCommits(args: { suite?: string; ab?: string; bisect?: stri
     return 2;
   }
   const cases = args.cases ? args.cases.split(",").map((c) => c.trim()).filter(Boolean) : undefined;
+  let groups: import("../app/runs/ab-result").AbGroup[] | undefined;
+  if (args.groups !== undefined) {
+    // The job worker passes the verdicts a check waits for: [{ "cases": [...], "clearBelow": 1.1 }, ...].
+    const { abGroupSchema } = await import("../app/runs/ab-result");
+    const { z } = await import("zod");
+    let raw: unknown;
+    try {
+      raw = JSON.parse(args.groups);
+    } catch (e) {
+      process.stderr.write(`--groups takes JSON (${(e as Error).message})\n`);
+      return 2;
+    }
+    const g = z.array(abGroupSchema).max(100).safeParse(raw);
+    if (!g.success) {
+      const i = g.error.issues[0]!;
+      process.stderr.write(`--groups: ${i.path.join(".") || "(top)"}: ${i.message}\n`);
+      return 2;
+    }
+    groups = g.data;
+  }
   if (args.bisect && !cases?.length) {
     process.stderr.write(`--bisect needs --cases <key,...> (the affected cases)\n`);
     return 2;
@@ -340,7 +361,7 @@ async function compareCommits(args: { suite?: string; ab?: string; bisect?: stri
       sink?.write(formatRunEvent({ event: "trial", ...i }));
     };
     if (args.ab) {
-      const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, maxBlocks, signal: controller.signal, onTrial: progress });
+      const r = await runAb({ db, root: process.cwd(), base: range[0], head: range[1], suite: args.suite!, cases, blocks, maxBlocks, groups, signal: controller.signal, onTrial: progress });
       if (!args.json) process.stderr.write("\n");
       process.stdout.write(args.json ? `${JSON.stringify(r, null, 2)}\n` : `${abSummary(r)}\n`);
       const slow = r.pooled ? r.pooled.verdict === "slower" : r.cases.some((c) => c.verdict === "slower");

@@ -25,12 +25,15 @@ export const AB_CONFIRM_BLOCKS = { blocks: 6, maxBlocks: 18 } as const;
 
 /**
  * "slower" when the shift passes AB_MIN_RATIO and its interval lies above 1 (mirrored for
- * "faster"); "same" when the interval lies inside [1/clearBelow, clearBelow]; otherwise "unclear":
- * the interval is too wide to tell a slowdown the suite cares about from none, and the comparison
+ * "faster"); "same" when neither holds and the interval lies below clearBelow: it excludes a
+ * slowdown as large as the suite's floor, which is all a check of a slowdown asks (a possible
+ * speed-up is no finding; until 2026-12-02 the interval also had to lie above 1/clearBelow, which
+ * sent unchanged schemes to the last block for a question nobody asked). Otherwise "unclear": the
+ * interval is too wide to tell a slowdown the suite cares about from none, and the comparison
  * must not be read as clearing the finding.
  */
 export const abVerdictOf = (ratio: number, low: number, high: number, clearBelow = AB_CLEAR_RATIO): AbVerdictWord =>
-  ratio > AB_MIN_RATIO && low > 1 ? "slower" : ratio < 1 / AB_MIN_RATIO && high < 1 ? "faster" : high < clearBelow && low > 1 / clearBelow ? "same" : "unclear";
+  ratio > AB_MIN_RATIO && low > 1 ? "slower" : ratio < 1 / AB_MIN_RATIO && high < 1 ? "faster" : high < clearBelow ? "same" : "unclear";
 
 /**
  * The pooled shift of several A/B cases: cases as the first stage of a two-stage bootstrap, each
@@ -85,7 +88,10 @@ export type AbJudged = NonNullable<AbResultDoc["judged"]>[number];
  * The verdict on one regression from the A/B cases of `keys` (its own case, or a group's members):
  * one case's own verdict, or the pooled shift of several. `verdict` null when none was timed.
  */
-export function judgeRegression(r: AbResultDoc, regressionId: number, keys: readonly string[], clearBelow = AB_CLEAR_RATIO): AbJudged {
+/** What judging needs of a case of an A/B result. */
+type AbCaseLike = { key: string; ratio: number | null; low: number | null; high: number | null; blockRatios: readonly number[] };
+
+export function judgeRegression(r: { cases: readonly AbCaseLike[] }, regressionId: number, keys: readonly string[], clearBelow = AB_CLEAR_RATIO): AbJudged {
   const mine = r.cases.filter((c) => keys.includes(c.key) && c.ratio !== null && c.low !== null && c.high !== null);
   if (mine.length === 1) {
     const c = mine[0]!;
@@ -93,6 +99,21 @@ export function judgeRegression(r: AbResultDoc, regressionId: number, keys: read
   }
   const p = poolAbCases(mine);
   return p ? { regressionId, cases: mine.map((c) => c.key), ratio: p.ratio, low: p.low, high: p.high, verdict: abVerdictOf(p.ratio, p.low, p.high, clearBelow) } : { regressionId, cases: [], ratio: null, low: null, high: null, verdict: null };
+}
+
+export const abGroupSchema = z.object({
+  cases: z.array(z.string().trim().min(1).max(300)).min(1).max(200),
+  clearBelow: z.number().gt(1).max(10),
+});
+export type AbGroup = z.infer<typeof abGroupSchema>;
+
+/**
+ * Is any group's verdict still "unclear" (its cases pooled as `judgeRegression` pools them, judged
+ * against its own floor)? A group none of whose cases could be timed counts as decided: more
+ * blocks would not time it either.
+ */
+export function abGroupsUnclear(cases: readonly AbCaseLike[], groups: readonly AbGroup[]): boolean {
+  return groups.some((g) => judgeRegression({ cases }, 0, g.cases, g.clearBelow).verdict === "unclear");
 }
 
 /** Payload of an "ab" job: compare `head` with `base` on a suite's cases (default: all of them). */
@@ -108,6 +129,12 @@ export const abJobPayload = z.object({
   blocks: z.number().int().min(2, "At least 2 blocks.").max(40, "At most 40 blocks.").optional(),
   /** While the verdict is "unclear", more rounds of `blocks` blocks, up to this many in all. */
   maxBlocks: z.number().int().min(2, "At least 2 blocks.").max(60, "At most 60 blocks.").optional(),
+  /**
+   * The verdicts the check is for: each a set of its cases and the slowdown it must exclude to clear
+   * (a regression's, or a screened scheme's). More rounds run while any of them is "unclear"
+   * (`abGroupsUnclear`); without groups, while the pooled verdict of all cases is.
+   */
+  groups: z.array(abGroupSchema).max(100, "At most 100 groups.").optional(),
 });
 export type AbJobPayload = z.infer<typeof abJobPayload>;
 

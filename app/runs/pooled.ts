@@ -82,15 +82,15 @@ export interface SchemeSuspect {
 
 /**
  * Screening for `bench --confirm`: the schemes (with at least `pooledMinCases` timed cases) whose
- * cases moved by more than `pooledSpeedRatio` as a point estimate, against the baseline or against
- * the run's other schemes (a run that was fast as a whole hides a one-scheme slowdown from the
+ * cases moved by more than `screenSpeedRatio` (default 1.05) as a point estimate, against the
+ * baseline or against the run's other schemes (a run that was fast as a whole hides a one-scheme slowdown from the
  * first), with no evidence required: the interleaved A/B that follows decides. Measured on the
- * quick suite's recorded noise (bench/detection-power.bench.ts): about 2.5 schemes per unchanged run.
+ * quick suite's recorded noise (bench/detection-power.bench.ts): about 2.9 schemes per unchanged run at ×1.05.
  */
 export function schemeSuspects(now: Map<string, CaseSnapshot>, base: Map<string, CaseSnapshot>, t: Thresholds): SchemeSuspect[] {
   const timed = timedCases(now, base).map((c) => ({ ...c, ln: Math.log(median(c.x) / median(c.y)) }));
   const mean = (v: { ln: number }[]) => v.reduce((a, c) => a + c.ln, 0) / v.length;
-  const floor = Math.log(t.pooledSpeedRatio);
+  const floor = t.screenSpeedRatio > 0 ? Math.log(t.screenSpeedRatio) : -Infinity;
   const out: SchemeSuspect[] = [];
   for (const scheme of [...new Set(timed.map((c) => c.scheme))]) {
     const members = timed.filter((c) => c.scheme === scheme);

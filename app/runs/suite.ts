@@ -27,6 +27,8 @@ export const DEFAULT_THRESHOLDS: Thresholds = {
   driftMinHistory: 6,
   pooledSpeedRatio: 1.05,
   pooledMinCases: 3,
+  screenSpeedRatio: 1.05,
+  confirmMaxBlocks: 18,
   abConfirm: true,
 };
 
@@ -116,6 +118,8 @@ export const suiteSchema = z
         driftMinHistory: z.number().int().min(4),
         pooledSpeedRatio: z.number().gt(1),
         pooledMinCases: z.number().int().min(2),
+        screenSpeedRatio: z.number().min(0).max(10),
+        confirmMaxBlocks: z.number().int().min(6).max(60),
         abConfirm: z.boolean(),
       })
       .partial()

@@ -103,6 +103,14 @@ export interface Thresholds {
   /** ...when it has at least this many timed cases (and its interval excludes 1). */
   pooledMinCases: number;
   /**
+   * `--confirm` screening (app/runs/pooled.ts schemeSuspects): a scheme whose cases moved by more
+   * than this ratio as a point estimate (against the baseline or the run's other schemes) is put to
+   * the interleaved A/B; ≤ 1 puts every scheme whose estimate did not fall by as much; 0, every scheme.
+   */
+  screenSpeedRatio: number;
+  /** The automatic A/B's rounds of 6 blocks run while a verdict is unclear, up to this many blocks. */
+  confirmMaxBlocks: number;
+  /**
    * Confirm a suspected speed regression by an interleaved A/B job before its e-mail goes out
    * (app/services/ab-confirm.server.ts); needs the commits in the server's repository.
    */

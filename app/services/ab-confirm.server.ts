@@ -24,7 +24,7 @@ import { abCheckOfJob, addJudged, closeScreening, getAbCheck, insertAbCheck, aff
 import { insertScreenedRegression, thresholdsOfRun, type Detection } from "~/models/detection.server";
 import { enqueueJob, type JobSummary } from "~/models/jobs.server";
 import { problemLibraryFor } from "~/models/library.server";
-import { AB_CONFIRM_BLOCKS, abSaysSlower, fmtAbRatio, judgeRegression, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
+import { AB_CONFIRM_BLOCKS, abSaysSlower, fmtAbRatio, judgeRegression, type AbGroup, type AbJobPayload, type AbResultDoc } from "~/runs/ab-result";
 import { groupKey, type SchemeSuspect } from "~/runs/pooled";
 import type { Finding } from "~/runs/rules";
 import { expandCases, loadSuite, suitePath } from "~/runs/suite";
@@ -120,8 +120,14 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
     else if (input.commit.dirty) why = "the run measured uncommitted changes";
     else {
       const ids = speed.map((s) => s.id);
-      const cases = [...new Set([...affectedCases(db, ids), ...suspects.flatMap((x) => x.members.map((m) => m.caseKey))])];
-      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, ...AB_CONFIRM_BLOCKS }, input.root ?? repoRoot());
+      const t = thresholdsOfRun(db, input.runId);
+      // The verdicts the A/B is for, each against its own floor: it runs more blocks while one is unclear.
+      const groups: AbGroup[] = [
+        ...speed.map((i) => ({ cases: affectedCases(db, [i.id]), clearBelow: i.finding.scope && i.finding.scope !== "case" ? t.pooledSpeedRatio : t.speedRatio })),
+        ...suspects.map((x) => ({ cases: x.members.map((m) => m.caseKey), clearBelow: t.pooledSpeedRatio })),
+      ].filter((g) => g.cases.length > 0);
+      const cases = [...new Set(groups.flatMap((g) => g.cases))];
+      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, blocks: AB_CONFIRM_BLOCKS.blocks, maxBlocks: t.confirmMaxBlocks, groups }, input.root ?? repoRoot());
       if (!checked.ok) why = checked.message;
       else if (input.confirmNow) {
         const check = insertAbCheck(db, { jobId: null, suiteName: checked.payload.suite, base: checked.payload.base, head: checked.payload.head, cases: checked.payload.cases, regressionIds: ids, runId: input.runId, auto: true, alertsHeld: mail });
@@ -147,7 +153,8 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
         const mailed = out.check ? [...stand, ...undecidedOfCheck(out.check)] : ids;
         if (mailed.length && out.check) confirmedNow = { items: speed.filter((i) => mailed.includes(i.id)), note: heldNote(out.check) };
       } else if (mail && ids.length) {
-        const { job } = queueAbJob(db, { ...checked.payload, cases: affectedCases(db, ids) }, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
+        const own = groups.slice(0, speed.length);
+        const { job } = queueAbJob(db, { ...checked.payload, cases: [...new Set(own.flatMap((g) => g.cases))], groups: own }, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
         out.abJobId = job.id;
       }
     }

@@ -36,6 +36,7 @@ export async function runAbJob(db: Db, job: JobRow, onChild: (c: ChildProcess | 
     if (payload.cases?.length) args.push("--cases", payload.cases.join(","));
     if (payload.blocks) args.push("--blocks", String(payload.blocks));
     if (payload.maxBlocks) args.push("--max-blocks", String(payload.maxBlocks));
+    if (payload.groups?.length) args.push("--groups", JSON.stringify(payload.groups));
     append(`$ cd ${root} && node ${args.slice(2).join(" ")}\n`);
     heartbeatJob(db, job.id, progress, log);
     log = "";

@@ -39,7 +39,7 @@ export interface TrialOutcome {
    * Screening (`--confirm`): every scheme whose cases moved by more than the pooled floor as a
    * point estimate (or that has a finding) is put to an A/B judged against that floor.
    */
-  screen: { detected: boolean; alarm: boolean; checks: number } | null;
+  screen: { detected: boolean; alarm: boolean; checks: number; solves: number } | null;
   accuracy: { detected: boolean; alarm: boolean; findings: number };
 }
 
@@ -83,39 +83,41 @@ function snapshot(model: NoiseModel, run: NoiseRun, plant: Plant | null, rng: Pr
 }
 
 /**
- * The A/B verdict over `keys` (pooled as bench/runner/ab.ts pools its cases). Each block is one
- * sitting: A's and B's trials draw from the samples of ONE recorded run (picked per block), so
- * that they share that moment's load as interleaving makes them do. Rounds of `blocks` blocks are
- * added while the verdict is "unclear" (app/runs/ab-result.ts `abVerdictOf`, with the suite's
- * speed floor), up to `maxBlocks`, as the automatic confirmation does.
+ * One A/B sitting over several groups of cases (bench/runner/ab.ts with `groups`): each block is
+ * one sitting in which A's and B's trials draw from the samples of ONE recorded run (picked per
+ * block and case), so that they share that moment's load as interleaving makes them do. Rounds of
+ * `blocks` blocks run on every case while any group's verdict (its cases pooled as
+ * app/runs/ab-result.ts `judgeRegression` pools them, against `floor`) is "unclear", up to
+ * `maxBlocks`; each group is judged on all the blocks run, as the product judges it.
  */
-function simulateAb(model: NoiseModel, runs: NoiseRun[], rng: Prng, keys: string[], plant: Plant, blocks: number, maxBlocks: number, floor: number, repeats: number, seed: number, replicates: number): boolean {
-  const perCase = keys.map(() => [] as { x: number[]; y: number[] }[]);
+function simulateAbGroups(model: NoiseModel, runs: NoiseRun[], rng: Prng, groups: string[][], plant: Plant, blocks: number, maxBlocks: number, floor: number, repeats: number, seed: number, replicates: number): { slower: boolean[]; solves: number } {
+  const keys = [...new Set(groups.flat())];
+  const perCase = new Map(keys.map((k) => [k, [] as { x: number[]; y: number[] }[]]));
+  let solves = 0;
+  let verdicts: ReturnType<typeof abVerdictOf>[] = [];
   for (let ran = 0; ran + blocks <= Math.max(blocks, maxBlocks); ran += blocks) {
-    keys.forEach((key, i) => {
+    for (const key of keys) {
       const c = model.cases.get(key)!;
       const slow = affects(plant.placement, c.scheme) ? 1 + plant.slowdown : 1;
       for (let b = 0; b < blocks; b++) {
         const pool = pick(rng, runs).cases.get(key)!.samples;
         const draw = (f: number) => Array.from({ length: 2 * repeats }, () => pick(rng, pool) * f);
         // A B B A (or B A A B): two trials of `repeats` solves per side per block.
-        perCase[i]!.push({ x: draw(slow), y: draw(1) });
+        perCase.get(key)!.push({ x: draw(slow), y: draw(1) });
+        solves += 4 * repeats;
       }
-    });
-    const shifts = perCase.map((cases) => pooledShift(cases, { confidence: 0.99, seed: 7, replicates }));
-    let v: ReturnType<typeof abVerdictOf>;
-    if (shifts.length === 1) v = abVerdictOf(shifts[0]!.ratio, shifts[0]!.low, shifts[0]!.high, floor);
-    else {
-      const lnMean = shifts.reduce((a, s) => a + Math.log(s.ratio), 0) / shifts.length;
-      const s = pooledShift(
-        shifts.map((c) => ({ x: c.caseRatios, y: c.caseRatios.map(() => 1) })),
-        { confidence: 0.99, seed: seed + 11, replicates },
-      );
-      v = abVerdictOf(Math.exp(lnMean), s.low, s.high, floor);
     }
-    if (v !== "unclear") return v === "slower";
+    const shift = new Map(keys.map((k) => [k, pooledShift(perCase.get(k)!, { confidence: 0.99, seed: 7, replicates })]));
+    verdicts = groups.map((g) => {
+      const shifts = g.map((k) => shift.get(k)!);
+      if (shifts.length === 1) return abVerdictOf(shifts[0]!.ratio, shifts[0]!.low, shifts[0]!.high, floor);
+      const lnMean = shifts.reduce((a, x) => a + Math.log(x.ratio), 0) / shifts.length;
+      const pooled = pooledShift(shifts.map((c) => ({ x: c.caseRatios, y: c.caseRatios.map(() => 1) })), { confidence: 0.99, seed: seed + 11, replicates });
+      return abVerdictOf(Math.exp(lnMean), pooled.low, pooled.high, floor);
+    });
+    if (!verdicts.includes("unclear")) break;
   }
-  return false;
+  return { slower: verdicts.map((v) => v === "slower"), solves };
 }
 
 export interface TrialOptions {
@@ -175,7 +177,7 @@ export function runTrial(model: NoiseModel, runs: NoiseRun[], pair: [number, num
     const scheme = plant.placement.kind === "scheme" ? plant.placement.scheme : pick(rng, [...new Set(model.keys.map((k) => model.cases.get(k)!.scheme))]);
     const keys = plant.placement.kind === "suite" ? model.keys : model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
     // A group of cases: judged against the pooled floor, as the product judges a group regression.
-    const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.pooledSpeedRatio, o.abRepeats, seed, o.abReplicates);
+    const slower = simulateAbGroups(model, runs, rng, [keys], plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.pooledSpeedRatio, o.abRepeats, seed, o.abReplicates).slower[0]!;
     ab = { detected: speedPlanted && slower, alarm: !speedPlanted && slower };
   }
   let screen: TrialOutcome["screen"] = null;
@@ -185,22 +187,27 @@ export function runTrial(model: NoiseModel, runs: NoiseRun[], pair: [number, num
     const flaggedSchemes = new Set([...speedCases, ...groups].map((f) => (f.scope === "scheme" ? f.caseKey.slice("scheme:".length) : f.scope === "suite" ? "*" : (model.cases.get(f.caseKey)?.scheme ?? ""))));
     let detected = false;
     let alarm = false;
-    let checks = 0;
+    const checked: string[] = [];
     const lnOf = (keys: string[]) => keys.reduce((a, k) => a + Math.log(med(now.get(k)!.samples) / med(base.get(k)!.samples)), 0) / keys.length;
     for (const scheme of schemes) {
       const keys = model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
       const ln = lnOf(keys);
       // Against the baseline, or against the other schemes of the same run (a run that was fast as a whole hides a one-scheme slowdown).
       const rest = lnOf(model.keys.filter((k) => model.cases.get(k)!.scheme !== scheme));
-      const floor = Math.log(o.thresholds.pooledSpeedRatio);
+      const r0 = o.thresholds.screenSpeedRatio;
+      const floor = r0 > 0 ? Math.log(r0) : -Infinity;
       if (!(ln > floor || ln - rest > floor || flaggedSchemes.has(scheme) || flaggedSchemes.has("*"))) continue;
-      checks++;
-      const slower = simulateAb(model, runs, rng, keys, plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.pooledSpeedRatio, o.abRepeats, seed, o.abReplicates);
-      if (!slower) continue;
+      checked.push(scheme);
+    }
+    // Every checked scheme in one sitting, as `bench --confirm` runs them (ab-confirm.server.ts groups).
+    const keysOf = (scheme: string) => model.keys.filter((k) => model.cases.get(k)!.scheme === scheme);
+    const r = checked.length ? simulateAbGroups(model, runs, rng, checked.map(keysOf), plant, o.abBlocks, o.abMaxBlocks ?? o.abBlocks, o.thresholds.pooledSpeedRatio, o.abRepeats, seed, o.abReplicates) : { slower: [], solves: 0 };
+    checked.forEach((scheme, i) => {
+      if (!r.slower[i]) return;
       if (speedPlanted && affects(plant.placement, scheme)) detected = true;
       else alarm = true;
-    }
-    screen = { detected, alarm, checks };
+    });
+    screen = { detected, alarm, checks: checked.length, solves: r.solves };
   }
   return { perCase, pooled, any, ab, screen, accuracy: acc };
 }

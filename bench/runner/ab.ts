@@ -18,7 +18,7 @@ import { fileURLToPath } from "node:url";
 import { simpleGit } from "simple-git";
 import type { Db } from "../../app/db/client.server";
 import { pooledShift, type PooledCase } from "../../app/engine/stats/hierarchical-bootstrap";
-import { abVerdictOf, poolAbCases, type AbVerdictWord } from "../../app/runs/ab-result";
+import { abGroupsUnclear, abVerdictOf, poolAbCases, type AbGroup, type AbVerdictWord } from "../../app/runs/ab-result";
 import { createPrng } from "../../app/engine/stats/prng";
 import { problemLibraryFor, uploadedProblemsDir, databaseFileOf } from "../../app/models/library.server";
 import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
@@ -47,6 +47,11 @@ export interface AbOptions {
    * practice, no source).
    */
   maxBlocks?: number;
+  /**
+   * The verdicts the comparison is for (regressions, screened schemes): with them, more rounds run
+   * while any group is "unclear" against its own floor, instead of while the pooled verdict is.
+   */
+  groups?: AbGroup[];
   /** Timed solves per trial. */
   repeats?: number;
   seed?: number;
@@ -194,7 +199,8 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
       // Cases as the first stage, each case's paired block ratios (against 1) as the second.
       pooled = poolAbCases(out.filter((c) => Number.isFinite(c.ratio)), opts.confidence ?? 0.99);
       const deciding = pooled?.verdict ?? out.find((c) => Number.isFinite(c.ratio))?.verdict;
-      if (deciding !== "unclear" || ran + blocks > maxBlocks || opts.signal?.aborted) break;
+      const unclear = opts.groups?.length ? abGroupsUnclear(out, opts.groups) : deciding === "unclear";
+      if (!unclear || ran + blocks > maxBlocks || opts.signal?.aborted) break;
       total += cases.length * blocks * 4;
     }
   } finally {

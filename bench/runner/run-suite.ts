@@ -18,7 +18,7 @@ import { expandCases, suitePath, type LoadedSuite } from "../../app/runs/suite";
 import { loadSuiteWithChanges } from "../../app/models/suite-changes.server";
 import type { CaseOutcome, CommitMeta } from "../../app/runs/types";
 import { alertOrConfirm, type AlertOrConfirmResult as AlertResult } from "../../app/services/ab-confirm.server";
-import { abResultSchema } from "../../app/runs/ab-result";
+import { abResultSchema, type AbGroup } from "../../app/runs/ab-result";
 import { calibrate, machineInfo, machineKey, type Calibration } from "./machine";
 import { commitMeta, resolveCommit } from "./git-meta";
 import { runCases } from "./pool";
@@ -211,10 +211,10 @@ export async function runSuite(opts: RunSuiteOptions): Promise<RunSummary> {
     // Speed findings wait for an interleaved A/B verdict (a queued "ab" job, or with `confirm` one
     // run here and now); the rest are e-mailed at once.
     const confirmNow = opts.confirm
-      ? async (p: { base: string; head: string; suite: string; cases: string[]; blocks?: number; maxBlocks?: number }) => {
+      ? async (p: { base: string; head: string; suite: string; cases: string[]; blocks?: number; maxBlocks?: number; groups?: AbGroup[] }) => {
           // Cases of the speed regressions and of the screened schemes (app/services/ab-confirm.server.ts).
           const { runAb } = await import("./ab");
-          const r = await runAb({ db, root, base: p.base, head: p.head, suite: suite.file, cases: p.cases, blocks: p.blocks, maxBlocks: p.maxBlocks, signal: opts.signal, onTrial: opts.onConfirmTrial });
+          const r = await runAb({ db, root, base: p.base, head: p.head, suite: suite.file, cases: p.cases, blocks: p.blocks, maxBlocks: p.maxBlocks, groups: p.groups, signal: opts.signal, onTrial: opts.onConfirmTrial });
           // JSON has no NaN: the stored document is what `bench --ab --json` prints.
           return abResultSchema.parse(JSON.parse(JSON.stringify(r)));
         }

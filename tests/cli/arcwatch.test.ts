@@ -36,6 +36,22 @@ describe("arcwatch command line (built)", () => {
     expect(fs.existsSync(path.join(cwd, "data"))).toBe(false);
   });
 
+  it("bench --ab --groups names the group and field of a bad entry, exits 2 before any checkout", () => {
+    const cwd = fs.mkdtempSync(path.join(os.tmpdir(), "arcwatch-cli-"));
+    try {
+      const run = (groups: string) => spawnSync(process.execPath, [path.join(REPO, "scripts/arcwatch.mjs"), "bench", "--suite", "quick", "--ab", "aaaaaaa..bbbbbbb", "--groups", groups], { cwd, encoding: "utf8", timeout: 60_000 });
+      const floor = run('[{"cases":["pika-rover-dash/euler/20"],"clearBelow":0.9}]');
+      expect(floor.status).toBe(2);
+      expect(floor.stderr).toMatch(/--groups: 0\.clearBelow: /);
+      const notJson = run("[{cases:");
+      expect(notJson.status).toBe(2);
+      expect(notJson.stderr).toMatch(/--groups takes JSON/);
+      expect(fs.existsSync(path.join(cwd, "data"))).toBe(false);
+    } finally {
+      fs.rmSync(cwd, { recursive: true, force: true });
+    }
+  });
+
   it("a solve through the bundle gives the same report as the TypeScript sources", () => {
     const args = ["pika-rover-dash", "--scheme", "trapezoidal", "--intervals", "20", "--json", "--quiet"];
     const built = arcwatch("solve", ...args);

@@ -7,7 +7,7 @@
  * machine); they are test data, not measurements.
  */
 import { describe, expect, it } from "vitest";
-import { abVerdictOf, judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
+import { abGroupsUnclear, abVerdictOf, judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
 
 const H = "a".repeat(40);
 const slowBlocks = [[1.9, 1.2, 1.6, 1.4, 2.1, 1.3], [1.7, 1.5, 1.2, 1.9, 1.4, 1.6], [1.3, 1.8, 1.5, 1.6, 1.2, 1.9], [1.6, 1.4, 2.0, 1.3, 1.5, 1.7], [1.5, 1.7, 1.4, 1.8, 1.6, 1.2]];
@@ -44,6 +44,17 @@ describe("an A/B check judges each regression on its own cases", () => {
     expect(all.verdict).toBe("unclear");
   });
 
+  it("runs more blocks while any verdict the check is for is unclear, not while the pooled one is", () => {
+    const hs = slowBlocks.map((_, i) => `p${i}/hermite-simpson/12`);
+    // The scheme group (slower) and the lone case (faster) are both decided, though all six pooled are not.
+    expect(abGroupsUnclear(doc.cases, [{ cases: hs, clearBelow: 1.05 }, { cases: ["p0/trapezoidal/12"], clearBelow: 1.2 }])).toBe(false);
+    expect(poolAbCases(doc.cases)!.verdict).toBe("unclear");
+    // A group that mixes them is not: the check goes on.
+    expect(abGroupsUnclear(doc.cases, [{ cases: hs, clearBelow: 1.05 }, { cases: [...hs, "p0/trapezoidal/12"], clearBelow: 1.05 }])).toBe(true);
+    // A group none of whose cases was timed does not hold the check open.
+    expect(abGroupsUnclear(doc.cases, [{ cases: ["nowhere/euler/1"], clearBelow: 1.05 }])).toBe(false);
+  });
+
   it("clears only an interval that excludes the suite's speed floor", () => {
     // The intervals are CI's of 2026-12-02 (tests/runner/power-e2e.test.ts): an unchanged rerun
     // ×1.041 [0.932, 1.156] and a planted ×1.5 slowdown of one case ×1.347 [0.986, 1.795].
@@ -55,6 +66,9 @@ describe("an A/B check judges each regression on its own cases", () => {
     // Above 1 but below the ×1.03 reporting floor: not a slowdown worth a finding, and cleared.
     expect(abVerdictOf(1.02, 1.005, 1.04)).toBe("same");
     expect(abVerdictOf(0.7, 0.6, 0.8)).toBe("faster");
+    // A possible speed-up does not hold a slowdown check open: the interval excludes the floor.
+    expect(abVerdictOf(0.97, 0.9, 1.04, 1.05)).toBe("same");
+    expect(abVerdictOf(0.97, 0.9, 1.06, 1.05)).toBe("unclear");
     // A judged regression uses the floor it is given.
     const one = { ...doc, cases: [c("q/euler/4", [1.05, 1.1, 1.0, 1.12, 1.08, 1.02])] };
     const j = judgeRegression(one, 9, ["q/euler/4"], 1.2);

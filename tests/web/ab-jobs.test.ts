@@ -17,6 +17,7 @@ const { enqueueJobInput } = await import("~/models/jobs.server");
 const { checkAbJob, queueAbJob, afterAbJob, alertOrConfirm } = await import("~/services/ab-confirm.server");
 const { listRegressions } = await import("~/models/regressions.server");
 const { abChecksOfRegression } = await import("~/models/ab-checks.server");
+const { thresholdsOfRun } = await import("~/models/detection.server");
 const { parseDiff } = await import("~/services/diff-view.server");
 const { stopStandin } = await import("~/services/mail.server");
 const { eq } = await import("drizzle-orm");
@@ -225,7 +226,9 @@ describe("settling a check", () => {
     const asked: unknown[] = [];
     const commit = { commitHash: c2, branch: "main", subject: "two", author: "T", date: new Date(), dirty: false };
     const cleared = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, confirmNow: async (p) => (asked.push(p), verdict(1.01, 0.97, 1.05, "same")) });
-    expect(asked).toEqual([{ base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"], blocks: 6, maxBlocks: 18 }]);
+    // The verdict the A/B is for: the case against the suite's per-case floor; more blocks while it is unclear.
+    const duoT = thresholdsOfRun(db, runId);
+    expect(asked).toEqual([{ base: c1, head: c2, suite: "duo", cases: ["pika-rover-dash/euler/6"], blocks: 6, maxBlocks: duoT.confirmMaxBlocks, groups: [{ cases: ["pika-rover-dash/euler/6"], clearBelow: duoT.speedRatio }] }]);
     expect(cleared).toMatchObject({ standing: 0, abJobId: null, check: { state: "cleared", jobId: null } });
     expect(db.select().from(outbox).all()).toHaveLength(before);
     // A confirming verdict keeps it standing and sends the e-mail with the evidence.
@@ -274,6 +277,8 @@ describe("settling a check", () => {
     const asked: { cases: string[] }[] = [];
     const found = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, alerts: false, confirmNow: async (p) => (asked.push(p), both(1.09, 1.07, 1.11)) });
     expect(asked[0]!.cases).toEqual(members.map((m) => m.caseKey));
+    // A screened scheme is judged against the pooled floor.
+    expect((asked[0] as { groups?: unknown }).groups).toEqual([{ cases: members.map((m) => m.caseKey), clearBelow: thresholdsOfRun(db, runId).pooledSpeedRatio }]);
     expect(found.screened).toHaveLength(1);
     expect(found).toMatchObject({ standing: 1, check: { state: "confirmed", note: expect.stringMatching(/^Screening: scheme euler confirmed slower, its 2 cases pooled: ×1\.090/) } });
     const row = db.select().from(regressions).where(eq(regressions.id, found.screened[0]!.id)).get()!;
