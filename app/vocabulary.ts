@@ -261,6 +261,8 @@ export const THRESHOLDS = {
   speedRatio: { label: "Speed: time ratio", definition: "Flag when the median time ratio exceeds this…" },
   alpha: { label: "Speed: significance level", definition: "…and the one-sided Mann–Whitney p-value is below this." },
   confidence: { label: "Speed: interval level", definition: "Two-sided level of the bootstrap interval of the median ratio." },
+  screenSpeedRatio: { label: "A/B: screening ratio", definition: "With A/B confirmation on, a scheme whose cases moved by more than this pooled time ratio (a point estimate, no test) is checked by interleaved A/B even when no rule flagged it; 0 checks every scheme." },
+  confirmMaxBlocks: { label: "A/B: most blocks", definition: "An A/B check starts with 6 blocks and adds more while a verdict it was asked for is still unclear, up to this many." },
   driftMinShift: { label: "Drift: smallest shift", definition: "Smallest |shift| of ln(time ratio) between the last two segments; ln 1.1 ≈ 0.0953 is a 10 % shift." },
   driftMinHistory: { label: "Drift: runs of history needed", definition: "Runs of history before change points are looked for." },
 } satisfies Record<string, Entry>;

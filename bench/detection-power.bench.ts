@@ -141,7 +141,7 @@ if (u.out[0]!.screen) {
   const meanOf = (out: TrialOutcome[], f: (o: TrialOutcome) => number) => out.reduce((a, o) => a + f(o), 0) / Math.max(1, out.length);
   // Cost in solves: the quick suite's cases take 20–50 ms of CPU each (measured, DEVELOPERS.md), ~40 ms with the harness.
   const screenWord = t.screenSpeedRatio > 0 ? `every scheme whose cases moved by more than ×${t.screenSpeedRatio}, or with a finding` : "every scheme";
-  console.log(`\nScreening (screenSpeedRatio ${t.screenSpeedRatio}), then A/B against the pooled floor ×${t.pooledSpeedRatio} (${screenWord}; ${opts.abBlocks} blocks, up to ${opts.abMaxBlocks} while unclear; each scheme its own sitting):`);
+  console.log(`\nScreening (screenSpeedRatio ${t.screenSpeedRatio}), then A/B against the pooled floor ×${t.pooledSpeedRatio} (${screenWord}; ${opts.abBlocks} blocks, up to ${opts.abMaxBlocks} while unclear; the checked schemes in one sitting, a decided scheme's cases stopping):`);
   console.log("| planted | detected | other schemes raised | A/B checks per run | A/B solves per run (≈ s at 40 ms) |");
   console.log("|---|---|---|---|---|");
   for (const r of rows) if (r.out[0]?.screen) {

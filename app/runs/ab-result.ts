@@ -24,6 +24,24 @@ export const AB_CLEAR_RATIO = 1.1;
 export const AB_CONFIRM_BLOCKS = { blocks: 6, maxBlocks: 18 } as const;
 
 /**
+ * The chance of a false "slower" an A/B sitting may take over all the verdicts it is asked for
+ * (1 %, the product's false-alarm budget per suite run). A sitting that judges several groups at
+ * once (a screened suite: every scheme) gives each group 1 − 0.01 / groups as its interval level
+ * (Bonferroni; e.g. C. E. Bonferroni 1936, as in any multiple-comparisons text): five schemes at
+ * 99 % each let through 0.8–3.0 % of unchanged suite runs in the detection-power simulation.
+ */
+export const AB_FAMILY_ERROR = 0.01;
+
+/** The two-sided interval level of each verdict of a sitting that judges `groups` of them. */
+export const abConfidenceFor = (groups: number): number => 1 - AB_FAMILY_ERROR / Math.max(1, Math.floor(groups));
+
+/**
+ * Bootstrap replicates for a percentile interval at `confidence`: 2,000, or enough to put at least
+ * 10 replicates beyond each end (common practice, no source).
+ */
+export const abReplicatesFor = (confidence: number): number => Math.max(2000, Math.ceil(20 / (1 - confidence)));
+
+/**
  * "slower" when the shift passes AB_MIN_RATIO and its interval lies above 1 (mirrored for
  * "faster"); "same" when neither holds and the interval lies below clearBelow: it excludes a
  * slowdown as large as the suite's floor, which is all a check of a slowdown asks (a possible
@@ -44,7 +62,7 @@ export function poolAbCases(cases: readonly { ratio: number | null; blockRatios:
   const usable = cases.filter((c) => c.ratio !== null && Number.isFinite(c.ratio) && c.blockRatios.length > 0);
   if (usable.length < 2) return null;
   const ratio = Math.exp(usable.reduce((a, c) => a + Math.log(c.ratio!), 0) / usable.length);
-  const s = pooledShift(usable.map((c) => ({ x: c.blockRatios, y: c.blockRatios.map(() => 1) })), { confidence, seed: 11 });
+  const s = pooledShift(usable.map((c) => ({ x: c.blockRatios, y: c.blockRatios.map(() => 1) })), { confidence, seed: 11, replicates: abReplicatesFor(confidence) });
   return { ratio, low: s.low, high: s.high, verdict: abVerdictOf(ratio, s.low, s.high), cases: usable.length };
 }
 
@@ -72,6 +90,8 @@ export const abResultSchema = z.object({
   cases: z.array(abCaseSchema),
   pooled: z.object({ ratio: z.number(), low: z.number(), high: z.number(), verdict: z.enum(AB_VERDICTS), cases: z.number().int() }).nullable(),
   method: z.string(),
+  /** The interval level of every case and pool of the check (absent before 2026-12-03: 0.99). */
+  confidence: z.number().gt(0).lt(1).optional(),
   /**
    * Stored with a check, not printed by the command: the verdict on each regression the check
    * judges, from that regression's own cases (a group's members pooled), so that a one-scheme
@@ -91,13 +111,13 @@ export type AbJudged = NonNullable<AbResultDoc["judged"]>[number];
 /** What judging needs of a case of an A/B result. */
 type AbCaseLike = { key: string; ratio: number | null; low: number | null; high: number | null; blockRatios: readonly number[] };
 
-export function judgeRegression(r: { cases: readonly AbCaseLike[] }, regressionId: number, keys: readonly string[], clearBelow = AB_CLEAR_RATIO): AbJudged {
+export function judgeRegression(r: { cases: readonly AbCaseLike[]; confidence?: number }, regressionId: number, keys: readonly string[], clearBelow = AB_CLEAR_RATIO): AbJudged {
   const mine = r.cases.filter((c) => keys.includes(c.key) && c.ratio !== null && c.low !== null && c.high !== null);
   if (mine.length === 1) {
     const c = mine[0]!;
     return { regressionId, cases: [c.key], ratio: c.ratio, low: c.low, high: c.high, verdict: abVerdictOf(c.ratio!, c.low!, c.high!, clearBelow) };
   }
-  const p = poolAbCases(mine);
+  const p = poolAbCases(mine, r.confidence ?? 0.99);
   return p ? { regressionId, cases: mine.map((c) => c.key), ratio: p.ratio, low: p.low, high: p.high, verdict: abVerdictOf(p.ratio, p.low, p.high, clearBelow) } : { regressionId, cases: [], ratio: null, low: null, high: null, verdict: null };
 }
 
@@ -112,8 +132,8 @@ export type AbGroup = z.infer<typeof abGroupSchema>;
  * against its own floor)? A group none of whose cases could be timed counts as decided: more
  * blocks would not time it either.
  */
-export function abGroupsUnclear(cases: readonly AbCaseLike[], groups: readonly AbGroup[]): boolean {
-  return groups.some((g) => judgeRegression({ cases }, 0, g.cases, g.clearBelow).verdict === "unclear");
+export function abGroupsUnclear(cases: readonly AbCaseLike[], groups: readonly AbGroup[], confidence = 0.99): boolean {
+  return groups.some((g) => judgeRegression({ cases, confidence }, 0, g.cases, g.clearBelow).verdict === "unclear");
 }
 
 /** Payload of an "ab" job: compare `head` with `base` on a suite's cases (default: all of them). */

@@ -78,6 +78,8 @@ export interface RealCheckOptions {
   keep?: boolean;
   /** Run the bench command with `--confirm`: speed regressions are put to an interleaved A/B at once. */
   confirm?: boolean;
+  /** Thresholds over the quick suite's (which the suite copies by default). */
+  thresholds?: Record<string, number | boolean>;
 }
 
 function git(cwd: string, ...args: string[]): string {
@@ -136,7 +138,7 @@ export async function realCheck(o: RealCheckOptions): Promise<{ runs: RealRun[];
         timeBudgetSeconds: 120,
         jobs: 1,
         clock: "cpu",
-        thresholds: JSON.parse(fs.readFileSync(path.join(REPO, "bench/suites/quick.json"), "utf8")).thresholds,
+        thresholds: { ...JSON.parse(fs.readFileSync(path.join(REPO, "bench/suites/quick.json"), "utf8")).thresholds, ...o.thresholds },
       }),
     );
     git(repo, "init", "-q", "-b", "main");

@@ -16,7 +16,7 @@ import { createPrng, type Prng } from "../../app/engine/stats/prng";
 import { pooledFindings } from "../../app/runs/pooled";
 import { compareCases, driftFinding, type CaseSnapshot, type Finding } from "../../app/runs/rules";
 import type { Thresholds } from "../../app/runs/types";
-import { abVerdictOf } from "../../app/runs/ab-result";
+import { abConfidenceFor, abReplicatesFor, abVerdictOf } from "../../app/runs/ab-result";
 import type { NoiseModel, NoiseRun } from "./noise";
 
 export type Placement = { kind: "scheme"; scheme: string } | { kind: "suite" } | { kind: "none" };
@@ -86,17 +86,23 @@ function snapshot(model: NoiseModel, run: NoiseRun, plant: Plant | null, rng: Pr
  * One A/B sitting over several groups of cases (bench/runner/ab.ts with `groups`): each block is
  * one sitting in which A's and B's trials draw from the samples of ONE recorded run (picked per
  * block and case), so that they share that moment's load as interleaving makes them do. Rounds of
- * `blocks` blocks run on every case while any group's verdict (its cases pooled as
- * app/runs/ab-result.ts `judgeRegression` pools them, against `floor`) is "unclear", up to
- * `maxBlocks`; each group is judged on all the blocks run, as the product judges it.
+ * `blocks` blocks run while any group's verdict (its cases pooled as app/runs/ab-result.ts
+ * `judgeRegression` pools them, against `floor`) is "unclear", up to `maxBlocks`, on the cases of
+ * the groups still unclear; each group is judged on all the blocks its cases ran, as the product
+ * judges it.
  */
 function simulateAbGroups(model: NoiseModel, runs: NoiseRun[], rng: Prng, groups: string[][], plant: Plant, blocks: number, maxBlocks: number, floor: number, repeats: number, seed: number, replicates: number): { slower: boolean[]; solves: number } {
   const keys = [...new Set(groups.flat())];
   const perCase = new Map(keys.map((k) => [k, [] as { x: number[]; y: number[] }[]]));
   let solves = 0;
   let verdicts: ReturnType<typeof abVerdictOf>[] = [];
+  let active = new Set(keys);
+  // One false-alarm budget over the sitting's groups, as bench/runner/ab.ts (Bonferroni).
+  const confidence = abConfidenceFor(groups.length);
+  const reps = Math.max(replicates, abReplicatesFor(confidence) * (replicates / 2000));
   for (let ran = 0; ran + blocks <= Math.max(blocks, maxBlocks); ran += blocks) {
     for (const key of keys) {
+      if (!active.has(key)) continue;
       const c = model.cases.get(key)!;
       const slow = affects(plant.placement, c.scheme) ? 1 + plant.slowdown : 1;
       for (let b = 0; b < blocks; b++) {
@@ -107,15 +113,17 @@ function simulateAbGroups(model: NoiseModel, runs: NoiseRun[], rng: Prng, groups
         solves += 4 * repeats;
       }
     }
-    const shift = new Map(keys.map((k) => [k, pooledShift(perCase.get(k)!, { confidence: 0.99, seed: 7, replicates })]));
+    const shift = new Map(keys.map((k) => [k, pooledShift(perCase.get(k)!, { confidence, seed: 7, replicates: reps })]));
     verdicts = groups.map((g) => {
       const shifts = g.map((k) => shift.get(k)!);
       if (shifts.length === 1) return abVerdictOf(shifts[0]!.ratio, shifts[0]!.low, shifts[0]!.high, floor);
       const lnMean = shifts.reduce((a, x) => a + Math.log(x.ratio), 0) / shifts.length;
-      const pooled = pooledShift(shifts.map((c) => ({ x: c.caseRatios, y: c.caseRatios.map(() => 1) })), { confidence: 0.99, seed: seed + 11, replicates });
+      const pooled = pooledShift(shifts.map((c) => ({ x: c.caseRatios, y: c.caseRatios.map(() => 1) })), { confidence, seed: seed + 11, replicates: reps });
       return abVerdictOf(Math.exp(lnMean), pooled.low, pooled.high, floor);
     });
     if (!verdicts.includes("unclear")) break;
+    // Only the cases of groups still unclear run on (bench/runner/ab.ts).
+    active = new Set(groups.filter((_, i) => verdicts[i] === "unclear").flat());
   }
   return { slower: verdicts.map((v) => v === "slower"), solves };
 }

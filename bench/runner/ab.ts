@@ -18,7 +18,7 @@ import { fileURLToPath } from "node:url";
 import { simpleGit } from "simple-git";
 import type { Db } from "../../app/db/client.server";
 import { pooledShift, type PooledCase } from "../../app/engine/stats/hierarchical-bootstrap";
-import { abGroupsUnclear, abVerdictOf, poolAbCases, type AbGroup, type AbVerdictWord } from "../../app/runs/ab-result";
+import { abConfidenceFor, abGroupsUnclear, abReplicatesFor, abVerdictOf, poolAbCases, type AbGroup, type AbVerdictWord } from "../../app/runs/ab-result";
 import { createPrng } from "../../app/engine/stats/prng";
 import { problemLibraryFor, uploadedProblemsDir, databaseFileOf } from "../../app/models/library.server";
 import { expandCases, loadSuite, suitePath } from "../../app/runs/suite";
@@ -49,12 +49,14 @@ export interface AbOptions {
   maxBlocks?: number;
   /**
    * The verdicts the comparison is for (regressions, screened schemes): with them, more rounds run
-   * while any group is "unclear" against its own floor, instead of while the pooled verdict is.
+   * while any group is "unclear" against its own floor, instead of while the pooled verdict is, and
+   * a round runs only the cases of groups still unclear (a decided group's cases stop).
    */
   groups?: AbGroup[];
   /** Timed solves per trial. */
   repeats?: number;
   seed?: number;
+  /** Interval level of every case and pool (default: app/runs/ab-result.ts `abConfidenceFor` the number of groups). */
   confidence?: number;
   signal?: AbortSignal;
   onTrial?: (info: { key: string; block: number; side: "A" | "B"; done: number; total: number }) => void;
@@ -83,6 +85,7 @@ export interface AbResult {
   cases: AbCase[];
   pooled: { ratio: number; low: number; high: number; verdict: AbVerdict; cases: number } | null;
   method: string;
+  confidence: number;
 }
 
 export const AB_METHOD = "randomized multiple interleaved trials (Abedi & Brecht, ICPE 2017): blocks A B B A / B A A B in one sitting, paired block ratios, two-stage bootstrap";
@@ -171,11 +174,17 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
   let out: AbCase[] = [];
   let pooled: AbResult["pooled"] = null;
   let total = cases.length * blocks * 4;
+  // Several verdicts in one sitting share one false-alarm budget (Bonferroni).
+  const confidence = opts.confidence ?? abConfidenceFor(opts.groups?.length ?? 1);
+  const replicates = abReplicatesFor(confidence);
   let done = 0;
   let ran = 0;
   try {
+    // With groups, a round runs only the cases of groups still unclear (a decided group's cases stop).
+    let active = new Set(cases.map((c) => c.key));
     for (;;) {
       for (const [i, spec] of cases.entries()) {
+        if (!active.has(spec.key)) continue;
         const acc = perCase[i]!;
         for (let b = ran; b < ran + blocks && !opts.signal?.aborted; b++) {
           const order: ("A" | "B")[] = rng.next() < 0.5 ? ["A", "B", "B", "A"] : ["B", "A", "A", "B"];
@@ -193,27 +202,29 @@ export async function runAb(opts: AbOptions): Promise<AbResult> {
       out = cases.map((spec, i) => {
         const acc = perCase[i]!;
         if (acc.blocks.length === 0) return { key: spec.key, blockRatios: [], ratio: NaN, low: NaN, high: NaN, verdict: "unclear", status: acc.status };
-        const s = pooledShift(acc.blocks, { confidence: opts.confidence ?? 0.99, seed: 7 });
+        const s = pooledShift(acc.blocks, { confidence, seed: 7, replicates });
         return { key: spec.key, blockRatios: s.caseRatios, ratio: s.ratio, low: s.low, high: s.high, verdict: verdictOf(s.ratio, s.low, s.high), status: acc.status };
       });
       // Cases as the first stage, each case's paired block ratios (against 1) as the second.
-      pooled = poolAbCases(out.filter((c) => Number.isFinite(c.ratio)), opts.confidence ?? 0.99);
+      pooled = poolAbCases(out.filter((c) => Number.isFinite(c.ratio)), confidence);
       const deciding = pooled?.verdict ?? out.find((c) => Number.isFinite(c.ratio))?.verdict;
-      const unclear = opts.groups?.length ? abGroupsUnclear(out, opts.groups) : deciding === "unclear";
+      const open = opts.groups?.length ? opts.groups.filter((g) => abGroupsUnclear(out, [g], confidence)) : null;
+      const unclear = open ? open.length > 0 : deciding === "unclear";
       if (!unclear || ran + blocks > maxBlocks || opts.signal?.aborted) break;
-      total += cases.length * blocks * 4;
+      if (open) active = new Set(open.flatMap((g) => g.cases));
+      total += cases.filter((c) => active.has(c.key)).length * blocks * 4;
     }
   } finally {
     await laneA.close();
     await laneB.close();
     if (own) for (const dir of trees.values()) await removeCheckout(root, dir);
   }
-  return { base, head, blocks: ran, repeats, cases: out, pooled, method: AB_METHOD };
+  return { base, head, blocks: ran, repeats, cases: out, pooled, method: AB_METHOD, confidence };
 }
 
 /** One line per case, then the pooled line. */
 export function abSummary(r: AbResult): string {
-  const lines = [`A = ${r.base.slice(0, 10)}, B = ${r.head.slice(0, 10)} · ${r.blocks} blocks × 4 trials × ${r.repeats} solves per case · ${r.method}`];
+  const lines = [`A = ${r.base.slice(0, 10)}, B = ${r.head.slice(0, 10)} · ${r.blocks} blocks × 4 trials × ${r.repeats} solves per case · ${+(r.confidence * 100).toPrecision(4)} % intervals · ${r.method}`];
   for (const c of r.cases) lines.push(`${c.key}: B/A ×${c.ratio.toFixed(3)} [${c.low.toFixed(3)}, ${c.high.toFixed(3)}] → ${c.verdict}${c.status !== "optimal" ? ` (${c.status})` : ""}`);
   if (r.pooled) lines.push(`all ${r.pooled.cases} cases: ×${r.pooled.ratio.toFixed(3)} [${r.pooled.low.toFixed(3)}, ${r.pooled.high.toFixed(3)}] → ${r.pooled.verdict}`);
   return lines.join("\n");

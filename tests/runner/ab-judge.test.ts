@@ -7,7 +7,7 @@
  * machine); they are test data, not measurements.
  */
 import { describe, expect, it } from "vitest";
-import { abGroupsUnclear, abVerdictOf, judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
+import { abConfidenceFor, abGroupsUnclear, abReplicatesFor, abVerdictOf, judgeRegression, poolAbCases, type AbResultDoc } from "~/runs/ab-result";
 
 const H = "a".repeat(40);
 const slowBlocks = [[1.9, 1.2, 1.6, 1.4, 2.1, 1.3], [1.7, 1.5, 1.2, 1.9, 1.4, 1.6], [1.3, 1.8, 1.5, 1.6, 1.2, 1.9], [1.6, 1.4, 2.0, 1.3, 1.5, 1.7], [1.5, 1.7, 1.4, 1.8, 1.6, 1.2]];
@@ -73,6 +73,24 @@ describe("an A/B check judges each regression on its own cases", () => {
     const one = { ...doc, cases: [c("q/euler/4", [1.05, 1.1, 1.0, 1.12, 1.08, 1.02])] };
     const j = judgeRegression(one, 9, ["q/euler/4"], 1.2);
     expect(j.verdict).toBe("same");
+  });
+
+  it("shares one 1 % false-alarm budget among the verdicts of one sitting", () => {
+    // Bonferroni: m tests at level α/m each keep the chance of any false rejection below α
+    // (e.g. Y. Hochberg & A. C. Tamhane, "Multiple Comparison Procedures", Wiley 1987, ch. 2).
+    expect(abConfidenceFor(1)).toBeCloseTo(0.99, 12);
+    expect(abConfidenceFor(5)).toBeCloseTo(0.998, 12);
+    expect(abConfidenceFor(0)).toBeCloseTo(0.99, 12);
+    // Enough replicates to put 10 beyond each end of the interval.
+    expect(abReplicatesFor(0.99)).toBe(2000);
+    expect(abReplicatesFor(0.998)).toBe(10000);
+    // A check stored at 99.8 % judges its groups at 99.8 %: a wider interval than at 99 %.
+    const hs = slowBlocks.map((_, i) => `p${i}/hermite-simpson/12`);
+    const at99 = judgeRegression(doc, 1, hs);
+    const at998 = judgeRegression({ ...doc, confidence: 0.998 }, 1, hs);
+    expect(at998.low!).toBeLessThan(at99.low!);
+    expect(at998.high!).toBeGreaterThan(at99.high!);
+    expect(at998.ratio).toBeCloseTo(at99.ratio!, 12);
   });
 
   it("says so when none of a regression's cases was timed", () => {
