@@ -84,7 +84,7 @@ export default function Compare({ loaderData }: Route.ComponentProps) {
               <option value="">{k === "a" ? "latest run on main" : "none"}</option>
               {commits.map((c) => (
                 <option key={c.commitHash} value={c.commitHash}>
-                  {c.commitHash.slice(0, 10)} {c.subject ? `· ${c.subject.slice(0, 40)}` : ""}
+                  {c.commitHash.slice(0, 10)} <span data-ident>{c.subject ? `· ${c.subject.slice(0, 40)}` : ""}</span>
                 </option>
               ))}
             </select>
@@ -173,7 +173,7 @@ export default function Compare({ loaderData }: Route.ComponentProps) {
         {views.map((v, i) => (
           <div key={i} className="min-w-0 space-y-3" data-compare-view={i === 0 ? "a" : "b"}>
             <h2 className="text-lg font-semibold">
-              <span className="num">{v.commit?.slice(0, 10) ?? "no run"}</span> {v.commitSubject ? <span className="text-muted">· {v.commitSubject}</span> : null}
+              <span className="num">{v.commit?.slice(0, 10) ?? "no run"}</span> {v.commitSubject ? <span className="text-muted" data-ident>· {v.commitSubject}</span> : null}
             </h2>
             <CompareViews view={v} singleProblem={q.problem !== null} metricLabel={metricLabel} />
           </div>

@@ -308,7 +308,7 @@ export default function RegressionPage({ loaderData }: Route.ComponentProps) {
         <ul className="space-y-3">
           {commits.map((c) => (
             <li key={c.hash} data-commit={c.hash}>
-              <Link to={`/commits/${c.hash}`} className="font-medium hover:underline">
+              <Link to={`/commits/${c.hash}`} className="font-medium hover:underline" data-ident>
                 {c.subject}
               </Link>
               <span className="num block text-xs text-muted">

@@ -74,7 +74,7 @@ export default function RunPage({ loaderData }: Route.ComponentProps) {
           <h1 className="flex items-center gap-3 text-3xl font-semibold tracking-tight">
             Suite {detail.suite} at {run.isDemo ? <code className="num">{run.commitHash.slice(0, 10)}</code> : <Link to={`/commits/${run.commitHash}`} className="num text-accent hover:underline" data-testid="commit-link"><code>{run.commitHash.slice(0, 10)}</code></Link>} <DemoBadge show={run.isDemo} />
           </h1>
-          <p className="text-muted">{run.commitSubject}</p>
+          <p className="text-muted" data-ident>{run.commitSubject}</p>
           <p className="text-sm text-muted">
             {run.branch ?? "(detached)"} · {statusLabel("run", run.status)} · started {fmtDate(run.startedAt)} · {run.finishedAt ? fmtSeconds((run.finishedAt - run.startedAt) / 1000) : "not finished"} ·{" "}
             <span data-testid="run-solved">{solved}/{cases.length} solved</span> · machine <code className="num text-xs">{run.machineKey.slice(0, 12)}</code>

@@ -29,7 +29,7 @@ const COLUMNS: ServerColumn<RunListItem>[] = [
     cell: (r) => (
       <span className="flex flex-col">
         {r.isDemo ? <code className="num">{r.commitHash.slice(0, 10)}</code> : <Link to={`/commits/${r.commitHash}`} className="num text-accent hover:underline" data-testid="commit-link"><code>{r.commitHash.slice(0, 10)}</code></Link>}
-        <span className="max-w-[16rem] truncate text-xs text-muted" title={r.commitSubject ?? ""}>{r.commitSubject}</span>
+        <span className="max-w-[16rem] truncate text-xs text-muted" title={r.commitSubject ?? ""} data-ident>{r.commitSubject}</span>
       </span>
     ),
   },

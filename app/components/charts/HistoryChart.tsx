@@ -31,7 +31,7 @@ function TooltipBody({ active, payload }: { active?: boolean; payload?: { payloa
   return (
     <div className="card max-w-xs p-2 text-xs" data-testid="history-tooltip">
       <p className="num font-semibold">{p.commitHash.slice(0, 10)}{p.isDemo ? " · demo data" : ""}</p>
-      <p>{p.commitSubject}</p>
+      <p data-ident>{p.commitSubject}</p>
       <p className="num text-muted">{new Date(p.startedAt).toISOString().slice(0, 16).replace("T", " ")} UTC · {statusLabel("run", p.status)}</p>
       <p className="num">value {p.value === null ? "—" : p.value.toPrecision(4)}</p>
       {p.markKinds.length ? <p className={p.mark === "regression" ? "text-bad" : "text-good"}>{directionOf(p.mark ?? "regression").symbol} {p.markKinds.map(kindLabel).join(", ")}</p> : null}

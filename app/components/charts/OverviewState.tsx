@@ -22,7 +22,7 @@ export function OverviewPanels({ state }: { state: OverviewState }) {
               {branches.map((b) => (
                 <tr key={b.branch} className="border-t border-line/60">
                   <td className="py-1.5"><span className="flex items-center gap-2"><Link className="font-medium text-accent hover:underline" to={`/runs?branch=${encodeURIComponent(b.branch)}`}>{b.branch}</Link><DemoBadge show={b.isDemo} /></span></td>
-                  <td><Link to={`/runs/${b.runId}`} className="hover:underline"><code className="num">{b.commitHash.slice(0, 10)}</code></Link> <span className="text-xs text-muted">{b.commitSubject?.slice(0, 50)}</span></td>
+                  <td><Link to={`/runs/${b.runId}`} className="hover:underline"><code className="num">{b.commitHash.slice(0, 10)}</code></Link> <span className="text-xs text-muted" data-ident>{b.commitSubject?.slice(0, 50)}</span></td>
                   <td>{b.suite}</td>
                   <td className="num pr-3 text-right">{b.solved}/{b.cases}</td>
                   <td className={`num pr-3 text-right ${b.regressions ? "font-semibold text-bad" : "text-muted"}`}>{b.regressions}</td>

@@ -64,7 +64,7 @@ export function Sightings({ sightings }: { sightings: SightingRow[] }) {
             <Link to={`/runs/${s.runId}`} className="num hover:underline">
               {s.commitHash.slice(0, 10)}
             </Link>{" "}
-            {s.commitSubject ?? ""} <span className="num text-muted">{times(s.ratio)}{s.ciLow !== null && s.ciHigh !== null ? ` [${s.ciLow.toFixed(2)}, ${s.ciHigh.toFixed(2)}]` : ""}</span>
+            <span data-ident>{s.commitSubject ?? ""}</span> <span className="num text-muted">{times(s.ratio)}{s.ciLow !== null && s.ciHigh !== null ? ` [${s.ciLow.toFixed(2)}, ${s.ciHigh.toFixed(2)}]` : ""}</span>
           </li>
         ))}
       </ul>
