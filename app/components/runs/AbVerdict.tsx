@@ -39,7 +39,7 @@ export function AbVerdict({ check, jobLink = true }: { check: AbCheckView; jobLi
             <thead className="text-muted">
               <tr>
                 <th className="pr-4 text-left font-medium">case</th>
-                <th className="pr-4 text-left font-medium">time B/A, paired [interval]</th>
+                <th className="pr-4 text-left font-medium">time B/A, paired [{+((r.confidence ?? 0.99) * 100).toPrecision(4)} % interval]</th>
                 <th className="pr-4 text-left font-medium">blocks</th>
                 <th className="text-left font-medium">verdict</th>
               </tr>
