@@ -84,7 +84,7 @@ export default function Compare({ loaderData }: Route.ComponentProps) {
               <option value="">{k === "a" ? "latest run on main" : "none"}</option>
               {commits.map((c) => (
                 <option key={c.commitHash} value={c.commitHash}>
-                  {c.commitHash.slice(0, 10)} <span data-ident>{c.subject ? `· ${c.subject.slice(0, 40)}` : ""}</span>
+                  {c.commitHash.slice(0, 10)} {c.subject ? `· ${c.subject.slice(0, 40)}` : ""}
                 </option>
               ))}
             </select>

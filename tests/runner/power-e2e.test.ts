@@ -36,7 +36,7 @@ describe("detection power, reduced end to end, A/B-confirmed", () => {
       revert: false,
       confirm: true,
       // The quick suite's rules, but screening only schemes that moved past ×1.05 and capping the A/B
-      // at 24 blocks: the quick gate (every scheme, up to 48 blocks) costs several minutes of A/B per
+      // at 24 blocks: the quick gate (every scheme, up to 60 blocks) costs several minutes of A/B per
       // run, four runs here; a 50 % plant is decided in 6–12 blocks, and the gate's power at 10 % and
       // its false alarms are bench/detection-power.bench.ts's to measure.
       thresholds: { screenSpeedRatio: 1.05, confirmMaxBlocks: 24 },
