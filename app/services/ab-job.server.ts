@@ -19,7 +19,7 @@ import { abJobPayload, abResultSchema } from "~/runs/ab-result";
 import { RUN_EVENTS_FD_ENV } from "~/runs/events";
 import { afterAbJob } from "./ab-confirm.server";
 import { repoRoot } from "./git.server";
-import { onRunEvents, superviseJobChild } from "./job-child.server";
+import { onRunEvents, superviseJobChild, whenUnlocked } from "./job-child.server";
 
 
 /** Runs one claimed "ab" job to its end (never throws: a failure is the job's recorded result). */
@@ -71,7 +71,7 @@ export async function runAbJob(db: Db, job: JobRow, onChild: (c: ChildProcess | 
     onChild(null);
     Object.assign(progress, { phase: "finishing", current: null, etaSeconds: null });
     append(`\n[exit ${code}]\n`);
-    heartbeatJob(db, job.id, progress, log);
+    await whenUnlocked(() => heartbeatJob(db, job.id, progress, log));
     log = "";
     // 0: no slowdown; 3: slower (a verdict, not a failure); 130: interrupted.
     if (code === 0 || code === 3) {
@@ -84,20 +84,20 @@ export async function runAbJob(db: Db, job: JobRow, onChild: (c: ChildProcess | 
       const parsed = abResultSchema.safeParse(doc);
       if (!parsed.success) throw new Error(`bench --ab printed an unexpected verdict: ${parsed.error.issues[0]?.path.join(".")}: ${parsed.error.issues[0]?.message}`);
       await afterAbJob(db, job.id, { result: parsed.data }, baseUrl);
-      finishJob(db, job.id, "done", null);
+      await whenUnlocked(() => finishJob(db, job.id, "done", null));
     } else if (code === 130) {
       await afterAbJob(db, job.id, { error: "the job was cancelled" }, baseUrl);
-      finishJob(db, job.id, "cancelled", "Interrupted.");
+      await whenUnlocked(() => finishJob(db, job.id, "cancelled", "Interrupted."));
     } else {
       const why = `bench --ab exited with code ${code}`;
       await afterAbJob(db, job.id, { error: why }, baseUrl);
-      finishJob(db, job.id, "failed", why);
+      await whenUnlocked(() => finishJob(db, job.id, "failed", why));
     }
   } catch (err) {
     const message = (err as Error).message;
     append(`\n${message}\n`);
-    heartbeatJob(db, job.id, null, log);
+    await whenUnlocked(() => heartbeatJob(db, job.id, null, log));
     await afterAbJob(db, job.id, { error: message.slice(0, 500) }, baseUrl).catch(() => undefined);
-    finishJob(db, job.id, "failed", message.slice(0, 2000));
+    await whenUnlocked(() => finishJob(db, job.id, "failed", message.slice(0, 2000)));
   }
 }

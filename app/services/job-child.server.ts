@@ -1,7 +1,8 @@
 /**
  * What every job's child process shares: its run events read line by line from fd 3, and its
  * supervision (a beat every second that stores progress and reports the job's status; a job
- * cancelled meanwhile gets SIGTERM, then SIGKILL after a grace period).
+ * cancelled meanwhile gets SIGTERM, then SIGKILL after a grace period; a beat that throws is
+ * skipped and logged, never thrown out of the timer).
  */
 import type { ChildProcess } from "node:child_process";
 import type { JobRow } from "~/db/schema";
@@ -32,14 +33,54 @@ export function onRunEvents(child: ChildProcess, onEvent: (e: RunEvent) => void)
 export async function superviseJobChild(child: ChildProcess, beat: (elapsedSeconds: number) => JobRow["status"] | null): Promise<number | null> {
   const started = Date.now();
   let killTimer: NodeJS.Timeout | null = null;
+  let failing = false;
   const timer = setInterval(() => {
-    if (beat((Date.now() - started) / 1000) === "cancelled" && !killTimer) {
+    let status: JobRow["status"] | null;
+    try {
+      status = beat((Date.now() - started) / 1000);
+      failing = false;
+    } catch (err) {
+      // A beat that throws (typically SQLITE_BUSY: another process held the write lock past
+      // busy_timeout) skips this beat; thrown out of a timer it would bring the whole server down.
+      if (!failing) console.error("[arcwatch] job heartbeat skipped:", (err as Error).message);
+      failing = true;
+      return;
+    }
+    if (status === "cancelled" && !killTimer) {
       child.kill("SIGTERM");
       killTimer = setTimeout(() => child.kill("SIGKILL"), KILL_GRACE_MS);
     }
   }, HEARTBEAT_MS);
-  const code: number | null = await new Promise((resolve) => child.once("close", (c) => resolve(c)));
+  const code: number | null = await new Promise((resolve) => {
+    child.once("close", (c) => resolve(c));
+    // Without a listener, a failed spawn (EAGAIN, ENOMEM on a loaded machine) is thrown out of
+    // the event emitter and takes the server down; here it ends the job like a killed child.
+    child.once("error", (err) => {
+      console.error("[arcwatch] job process:", err.message);
+      resolve(null);
+    });
+  });
   clearInterval(timer);
   if (killTimer) clearTimeout(killTimer);
   return code;
+}
+
+/** True for SQLite's "database is locked" family (SQLITE_BUSY, SQLITE_BUSY_SNAPSHOT...). */
+export function isBusyError(err: unknown): boolean {
+  return typeof (err as { code?: unknown })?.code === "string" && (err as { code: string }).code.startsWith("SQLITE_BUSY");
+}
+
+/**
+ * Runs a database write that must not be lost (a job's last log and final status), retrying
+ * while another process holds the write lock past busy_timeout: once a second, up to `tries`.
+ */
+export async function whenUnlocked<T>(write: () => T, tries = 60): Promise<T> {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      return write();
+    } catch (err) {
+      if (!isBusyError(err) || attempt >= tries) throw err;
+      await new Promise((r) => setTimeout(r, 1000));
+    }
+  }
 }

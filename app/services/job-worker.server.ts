@@ -32,7 +32,7 @@ import os from "node:os";
 import type { JobRow } from "~/db/schema";
 import { runAbJob } from "./ab-job.server";
 import { afterAbJob } from "./ab-confirm.server";
-import { onRunEvents, superviseJobChild } from "./job-child.server";
+import { onRunEvents, superviseJobChild, whenUnlocked } from "./job-child.server";
 import { addWorktree, pruneWorktrees, removeWorktree, repoRoot, resolveRef } from "./git.server";
 
 const POLL_MS = 1000;
@@ -200,16 +200,16 @@ async function runBenchJob(db: Db, job: JobRow, state: WorkerState): Promise<voi
     progress.runId ??= runOfJob(db, job.id)?.id ?? null;
     progress.current = null;
     append(`\n[exit ${code}]\n`);
-    heartbeatJob(db, job.id, progress, log);
+    await whenUnlocked(() => heartbeatJob(db, job.id, progress, log));
     log = "";
     // 0: fine; 3: finished with new regressions (a result, not a failure); 130: interrupted.
-    if (code === 0 || code === 3) finishJob(db, job.id, "done", null);
-    else if (code === 130) finishJob(db, job.id, "cancelled", "Interrupted.");
-    else finishJob(db, job.id, "failed", `bench exited with code ${code}`);
+    if (code === 0 || code === 3) await whenUnlocked(() => finishJob(db, job.id, "done", null));
+    else if (code === 130) await whenUnlocked(() => finishJob(db, job.id, "cancelled", "Interrupted."));
+    else await whenUnlocked(() => finishJob(db, job.id, "failed", `bench exited with code ${code}`));
   } catch (err) {
     append(`\n${(err as Error).message}\n`);
-    heartbeatJob(db, job.id, null, log);
-    finishJob(db, job.id, "failed", (err as Error).message.slice(0, 2000));
+    await whenUnlocked(() => heartbeatJob(db, job.id, null, log));
+    await whenUnlocked(() => finishJob(db, job.id, "failed", (err as Error).message.slice(0, 2000)));
   } finally {
     if (worktree) await removeWorktree(worktree).catch(() => undefined);
     if (generated) fs.rmSync(generated, { recursive: true, force: true });

@@ -83,7 +83,11 @@ describe.runIf(run)("running a suite from the browser", () => {
     await hydrated(page);
     // live progress through the fetcher poll, to the end
     await page.waitForSelector("[data-testid=job-panel][data-status=running], [data-testid=job-panel][data-status=done]", { timeout: 60_000 });
-    await page.waitForSelector("[data-testid=job-panel][data-status=done]", { timeout: 240_000 });
+    await page.waitForSelector("[data-testid=job-panel][data-status=done]", { timeout: 240_000 }).catch(async (err) => {
+      await screenshot(page, "run-suite-not-done").catch(() => undefined);
+      const panel = await page.textContent("[data-testid=job-panel]").catch(() => "(page gone)");
+      throw new Error(`${(err as Error).message}\njob panel: ${panel?.slice(0, 1500)}\nserver log (tail):\n${server.log().slice(-4000)}`);
+    });
     expect(await page.textContent("[data-testid=job-progress]")).toContain("2/2 cases");
     expect(await page.textContent("[data-testid=job-log]")).toContain("bench/run.ts");
     await screenshot(page, "run-suite-done");

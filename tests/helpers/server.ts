@@ -99,6 +99,8 @@ export async function startTestServer(options: { env?: Record<string, string>; d
   });
   child.stdout!.on("data", (d) => (output += d));
   child.stderr!.on("data", (d) => (output += d));
+  // A server that dies mid-test says how (exit code or signal) in its log, which failing tests print.
+  child.once("exit", (code, signal) => (output += `\n[test helper] server process exited: code ${code}, signal ${signal}\n`));
   const url = `http://127.0.0.1:${port}`;
   const deadline = Date.now() + 120_000; // generous: the machine running tests may be shared
   for (;;) {
