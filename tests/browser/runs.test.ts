@@ -106,7 +106,9 @@ describe.runIf(run)("running a suite from the browser", () => {
     await page.locator("[data-testid=matrix-cell]").first().click();
     await page.waitForSelector("[data-testid=case-status]", { timeout: 20_000 });
     expect(page.url()).toMatch(/\/cases\/\d+$/);
-    await page.waitForSelector("[data-testid=trajectory-chart] svg path.recharts-curve", { timeout: 20_000 });
+    // The first trajectory request starts a solver thread (it compiles the problem for the
+    // reference): with eight busy processes on two cores that took more than 20 s here.
+    await page.waitForSelector("[data-testid=trajectory-chart] svg path.recharts-curve", { timeout: 90_000 });
     // The iteration log: charts first, the numbers behind a toggle (tests/browser/iteration-log.test.ts).
     await page.waitForSelector("[data-testid=iteration-chart] svg path.recharts-curve", { timeout: 20_000 });
     await page.click("[data-testid=iteration-table-toggle]");
