@@ -189,6 +189,7 @@ console.log(`peak memory of an empty Node process ${mb(empty)} MB; of one that l
 const perIteration = (s: number | null | undefined, iterations: number | undefined) => (s != null && iterations ? s / iterations : null);
 const cpuS = (r: Run | null) => (r ? r.cpuSeconds.toFixed(3).padStart(6) : "     —");
 const wallS = (r: Run | null) => (r ? r.seconds.toFixed(3).padStart(6) : "     —");
+const warmS = (r: Run | null) => (r?.warmCpuSeconds != null ? r.warmCpuSeconds.toFixed(3).padStart(6) : "     —");
 
 /**
  * Equal accuracy. At tol 1e-8 the reference stops with an objective error that grows with N (its
@@ -198,7 +199,8 @@ const wallS = (r: Run | null) => (r ? r.seconds.toFixed(3).padStart(6) : "     �
  * reference is run again with tighter tolerances, and Arcwatch is compared with the loosest one whose
  * objective is as accurate as Arcwatch's. h* is the reference's own answer at the tightest tol (so
  * the yardstick is not Arcwatch's); errors within MATCH_FLOOR of it count as equal (the tolerance
- * both solvers are given; common practice, no source).
+ * both solvers are given, and the resolution of the reference's 8-decimal printout of h; common
+ * practice, no source).
  */
 const TOLS = ["1e-8", "1e-9", "1e-10", "1e-11"] as const;
 const MATCH_FLOOR = 1e-8;
@@ -220,7 +222,7 @@ function matchedAccuracy(binary: string, N: number, scheme: string, ref8: Run, o
   const cells = runs.map((r) => `${String(r ? `${r.iterations}${r.status === "optimal" ? "" : "*"}` : "—").padStart(12)}  ${e(diff(r))}`);
   return (
     `${String(N).padStart(6)}  | ${hStar?.toFixed(9) ?? "—"} | ${cells.join("| ")}| ${(k >= 0 ? TOLS[k] : "—").padStart(7)}  ${String(m?.iterations ?? "—").padStart(9)} ${cpuS(m)} | ` +
-    `${String(our.iterations).padStart(14)}  ${e(diff(our))} ${cpuS(our)} ${our.warmCpuSeconds != null ? our.warmCpuSeconds.toFixed(3).padStart(6) : "     —"} | ` +
+    `${String(our.iterations).padStart(14)}  ${e(diff(our))} ${cpuS(our)} ${warmS(our)} | ` +
     `${ratio(our.iterations, m?.iterations).padStart(10)}  ${ratio(our.cpuSeconds, m?.cpuSeconds).padStart(9)}  ${ratio(our.warmCpuSeconds, m?.cpuSeconds).padStart(10)}`
   );
 }
@@ -246,7 +248,7 @@ for (const scheme of schemes) {
     const ourSolveMem = our?.rssKb != null && loaded != null ? our.rssKb - loaded : null;
     console.log(
       `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${cpuS(ref)}  ${wallS(ref)} ${mb(ref?.rssKb ?? null).padStart(4)} | ` +
-        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${our?.warmCpuSeconds != null ? our.warmCpuSeconds.toFixed(3).padStart(6) : "     —"}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
+        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${warmS(our)}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
         `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(perIteration(our?.warmCpuSeconds, our?.iterations), perIteration(ref?.cpuSeconds, ref?.iterations)).padStart(15)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
     );
     if (bin && matchedOn && ref && our) matchedRows.push(matchedAccuracy(bin, N, scheme, ref, our));
