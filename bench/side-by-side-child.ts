@@ -5,10 +5,12 @@
  *
  *   node --import tsx bench/side-by-side-child.ts N trapezoidal|hermite-simpson [warm] [--fixture path]
  *
- * N = 0 loads everything without solving (the "loaded" memory figure). ARCWATCH_GAP_TOL sets the
+ * N = 0 loads everything without solving (the "loaded" memory figure). "warm" adds the third solve's
+ * CPU and the steady CPU (below). ARCWATCH_GAP_TOL sets the
  * solver's gapTol (0: the stop without the duality-gap test). ARCWATCH_PRINT=1 prints the
  * iteration log of the timed solve; ARCWATCH_PROFILE=file writes a CPU profile of the timed (warm when
- * asked) solve only, through node:inspector, so that loading and the warm-up do not dilute it.
+ * asked) solve only, through node:inspector, so that loading and the warm-up do not dilute it
+ * (with ARCWATCH_PROFILE_STEADY=1 also set: the last steady solve instead).
  */
 import { writeFileSync } from "node:fs";
 import { copsGoddardFromCopsStart, COPS_GODDARD_FIXTURE } from "./side-by-side-problem";
@@ -33,7 +35,17 @@ const problem = copsGoddardFromCopsStart(fixturePath);
 const gapTol = process.env.ARCWATCH_GAP_TOL ? Number(process.env.ARCWATCH_GAP_TOL) : null;
 if (gapTol !== null && !(gapTol >= 0)) throw new Error(`side-by-side child: ARCWATCH_GAP_TOL must be a number ≥ 0, got ${process.env.ARCWATCH_GAP_TOL}`);
 
-interface Measured { iterations: number; status: string; message?: string; seconds: number; cpuSeconds: number; objective: number | null; warmCpuSeconds?: number }
+interface Measured { iterations: number; status: string; message?: string; seconds: number; cpuSeconds: number; objective: number | null; warmCpuSeconds?: number; steadyCpuSeconds?: number }
+
+/**
+ * "steady": the best CPU of solves STEADY_FROM … STEADY_TO of the same N in one process, each after
+ * emptying the analysis cache: the engine once V8 has compiled its hot code with full type feedback,
+ * which is where a solver-pool or bench worker runs after its first few solves (the cold and
+ * third-solve figures still carry tier-up and compilation; see DEVELOPERS.md, "cold, warm and
+ * steady"). ARCWATCH_STEADY_SOLVES sets STEADY_TO (default 8; 3 or less skips it).
+ */
+const STEADY_FROM = 4;
+const STEADY_TO = Number(process.env.ARCWATCH_STEADY_SOLVES ?? 8);
 
 const profileFile = process.env.ARCWATCH_PROFILE ?? "";
 async function profiled<T>(on: boolean, f: () => T): Promise<T> {
@@ -69,8 +81,17 @@ if (N > 0) {
     // that the analysis is paid as in the cold solve (a bench worker's timed repeats would reuse it).
     run(N);
     clearAnalysisCache();
-    const w = await profiled(true, () => run(N));
+    const w = await profiled(!process.env.ARCWATCH_PROFILE_STEADY, () => run(N));
     out = { ...out, warmCpuSeconds: w.cpuSeconds };
+    if (STEADY_TO >= STEADY_FROM) {
+      let steady = Infinity;
+      for (let k = STEADY_FROM; k <= STEADY_TO; k++) {
+        clearAnalysisCache();
+        const s = await profiled(k === STEADY_TO && !!process.env.ARCWATCH_PROFILE_STEADY, () => run(N));
+        steady = Math.min(steady, s.cpuSeconds);
+      }
+      out = { ...out, steadyCpuSeconds: steady };
+    }
   }
 }
 process.stdout.write(JSON.stringify(out) + "\n");

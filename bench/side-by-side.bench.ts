@@ -29,16 +29,20 @@
  *    cache emptied before it (so the analysis is paid again): the engine's steady cost once the JIT
  *    has compiled it for this size, as in a bench worker after its warm-up solves (measured in a
  *    process of its own, so that the memory columns stay those of the cold solve;
- *    ARCWATCH_COLD_ONLY=1 skips it);
+ *    ARCWATCH_COLD_ONLY=1 skips it). "steady": in that same process, the best CPU seconds of solves
+ *    4 to 8, each with the cache emptied: the engine once V8 has compiled its hot loops with full
+ *    type feedback, as in a solver-pool or bench worker that has run a few solves. Cold, warm and
+ *    steady differ by V8's tier-up alone (same code, same iterates): at trapezoidal N = 1,600 about
+ *    1.15, 0.5 and 0.25 s (measured 2026-12-03);
  *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
  *    set minus that of an empty Node process (`node -e 0`) — the issue's measure — and minus that of
  *    the same child process that loads everything without solving ("loaded": what the solve itself
  *    costs). The Arcwatch side runs from an esbuild bundle of bench/side-by-side-child.ts (no
  *    TypeScript loader in the process; ARCWATCH_CHILD_TSX=1 runs it through tsx as before).
- * Ratios are Arcwatch ÷ reference; "warm/iter" compares CPU seconds per iteration (warm ÷ the
+ * Ratios are Arcwatch ÷ reference; "steady/iter" compares CPU seconds per iteration (steady ÷ the
  * reference's), the cost of an iteration apart from how many each solver takes. Times on a shared machine are noisy: compare ratios, not seconds;
  * the load average is printed before and after. Last, the least-squares exponent p of Arcwatch's
- * CPU time per iteration (warm) ≈ C·N^p over N ≥ 400 (goal p ≤ 1.05: linear work per iteration).
+ * CPU time per iteration (steady) ≈ C·N^p over N ≥ 400 (goal p ≤ 1.05: linear work per iteration).
  *
  * Then, per scheme, the same comparison at equal accuracy (skip with --no-matched): the reference is
  * run again at tol 1e-9, 1e-10 and 1e-11, and Arcwatch is set against the loosest of its four runs
@@ -66,6 +70,8 @@ interface Run {
   cpuSeconds: number;
   /** Arcwatch only: CPU seconds of a warm solve of the same N (see the header), or null. */
   warmCpuSeconds?: number | null;
+  /** Arcwatch only: the best CPU seconds of solves 4–8 of the same N in one process (see the header), or null. */
+  steadyCpuSeconds?: number | null;
   objective: number | null;
   rssKb: number | null;
 }
@@ -190,6 +196,7 @@ const perIteration = (s: number | null | undefined, iterations: number | undefin
 const cpuS = (r: Run | null) => (r ? r.cpuSeconds.toFixed(3).padStart(6) : "     —");
 const wallS = (r: Run | null) => (r ? r.seconds.toFixed(3).padStart(6) : "     —");
 const warmS = (r: Run | null) => (r?.warmCpuSeconds != null ? r.warmCpuSeconds.toFixed(3).padStart(6) : "     —");
+const steadyS = (r: Run | null) => (r?.steadyCpuSeconds != null ? r.steadyCpuSeconds.toFixed(3).padStart(6) : "     —");
 
 /**
  * Equal accuracy. At tol 1e-8 the reference stops with an objective error that grows with N (its
@@ -222,14 +229,14 @@ function matchedAccuracy(binary: string, N: number, scheme: string, ref8: Run, o
   const cells = runs.map((r) => `${String(r ? `${r.iterations}${r.status === "optimal" ? "" : "*"}` : "—").padStart(12)}  ${e(diff(r))}`);
   return (
     `${String(N).padStart(6)}  | ${hStar?.toFixed(9) ?? "—"} | ${cells.join("| ")}| ${(k >= 0 ? TOLS[k] : "—").padStart(7)}  ${String(m?.iterations ?? "—").padStart(9)} ${cpuS(m)} | ` +
-    `${String(our.iterations).padStart(14)}  ${e(diff(our))} ${cpuS(our)} ${warmS(our)} | ` +
-    `${ratio(our.iterations, m?.iterations).padStart(10)}  ${ratio(our.cpuSeconds, m?.cpuSeconds).padStart(9)}  ${ratio(our.warmCpuSeconds, m?.cpuSeconds).padStart(10)}`
+    `${String(our.iterations).padStart(14)}  ${e(diff(our))} ${cpuS(our)} ${warmS(our)} ${steadyS(our)} | ` +
+    `${ratio(our.iterations, m?.iterations).padStart(10)}  ${ratio(our.cpuSeconds, m?.cpuSeconds).padStart(9)}  ${ratio(our.warmCpuSeconds, m?.cpuSeconds).padStart(10)}  ${ratio(our.steadyCpuSeconds, m?.cpuSeconds).padStart(12)}`
   );
 }
 
 for (const scheme of schemes) {
   console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best CPU of ${reps}; reference and Arcwatch alternate)`);
-  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  warm/iter ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
+  console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s steady s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  steady ratio  steady/iter ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
   const perIter: [number, number][] = [];
   const matchedRows: string[] = [];
   for (const N of Ns) {
@@ -239,29 +246,29 @@ for (const scheme of schemes) {
       if (bin) refRuns.push(runReference(bin, N, scheme));
       const cold = runArcwatch(N, scheme);
       const warm = process.env.ARCWATCH_COLD_ONLY ? null : runArcwatch(N, scheme, true);
-      ourRuns.push(cold && warm ? { ...cold, warmCpuSeconds: warm.warmCpuSeconds } : cold);
+      ourRuns.push(cold && warm ? { ...cold, warmCpuSeconds: warm.warmCpuSeconds, steadyCpuSeconds: warm.steadyCpuSeconds ?? null } : cold);
     }
     const ref = bin ? best(refRuns) : null;
     const our = best(ourRuns);
-    if (our && our.iterations > 0 && N >= 400) perIter.push([Math.log(N), Math.log((our.warmCpuSeconds ?? our.cpuSeconds) / our.iterations)]);
+    if (our && our.iterations > 0 && N >= 400) perIter.push([Math.log(N), Math.log((our.steadyCpuSeconds ?? our.warmCpuSeconds ?? our.cpuSeconds) / our.iterations)]);
     const ourMem = our?.rssKb != null && empty != null ? our.rssKb - empty : null;
     const ourSolveMem = our?.rssKb != null && loaded != null ? our.rssKb - loaded : null;
     console.log(
       `${String(N).padStart(6)}  | ${String(ref?.iterations ?? "—").padStart(9)}  ${(ref?.status ?? "—").padEnd(10)} ${cpuS(ref)}  ${wallS(ref)} ${mb(ref?.rssKb ?? null).padStart(4)} | ` +
-        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${warmS(our)}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
-        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(perIteration(our?.warmCpuSeconds, our?.iterations), perIteration(ref?.cpuSeconds, ref?.iterations)).padStart(15)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
+        `${String(our?.iterations ?? "—").padStart(14)}  ${(our?.status ?? "—").padEnd(10)} ${cpuS(our)}  ${warmS(our)}   ${steadyS(our)}  ${wallS(our)} ${mb(ourMem).padStart(8)} ${mb(ourSolveMem).padStart(8)} | ` +
+        `${ratio(our?.iterations, ref?.iterations).padStart(10)}  ${ratio(our?.cpuSeconds, ref?.cpuSeconds).padStart(9)}  ${ratio(our?.warmCpuSeconds, ref?.cpuSeconds).padStart(10)}  ${ratio(our?.steadyCpuSeconds, ref?.cpuSeconds).padStart(12)}  ${ratio(perIteration(our?.steadyCpuSeconds, our?.iterations), perIteration(ref?.cpuSeconds, ref?.iterations)).padStart(17)}  ${ratio(our?.seconds, ref?.seconds).padStart(10)}  ${ratio(ourMem, ref?.rssKb).padStart(9)}, ${ratio(ourSolveMem, ref?.rssKb).padStart(5)} | ${ref?.objective?.toFixed(8) ?? "—"} / ${our?.objective?.toFixed(8) ?? "—"}`,
     );
     if (bin && matchedOn && ref && our) matchedRows.push(matchedAccuracy(bin, N, scheme, ref, our));
   }
   if (matchedRows.length > 0) {
     console.log(`\n${scheme} at equal accuracy: the reference again at tol ${TOLS.slice(1).join(", ")} (best CPU of ${reps}); h* = its tol ${TOLS[TOLS.length - 1]} objective (printed to 8 decimals by the reference, so differences below 1e-8 are not resolved); "h − h*" signed (maximised: + is better than h*); * = "acceptable"; "matched" = the loosest tol with |h − h*| ≤ max(Arcwatch's |h − h*|, ${MATCH_FLOOR})`);
-    console.log(`     N  |          h*  | ${TOLS.map((t) => `ref ${t}: iters  h − h*  `).join("| ")}| matched  ref iters  cpu s | Arcwatch iters  h − h*   cpu s  warm s | iter ratio  cpu ratio  warm ratio`);
+    console.log(`     N  |          h*  | ${TOLS.map((t) => `ref ${t}: iters  h − h*  `).join("| ")}| matched  ref iters  cpu s | Arcwatch iters  h − h*   cpu s  warm s steady s | iter ratio  cpu ratio  warm ratio  steady ratio`);
     for (const row of matchedRows) console.log(row);
   }
   if (perIter.length >= 2) {
     const mx = perIter.reduce((a, p) => a + p[0], 0) / perIter.length, my = perIter.reduce((a, p) => a + p[1], 0) / perIter.length;
     const slope = perIter.reduce((a, p) => a + (p[0] - mx) * (p[1] - my), 0) / perIter.reduce((a, p) => a + (p[0] - mx) ** 2, 0);
-    console.log(`Arcwatch CPU time per iteration (warm where measured) ≈ C·N^${slope.toFixed(2)} (least squares over N ≥ 400; goal ≤ 1.05)`);
+    console.log(`Arcwatch CPU time per iteration (steady where measured) ≈ C·N^${slope.toFixed(2)} (least squares over N ≥ 400; goal ≤ 1.05)`);
   }
 }
 console.log(`\nload average at the end ${load()}`);

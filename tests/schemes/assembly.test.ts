@@ -132,3 +132,43 @@ for (const { id, variant } of CASES) {
     });
   });
 }
+
+describe("assembly bookkeeping", () => {
+  it("SlotTable keeps the first slot given to each key, as a Map does, through growth and keys above 2³²", async () => {
+    const { SlotTable } = await import("~/engine/schemes/assembly-spec");
+    // the oracle is the language's own Map; keys row·n + column as the Assembly forms them
+    const t = new SlotTable(4);
+    const m = new Map<number, number>();
+    const next = rand(7);
+    for (let k = 0; k < 20000; k++) {
+      const key = Math.floor(next() * 3000) * 2_000_003 + Math.floor(next() * 5) + (k % 3 === 0 ? 2 ** 33 : 0);
+      const slot = m.get(key) ?? m.size;
+      m.set(key, slot);
+      expect(t.getOrAdd(key, m.size - 1 === slot ? slot : -7)).toBe(slot);
+    }
+    for (const [key, slot] of m) expect(t.get(key)).toBe(slot);
+    expect(t.get(1)).toBe(-1);
+  });
+
+  it("the Assembly keeps no per-site inputs, terms or linear entries, and the builder lets go of them", async () => {
+    const { TranscriptionBuilder } = await import("~/engine/schemes/builder");
+    const b = new TranscriptionBuilder(problem);
+    const x0 = b.addStates(0, "a"), u0 = b.addControls(0, "a");
+    const x1 = b.addStates(1, "b"), u1 = b.addControls(1, "b");
+    const p0 = b.point(0, { start: x0 }, { start: u0 }), p1 = b.point(1, { start: x1 }, { start: u1 });
+    b.addDefect([{ start: x1, coef: 1 }, { start: x0, coef: -1 }], [{ point: p0, weight: -0.5 }, { point: p1, weight: -0.5 }], "interval 0");
+    b.setEndpoints(x0, x1);
+    const asm = b.build();
+    expect(Object.keys(asm.spec)).not.toContain("sites");
+    expect(Object.keys(asm.spec)).not.toContain("terms");
+    expect(Object.keys(asm.spec)).not.toContain("linear");
+    const held = b as unknown as { sites: unknown[]; terms: unknown[]; linear: unknown[] };
+    expect([held.sites.length, held.terms.length, held.linear.length]).toEqual([0, 0, 0]);
+    // and it still evaluates: two defect rows plus the endpoint rows, all finite
+    const nlp = asm.nlp();
+    const g = new Float64Array(nlp.m);
+    nlp.g(nlp.x0, g);
+    expect(nlp.m).toBeGreaterThanOrEqual(2);
+    expect([...g].every(Number.isFinite)).toBe(true);
+  });
+});

@@ -28,12 +28,15 @@
  */
 import type { PointFunction } from "../problem/types";
 import type { NlpProblem } from "../nlp/types";
-import { addContrib, contribOf, IntList, NumList, type AssemblySpec, type Contrib } from "./assembly-spec";
+import { addContrib, contribOf, IntList, NumList, SlotTable, type AssemblySpec, type Contrib } from "./assembly-spec";
 
 export type { AffineInput, AssemblySpec, LinearEntry, SiteSpec, SiteTerm } from "./assembly-spec";
 
+/** What an Assembly keeps of its spec: the per-site inputs, terms and linear entries are flattened into its tables and not kept. */
+export type AssemblyHeader = Omit<AssemblySpec, "sites" | "terms" | "linear">;
+
 export class Assembly {
-  readonly spec: AssemblySpec;
+  readonly spec: AssemblyHeader;
   readonly n: number;
   readonly m: number;
   /** Final row scales ρ. */
@@ -63,6 +66,8 @@ export class Assembly {
   private readonly hView: Float64Array[];
   private readonly wView: Float64Array[];
   private readonly siteScaled: Uint8Array;
+  /** The point function of each site. */
+  private readonly siteFn: PointFunction[];
 
   // input maps, flattened per site input
   private readonly inStart: Int32Array; // per global input index (zOff + k), start into inVar
@@ -108,10 +113,12 @@ export class Assembly {
   private readonly gradPhys: Float64Array;
 
   constructor(spec: AssemblySpec) {
-    this.spec = spec;
+    const { sites: _sites, terms: _terms, linear: _linear, ...header } = spec;
+    this.spec = header;
     const n = (this.n = spec.n);
     const m = (this.m = spec.m);
     const sites = spec.sites;
+    this.siteFn = sites.map((s) => s.fn);
     const nSite = (this.nSite = sites.length);
     this.zOff = new Int32Array(nSite + 1);
     this.fOff = new Int32Array(nSite + 1);
@@ -133,7 +140,7 @@ export class Assembly {
     this.H = new Float64Array(this.hOff[nSite]);
     this.omega = new Float64Array(this.fOff[nSite]);
     let maxOut = 1;
-    for (const s of sites) maxOut = Math.max(maxOut, s.fn.nOut);
+    for (let s = 0; s < nSite; s++) maxOut = Math.max(maxOut, sites[s].fn.nOut);
     this.wBuf = new Float64Array(maxOut);
     this.zView = [];
     this.fView = [];
@@ -156,14 +163,18 @@ export class Assembly {
     this.inStart = new Int32Array(nInTot + 1);
     this.inConst = new Float64Array(nInTot);
     let nTermIn = 0;
-    for (const s of sites) for (const inp of s.inputs) nTermIn += inp.vars.length;
+    for (let s = 0; s < nSite; s++) {
+      const inputs = sites[s].inputs;
+      for (let a = 0; a < inputs.length; a++) nTermIn += inputs[a].vars.length;
+    }
     this.inVar = new Int32Array(nTermIn);
     this.inCoef = new Float64Array(nTermIn);
     {
       let k = 0;
       let q = 0;
-      for (const s of sites)
-        for (const inp of s.inputs) {
+      for (let s = 0; s < nSite; s++)
+        for (let b = 0; b < sites[s].inputs.length; b++) {
+          const inp = sites[s].inputs[b];
           this.inStart[k] = q;
           this.inConst[k] = inp.c;
           for (let a = 0; a < inp.vars.length; a++) {
@@ -202,9 +213,16 @@ export class Assembly {
     this.gTerms = { out: gOut.done(), row: gRow.done(), w: gW.done(), scaled: Uint8Array.from(gSc.done()) };
     this.fTerms = { out: fOut.done(), w: fW.done(), scaled: Uint8Array.from(fSc.done()) };
 
-    // per-site lists of terms, and per function the Jacobian entries of each output row
-    const termsOfSite: number[][] = Array.from({ length: nSite }, () => []);
-    for (let k = 0; k < nT; k++) termsOfSite[spec.terms[k].site].push(k);
+    // per-site lists of terms (compressed: termsOfSite[termStart[s] … termStart[s + 1]) in term
+    // order), and per function the Jacobian entries of each output row
+    const termStart = new Int32Array(nSite + 1);
+    for (let k = 0; k < nT; k++) termStart[spec.terms[k].site + 1]++;
+    for (let s = 0; s < nSite; s++) termStart[s + 1] += termStart[s];
+    const termsOfSite = new Int32Array(nT);
+    {
+      const fill = termStart.slice(0, nSite);
+      for (let k = 0; k < nT; k++) termsOfSite[fill[spec.terms[k].site]++] = k;
+    }
     const rowEntriesCache = new Map<PointFunction, number[][]>();
     const rowEntries = (fn: PointFunction): number[][] => {
       let r = rowEntriesCache.get(fn);
@@ -217,21 +235,19 @@ export class Assembly {
     };
 
     // ---- Jacobian pattern
-    const jacMap = new Map<number, number>();
+    const jacMap = new SlotTable(spec.linear.length + spec.terms.length);
     const jr = new IntList(), jc = new IntList();
     const jslot = (row: number, v: number): number => {
-      const key = row * n + v;
-      let s = jacMap.get(key);
-      if (s === undefined) {
-        s = jr.n;
-        jacMap.set(key, s);
+      const s = jacMap.getOrAdd(row * n + v, jr.n);
+      if (s === jr.n) {
         jr.push(row);
         jc.push(v);
       }
       return s;
     };
     const lr = new IntList(), lv = new IntList(), lc = new NumList();
-    for (const e of spec.linear) {
+    for (let k = 0; k < spec.linear.length; k++) {
+      const e = spec.linear[k];
       if (e.row < 0 || e.row >= m) throw new Error(`assembly: linear entry row ${e.row} outside 0..${m - 1}`);
       jslot(e.row, e.var);
       lr.push(e.row); lv.push(e.var); lc.push(e.coef);
@@ -247,9 +263,11 @@ export class Assembly {
       const fn = sites[s].fn;
       const re = rowEntries(fn);
       const scaled = this.siteScaled[s] === 1;
-      for (const k of termsOfSite[s]) {
-        const t = spec.terms[k];
-        for (const e of re[t.comp]) {
+      for (let a = termStart[s]; a < termStart[s + 1]; a++) {
+        const t = spec.terms[termsOfSite[a]];
+        const entries = re[t.comp];
+        for (let b = 0; b < entries.length; b++) {
+          const e = entries[b];
           const col = fn.jacCols[e];
           const gin = this.zOff[s] + col;
           for (let q = this.inStart[gin]; q < this.inStart[gin + 1]; q++) {
@@ -279,25 +297,22 @@ export class Assembly {
     this.jacCols = jc.done();
     const nnzJ = this.jacRows.length;
     this.jacConst = new Float64Array(nnzJ);
-    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jacMap.get(this.linRow[k] * n + this.linVar[k])!] += this.linCoef[k];
+    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jacMap.get(this.linRow[k] * n + this.linVar[k])] += this.linCoef[k];
 
     // ---- Hessian pattern
-    const hessMap = new Map<number, number>();
+    const hessMap = new SlotTable(nSite);
     const hr = new IntList(), hc = new IntList();
     const hslot = (p: number, q: number): number => {
       if (p < q) { const t = p; p = q; q = t; }
-      const key = p * n + q;
-      let s = hessMap.get(key);
-      if (s === undefined) {
-        s = hr.n;
-        hessMap.set(key, s);
+      const s = hessMap.getOrAdd(p * n + q, hr.n);
+      if (s === hr.n) {
         hr.push(p);
         hc.push(q);
       }
       return s;
     };
     const sitesUsed = new Uint8Array(nSite);
-    for (const t of spec.terms) sitesUsed[t.site] = 1;
+    for (let k = 0; k < nT; k++) sitesUsed[spec.terms[k].site] = 1;
     const hS = new IntList(), hSrc = new IntList(), hC = new NumList();
     const xS = new IntList(), xSrc = new IntList(), xOut = new IntList(), xC = new NumList();
     for (let s = 0; s < nSite; s++) {
@@ -386,7 +401,7 @@ export class Assembly {
       this.haveJ = false;
     }
     if (this.haveF && (!needJ || this.haveJ)) return;
-    const sites = this.spec.sites;
+    const sites = this.siteFn;
     const { Z, inStart, inVar, inCoef, inConst } = this;
     if (!this.haveF) {
       for (let g = 0; g < Z.length; g++) {
@@ -396,7 +411,7 @@ export class Assembly {
       }
     }
     for (let s = 0; s < this.nSite; s++) {
-      const fn = sites[s].fn;
+      const fn = sites[s];
       const z = this.zView[s];
       if (!this.haveF) fn.eval(z, this.fView[s]);
       if (needJ && !this.haveJ) fn.jac(z, this.jView[s]);
@@ -454,9 +469,9 @@ export class Assembly {
       const r = this.termRow[k];
       om[this.termOut[k]] += this.termW[k] * (r >= 0 ? lambda[r] : sigma);
     }
-    const sites = this.spec.sites;
+    const sites = this.siteFn;
     for (let s = 0; s < this.nSite; s++) {
-      const fn = sites[s].fn;
+      const fn = sites[s];
       if (fn.hessRows.length === 0) continue;
       const f0 = this.fOff[s];
       const w = this.wView[s];

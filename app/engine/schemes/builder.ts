@@ -224,10 +224,15 @@ export class TranscriptionBuilder {
     }
   }
 
+  /**
+   * The Assembly of everything added. Afterwards the builder lets go of its sites, terms and linear
+   * entries (the Assembly keeps them flattened into its own tables): a scheme's recover() closes
+   * over the builder, and those lists are most of a transcription's small objects.
+   */
   build(): Assembly {
     const names = this.varNames;
     const rows = this.rowNames;
-    return new Assembly({
+    const asm = new Assembly({
       n: this.nVar,
       xL: Float64Array.from(this.xL),
       xU: Float64Array.from(this.xU),
@@ -246,6 +251,10 @@ export class TranscriptionBuilder {
       variableName: (i) => names[i] ?? `x[${i}]`,
       constraintName: (j) => rows[j] ?? `g[${j}]`,
     });
+    this.sites = [];
+    this.terms = [];
+    this.linear = [];
+    return asm;
   }
 }
 
