@@ -90,68 +90,6 @@ export class NumList {
   }
 }
 
-/**
- * Key (a non-negative integer below 2⁵³, e.g. row · n + column) → slot, by open addressing with
- * linear probing in typed arrays: the pattern of an N = 3,200 transcription has some 10⁵ keys, which
- * a Map holds as heap objects that outlive a young-generation collection (and so grow the heap
- * for the rest of the process); these arrays live outside the JavaScript heap and go with the table.
- */
-export class SlotTable {
-  private keys: Float64Array;
-  private slots: Int32Array;
-  private mask: number;
-  private used = 0;
-  constructor(expected = 512) {
-    let cap = 1024;
-    while (cap < 2 * expected) cap *= 2;
-    this.keys = new Float64Array(cap).fill(-1);
-    this.slots = new Int32Array(cap);
-    this.mask = cap - 1;
-  }
-  private home(key: number): number {
-    // two 32-bit halves mixed by the multiplicative constants of MurmurHash3's finaliser (Appleby, 2011)
-    let h = Math.imul((key % 4294967296) | 0, 0x85ebca6b) ^ Math.imul(Math.floor(key / 4294967296) | 0, 0xc2b2ae35);
-    h ^= h >>> 15;
-    h = Math.imul(h, 0x27d4eb2f);
-    h ^= h >>> 13;
-    return h & this.mask;
-  }
-  /** The slot of key, or −1. */
-  get(key: number): number {
-    for (let i = this.home(key); ; i = (i + 1) & this.mask) {
-      const k = this.keys[i];
-      if (k === key) return this.slots[i];
-      if (k < 0) return -1;
-    }
-  }
-  /** The slot of key; when absent, key gets `slot` (returned). */
-  getOrAdd(key: number, slot: number): number {
-    for (let i = this.home(key); ; i = (i + 1) & this.mask) {
-      const k = this.keys[i];
-      if (k === key) return this.slots[i];
-      if (k < 0) {
-        this.keys[i] = key;
-        this.slots[i] = slot;
-        if (2 * ++this.used > this.mask) this.grow();
-        return slot;
-      }
-    }
-  }
-  private grow(): void {
-    const { keys, slots } = this;
-    this.keys = new Float64Array(2 * keys.length).fill(-1);
-    this.slots = new Int32Array(2 * keys.length);
-    this.mask = 2 * keys.length - 1;
-    for (let i = 0; i < keys.length; i++) {
-      if (keys[i] < 0) continue;
-      let j = this.home(keys[i]);
-      while (this.keys[j] >= 0) j = (j + 1) & this.mask;
-      this.keys[j] = keys[i];
-      this.slots[j] = slots[i];
-    }
-  }
-}
-
 /** Contributions value[slot[k]] += coef[k] · src[idx[k]] (· T when scaled). */
 export interface Contrib {
   slot: Int32Array;

@@ -28,7 +28,7 @@
  */
 import type { PointFunction } from "../problem/types";
 import type { NlpProblem } from "../nlp/types";
-import { addContrib, contribOf, IntList, NumList, SlotTable, type AssemblySpec, type Contrib } from "./assembly-spec";
+import { addContrib, contribOf, IntList, NumList, type AssemblySpec, type Contrib } from "./assembly-spec";
 
 export type { AffineInput, AssemblySpec, LinearEntry, SiteSpec, SiteTerm } from "./assembly-spec";
 
@@ -235,11 +235,14 @@ export class Assembly {
     };
 
     // ---- Jacobian pattern
-    const jacMap = new SlotTable(spec.linear.length + spec.terms.length);
+    const jacMap = new Map<number, number>();
     const jr = new IntList(), jc = new IntList();
     const jslot = (row: number, v: number): number => {
-      const s = jacMap.getOrAdd(row * n + v, jr.n);
-      if (s === jr.n) {
+      const key = row * n + v;
+      let s = jacMap.get(key);
+      if (s === undefined) {
+        s = jr.n;
+        jacMap.set(key, s);
         jr.push(row);
         jc.push(v);
       }
@@ -297,15 +300,18 @@ export class Assembly {
     this.jacCols = jc.done();
     const nnzJ = this.jacRows.length;
     this.jacConst = new Float64Array(nnzJ);
-    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jacMap.get(this.linRow[k] * n + this.linVar[k])] += this.linCoef[k];
+    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jacMap.get(this.linRow[k] * n + this.linVar[k])!] += this.linCoef[k];
 
     // ---- Hessian pattern
-    const hessMap = new SlotTable(nSite);
+    const hessMap = new Map<number, number>();
     const hr = new IntList(), hc = new IntList();
     const hslot = (p: number, q: number): number => {
       if (p < q) { const t = p; p = q; q = t; }
-      const s = hessMap.getOrAdd(p * n + q, hr.n);
-      if (s === hr.n) {
+      const key = p * n + q;
+      let s = hessMap.get(key);
+      if (s === undefined) {
+        s = hr.n;
+        hessMap.set(key, s);
         hr.push(p);
         hc.push(q);
       }
