@@ -46,6 +46,7 @@ interface Measured { iterations: number; status: string; message?: string; secon
  */
 const STEADY_FROM = 4;
 const STEADY_TO = Number(process.env.ARCWATCH_STEADY_SOLVES ?? 8);
+if (!Number.isInteger(STEADY_TO)) throw new Error(`side-by-side child: ARCWATCH_STEADY_SOLVES must be an integer, got ${process.env.ARCWATCH_STEADY_SOLVES}`);
 
 const profileFile = process.env.ARCWATCH_PROFILE ?? "";
 async function profiled<T>(on: boolean, f: () => T): Promise<T> {

@@ -103,8 +103,9 @@ export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, 
       }
     }
     // A pair's first column gets the second's pattern plus the second itself, and nothing else
-    // changes: struct(L_j) ⊆ {p} ∪ struct(L_p) for p = parent(j) = j + 1 (Liu, SIAM J. Matrix Anal. Appl. 11(1), 1990), so
-    // rowReach adds j exactly where j + 1 appears. The counts follow from the tree's own (O(n)).
+    // changes: struct(L_j) ⊆ {p} ∪ struct(L_p) for p = parent(j) = j + 1 (Liu, SIAM J. Matrix
+    // Anal. Appl. 11(1), 1990), so rowReach adds j exactly where j + 1 appears. The counts follow
+    // from the tree's own (O(n)).
     colCount = Int32Array.from(Lnz);
     for (let j = 0; j < n; j++) if (kind[j] === 1) colCount[j] = Lnz[j + 1] + 1;
   }
