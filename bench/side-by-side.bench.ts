@@ -32,8 +32,8 @@
  *    ARCWATCH_COLD_ONLY=1 skips it). "steady": in that same process, the best CPU seconds of solves
  *    4 to 8, each with the cache emptied: the engine once V8 has compiled its hot loops with full
  *    type feedback, as in a solver-pool or bench worker that has run a few solves. Cold, warm and
- *    steady differ by V8's tier-up alone (same code, same iterates): at trapezoidal N = 1,600 about
- *    1.15, 0.5 and 0.25 s (measured 2026-12-03);
+ *    steady differ by V8's tier-up alone (same code, same iterates): at trapezoidal N = 1,600,
+ *    0.77–0.92, 0.68–0.70 and 0.23–0.25 s of CPU over three runs (2026-12-03; DEVELOPERS.md);
  *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
  *    set minus that of an empty Node process (`node -e 0`) — the issue's measure — and minus that of
  *    the same child process that loads everything without solving ("loaded": what the solve itself
