@@ -143,11 +143,9 @@ describe("assembly bookkeeping", () => {
     b.addDefect([{ start: x1, coef: 1 }, { start: x0, coef: -1 }], [{ point: p0, weight: -0.5 }, { point: p1, weight: -0.5 }], "interval 0");
     b.setEndpoints(x0, x1);
     const asm = b.build();
-    expect(Object.keys(asm.spec)).not.toContain("sites");
-    expect(Object.keys(asm.spec)).not.toContain("terms");
-    expect(Object.keys(asm.spec)).not.toContain("linear");
-    const held = b as unknown as { sites: unknown[]; terms: unknown[]; linear: unknown[] };
-    expect([held.sites.length, held.terms.length, held.linear.length]).toEqual([0, 0, 0]);
+    expect(Object.keys(asm.spec)).not.toContain("tables");
+    const held = b as unknown as { tables: { nSite: number; nTerm: number; nLinear: number; nInput: number } };
+    expect([held.tables.nSite, held.tables.nTerm, held.tables.nLinear, held.tables.nInput]).toEqual([0, 0, 0, 0]);
     // and it still evaluates (the values themselves: the finite-difference checks above, which
     // run on every scheme after this release): two defect rows plus the endpoint rows, all finite
     const nlp = asm.nlp();
@@ -155,5 +153,72 @@ describe("assembly bookkeeping", () => {
     nlp.g(nlp.x0, g);
     expect(nlp.m).toBeGreaterThanOrEqual(2);
     expect([...g].every(Number.isFinite)).toBe(true);
+  });
+});
+
+describe("names spelled on demand", () => {
+  // Expected names written out by hand from the conventions of schemes/builder.ts (state or
+  // control name, then the scheme's label; rows "defect <state> <label>", "path <name> <label>",
+  // "endpoint <name>"); the variable layout of the trapezoidal scheme is tf, then per node the
+  // states and the controls.
+  it("spells every variable and row of a trapezoidal transcription", () => {
+    const nlp = getScheme("trapezoidal").transcribe(problem, { intervals: 3 }).nlp;
+    const vars = Array.from({ length: nlp.n }, (_, i) => nlp.variableName!(i));
+    expect(vars).toEqual(["tf", ...[0, 1, 2, 3].flatMap((k) => [`p node ${k}`, `q node ${k}`, `a node ${k}`, `b node ${k}`])]);
+    const rows = Array.from({ length: nlp.m }, (_, j) => nlp.constraintName!(j));
+    expect(rows).toEqual([
+      ...[0, 1, 2].flatMap((k) => [`defect p interval ${k}`, `defect q interval ${k}`]),
+      ...[0, 1, 2, 3].map((k) => `path ring node ${k}`),
+      "endpoint initial(p)",
+      "endpoint final(q)",
+      "endpoint mix",
+    ]);
+    expect([nlp.variableName!(-1), nlp.variableName!(nlp.n), nlp.constraintName!(nlp.m)]).toEqual(["x[-1]", `x[${nlp.n}]`, `g[${nlp.m}]`]);
+  });
+
+  it("spells Hermite–Simpson midpoints and defects", () => {
+    const nlp = getScheme("hermite-simpson").transcribe(problem, { intervals: 2 }).nlp;
+    const vars = Array.from({ length: nlp.n }, (_, i) => nlp.variableName!(i));
+    expect(vars).toContain("p midpoint 1");
+    expect(vars).toContain("b midpoint 0");
+    const rows = Array.from({ length: nlp.m }, (_, j) => nlp.constraintName!(j));
+    expect(rows).toContain("defect q Hermite interval 1");
+    expect(rows).toContain("defect p Simpson interval 0");
+    expect(rows).toContain("path ring midpoint 1");
+  });
+});
+
+describe("assembly tables", () => {
+  it("PairSlots numbers distinct pairs in order of first appearance, like a Map keyed by the pair", async () => {
+    const { PairSlots } = await import("~/engine/schemes/assembly-spec");
+    const r = rand(7);
+    const slots = new PairSlots();
+    const ref = new Map<string, number>();
+    for (let k = 0; k < 20000; k++) {
+      const a = Math.floor(r() * 300), b = Math.floor(r() * 300);
+      const key = `${a},${b}`;
+      if (!ref.has(key)) ref.set(key, ref.size);
+      expect(slots.slot(a, b)).toBe(ref.get(key));
+    }
+    expect(slots.n).toBe(ref.size);
+    for (const [key, s] of ref) {
+      const [a, b] = key.split(",").map(Number);
+      expect(slots.find(a, b)).toBe(s);
+    }
+    expect(slots.find(301, 0)).toBe(-1);
+  });
+
+  it("IntList and NumList hand out plain arrays and start again empty", async () => {
+    const { IntList, NumList } = await import("~/engine/schemes/assembly-spec");
+    const a = new IntList(), b = new NumList();
+    for (let k = 0; k < 100000; k++) { a.push(k * 3); b.push(k / 7); }
+    const ai = a.done(), bf = b.done();
+    expect(ai.length).toBe(100000);
+    expect(bf.length).toBe(100000);
+    expect((ai.buffer as ArrayBuffer & { resizable?: boolean }).resizable).toBe(false);
+    expect([ai[0], ai[99999], bf[70]]).toEqual([0, 299997, 10]);
+    expect(a.n).toBe(0);
+    a.push(5);
+    expect(Array.from(a.done())).toEqual([5]);
   });
 });

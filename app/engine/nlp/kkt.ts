@@ -26,7 +26,9 @@ export class KktSystem {
   readonly N: number;
   readonly m: number;
   readonly dim: number;
-  readonly values: Float64Array;
+  /** Triplet values, for a solver without direct assembly (and for the first factor() of one that analyses on its first values); made on first use. */
+  private tripletValues: Float64Array | null = null;
+  private readonly nT: number;
   readonly solver: SymmetricSolverLike;
   private readonly hEnd: number;
   private readonly dEnd: number;
@@ -48,7 +50,7 @@ export class KktSystem {
     for (let i = 0; i < N; i++) { rows[this.hEnd + i] = i; cols[this.hEnd + i] = i; }
     for (let k = 0; k < nnzJ; k++) { rows[this.dEnd + k] = N + jRows[k]; cols[this.dEnd + k] = jCols[k]; }
     for (let j = 0; j < m; j++) { rows[this.jEnd + j] = N + j; cols[this.jEnd + j] = N + j; }
-    this.values = new Float64Array(total);
+    this.nT = total;
     const signs = new Int8Array(this.dim);
     signs.fill(1, 0, N);
     signs.fill(-1, N, this.dim);
@@ -73,13 +75,17 @@ export class KktSystem {
       for (let j = 0; j < m; j++) Cx[slots[jEnd + j]] += -deltaC;
       return this.solver.factorAssembled!();
     }
-    const v = this.values;
+    const v = (this.tripletValues ??= new Float64Array(this.nT));
     if (hVals) v.set(hVals, 0);
     else v.fill(0, 0, this.hEnd);
     for (let i = 0; i < this.N; i++) v[this.hEnd + i] = diag[i] + deltaW;
     v.set(jVals, this.dEnd);
     v.fill(-deltaC, this.jEnd, this.jEnd + this.m);
-    return this.solver.factor(v);
+    const inertia = this.solver.factor(v);
+    // A solver that analyses on its first values offers direct assembly from then on: let go of
+    // the triplet values (nT doubles, 2 MB at Hermite–Simpson N = 3,200) while they are young.
+    if (this.solver.factorAssembled && this.solver.assembly?.()) this.tripletValues = null;
+    return inertia;
   }
 
   /** x = K⁻¹ b with the last factorisation (b, x of length N + m). */

@@ -28,12 +28,12 @@
  */
 import type { PointFunction } from "../problem/types";
 import type { NlpProblem } from "../nlp/types";
-import { addContrib, contribOf, IntList, NumList, type AssemblySpec, type Contrib } from "./assembly-spec";
+import { addContrib, contribOf, IntList, NumList, PairSlots, type AssemblySpec, type Contrib } from "./assembly-spec";
 
-export type { AffineInput, AssemblySpec, LinearEntry, SiteSpec, SiteTerm } from "./assembly-spec";
+export { AssemblyTables, type AffineInput, type AssemblySpec } from "./assembly-spec";
 
-/** What an Assembly keeps of its spec: the per-site inputs, terms and linear entries are flattened into its tables and not kept. */
-export type AssemblyHeader = Omit<AssemblySpec, "sites" | "terms" | "linear">;
+/** What an Assembly keeps of its spec: the tables of sites, terms and linear entries are read into its own arrays and not kept. */
+export type AssemblyHeader = Omit<AssemblySpec, "tables">;
 
 export class Assembly {
   readonly spec: AssemblyHeader;
@@ -108,31 +108,32 @@ export class Assembly {
   private haveJ = false;
   private readonly gPhys: Float64Array;
   private readonly lamPhys: Float64Array;
-  private readonly jacPhys: Float64Array;
-  private readonly hessPhys: Float64Array;
   private readonly gradPhys: Float64Array;
 
   constructor(spec: AssemblySpec) {
-    const { sites: _sites, terms: _terms, linear: _linear, ...header } = spec;
+    const { tables: T, ...header } = spec;
     this.spec = header;
     const n = (this.n = spec.n);
     const m = (this.m = spec.m);
-    const sites = spec.sites;
-    this.siteFn = sites.map((s) => s.fn);
-    const nSite = (this.nSite = sites.length);
+    const fns = T.fns;
+    this.siteFn = fns.slice();
+    const nSite = (this.nSite = fns.length);
     this.zOff = new Int32Array(nSite + 1);
     this.fOff = new Int32Array(nSite + 1);
     this.jOff = new Int32Array(nSite + 1);
     this.hOff = new Int32Array(nSite + 1);
     this.siteScaled = new Uint8Array(nSite);
+    const inputEnd = T.inputEnd.a;
+    if (T.inputEnd.n !== nSite) throw new Error(`assembly: ${nSite} sites opened, ${T.inputEnd.n} closed`);
     for (let s = 0; s < nSite; s++) {
-      const fn = sites[s].fn;
-      if (sites[s].inputs.length !== fn.nIn) throw new Error(`assembly: site ${s} has ${sites[s].inputs.length} inputs, function needs ${fn.nIn}`);
+      const fn = fns[s];
+      const nIn = inputEnd[s] - (s > 0 ? inputEnd[s - 1] : 0);
+      if (nIn !== fn.nIn) throw new Error(`assembly: site ${s} has ${nIn} inputs, function needs ${fn.nIn}`);
       this.zOff[s + 1] = this.zOff[s] + fn.nIn;
       this.fOff[s + 1] = this.fOff[s] + fn.nOut;
       this.jOff[s + 1] = this.jOff[s] + fn.jacRows.length;
       this.hOff[s + 1] = this.hOff[s] + fn.hessRows.length;
-      this.siteScaled[s] = sites[s].timeScaled ? 1 : 0;
+      this.siteScaled[s] = T.scaled.a[s];
     }
     this.Z = new Float64Array(this.zOff[nSite]);
     this.F = new Float64Array(this.fOff[nSite]);
@@ -140,7 +141,7 @@ export class Assembly {
     this.H = new Float64Array(this.hOff[nSite]);
     this.omega = new Float64Array(this.fOff[nSite]);
     let maxOut = 1;
-    for (let s = 0; s < nSite; s++) maxOut = Math.max(maxOut, sites[s].fn.nOut);
+    for (let s = 0; s < nSite; s++) maxOut = Math.max(maxOut, fns[s].nOut);
     this.wBuf = new Float64Array(maxOut);
     this.zView = [];
     this.fView = [];
@@ -149,7 +150,7 @@ export class Assembly {
     this.wView = [];
     const wByOut = new Map<number, Float64Array>();
     for (let s = 0; s < nSite; s++) {
-      const nOut = sites[s].fn.nOut;
+      const nOut = fns[s].nOut;
       this.zView.push(this.Z.subarray(this.zOff[s], this.zOff[s + 1]));
       this.fView.push(this.F.subarray(this.fOff[s], this.fOff[s + 1]));
       this.jView.push(this.J.subarray(this.jOff[s], this.jOff[s + 1]));
@@ -158,56 +159,41 @@ export class Assembly {
       this.wView.push(wByOut.get(nOut)!);
     }
 
-    // flattened input maps
+    // flattened input maps (the tables' own layout)
     const nInTot = this.zOff[nSite];
+    if (T.nInput !== nInTot) throw new Error(`assembly: ${T.nInput} inputs written, sites need ${nInTot}`);
     this.inStart = new Int32Array(nInTot + 1);
-    this.inConst = new Float64Array(nInTot);
-    let nTermIn = 0;
-    for (let s = 0; s < nSite; s++) {
-      const inputs = sites[s].inputs;
-      for (let a = 0; a < inputs.length; a++) nTermIn += inputs[a].vars.length;
-    }
-    this.inVar = new Int32Array(nTermIn);
-    this.inCoef = new Float64Array(nTermIn);
-    {
-      let k = 0;
-      let q = 0;
-      for (let s = 0; s < nSite; s++)
-        for (let b = 0; b < sites[s].inputs.length; b++) {
-          const inp = sites[s].inputs[b];
-          this.inStart[k] = q;
-          this.inConst[k] = inp.c;
-          for (let a = 0; a < inp.vars.length; a++) {
-            const v = inp.vars[a];
-            if (!(v >= 0 && v < n)) throw new Error(`assembly: input refers to variable ${v} outside 0..${n - 1}`);
-            this.inVar[q] = v;
-            this.inCoef[q] = inp.coefs[a];
-            q++;
-          }
-          k++;
-        }
-      this.inStart[k] = q;
+    this.inStart.set(T.varStart.a.subarray(0, nInTot));
+    this.inStart[nInTot] = T.inVar.n;
+    this.inConst = T.inConst.done();
+    this.inVar = T.inVar.done();
+    this.inCoef = T.inCoef.done();
+    for (let q = 0; q < this.inVar.length; q++) {
+      const v = this.inVar[q];
+      if (!(v >= 0 && v < n)) throw new Error(`assembly: input refers to variable ${v} outside 0..${n - 1}`);
     }
 
     const tfVar = spec.tfVar;
     // terms
-    const nT = spec.terms.length;
+    const nT = T.nTerm;
+    const tSite = T.tSite.a, tComp = T.tComp.a, tRowIn = T.tRow.a, tWIn = T.tW.a;
     this.termOut = new Int32Array(nT);
     this.termRow = new Int32Array(nT);
     this.termW = new Float64Array(nT);
     const gOut = new IntList(), gRow = new IntList(), gW = new NumList(), gSc = new IntList();
     const fOut = new IntList(), fW = new NumList(), fSc = new IntList();
     for (let k = 0; k < nT; k++) {
-      const t = spec.terms[k];
-      if (t.comp < 0 || t.comp >= sites[t.site].fn.nOut) throw new Error(`assembly: term ${k} refers to output ${t.comp} of site ${t.site}`);
-      const out = this.fOff[t.site] + t.comp;
+      const site = tSite[k], comp = tComp[k], row = tRowIn[k], w = tWIn[k];
+      if (!(site >= 0 && site < nSite)) throw new Error(`assembly: term ${k} refers to site ${site} outside 0..${nSite - 1}`);
+      if (comp < 0 || comp >= fns[site].nOut) throw new Error(`assembly: term ${k} refers to output ${comp} of site ${site}`);
+      const out = this.fOff[site] + comp;
       this.termOut[k] = out;
-      this.termRow[k] = t.row;
-      this.termW[k] = t.weight;
-      if (t.row >= 0) {
-        gOut.push(out); gRow.push(t.row); gW.push(t.weight); gSc.push(this.siteScaled[t.site]);
+      this.termRow[k] = row;
+      this.termW[k] = w;
+      if (row >= 0) {
+        gOut.push(out); gRow.push(row); gW.push(w); gSc.push(this.siteScaled[site]);
       } else {
-        fOut.push(out); fW.push(t.weight); fSc.push(this.siteScaled[t.site]);
+        fOut.push(out); fW.push(w); fSc.push(this.siteScaled[site]);
       }
     }
     this.gTerms = { out: gOut.done(), row: gRow.done(), w: gW.done(), scaled: Uint8Array.from(gSc.done()) };
@@ -216,12 +202,12 @@ export class Assembly {
     // per-site lists of terms (compressed: termsOfSite[termStart[s] … termStart[s + 1]) in term
     // order), and per function the Jacobian entries of each output row
     const termStart = new Int32Array(nSite + 1);
-    for (let k = 0; k < nT; k++) termStart[spec.terms[k].site + 1]++;
+    for (let k = 0; k < nT; k++) termStart[tSite[k] + 1]++;
     for (let s = 0; s < nSite; s++) termStart[s + 1] += termStart[s];
     const termsOfSite = new Int32Array(nT);
     {
       const fill = termStart.slice(0, nSite);
-      for (let k = 0; k < nT; k++) termsOfSite[fill[spec.terms[k].site]++] = k;
+      for (let k = 0; k < nT; k++) termsOfSite[fill[tSite[k]]++] = k;
     }
     const rowEntriesCache = new Map<PointFunction, number[][]>();
     const rowEntries = (fn: PointFunction): number[][] => {
@@ -234,28 +220,18 @@ export class Assembly {
       return r;
     };
 
-    // ---- Jacobian pattern
-    const jacMap = new Map<number, number>();
-    const jr = new IntList(), jc = new IntList();
-    const jslot = (row: number, v: number): number => {
-      const key = row * n + v;
-      let s = jacMap.get(key);
-      if (s === undefined) {
-        s = jr.n;
-        jacMap.set(key, s);
-        jr.push(row);
-        jc.push(v);
-      }
-      return s;
-    };
-    const lr = new IntList(), lv = new IntList(), lc = new NumList();
-    for (let k = 0; k < spec.linear.length; k++) {
-      const e = spec.linear[k];
-      if (e.row < 0 || e.row >= m) throw new Error(`assembly: linear entry row ${e.row} outside 0..${m - 1}`);
-      jslot(e.row, e.var);
-      lr.push(e.row); lv.push(e.var); lc.push(e.coef);
+    // ---- Jacobian pattern (slots in order of first appearance)
+    const jac = new PairSlots();
+    const nLin = T.nLinear;
+    const lRow = T.lRow.a, lVar = T.lVar.a;
+    for (let k = 0; k < nLin; k++) {
+      const row = lRow[k];
+      if (row < 0 || row >= m) throw new Error(`assembly: linear entry row ${row} outside 0..${m - 1}`);
+      const v = lVar[k];
+      if (!(v >= 0 && v < n)) throw new Error(`assembly: linear entry refers to variable ${v} outside 0..${n - 1}`);
+      jac.slot(row, v);
     }
-    this.linRow = lr.done(); this.linVar = lv.done(); this.linCoef = lc.done();
+    this.linRow = T.lRow.done(); this.linVar = T.lVar.done(); this.linCoef = T.lCoef.done();
     const aS = new IntList(), aSrc = new IntList(), aC = new NumList();
     const bS = new IntList(), bSrc = new IntList(), bC = new NumList();
     const cS = new IntList(), cSrc = new IntList(), cC = new NumList();
@@ -263,21 +239,22 @@ export class Assembly {
     const gbS = new IntList(), gbSrc = new IntList(), gbC = new NumList();
     const gcS = new IntList(), gcSrc = new IntList(), gcC = new NumList();
     for (let s = 0; s < nSite; s++) {
-      const fn = sites[s].fn;
+      const fn = fns[s];
       const re = rowEntries(fn);
       const scaled = this.siteScaled[s] === 1;
       for (let a = termStart[s]; a < termStart[s + 1]; a++) {
-        const t = spec.terms[termsOfSite[a]];
-        const entries = re[t.comp];
+        const t = termsOfSite[a];
+        const comp = tComp[t], row = tRowIn[t], w = tWIn[t];
+        const entries = re[comp];
         for (let b = 0; b < entries.length; b++) {
           const e = entries[b];
           const col = fn.jacCols[e];
           const gin = this.zOff[s] + col;
           for (let q = this.inStart[gin]; q < this.inStart[gin + 1]; q++) {
             const v = this.inVar[q];
-            const coef = t.weight * this.inCoef[q];
-            if (t.row >= 0) {
-              const sl = jslot(t.row, v);
+            const coef = w * this.inCoef[q];
+            if (row >= 0) {
+              const sl = jac.slot(row, v);
               if (scaled) { bS.push(sl); bSrc.push(this.jOff[s] + e); bC.push(coef); }
               else { aS.push(sl); aSrc.push(this.jOff[s] + e); aC.push(coef); }
             } else if (scaled) { gbS.push(v); gbSrc.push(this.jOff[s] + e); gbC.push(coef); }
@@ -285,8 +262,8 @@ export class Assembly {
           }
         }
         if (scaled && tfVar >= 0) {
-          if (t.row >= 0) { cS.push(jslot(t.row, tfVar)); cSrc.push(this.fOff[s] + t.comp); cC.push(t.weight); }
-          else { gcS.push(tfVar); gcSrc.push(this.fOff[s] + t.comp); gcC.push(t.weight); }
+          if (row >= 0) { cS.push(jac.slot(row, tfVar)); cSrc.push(this.fOff[s] + comp); cC.push(w); }
+          else { gcS.push(tfVar); gcSrc.push(this.fOff[s] + comp); gcC.push(w); }
         }
       }
     }
@@ -296,34 +273,22 @@ export class Assembly {
     this.gradFromJ = contribOf(gaS, gaSrc, gaC);
     this.gradFromJScaled = contribOf(gbS, gbSrc, gbC);
     this.gradFromF = contribOf(gcS, gcSrc, gcC);
-    this.jacRows = jr.done();
-    this.jacCols = jc.done();
-    const nnzJ = this.jacRows.length;
+    const nnzJ = jac.n;
     this.jacConst = new Float64Array(nnzJ);
-    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jacMap.get(this.linRow[k] * n + this.linVar[k])!] += this.linCoef[k];
+    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jac.find(this.linRow[k], this.linVar[k])] += this.linCoef[k];
+    this.jacRows = jac.a.done();
+    this.jacCols = jac.b.done();
 
     // ---- Hessian pattern
-    const hessMap = new Map<number, number>();
-    const hr = new IntList(), hc = new IntList();
-    const hslot = (p: number, q: number): number => {
-      if (p < q) { const t = p; p = q; q = t; }
-      const key = p * n + q;
-      let s = hessMap.get(key);
-      if (s === undefined) {
-        s = hr.n;
-        hessMap.set(key, s);
-        hr.push(p);
-        hc.push(q);
-      }
-      return s;
-    };
+    const hess = new PairSlots();
+    const hslot = (p: number, q: number): number => (p < q ? hess.slot(q, p) : hess.slot(p, q));
     const sitesUsed = new Uint8Array(nSite);
-    for (let k = 0; k < nT; k++) sitesUsed[spec.terms[k].site] = 1;
+    for (let k = 0; k < nT; k++) sitesUsed[tSite[k]] = 1;
     const hS = new IntList(), hSrc = new IntList(), hC = new NumList();
     const xS = new IntList(), xSrc = new IntList(), xOut = new IntList(), xC = new NumList();
     for (let s = 0; s < nSite; s++) {
       if (!sitesUsed[s]) continue;
-      const fn = sites[s].fn;
+      const fn = fns[s];
       for (let e = 0; e < fn.hessRows.length; e++) {
         const r = fn.hessRows[e], c = fn.hessCols[e];
         const gr = this.zOff[s] + r, gc = this.zOff[s] + c;
@@ -350,16 +315,15 @@ export class Assembly {
     }
     this.hessFromH = contribOf(hS, hSrc, hC);
     this.hessCross = { slot: xS.done(), src: xSrc.done(), out: xOut.done(), coef: xC.done() };
-    this.hessRows = hr.done();
-    this.hessCols = hc.done();
+    this.hessRows = hess.a.done();
+    this.hessCols = hess.b.done();
+    T.release();
 
     // workspaces
     this.X = new Float64Array(n);
     this.lastX = new Float64Array(n);
     this.gPhys = new Float64Array(m);
     this.lamPhys = new Float64Array(m);
-    this.jacPhys = new Float64Array(nnzJ);
-    this.hessPhys = new Float64Array(this.hessRows.length);
     this.gradPhys = new Float64Array(n);
 
     // ---- scaling
@@ -368,10 +332,11 @@ export class Assembly {
     const needAuto = spec.rowScale.some((v) => !(v > 0));
     let autoScale: Float64Array | null = null;
     if (needAuto) {
-      this.jacobianPhys(spec.x0, this.jacPhys);
+      const J0 = new Float64Array(nnzJ);
+      this.jacobianPhys(spec.x0, J0);
       autoScale = new Float64Array(m);
       for (let k = 0; k < nnzJ; k++) {
-        const v = Math.abs(this.jacPhys[k] * d[this.jacCols[k]]);
+        const v = Math.abs(J0[k] * d[this.jacCols[k]]);
         if (v > autoScale[this.jacRows[k]]) autoScale[this.jacRows[k]] = v;
       }
     }

@@ -14,17 +14,41 @@
  */
 import type { CompiledProblem, PointFunction } from "../problem/types";
 import type { Mesh } from "./types";
-import { Assembly, type AffineInput, type LinearEntry, type SiteSpec, type SiteTerm } from "./assembly";
-
-export interface PointRef {
-  /** Normalised time τ ∈ [0, 1]. */
-  tau: number;
-  inputs: AffineInput[];
-  /** Lazily created dynamics site. */
-  dynSite: number;
-}
+import { Assembly, AssemblyTables, type AffineInput } from "./assembly";
+import { NumList } from "./assembly-spec";
 
 export type Component = { start: number } | { combo: Array<{ start: number; coef: number }> };
+
+/**
+ * A point z = [t(τ), x, u] of a transcription. It keeps its blocks, not its affine inputs: the
+ * builder writes those straight into its flat tables when a site uses the point, and spells them
+ * as objects (inputs) only for a scheme that splices them into a site of its own.
+ */
+export class PointRef {
+  /** Lazily created dynamics site. */
+  dynSite = -1;
+  constructor(
+    private readonly b: TranscriptionBuilder,
+    /** Normalised time τ ∈ [0, 1]. */
+    readonly tau: number,
+    readonly x: Component,
+    readonly u: Component | null,
+  ) {}
+
+  /** The affine inputs [t, x, u] as objects. */
+  get inputs(): AffineInput[] {
+    const { nx, nu } = this.b;
+    const out: AffineInput[] = [this.b.timeInput(this.tau)];
+    for (let i = 0; i < nx; i++) out.push(componentInput(this.x, i));
+    for (let i = 0; i < nu; i++) out.push(this.u ? componentInput(this.u, i) : { c: 0, vars: [], coefs: [] });
+    return out;
+  }
+}
+
+function componentInput(c: Component, i: number): AffineInput {
+  if ("start" in c) return { c: 0, vars: [c.start + i], coefs: [1] };
+  return { c: 0, vars: c.combo.map((b) => b.start + i), coefs: c.combo.map((b) => b.coef) };
+}
 
 export class TranscriptionBuilder {
   readonly problem: CompiledProblem;
@@ -36,18 +60,18 @@ export class TranscriptionBuilder {
   /** Guess of T (used to place the initial guess). */
   readonly spanGuess: number;
 
-  private xL: number[] = [];
-  private xU: number[] = [];
-  private dScale: number[] = [];
-  private x0: number[] = [];
-  private varNames: string[] = [];
-  private gL: number[] = [];
-  private gU: number[] = [];
-  private rowScale: number[] = [];
-  private rowNames: string[] = [];
-  private sites: SiteSpec[] = [];
-  private terms: SiteTerm[] = [];
-  private linear: LinearEntry[] = [];
+  private xL = new NumList();
+  private xU = new NumList();
+  private dScale = new NumList();
+  private x0 = new NumList();
+  /** Variable names as runs: the run starting at variable varRunFirst[r] is spelled by varRunKind[r] and its label. */
+  private varRuns = new NameRuns();
+  private gL = new NumList();
+  private gU = new NumList();
+  private rowScale = new NumList();
+  private rowRuns = new NameRuns();
+  /** Sites, terms and linear entries; handed to the Assembly by build(). */
+  private tables = new AssemblyTables();
   private guessBuf: Float64Array;
   /** Rows of the path constraints per point (first row), in order of addPath calls. */
   readonly pathRows: number[] = [];
@@ -74,6 +98,11 @@ export class TranscriptionBuilder {
   }
 
   addVar(name: string, lower: number, upper: number, scale: number, guess: number): number {
+    this.varRuns.open(this.nVar, RUN_AS_IS, name);
+    return this.pushVar(lower, upper, scale, guess);
+  }
+
+  private pushVar(lower: number, upper: number, scale: number, guess: number): number {
     this.xL.push(lower);
     this.xU.push(upper);
     this.dScale.push(scale > 0 && Number.isFinite(scale) ? scale : 1);
@@ -82,19 +111,30 @@ export class TranscriptionBuilder {
     if (g < lower) g = lower;
     if (g > upper) g = upper;
     this.x0.push(g);
-    this.varNames.push(name);
-    return this.xL.length - 1;
+    return this.xL.n - 1;
   }
 
   get nVar(): number {
-    return this.xL.length;
+    return this.xL.n;
+  }
+
+  private get nRow(): number {
+    return this.gL.n;
+  }
+
+  private addRow(lower: number, upper: number, scale: number): number {
+    this.gL.push(lower);
+    this.gU.push(upper);
+    this.rowScale.push(scale);
+    return this.gL.n - 1;
   }
 
   /** nx consecutive state variables at τ, bounds and guess from the problem; returns the first index. */
   addStates(tau: number, label: string): number {
     this.problem.guess.at(tau, this.guessBuf);
     const first = this.nVar;
-    this.problem.states.forEach((s, i) => this.addVar(`${s.name} ${label}`, s.lower, s.upper, s.scale, this.guessBuf[i]));
+    this.varRuns.open(first, RUN_STATES, label);
+    this.problem.states.forEach((s, i) => this.pushVar(s.lower, s.upper, s.scale, this.guessBuf[i]));
     return first;
   }
 
@@ -102,7 +142,8 @@ export class TranscriptionBuilder {
   addControls(tau: number, label: string): number {
     this.problem.guess.at(tau, this.guessBuf);
     const first = this.nVar;
-    this.problem.controls.forEach((c, i) => this.addVar(`${c.name} ${label}`, c.lower, c.upper, c.scale, this.guessBuf[this.nx + i]));
+    if (this.nu > 0) this.varRuns.open(first, RUN_CONTROLS, label);
+    this.problem.controls.forEach((c, i) => this.pushVar(c.lower, c.upper, c.scale, this.guessBuf[this.nx + i]));
     return this.nu > 0 ? first : -1;
   }
 
@@ -112,24 +153,38 @@ export class TranscriptionBuilder {
     return { c: this.t0 + tau * this.fixedSpan, vars: [], coefs: [] };
   }
 
-  private component(c: Component, i: number): AffineInput {
-    if ("start" in c) return { c: 0, vars: [c.start + i], coefs: [1] };
-    return { c: 0, vars: c.combo.map((b) => b.start + i), coefs: c.combo.map((b) => b.coef) };
-  }
-
   /** A point z = [t(τ), x, u] with states and controls given as variable blocks (or combinations). */
   point(tau: number, x: Component, u: Component | null): PointRef {
-    const inputs: AffineInput[] = [this.timeInput(tau)];
-    for (let i = 0; i < this.nx; i++) inputs.push(this.component(x, i));
-    for (let i = 0; i < this.nu; i++) inputs.push(u ? this.component(u, i) : { c: 0, vars: [], coefs: [] });
-    return { tau, inputs, dynSite: -1 };
+    return new PointRef(this, tau, x, u);
+  }
+
+  /** Writes one component of a block as the next input of the open site. */
+  private componentIn(c: Component, i: number): void {
+    const T = this.tables;
+    T.input(0);
+    if ("start" in c) T.inputVar(c.start + i, 1);
+    else for (const b of c.combo) T.inputVar(b.start + i, b.coef);
+  }
+
+  /** A site of fn at point p (inputs [t, x, u] written without intermediate objects). */
+  private pointSite(fn: PointFunction, p: PointRef, timeScaled: boolean): number {
+    const T = this.tables;
+    const s = T.beginSite(fn, timeScaled);
+    if (this.tfVar >= 0) {
+      T.input(this.t0 * (1 - p.tau));
+      T.inputVar(this.tfVar, p.tau);
+    } else T.input(this.t0 + p.tau * this.fixedSpan);
+    for (let i = 0; i < this.nx; i++) this.componentIn(p.x, i);
+    for (let i = 0; i < this.nu; i++) {
+      if (p.u) this.componentIn(p.u, i);
+      else T.input(0);
+    }
+    T.endSite();
+    return s;
   }
 
   private dynSite(p: PointRef): number {
-    if (p.dynSite < 0) {
-      this.sites.push({ fn: this.problem.dynamics, inputs: p.inputs, timeScaled: true });
-      p.dynSite = this.sites.length - 1;
-    }
+    if (p.dynSite < 0) p.dynSite = this.pointSite(this.problem.dynamics, p, true);
     return p.dynSite;
   }
 
@@ -137,18 +192,15 @@ export class TranscriptionBuilder {
    * nx defect rows: Σ_b coef_b X[start_b + i] + T Σ_k w_k f_i(z_k) = 0. Returns the first row.
    */
   addDefect(linear: Array<{ start: number; coef: number }>, dyn: Array<{ point: PointRef; weight: number } | { site: number; weight: number }>, label: string): number {
-    const r0 = this.gL.length;
+    const r0 = this.nRow;
     const siteIds = dyn.map((d) => ("site" in d ? d.site : this.dynSite(d.point)));
+    const T = this.tables;
+    this.rowRuns.open(r0, RUN_DEFECTS, label);
     for (let i = 0; i < this.nx; i++) {
-      const r = this.gL.length;
-      this.gL.push(0);
-      this.gU.push(0);
-      this.rowScale.push(this.problem.states[i].scale > 0 ? this.problem.states[i].scale : 1);
-      this.rowNames.push(`defect ${this.problem.states[i].name} ${label}`);
-      for (const b of linear) this.linear.push({ row: r, var: b.start + i, coef: b.coef });
-      dyn.forEach((d, k) => {
-        if (d.weight !== 0) this.terms.push({ site: siteIds[k], comp: i, row: r, weight: d.weight });
-      });
+      const st = this.problem.states[i];
+      const r = this.addRow(0, 0, st.scale > 0 ? st.scale : 1);
+      for (const b of linear) T.linear(r, b.start + i, b.coef);
+      for (let k = 0; k < dyn.length; k++) if (dyn[k].weight !== 0) T.term(siteIds[k], i, r, dyn[k].weight);
     }
     return r0;
   }
@@ -159,8 +211,7 @@ export class TranscriptionBuilder {
    */
   addSite(fn: PointFunction, inputs: AffineInput[], timeScaled: boolean): number {
     if (inputs.length !== fn.nIn) throw new Error(`site needs ${fn.nIn} inputs, got ${inputs.length}`);
-    this.sites.push({ fn, inputs, timeScaled });
-    return this.sites.length - 1;
+    return this.tables.addSite(fn, inputs, timeScaled);
   }
 
   /** Affine input of T = tf − t0. */
@@ -173,16 +224,12 @@ export class TranscriptionBuilder {
   addPath(p: PointRef, label: string, custom?: { fn: PointFunction; inputs: AffineInput[] }): number {
     const np = this.problem.pathInfo.length;
     if (np === 0) return -1;
-    this.sites.push(custom ? { fn: custom.fn, inputs: custom.inputs, timeScaled: false } : { fn: this.problem.path, inputs: p.inputs, timeScaled: false });
-    const s = this.sites.length - 1;
-    const r0 = this.gL.length;
+    const s = custom ? this.tables.addSite(custom.fn, custom.inputs, false) : this.pointSite(this.problem.path, p, false);
+    const r0 = this.nRow;
+    this.rowRuns.open(r0, RUN_PATH, label);
     for (let i = 0; i < np; i++) {
       const info = this.problem.pathInfo[i];
-      this.terms.push({ site: s, comp: 0 + i, row: this.gL.length, weight: 1 });
-      this.gL.push(info.lower);
-      this.gU.push(info.upper);
-      this.rowScale.push(0);
-      this.rowNames.push(`path ${info.name} ${label}`);
+      this.tables.term(s, i, this.addRow(info.lower, info.upper, 0), 1);
     }
     this.pathRows.push(r0);
     return r0;
@@ -192,8 +239,8 @@ export class TranscriptionBuilder {
   addRunningCost(p: PointRef, weight: number, custom?: { fn: PointFunction; inputs: AffineInput[] }): void {
     const L = this.problem.runningCost;
     if (!L || weight === 0) return;
-    this.sites.push(custom ? { fn: custom.fn, inputs: custom.inputs, timeScaled: true } : { fn: L, inputs: p.inputs, timeScaled: true });
-    this.terms.push({ site: this.sites.length - 1, comp: 0, row: -1, weight: this.problem.objectiveSign * weight });
+    const s = custom ? this.tables.addSite(custom.fn, custom.inputs, true) : this.pointSite(L, p, true);
+    this.tables.term(s, 0, -1, this.problem.objectiveSign * weight);
   }
 
   /** Endpoint constraints and terminal cost with e = [t0, x(t0), tf, x(tf)] from two state blocks. */
@@ -205,56 +252,82 @@ export class TranscriptionBuilder {
     for (let i = 0; i < nx; i++) inputs.push({ c: 0, vars: [xfStart + i], coefs: [1] });
     const nb = this.problem.endpointInfo.length;
     if (nb > 0) {
-      this.sites.push({ fn: this.problem.endpoint, inputs, timeScaled: false });
-      const s = this.sites.length - 1;
-      this.endpointRow0 = this.gL.length;
+      const s = this.tables.addSite(this.problem.endpoint, inputs, false);
+      this.endpointRow0 = this.nRow;
+      this.rowRuns.open(this.endpointRow0, RUN_ENDPOINT, "");
       for (let i = 0; i < nb; i++) {
         const info = this.problem.endpointInfo[i];
-        this.terms.push({ site: s, comp: i, row: this.gL.length, weight: 1 });
-        this.gL.push(info.lower);
-        this.gU.push(info.upper);
-        this.rowScale.push(0);
-        this.rowNames.push(`endpoint ${info.name}`);
+        this.tables.term(s, i, this.addRow(info.lower, info.upper, 0), 1);
       }
     }
     const phi = this.problem.terminalCost;
-    if (phi) {
-      this.sites.push({ fn: phi, inputs, timeScaled: false });
-      this.terms.push({ site: this.sites.length - 1, comp: 0, row: -1, weight: this.problem.objectiveSign });
-    }
+    if (phi) this.tables.term(this.tables.addSite(phi, inputs, false), 0, -1, this.problem.objectiveSign);
   }
 
   /**
-   * The Assembly of everything added. Afterwards the builder lets go of its sites, terms and linear
-   * entries (the Assembly keeps them flattened into its own tables): a scheme's recover() closes
-   * over the builder, and those lists are most of a transcription's small objects.
+   * The Assembly of everything added. Afterwards the builder lets go of its tables of sites, terms
+   * and linear entries (the Assembly reads them into its own arrays): a scheme's recover() closes
+   * over the builder.
    */
   build(): Assembly {
-    const names = this.varNames;
-    const rows = this.rowNames;
+    const vars = this.varRuns, rows = this.rowRuns;
+    const p = this.problem;
+    const n = this.nVar, m = this.nRow;
+    const tables = this.tables;
+    this.tables = new AssemblyTables();
     const asm = new Assembly({
-      n: this.nVar,
-      xL: Float64Array.from(this.xL),
-      xU: Float64Array.from(this.xU),
-      varScale: Float64Array.from(this.dScale),
-      x0: Float64Array.from(this.x0),
-      m: this.gL.length,
-      gL: Float64Array.from(this.gL),
-      gU: Float64Array.from(this.gU),
-      rowScale: Float64Array.from(this.rowScale),
-      sites: this.sites,
-      terms: this.terms,
-      linear: this.linear,
+      n,
+      xL: this.xL.done(),
+      xU: this.xU.done(),
+      varScale: this.dScale.done(),
+      x0: this.x0.done(),
+      m,
+      gL: this.gL.done(),
+      gU: this.gU.done(),
+      rowScale: this.rowScale.done(),
+      tables,
       t0: this.t0,
       tfVar: this.tfVar,
       fixedSpan: this.fixedSpan,
-      variableName: (i) => names[i] ?? `x[${i}]`,
-      constraintName: (j) => rows[j] ?? `g[${j}]`,
+      variableName: (i) => (i >= 0 && i < n ? vars.spell(i, (kind, k, label) => (kind === RUN_STATES ? `${p.states[k].name} ${label}` : kind === RUN_CONTROLS ? `${p.controls[k].name} ${label}` : label)) : null) ?? `x[${i}]`,
+      constraintName: (j) =>
+        (j >= 0 && j < m
+          ? rows.spell(j, (kind, k, label) =>
+              kind === RUN_DEFECTS ? `defect ${p.states[k].name} ${label}` : kind === RUN_PATH ? `path ${p.pathInfo[k].name} ${label}` : `endpoint ${p.endpointInfo[k].name}`,
+            )
+          : null) ?? `g[${j}]`,
     });
-    this.sites = [];
-    this.terms = [];
-    this.linear = [];
     return asm;
+  }
+}
+
+const RUN_AS_IS = 0, RUN_STATES = 1, RUN_CONTROLS = 2, RUN_DEFECTS = 3, RUN_PATH = 4, RUN_ENDPOINT = 5;
+
+/**
+ * Names of variables or rows as runs (first index, kind, label), spelled on demand: a name is
+ * wanted only in a message, and one string per variable and row was most of what a large
+ * transcription kept on the JavaScript heap.
+ */
+class NameRuns {
+  private first: number[] = [];
+  private kind: number[] = [];
+  private label: string[] = [];
+  open(first: number, kind: number, label: string): void {
+    this.first.push(first);
+    this.kind.push(kind);
+    this.label.push(label);
+  }
+  /** The name of entry i through spell(kind, position in its run, label); null before the first run. */
+  spell(i: number, spell: (kind: number, k: number, label: string) => string): string | null {
+    const f = this.first;
+    let lo = 0, hi = f.length - 1;
+    if (hi < 0 || i < f[0]) return null;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (f[mid] <= i) lo = mid;
+      else hi = mid - 1;
+    }
+    return this.kind[lo] === RUN_AS_IS ? this.label[lo] : spell(this.kind[lo], i - f[lo], this.label[lo]);
   }
 }
 

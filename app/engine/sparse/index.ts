@@ -114,8 +114,9 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private readonly regularization: number;
   private readonly signs: Int8Array | null;
   private readonly options: SymmetricSolverOptions;
-  private readonly A: CscPattern;
-  private readonly slotA: Int32Array;
+  /** The folded pattern and triplet → slot map; needed only by the analysis, let go of after it. */
+  private A: CscPattern | null;
+  private slotA: Int32Array | null;
   private readonly rows: Int32Array;
   private readonly cols: Int32Array;
   private readonly t0: number;
@@ -207,7 +208,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
    * solver is reused (analysis-cache.ts).
    */
   private analyse(values: Float64Array | null): void {
-    const { n, A, slotA, signs, options } = this;
+    const { n, signs, options } = this;
+    const A = this.A!, slotA = this.slotA!;
     const tOrder = performance.now();
     const amd = (options.ordering ?? "amd") === "amd";
     const mode = !amd ? "natural" : signs === null ? "amd" : options.pairs && values !== null ? "amd-pairs" : "amd-signed";
@@ -272,6 +274,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     this.Cx = new Float64Array(stored.C.colPtr[n]);
     this.fac = allocateLdlFactor(this.sym);
     this.ws = allocateLdlWorkspace(n);
+    this.A = null;
+    this.slotA = null;
     this.stats = { orderingMs: reused ? 0 : stored.orderingMs, totalMs: performance.now() - this.t0, nnzA: stored.C.colPtr[n], denseRows: stored.denseRows, reused };
     this.analysed = true;
   }
