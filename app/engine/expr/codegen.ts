@@ -83,7 +83,7 @@ export function numberLiteral(v: number): string {
 /** Everything the generated source may contain (checked before compilation). */
 const SAFE_SOURCE = /^[A-Za-z0-9_\s.,;:=+\-*/()[\]{}]*$/;
 const SAFE_WORDS = new Set([
-  "const", "function", "return", "M", "z", "w", "out", "e", "j", "h", "Infinity",
+  "const", "function", "return", "M", "z", "w", "out", "e", "j", "h", "E", "J", "H", "zo", "oo", "Infinity",
   "exp", "log", "sqrt", "sin", "cos", "tan", "atan", "sinh", "cosh", "tanh", "abs", "sign", "atan2", "min", "max", "pow",
 ]);
 
@@ -201,6 +201,16 @@ export type CompiledPointFunction = PointFunction & {
   readonly source: GeneratedSource;
 };
 
+/**
+ * The same statements reading the inputs at z[zo + i] and writing the outputs at out[oo + k]: the
+ * variants a transcription calls on its whole value arrays, one site at a time, without a
+ * subarray view per site. Only input reads z[i] and output writes out[k]= are generated in that
+ * form (generateSource), so the rewrite is exact.
+ */
+function atOffsets(src: string): string {
+  return src.replace(/\bz\[(\d+)\]/g, "z[zo+$1]").replace(/\bout\[(\d+)\]=/g, "out[oo+$1]=");
+}
+
 /** Compiles DAG outputs into a PointFunction with nIn inputs. */
 export function buildPointFunction(dag: Dag, outputs: readonly number[], nIn: number): CompiledPointFunction {
   const plan = planDerivatives(dag, outputs, nIn);
@@ -208,13 +218,19 @@ export function buildPointFunction(dag: Dag, outputs: readonly number[], nIn: nu
   const body =
     `return {e:function(z,out){\n${source.eval}\n},\n` +
     `j:function(z,out){\n${source.jac}\n},\n` +
-    `h:function(z,w,out){\n${source.hess}\n}};`;
+    `h:function(z,w,out){\n${source.hess}\n},\n` +
+    `E:function(z,zo,out,oo){\n${atOffsets(source.eval)}\n},\n` +
+    `J:function(z,zo,out,oo){\n${atOffsets(source.jac)}\n},\n` +
+    `H:function(z,zo,w,out,oo){\n${atOffsets(source.hess)}\n}};`;
   checkSource(body);
   // eslint-disable-next-line @typescript-eslint/no-implied-eval -- source is generated from the DAG only (see above)
   const factory = new Function("M", body) as (m: Math) => {
     e: (z: Float64Array, out: Float64Array) => void;
     j: (z: Float64Array, out: Float64Array) => void;
     h: (z: Float64Array, w: Float64Array, out: Float64Array) => void;
+    E: (z: Float64Array, zo: number, out: Float64Array, oo: number) => void;
+    J: (z: Float64Array, zo: number, out: Float64Array, oo: number) => void;
+    H: (z: Float64Array, zo: number, w: Float64Array, out: Float64Array, oo: number) => void;
   };
   const fns = factory(Math);
   return {
@@ -227,6 +243,9 @@ export function buildPointFunction(dag: Dag, outputs: readonly number[], nIn: nu
     hessRows: plan.hessRows,
     hessCols: plan.hessCols,
     hess: fns.h,
+    evalAt: fns.E,
+    jacAt: fns.J,
+    hessAt: fns.H,
     source,
   };
 }

@@ -26,6 +26,14 @@ export interface PointFunction {
   hessCols: Int32Array;
   /** Values of Σ_i w_i ∇²out_i in the order of (hessRows, hessCols); w has length nOut. */
   hess(z: Float64Array, w: Float64Array, out: Float64Array): void;
+  /**
+   * Optional variants on whole arrays: inputs at z[zo …], outputs at out[oo …] (a transcription
+   * evaluates thousands of sites this way without a view per site). The compiled functions have
+   * them; a function without them is evaluated through copies.
+   */
+  evalAt?(z: Float64Array, zo: number, out: Float64Array, oo: number): void;
+  jacAt?(z: Float64Array, zo: number, out: Float64Array, oo: number): void;
+  hessAt?(z: Float64Array, zo: number, w: Float64Array, out: Float64Array, oo: number): void;
 }
 
 export interface VariableInfo {

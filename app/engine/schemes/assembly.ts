@@ -60,11 +60,12 @@ export class Assembly {
   private readonly omega: Float64Array;
   private readonly wBuf: Float64Array;
   /**
-   * Per site, scratch arrays of its function's exact input, output, Jacobian and Hessian lengths,
-   * shared by every site of the same lengths: a site's values are copied in and out of them. One
-   * subarray view of Z, F, J and H per site (four typed-array objects per site, 13,000 at
-   * trapezoidal N = 3,200) was most of what a transcription's construction left alive on the young
-   * generation, and made V8 grow it.
+   * Sites are evaluated on the whole arrays Z, F, J, H at their offsets (PointFunction.evalAt …,
+   * which every compiled function has); a function without those (the compressed Hermite–Simpson
+   * midpoint) goes through scratch arrays of its exact lengths, shared by every site of the same
+   * lengths, its values copied in and out. One subarray view of Z, F, J and H per site (four
+   * typed-array objects per site, 13,000 at trapezoidal N = 3,200) was most of what a
+   * transcription's construction left alive on the young generation, and made V8 grow it.
    */
   private readonly zS: Float64Array[];
   private readonly fS: Float64Array[];
@@ -398,18 +399,26 @@ export class Assembly {
     const { zOff, fOff, jOff, F, J } = this;
     for (let s = 0; s < this.nSite; s++) {
       const fn = sites[s];
-      const z = this.zS[s];
       const z0 = zOff[s];
+      if (fn.evalAt !== undefined && fn.jacAt !== undefined) {
+        // compiled functions: straight on the whole arrays at the site's offsets
+        if (!this.haveF) fn.evalAt(Z, z0, F, fOff[s]);
+        if (needJ && !this.haveJ) fn.jacAt(Z, z0, J, jOff[s]);
+        continue;
+      }
+      const z = this.zS[s];
       for (let i = 0; i < z.length; i++) z[i] = Z[z0 + i];
       if (!this.haveF) {
         const f = this.fS[s];
         fn.eval(z, f);
-        F.set(f, fOff[s]);
+        const f0 = fOff[s];
+        for (let i = 0; i < f.length; i++) F[f0 + i] = f[i];
       }
       if (needJ && !this.haveJ) {
         const j = this.jS[s];
         fn.jac(z, j);
-        J.set(j, jOff[s]);
+        const j0 = jOff[s];
+        for (let i = 0; i < j.length; i++) J[j0 + i] = j[i];
       }
     }
     this.haveF = true;
@@ -477,13 +486,15 @@ export class Assembly {
         w[i] = fac * om[f0 + i];
         if (w[i] !== 0) any = true;
       }
-      if (any) {
+      if (any && fn.hessAt !== undefined) fn.hessAt(this.Z, this.zOff[s], w, this.H, this.hOff[s]);
+      else if (any) {
         const z = this.zS[s], h = this.hS[s];
         const z0 = this.zOff[s];
         for (let i = 0; i < z.length; i++) z[i] = this.Z[z0 + i];
         fn.hess(z, w, h);
-        this.H.set(h, this.hOff[s]);
-      } else this.H.fill(0, this.hOff[s], this.hOff[s + 1]);
+        const H = this.H, h0 = this.hOff[s];
+        for (let i = 0; i < h.length; i++) H[h0 + i] = h[i];
+      } else for (let i = this.hOff[s]; i < this.hOff[s + 1]; i++) this.H[i] = 0;
     }
     out.fill(0);
     addContrib(out, this.hessFromH, this.H, 1);
