@@ -54,6 +54,27 @@ describe("reused symbolic analysis", () => {
     }
   });
 
+  it("keeps a private copy of the pattern unless the caller says it never changes it", () => {
+    const M = trolleyKkt(6);
+    const signs = kktSigns(M.nVar, M.nCon);
+    // default: the caller may reuse its arrays; changing them must not change what the cache matches
+    const rows = M.rows.slice(), cols = M.cols.slice();
+    solveWith(new SymmetricSolver(M.n, rows, cols, { signs, pairs: true }), M, 3);
+    rows.fill(0);
+    cols.fill(0);
+    const again = new SymmetricSolver(M.n, M.rows.slice(), M.cols.slice(), { signs, pairs: true });
+    solveWith(again, M, 3);
+    expect(again.symbolicStats.reused).toBe(true);
+    // patternUnchanging: stored as given, and still found by an equal pattern
+    clearAnalysisCache();
+    const owned = new SymmetricSolver(M.n, M.rows.slice(), M.cols.slice(), { signs, pairs: true, patternUnchanging: true });
+    const a = solveWith(owned, M, 4);
+    const next = new SymmetricSolver(M.n, M.rows.slice(), M.cols.slice(), { signs, pairs: true });
+    const b = solveWith(next, M, 4);
+    expect(next.symbolicStats.reused).toBe(true);
+    expect(Array.from(b.x)).toEqual(Array.from(a.x));
+  });
+
   it("the reused factor of the first solver is not disturbed by the second one's values", () => {
     const M = trolleyKkt(10);
     const signs = kktSigns(M.nVar, M.nCon);

@@ -28,7 +28,9 @@ export { OPTION_SPECS } from "./options";
  * On the COPS Goddard transcriptions this cut iterations from 34–69 (trapezoidal, N = 100–800,
  * with restorations and stalls) to 19–24 at every N from 50 to 3,200 (DEVELOPERS.md, Decisions).
  */
-const defaultFactory: SolverFactory = (n, rows, cols, signs) => new SymmetricSolver(n, rows, cols, { pivotTolerance: 1e-20, signs, pairs: signs !== undefined });
+// KktSystem makes rows and cols for the solver and never changes them: the analysis cache keeps them as they are.
+const defaultFactory: SolverFactory = (n, rows, cols, signs) =>
+  new SymmetricSolver(n, rows, cols, { pivotTolerance: 1e-20, signs, pairs: signs !== undefined, patternUnchanging: true });
 
 /** Structural checks of the problem; returns a message naming the field and position, or null. */
 function validate(p: NlpProblem): { status: NlpStatus; message: string } | null {

@@ -91,7 +91,8 @@ export class Assembly {
   private readonly fTerms: { out: Int32Array; w: Float64Array; scaled: Uint8Array };
 
   // Jacobian contributions
-  private readonly jacConst: Float64Array; // per slot, from linear entries
+  /** Jacobian slot of each linear entry (their coefficients are summed in entry order, from 0). */
+  private readonly linSlot: Int32Array;
   private readonly jacFromJ: Contrib; // · T when scaled: separate arrays
   private readonly jacFromJScaled: Contrib;
   private readonly jacFromF: Contrib; // tf product terms
@@ -289,8 +290,8 @@ export class Assembly {
     this.gradFromJScaled = contribOf(gbS, gbSrc, gbC);
     this.gradFromF = contribOf(gcS, gcSrc, gcC);
     const nnzJ = jac.n;
-    this.jacConst = new Float64Array(nnzJ);
-    for (let k = 0; k < this.linRow.length; k++) this.jacConst[jac.find(this.linRow[k], this.linVar[k])] += this.linCoef[k];
+    this.linSlot = new Int32Array(this.linRow.length);
+    for (let k = 0; k < this.linRow.length; k++) this.linSlot[k] = jac.find(this.linRow[k], this.linVar[k]);
     this.jacRows = jac.a.done();
     this.jacCols = jac.b.done();
 
@@ -457,7 +458,9 @@ export class Assembly {
   jacobianPhys(X: Float64Array, out: Float64Array): void {
     this.evalSites(X, true);
     const T = this.span(X);
-    out.set(this.jacConst);
+    out.fill(0);
+    const { linSlot, linCoef } = this;
+    for (let k = 0; k < linSlot.length; k++) out[linSlot[k]] += linCoef[k];
     addContrib(out, this.jacFromJ, this.J, 1);
     addContrib(out, this.jacFromJScaled, this.J, T);
     addContrib(out, this.jacFromF, this.F, 1);

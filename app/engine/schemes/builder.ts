@@ -27,27 +27,42 @@ export type Component = { start: number } | { combo: Array<{ start: number; coef
 export class PointRef {
   /** Lazily created dynamics site. */
   dynSite = -1;
+  /** First variable of the state block, or −1 when the states are a combination (xCombo). */
+  readonly xStart: number;
+  readonly xCombo: Array<{ start: number; coef: number }> | null;
+  /** First variable of the control block; −1 for a combination (uCombo) or no controls (hasU false). */
+  readonly uStart: number;
+  readonly uCombo: Array<{ start: number; coef: number }> | null;
+  readonly hasU: boolean;
   constructor(
     private readonly b: TranscriptionBuilder,
     /** Normalised time τ ∈ [0, 1]. */
     readonly tau: number,
-    readonly x: Component,
-    readonly u: Component | null,
-  ) {}
+    x: Component,
+    u: Component | null,
+  ) {
+    // the block starts as numbers: a point outlives many young-generation collections, and the
+    // { start } objects a scheme passes would otherwise live as long as it
+    this.xStart = "start" in x ? x.start : -1;
+    this.xCombo = "start" in x ? null : x.combo;
+    this.hasU = u !== null;
+    this.uStart = u !== null && "start" in u ? u.start : -1;
+    this.uCombo = u !== null && !("start" in u) ? u.combo : null;
+  }
 
   /** The affine inputs [t, x, u] as objects. */
   get inputs(): AffineInput[] {
     const { nx, nu } = this.b;
     const out: AffineInput[] = [this.b.timeInput(this.tau)];
-    for (let i = 0; i < nx; i++) out.push(componentInput(this.x, i));
-    for (let i = 0; i < nu; i++) out.push(this.u ? componentInput(this.u, i) : { c: 0, vars: [], coefs: [] });
+    for (let i = 0; i < nx; i++) out.push(componentInput(this.xStart, this.xCombo, i));
+    for (let i = 0; i < nu; i++) out.push(this.hasU ? componentInput(this.uStart, this.uCombo, i) : { c: 0, vars: [], coefs: [] });
     return out;
   }
 }
 
-function componentInput(c: Component, i: number): AffineInput {
-  if ("start" in c) return { c: 0, vars: [c.start + i], coefs: [1] };
-  return { c: 0, vars: c.combo.map((b) => b.start + i), coefs: c.combo.map((b) => b.coef) };
+function componentInput(start: number, combo: Array<{ start: number; coef: number }> | null, i: number): AffineInput {
+  if (combo === null) return { c: 0, vars: [start + i], coefs: [1] };
+  return { c: 0, vars: combo.map((b) => b.start + i), coefs: combo.map((b) => b.coef) };
 }
 
 export class TranscriptionBuilder {
@@ -158,12 +173,12 @@ export class TranscriptionBuilder {
     return new PointRef(this, tau, x, u);
   }
 
-  /** Writes one component of a block as the next input of the open site. */
-  private componentIn(c: Component, i: number): void {
+  /** Writes one component of a block (first variable start, or a combination) as the next input of the open site. */
+  private componentIn(start: number, combo: Array<{ start: number; coef: number }> | null, i: number): void {
     const T = this.tables;
     T.input(0);
-    if ("start" in c) T.inputVar(c.start + i, 1);
-    else for (const b of c.combo) T.inputVar(b.start + i, b.coef);
+    if (combo === null) T.inputVar(start + i, 1);
+    else for (const b of combo) T.inputVar(b.start + i, b.coef);
   }
 
   /** A site of fn at point p (inputs [t, x, u] written without intermediate objects). */
@@ -174,9 +189,9 @@ export class TranscriptionBuilder {
       T.input(this.t0 * (1 - p.tau));
       T.inputVar(this.tfVar, p.tau);
     } else T.input(this.t0 + p.tau * this.fixedSpan);
-    for (let i = 0; i < this.nx; i++) this.componentIn(p.x, i);
+    for (let i = 0; i < this.nx; i++) this.componentIn(p.xStart, p.xCombo, i);
     for (let i = 0; i < this.nu; i++) {
-      if (p.u) this.componentIn(p.u, i);
+      if (p.hasU) this.componentIn(p.uStart, p.uCombo, i);
       else T.input(0);
     }
     T.endSite();

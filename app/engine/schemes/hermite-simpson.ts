@@ -47,13 +47,15 @@ export const hermiteSimpson: Scheme = {
     const xs: number[] = [], us: number[] = [], xm: number[] = [], um: number[] = [];
     const pts: PointRef[] = [], mids: PointRef[] = [];
     for (let k = 0; k <= N; k++) {
-      xs.push(b.addStates(tau[k], `node ${k}`));
-      us.push(b.addControls(tau[k], `node ${k}`));
+      const label = `node ${k}`; // one string for both blocks (the builder keeps it for the names)
+      xs.push(b.addStates(tau[k], label));
+      us.push(b.addControls(tau[k], label));
       pts.push(b.point(tau[k], { start: xs[k] }, nu > 0 ? { start: us[k] } : null));
       if (k < N) {
         const tm = 0.5 * (tau[k] + tau[k + 1]);
-        if (!compressed) xm.push(b.addStates(tm, `midpoint ${k}`));
-        um.push(b.addControls(tm, `midpoint ${k}`));
+        const mLabel = `midpoint ${k}`;
+        if (!compressed) xm.push(b.addStates(tm, mLabel));
+        um.push(b.addControls(tm, mLabel));
         if (!compressed) mids.push(b.point(tm, { start: xm[k] }, nu > 0 ? { start: um[k] } : null));
       }
     }

@@ -34,8 +34,9 @@ export const trapezoidal: Scheme = {
     const xs: number[] = [], us: number[] = [];
     const pts: PointRef[] = [];
     for (let k = 0; k <= N; k++) {
-      xs.push(b.addStates(tau[k], `node ${k}`));
-      us.push(b.addControls(tau[k], `node ${k}`));
+      const label = `node ${k}`; // one string for both blocks (the builder keeps it for the names)
+      xs.push(b.addStates(tau[k], label));
+      us.push(b.addControls(tau[k], label));
       pts.push(b.point(tau[k], { start: xs[k] }, nu > 0 ? { start: us[k] } : null));
     }
     const defects: number[] = [];

@@ -45,6 +45,8 @@ export interface AnalysisKey {
   signs: Int8Array | null;
   /** With pairs: partner[c] = matched variable of constraint row c, −1 otherwise. */
   partner: Int32Array | null;
+  /** rows and cols never change after this call (the caller says so): stored without a copy. */
+  owned?: boolean;
 }
 
 /** Common practice, no source: a handful covers the regular and restoration systems of a few problems. */
@@ -101,11 +103,11 @@ export function findAnalysis(key: AnalysisKey): StoredAnalysis | null {
   return null;
 }
 
-/** Stores an analysis under a private copy of its key. */
+/** Stores an analysis under a private copy of its key (rows and cols as given when the key says they never change). */
 export function storeAnalysis(key: AnalysisKey, value: StoredAnalysis): void {
   if (key.rows.length > MAX_ENTRIES) return;
   const copy: AnalysisKey = {
-    n: key.n, mode: key.mode, rows: key.rows.slice(), cols: key.cols.slice(),
+    n: key.n, mode: key.mode, rows: key.owned ? key.rows : key.rows.slice(), cols: key.owned ? key.cols : key.cols.slice(),
     signs: key.signs ? key.signs.slice() : null, partner: key.partner ? key.partner.slice() : null,
   };
   entries.unshift({ key: copy, hash: hashKey(copy), value });

@@ -73,6 +73,13 @@ export interface SymmetricSolverOptions {
    * preferPartners). Default false (1×1 pivots with the matched precedence ordering). AMD only.
    */
   pairs?: boolean;
+  /**
+   * The caller never changes rows and cols after construction (the interior-point KKT system makes
+   * them for the solver and lets go): the analysis cache may then keep them as its key instead of a
+   * private copy (two nT-integer arrays fewer at the moment of the analysis, 0.9 MB at trapezoidal
+   * N = 3,200). Default false.
+   */
+  patternUnchanging?: boolean;
 }
 
 /** Expected signs of the pivots of a KKT matrix with N primal rows first and m constraint rows after. */
@@ -227,7 +234,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
       for (let t = 0; t < this.nT; t++) Ax[slotA[t]] += values![t];
       partner = matchConstrained(preferPartners(A, Ax, G!, constrained!), constrained!);
     }
-    const key: AnalysisKey = { n, mode, rows: this.rows, cols: this.cols, signs, partner };
+    const key: AnalysisKey = { n, mode, rows: this.rows, cols: this.cols, signs, partner, owned: options.patternUnchanging === true };
     let stored = findAnalysis(key);
     const reused = stored !== null;
     if (stored === null) {
