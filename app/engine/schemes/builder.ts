@@ -79,7 +79,7 @@ export class TranscriptionBuilder {
   private xU = new NumList();
   private dScale = new NumList();
   private x0 = new NumList();
-  /** Variable names as runs: the run starting at variable varRunFirst[r] is spelled by varRunKind[r] and its label. */
+  /** Variable and row names as runs (NameRuns, below), spelled on demand. */
   private varRuns = new NameRuns();
   private gL = new NumList();
   private gU = new NumList();
@@ -129,6 +129,7 @@ export class TranscriptionBuilder {
     return this.xL.n - 1;
   }
 
+  /** Variables added so far (0 again after build(), which hands the lists to the Assembly). */
   get nVar(): number {
     return this.xL.n;
   }
