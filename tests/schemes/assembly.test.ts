@@ -221,4 +221,15 @@ describe("assembly tables", () => {
     a.push(5);
     expect(Array.from(a.done())).toEqual([5]);
   });
+
+  it("a list that outgrows its reserved address space moves to a larger buffer and keeps every entry", async () => {
+    const { IntList, NumList } = await import("~/engine/schemes/assembly-spec");
+    // reserve 1 KB: 256 ints or 128 doubles; 5,000 entries outgrow it twice (1 KB → 4 KB → 16 KB → 64 KB)
+    const a = new IntList(1024), b = new NumList(1024);
+    for (let k = 0; k < 5000; k++) { a.push(7 * k - 3); b.push(k * 0.25); }
+    const ai = a.done(), bf = b.done();
+    expect(ai.length).toBe(5000);
+    expect(Array.from(ai).every((v, k) => v === 7 * k - 3)).toBe(true);
+    expect(Array.from(bf).every((v, k) => v === k * 0.25)).toBe(true);
+  });
 });

@@ -148,8 +148,8 @@ abstract class GrowableList<A extends Int32Array | Float64Array> {
   private buf: ResizableBuffer;
   a: A;
   n = 0;
-  constructor(private readonly bytesPer: number, private readonly view: (b: ArrayBuffer) => A) {
-    this.buf = resizable(64 * bytesPer, LIST_RESERVE_BYTES);
+  constructor(private readonly bytesPer: number, private readonly view: (b: ArrayBuffer) => A, reserveBytes: number) {
+    this.buf = resizable(64 * bytesPer, Math.max(reserveBytes, 64 * bytesPer));
     this.a = view(this.buf);
   }
   protected grow(): void {
@@ -179,9 +179,10 @@ abstract class GrowableList<A extends Int32Array | Float64Array> {
   }
 }
 
+/** reserveBytes: address space reserved at first; a list that outgrows it moves to a buffer with four times as much (tests use a small one). */
 export class IntList extends GrowableList<Int32Array> {
-  constructor() {
-    super(4, (b) => new Int32Array(b));
+  constructor(reserveBytes = LIST_RESERVE_BYTES) {
+    super(4, (b) => new Int32Array(b), reserveBytes);
   }
   push(v: number): void {
     if (this.n === this.a.length) this.grow();
@@ -189,8 +190,8 @@ export class IntList extends GrowableList<Int32Array> {
   }
 }
 export class NumList extends GrowableList<Float64Array> {
-  constructor() {
-    super(8, (b) => new Float64Array(b));
+  constructor(reserveBytes = LIST_RESERVE_BYTES) {
+    super(8, (b) => new Float64Array(b), reserveBytes);
   }
   push(v: number): void {
     if (this.n === this.a.length) this.grow();
