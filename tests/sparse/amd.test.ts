@@ -74,7 +74,7 @@ describe("AMD ordering", () => {
     for (let d = 0; d < 3; d++) for (let i = 0; i < g.n; i++) rows.push(g.n + d), cols.push(i);
     for (let d = 0; d < 3; d++) rows.push(g.n + d), cols.push(g.n + d);
     const { A } = tripletsToUpperCsc(n, Int32Array.from(rows), Int32Array.from(cols));
-    const info = { denseRows: 0, compressions: 0 };
+    const info = { denseRows: 0, compressions: 0, releases: 0 };
     const perm = amdOrder(symmetricAdjacency(A), {}, info);
     expect(isPermutation(perm, n)).toBe(true);
     expect(info.denseRows).toBe(3);

@@ -238,7 +238,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     let stored = findAnalysis(key);
     const reused = stored !== null;
     if (stored === null) {
-      const info: AmdInfo = { denseRows: 0, compressions: 0 };
+      const info: AmdInfo = { denseRows: 0, compressions: 0, releases: 0 };
       let perm: Int32Array;
       let kind: Uint8Array | null = null;
       if (mode === "natural") {
