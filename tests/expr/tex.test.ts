@@ -1,5 +1,5 @@
 /** TeX of validated expressions: KaTeX must accept it for random expressions and names. */
-import { describe, expect, it } from "vitest";
+import { describe, expect, it, vi } from "vitest";
 import fc from "fast-check";
 import katex from "katex";
 import { parse } from "mathjs";
@@ -25,5 +25,25 @@ describe("TeX rendering", () => {
     for (const s of ["min(a, b, c)", "max(m, 2)", "abs(v)", "atan2(y, x)", "2h", "-x^2", "(a+b)^(c/d)", "tf - t0"]) {
       expect(() => katex.renderToString(toTex(parse(s)), { throwOnError: true }), s).not.toThrow();
     }
+  });
+
+  it("renders each node of nested calls once (linear in depth, not 2^depth)", () => {
+    // A 53-deep exp(exp(…)) in a problem file, found by tests/expr/hostile.test.ts, kept mathjs'
+    // default rendering busy for over half an hour: FunctionNode renders its arguments twice.
+    const depth = 20;
+    const tree = parse("exp(".repeat(depth) + "x" + ")".repeat(depth));
+    const fnProto = Object.getPrototypeOf(parse("exp(x)")) as { _toTex: (o: object) => string };
+    const spy = vi.spyOn(fnProto, "_toTex");
+    const tex = toTex(tree);
+    const calls = spy.mock.calls.length;
+    spy.mockRestore();
+    // the 20 function nodes, each rendered once
+    expect(calls).toBe(depth);
+    // and the text is the one-level rendering nested 20 times
+    const one = toTex(parse("exp(x)"));
+    const at = one.lastIndexOf(" x");
+    const [open, close] = [one.slice(0, at), one.slice(at + 2)];
+    expect(tex).toBe(open.repeat(depth) + " x" + close.repeat(depth));
+    expect(() => katex.renderToString(tex, { throwOnError: true })).not.toThrow();
   });
 });

@@ -37,27 +37,44 @@ export function toTex(node: MathNode): string {
   return texWithHandler(node).trim();
 }
 
+/**
+ * mathjs renders a function node's arguments more than once (FunctionNode's template expansion), so
+ * its default TeX costs 2^depth for nested calls: a 53-deep exp(exp(…)) in a problem file, found by
+ * tests/expr/hostile.test.ts, kept a worker busy for over half an hour. The handler therefore
+ * renders every node once per call, memoised by node (and options object): the default rendering of a
+ * node (`_toTex`) is computed once, and every later request for the same node returns that string.
+ */
 function texWithHandler(node: MathNode): string {
+  const memo = new Map<MathNode, { options: object; tex: string }>();
   return node.toTex({
     parenthesis: "auto",
     implicit: "show",
     handler: (n: MathNode, options: object) => {
-      // a leading space keeps "\cdot" + "m_{2}" from fusing into the control word "\cdotm"
-      if (n.type === "SymbolNode") return ` ${nameToTex((n as unknown as { name: string }).name)}`;
-      if (n.type === "FunctionNode") {
-        const { fn, args } = n as unknown as { fn: { name: string }; args: MathNode[] };
-        if ((fn.name === "initial" || fn.name === "final") && args.length === 1 && args[0].type === "SymbolNode") {
-          const x = nameToTex((args[0] as unknown as { name: string }).name);
-          return ` ${x}(t_{${fn.name === "initial" ? "0" : "f"}})`;
-        }
-        if (fn.name === "min" || fn.name === "max") {
-          return `\\${fn.name}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;
-        }
-        if (fn.name === "atan2") {
-          return `\\operatorname{atan2}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;
-        }
-      }
-      return undefined;
+      const seen = memo.get(n);
+      if (seen !== undefined && seen.options === options) return seen.tex;
+      const tex = ownTex(n, options) ?? (n as unknown as { _toTex(o: object): string })._toTex(options);
+      memo.set(n, { options, tex });
+      return tex;
     },
   } as never);
+}
+
+/** Arcwatch's own TeX for names, endpoint values, min/max and atan2; undefined: mathjs' rendering. */
+function ownTex(n: MathNode, options: object): string | undefined {
+  // a leading space keeps "\cdot" + "m_{2}" from fusing into the control word "\cdotm"
+  if (n.type === "SymbolNode") return ` ${nameToTex((n as unknown as { name: string }).name)}`;
+  if (n.type === "FunctionNode") {
+    const { fn, args } = n as unknown as { fn: { name: string }; args: MathNode[] };
+    if ((fn.name === "initial" || fn.name === "final") && args.length === 1 && args[0].type === "SymbolNode") {
+      const x = nameToTex((args[0] as unknown as { name: string }).name);
+      return ` ${x}(t_{${fn.name === "initial" ? "0" : "f"}})`;
+    }
+    if (fn.name === "min" || fn.name === "max") {
+      return `\\${fn.name}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;
+    }
+    if (fn.name === "atan2") {
+      return `\\operatorname{atan2}\\left(${args.map((a) => a.toTex(options)).join(",")}\\right)`;
+    }
+  }
+  return undefined;
 }
