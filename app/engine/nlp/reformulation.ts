@@ -232,9 +232,7 @@ export class NlpReformulation implements InternalProblem {
   }
   gradF(w: Float64Array, out: Float64Array): void {
     const gu = this.userGradF(this.scatter(w));
-    // The first loop is a function of its own: nothing after a long loop may need type feedback
-    // that the first call had not yet collected (see forwardSolveL in sparse/ldl.ts).
-    gatherScaled(this.nX, this.df, gu, this.free, out);
+    for (let k = 0; k < this.nX; k++) out[k] = this.df * gu[this.free[k]];
     for (let k = this.nX; k < this.N; k++) out[k] = 0;
   }
   c(w: Float64Array, out: Float64Array): void {
@@ -250,14 +248,14 @@ export class NlpReformulation implements InternalProblem {
     const jk = this.jKeep;
     const rows = this.jRows;
     const rowMap = this.rowMap, dc = this.dc;
-    keptJacobian(jk.length, rows, rowMap, dc, ju, jk, out); // a loop of its own (see gradF)
+    for (let t = 0; t < jk.length; t++) out[t] = dc[rowMap[rows[t]]] * ju[jk[t]];
     for (let t = jk.length; t < rows.length; t++) out[t] = -1;
   }
   hess(w: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array): void {
     const x = this.scatter(w);
     const lu = this.lamUser;
     lu.fill(0); // rows outside the iteration are linear in fixed variables (presolve) or constant
-    userMultipliers(this.m, this.rowMap, this.dc, lambda, lu); // a loop of its own (see gradF)
+    for (let r = 0; r < this.m; r++) { const j = this.rowMap[r]; lu[j] = this.dc[j] * lambda[r]; }
     const hu = this.hUser;
     this.call("hessValues", () => this.p.hessValues(x, sigma * this.df, lu, hu));
     const hk = this.hKeep;
@@ -418,22 +416,4 @@ export class NlpReformulation implements InternalProblem {
       // A model that cannot be evaluated at the probe point is simply not presolved.
     }
   }
-}
-
-/** λ of the user's rows: lu[rowMap[r]] = dc[rowMap[r]] · λ_r. */
-function userMultipliers(m: number, rowMap: Int32Array, dc: Float64Array, lambda: Float64Array, lu: Float64Array): void {
-  for (let r = 0; r < m; r++) {
-    const j = rowMap[r];
-    lu[j] = dc[j] * lambda[r];
-  }
-}
-
-/** out[k] = df · g[free[k]] for k < nX. */
-function gatherScaled(nX: number, df: number, g: Float64Array, free: Int32Array, out: Float64Array): void {
-  for (let k = 0; k < nX; k++) out[k] = df * g[free[k]];
-}
-
-/** The kept Jacobian entries, row-scaled: out[t] = dc[rowMap[rows[t]]] · ju[jk[t]] for t < nKept. */
-function keptJacobian(nKept: number, rows: Int32Array, rowMap: Int32Array, dc: Float64Array, ju: Float64Array, jk: Int32Array, out: Float64Array): void {
-  for (let t = 0; t < nKept; t++) out[t] = dc[rowMap[rows[t]]] * ju[jk[t]];
 }

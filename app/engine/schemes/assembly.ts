@@ -441,8 +441,8 @@ export class Assembly {
     this.evalSites(X, false);
     const T = this.span(X);
     out.fill(0);
+    for (let k = 0; k < this.linRow.length; k++) out[this.linRow[k]] += this.linCoef[k] * X[this.linVar[k]];
     const { out: o, row, w, scaled } = this.gTerms;
-    addLinearRows(out, this.linRow, this.linCoef, this.linVar, X);
     for (let k = 0; k < o.length; k++) out[row[k]] += w[k] * (scaled[k] ? T : 1) * this.F[o[k]];
   }
 
@@ -459,7 +459,8 @@ export class Assembly {
     this.evalSites(X, true);
     const T = this.span(X);
     out.fill(0);
-    addAtSlots(out, this.linSlot, this.linCoef);
+    const { linSlot, linCoef } = this;
+    for (let k = 0; k < linSlot.length; k++) out[linSlot[k]] += linCoef[k];
     addContrib(out, this.jacFromJ, this.J, 1);
     addContrib(out, this.jacFromJScaled, this.J, T);
     addContrib(out, this.jacFromF, this.F, 1);
@@ -472,22 +473,10 @@ export class Assembly {
     const T = this.span(X);
     const om = this.omega;
     om.fill(0);
-    outputWeights(om, this.termOut, this.termRow, this.termW, lambda, sigma);
-    this.siteHessians(T, om);
-    out.fill(0);
-    addContrib(out, this.hessFromH, this.H, 1);
-    if (needCross) {
-      const { slot, src, out: o, coef } = this.hessCross;
-      const J = this.J;
-      for (let k = 0; k < slot.length; k++) out[slot[k]] += coef[k] * om[o[k]] * J[src[k]];
+    for (let k = 0; k < this.termOut.length; k++) {
+      const r = this.termRow[k];
+      om[this.termOut[k]] += this.termW[k] * (r >= 0 ? lambda[r] : sigma);
     }
-  }
-
-  /**
-   * Each site's Hessian of Σ ω_k F_k into H. The long loops of hessianPhys are functions of their
-   * own, with nothing after the loop (see forwardSolveL in sparse/ldl.ts).
-   */
-  private siteHessians(T: number, om: Float64Array): void {
     const sites = this.siteFn;
     for (let s = 0; s < this.nSite; s++) {
       const fn = sites[s];
@@ -509,6 +498,13 @@ export class Assembly {
         const H = this.H, h0 = this.hOff[s];
         for (let i = 0; i < h.length; i++) H[h0 + i] = h[i];
       } else for (let i = this.hOff[s]; i < this.hOff[s + 1]; i++) this.H[i] = 0;
+    }
+    out.fill(0);
+    addContrib(out, this.hessFromH, this.H, 1);
+    if (needCross) {
+      const { slot, src, out: o, coef } = this.hessCross;
+      const J = this.J;
+      for (let k = 0; k < slot.length; k++) out[slot[k]] += coef[k] * om[o[k]] * J[src[k]];
     }
   }
 
@@ -576,26 +572,5 @@ export class Assembly {
     if (spec.variableName) problem.variableName = spec.variableName;
     if (spec.constraintName) problem.constraintName = spec.constraintName;
     return problem;
-  }
-}
-
-// Loops of the evaluation that sit in front of other work, one per function (see forwardSolveL in
-// sparse/ldl.ts).
-
-/** out[row[k]] += coef[k] · X[v[k]]: the linear terms of g. */
-function addLinearRows(out: Float64Array, row: Int32Array, coef: Float64Array, v: Int32Array, X: Float64Array): void {
-  for (let k = 0; k < row.length; k++) out[row[k]] += coef[k] * X[v[k]];
-}
-
-/** out[slot[k]] += c[k]: the constant Jacobian entries. */
-function addAtSlots(out: Float64Array, slot: Int32Array, c: Float64Array): void {
-  for (let k = 0; k < slot.length; k++) out[slot[k]] += c[k];
-}
-
-/** ω[out[k]] += w[k] · (λ[row[k]], or σ for an objective term (row < 0)). */
-function outputWeights(om: Float64Array, out: Int32Array, row: Int32Array, w: Float64Array, lambda: Float64Array, sigma: number): void {
-  for (let k = 0; k < out.length; k++) {
-    const r = row[k];
-    om[out[k]] += w[k] * (r >= 0 ? lambda[r] : sigma);
   }
 }

@@ -68,12 +68,6 @@ export function symmetricResidual(
 
 /** ‖A‖∞ for symmetric A stored by one triangle (max absolute row sum). work: Float64Array(n). */
 export function symmetricNormInf(A: CscPattern, values: Float64Array, work: Float64Array): number {
-  // Two loops, two functions (nothing after a long loop: see forwardSolveL in ldl.ts).
-  absoluteRowSums(A, values, work);
-  return maxEntry(work, A.n);
-}
-
-function absoluteRowSums(A: CscPattern, values: Float64Array, work: Float64Array): void {
   const { n, colPtr, rowIdx } = A;
   work.fill(0, 0, n);
   for (let j = 0; j < n; j++) {
@@ -84,12 +78,8 @@ function absoluteRowSums(A: CscPattern, values: Float64Array, work: Float64Array
       if (i !== j) work[j] += a;
     }
   }
-}
-
-/** max(0, a[0], …, a[n−1]), NaN entries skipped (a comparison). */
-function maxEntry(a: Float64Array, n: number): number {
   let m = 0;
-  for (let i = 0; i < n; i++) if (a[i] > m) m = a[i];
+  for (let i = 0; i < n; i++) if (work[i] > m) m = work[i];
   return m;
 }
 

@@ -335,20 +335,20 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const n = this.n;
     if (!this.factored) throw new Error("sparse/SymmetricSolver.solve: call factor(values) before solve");
     if (b.length < n || x.length < n) throw new Error(`sparse/SymmetricSolver.solve: b and x need length ${n}, got ${b.length} and ${x.length}`);
-    // No loop over n in this method itself, only calls (see forwardSolveL in ldl.ts).
     const { perm, bp, r, C, Cx, sym, fac } = this;
     let xp = this.xp;
     let xt = this.xt;
-    gatherPermuted(n, b, perm, bp);
+    for (let k = 0; k < n; k++) bp[k] = b[perm[k]];
     xp.set(bp);
     ldlSolveInPlace(sym, fac, xp);
     let res = symmetricResidual(C, Cx, xp, bp, r);
     if (this.normA < 0) this.normA = symmetricNormInf(C, Cx, xt);
-    const normB = maxAbsOrNaN(bp, n);
+    let normB = 0;
+    for (let k = 0; k < n; k++) normB = Math.max(normB, Math.abs(bp[k]));
     let accepted = 0;
     for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * this.backwardScale(xp, normB); step++) {
       ldlSolveInPlace(sym, fac, r); // r ← correction
-      sumInto(n, xp, r, xt);
+      for (let k = 0; k < n; k++) xt[k] = xp[k] + r[k];
       const resTrial = symmetricResidual(C, Cx, xt, bp, r);
       if (!(resTrial < res)) break;
       res = resTrial;
@@ -357,7 +357,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
       xt = swap;
       accepted++;
     }
-    scatterPermuted(n, xp, perm, x);
+    for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
     this.lastResidual = res;
     const denom = this.backwardScale(xp, normB);
     this.lastRelativeResidual = denom > 0 ? res / denom : res;
@@ -366,40 +366,11 @@ export class SymmetricSolver implements SymmetricSolverLike {
 
   /** ‖A‖∞‖x‖∞ + ‖b‖∞, the scale of the normwise backward error. */
   private backwardScale(x: Float64Array, normB: number): number {
-    return this.normA * maxAbsIgnoringNaN(x, this.n) + normB;
+    let m = 0;
+    for (let k = 0; k < this.n; k++) {
+      const a = Math.abs(x[k]);
+      if (a > m) m = a;
+    }
+    return this.normA * m + normB;
   }
-}
-
-// The loops of solve(), one per function (see forwardSolveL in ldl.ts).
-
-/** out[k] = b[perm[k]]. */
-function gatherPermuted(n: number, b: Float64Array, perm: Int32Array, out: Float64Array): void {
-  for (let k = 0; k < n; k++) out[k] = b[perm[k]];
-}
-
-/** x[perm[k]] = v[k]. */
-function scatterPermuted(n: number, v: Float64Array, perm: Int32Array, x: Float64Array): void {
-  for (let k = 0; k < n; k++) x[perm[k]] = v[k];
-}
-
-/** out = a + b. */
-function sumInto(n: number, a: Float64Array, b: Float64Array, out: Float64Array): void {
-  for (let k = 0; k < n; k++) out[k] = a[k] + b[k];
-}
-
-/** max |a[k]|, NaN when an entry is NaN (Math.max). */
-function maxAbsOrNaN(a: Float64Array, n: number): number {
-  let m = 0;
-  for (let k = 0; k < n; k++) m = Math.max(m, Math.abs(a[k]));
-  return m;
-}
-
-/** max |a[k]|, NaN entries skipped (a comparison). */
-function maxAbsIgnoringNaN(a: Float64Array, n: number): number {
-  let m = 0;
-  for (let k = 0; k < n; k++) {
-    const v = Math.abs(a[k]);
-    if (v > m) m = v;
-  }
-  return m;
 }

@@ -366,21 +366,8 @@ export function ldlNumeric(
  * A decoupled zero pivot (Dinv = 0) gives x_k from the remaining equations only.
  */
 export function ldlSolveInPlace(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void {
-  // Three loops in three functions: see forwardSolveL.
-  forwardSolveL(sym, fac, x);
-  diagonalSolve(sym, fac, x);
-  backwardSolveLt(sym, fac, x);
-}
-
-/**
- * x ← L⁻¹ x. Each sweep of the solve is a function of its own, with nothing after its loop: V8
- * (Node 20) compiles a long first call mid-loop (on-stack replacement), and code compiled before
- * the next loop had ever run deoptimised there on every later call while the cached compiled loop
- * stayed in use (40 deoptimisations per solve at Hermite–Simpson N = 1,600, DEVELOPERS.md).
- */
-function forwardSolveL(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void {
   const { n, Lp } = sym;
-  const { Li, Lx } = fac;
+  const { Li, Lx, Dinv, Einv } = fac;
   const kind = sym.kind;
   for (let j = 0; j < n; j++) {
     const xj = x[j];
@@ -409,12 +396,6 @@ function forwardSolveL(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void 
     }
     if (xj !== 0) for (let p = Lp[j]; p < Lp[j + 1]; p++) x[Li[p]] -= Lx[p] * xj;
   }
-}
-
-/** x ← D⁻¹ x (1×1 and 2×2 pivots). */
-function diagonalSolve(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void {
-  const n = sym.n, kind = sym.kind;
-  const { Dinv, Einv } = fac;
   for (let j = 0; j < n; j++) {
     if (kind !== null && kind[j] === 1) {
       const x1 = x[j];
@@ -426,12 +407,6 @@ function diagonalSolve(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void 
       x[j] *= Dinv[j];
     }
   }
-}
-
-/** x ← L⁻ᵀ x. */
-function backwardSolveLt(sym: LdlSymbolic, fac: LdlFactor, x: Float64Array): void {
-  const { n, Lp } = sym;
-  const { Li, Lx } = fac;
   for (let j = n - 1; j >= 0; j--) {
     let s = x[j];
     for (let p = Lp[j]; p < Lp[j + 1]; p++) s -= Lx[p] * x[Li[p]];
