@@ -51,7 +51,11 @@ export function valuesFromAverages(t: ArrayLike<number>, a: ArrayLike<number>, t
   return out;
 }
 
-/** The smallest k in [0, last] with s ≤ t[k + 1], or last when there is none (t increasing; NaN s gives 0, as a scan would). */
+/**
+ * The smallest k in [0, last] with s ≤ t[k + 1], or last when there is none (t increasing; NaN s
+ * gives 0, as a scan would). Not interpolation.ts's `locate`: that one puts a point on a node in
+ * the interval to its right, which would move the stencil there and change the values.
+ */
 function firstNotBelow(t: ArrayLike<number>, last: number, s: number): number {
   let lo = 0, hi = last;
   while (lo < hi) {
