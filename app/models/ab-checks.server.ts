@@ -216,7 +216,10 @@ export function settleAbCheck(db: Db, id: number, outcome: { result: AbResultDoc
     } else {
       const verdicts = c.regressionIds.length ? timed.map((j) => j.verdict!) : [s!.slower ? "slower" : s!.unclear ? "unclear" : "same"];
       state = verdicts.includes("slower") ? "confirmed" : verdicts.includes("unclear") ? "unavailable" : "cleared";
-      const head = `interleaved A/B (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)}`;
+      const head =
+        c.head === c.base
+          ? `interleaved A/A (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against itself, the baseline being a run of the same commit`
+          : `interleaved A/B (${byWhom(c.jobId)}): ${c.head.slice(0, 10)} against ${c.base.slice(0, 10)}`;
       const scope = outcome.result.pooled ? `all ${outcome.result.pooled.cases} cases pooled` : outcome.result.cases[0]?.key ?? "";
       const tail = (ratio: number | null, low: number | null, high: number | null, v: string, f = floor) =>
         `${fmtAbRatio(ratio, low, high)} (${outcome.result.blocks} blocks)${v === "unclear" ? `: the interval neither lies above 1 nor excludes the suite's ×${f} speed floor; the finding stays open` : ""}.`;

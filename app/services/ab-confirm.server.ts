@@ -34,13 +34,22 @@ import { repoRoot, resolveRef } from "./git.server";
 
 export type AbJobCheck = { ok: true; payload: AbJobPayload & { cases: string[] } } | { ok: false; field: "base" | "head" | "suite" | "cases"; message: string };
 
-/** Resolves both commits to full hashes and the cases against the checkout's suite. */
-export async function checkAbJob(db: Db, payload: AbJobPayload, root = repoRoot()): Promise<AbJobCheck> {
+/**
+ * Resolves both commits to full hashes and the cases against the checkout's suite.
+ *
+ * `sameCommit: "allow"` is for judging a regression whose baseline run was of the same commit (a
+ * rerun: the baseline is the nearest run on the branch, the commit's own earlier run included).
+ * Identical code on both sides is then an A/A comparison: two worker processes of the one commit,
+ * interleaved, whose interval says how far this machine moves the case on its own. Without it a
+ * rerun's speed finding could never be judged and, under `bench --confirm`, failed the build as
+ * "unconfirmed" (seen 2026-12-04). A comparison asked for by hand still needs two commits.
+ */
+export async function checkAbJob(db: Db, payload: AbJobPayload, root = repoRoot(), opts: { sameCommit?: "allow" | "refuse" } = {}): Promise<AbJobCheck> {
   const base = await resolveRef(payload.base, root);
   if (!base) return { ok: false, field: "base", message: `${payload.base} is not a commit in the repository (${root}).` };
   const head = await resolveRef(payload.head, root);
   if (!head) return { ok: false, field: "head", message: `${payload.head} is not a commit in the repository (${root}).` };
-  if (base === head) return { ok: false, field: "head", message: "Base and head are the same commit: there is nothing to compare." };
+  if (base === head && opts.sameCommit !== "allow") return { ok: false, field: "head", message: "Base and head are the same commit: there is nothing to compare." };
   const file = suitePath(payload.suite, root);
   if (!fs.existsSync(file)) return { ok: false, field: "suite", message: `The checkout has no suite "${payload.suite}" (bench/suites/${payload.suite}.json).` };
   let keys: string[];
@@ -127,7 +136,7 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
         ...suspects.map((x) => ({ cases: x.members.map((m) => m.caseKey), clearBelow: t.pooledSpeedRatio })),
       ].filter((g) => g.cases.length > 0);
       const cases = [...new Set(groups.flatMap((g) => g.cases))];
-      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, blocks: AB_CONFIRM_BLOCKS.blocks, maxBlocks: t.confirmMaxBlocks, groups }, input.root ?? repoRoot());
+      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, blocks: AB_CONFIRM_BLOCKS.blocks, maxBlocks: t.confirmMaxBlocks, groups }, input.root ?? repoRoot(), { sameCommit: "allow" });
       if (!checked.ok) why = checked.message;
       else if (input.confirmNow) {
         const check = insertAbCheck(db, { jobId: null, suiteName: checked.payload.suite, base: checked.payload.base, head: checked.payload.head, cases: checked.payload.cases, regressionIds: ids, runId: input.runId, auto: true, alertsHeld: mail });

@@ -3,7 +3,15 @@
  * (node_modules linked), the bench command line is run there on a small suite, then commits that
  * (1) slow the solver down (every solve done twice) and (2) spoil the trapezoidal scheme's
  * accuracy (its mesh silently coarsened three-fold) must be flagged on the right commit, while
- * reruns of an unchanged commit must flag nothing. The false-alarm rate is printed.
+ * reruns of an unchanged commit must leave nothing standing.
+ *
+ * The reruns go the way a CI runner goes, `bench --confirm`: a raw per-case speed finding of a
+ * sequential run is a suspect that the interleaved A/B decides (DEVELOPERS.md, "`bench --confirm`").
+ * Until 2026-12-04 this test allowed at most one raw speed finding in its 12 unchanged
+ * comparisons; CI logs of 12 clean runs showed 5 in 144 (3.5 %, two in one run, which failed):
+ * sequential runs on a shared 2-core machine under the test suite's own load move a case's median
+ * by more than ×1.1 now and then, which a within-run test cannot tell from a change. The raw rate is
+ * still printed; what is asserted is the verdict after the A/B.
  */
 import { describe, expect, it } from "vitest";
 import { execFileSync } from "node:child_process";
@@ -26,13 +34,17 @@ interface BenchJson {
   commit: { commitHash: string };
   findings: { kind: string; direction: string; caseKey: string; metric: string; ratio: number | null; pValue: number | null; detail: string }[];
   newRegressions: number;
+  /** `--confirm`: the A/B's state on the run's speed regressions (null when none was needed). */
+  confirmation: { state: string; note: string | null } | null;
+  /** New regressions that stand after the A/B. */
+  standing: number;
   counts: { solved: number };
 }
 
-const bench = (cwd: string, db: string) => runBenchJson<BenchJson>(cwd, "e2e", db);
+const bench = (cwd: string, db: string, extra: string[] = []) => runBenchJson<BenchJson>(cwd, "e2e", db, extra);
 
 describe("end to end in a temporary git repository", () => {
-  it("flags a slowdown and an accuracy loss on the right commits and nothing on unchanged reruns", { timeout: 240_000 }, async () => {
+  it("flags a slowdown and an accuracy loss on the right commits and nothing on unchanged reruns", { timeout: 900_000 }, async () => {
     const repo = tempDir("e2e");
     for (const p of COPY) fs.cpSync(path.join(REPO, p), path.join(repo, p), { recursive: true });
     fs.symlinkSync(path.join(REPO, "node_modules"), path.join(repo, "node_modules"), "dir");
@@ -67,17 +79,23 @@ describe("end to end in a temporary git repository", () => {
     let falseImprovements = 0;
     let comparisons = 0;
     for (let k = 0; k < reruns; k++) {
-      const r = await bench(repo, db);
+      const r = await bench(repo, db, ["--confirm"]);
       comparisons += 4;
       expect(r.json.findings.filter((f) => f.kind !== "speed" && f.kind !== "drift")).toEqual([]);
-      falseAlarms += r.json.findings.filter((f) => f.direction === "regression").length;
+      const speed = r.json.findings.filter((f) => f.kind === "speed" && f.direction === "regression");
+      falseAlarms += speed.length;
       falseImprovements += r.json.findings.filter((f) => f.direction === "improvement").length;
-      if (r.json.findings.length) console.log(`rerun ${k + 1}: ${r.json.findings.map((f) => `${f.kind} ${f.caseKey} ${f.detail}`).join("; ")}`);
+      if (r.json.findings.length || r.json.confirmation) {
+        console.log(`rerun ${k + 1}: ${r.json.findings.map((f) => `${f.kind} ${f.caseKey} ${f.detail}`).join("; ") || "nothing"}${r.json.confirmation ? ` · A/B ${r.json.confirmation.state}: ${r.json.confirmation.note}` : ""} · standing ${r.json.standing}`);
+      }
+      // A raw speed finding is cleared by the A/B, or left undecided (open, not failing the run).
+      if (speed.length) expect(["cleared", "unavailable"], `rerun ${k + 1}`).toContain(r.json.confirmation?.state);
+      expect(r.json.standing, `rerun ${k + 1}`).toBe(0);
+      expect(r.code, `rerun ${k + 1}`).toBe(0);
     }
     console.log(
-      `false alarms on unchanged reruns: ${falseAlarms} regression(s) and ${falseImprovements} improvement(s) in ${comparisons} case comparisons (${((100 * falseAlarms) / comparisons).toFixed(1)} % / ${((100 * falseImprovements) / comparisons).toFixed(1)} %)`,
+      `raw per-case findings on unchanged reruns (before the A/B): ${falseAlarms} regression(s) and ${falseImprovements} improvement(s) in ${comparisons} case comparisons (${((100 * falseAlarms) / comparisons).toFixed(1)} % / ${((100 * falseImprovements) / comparisons).toFixed(1)} %)`,
     );
-    expect(falseAlarms).toBeLessThanOrEqual(1);
 
     // A commit that slows the solver: every solve is done twice.
     const solve = path.join(repo, "app/engine/solve.ts");

@@ -244,6 +244,24 @@ describe("settling a check", () => {
     expect(failed).toMatchObject({ standing: 1, check: { state: "unavailable", note: expect.stringContaining("worker died") } });
   });
 
+  it("--confirm on a rerun whose baseline is a run of the same commit: an A/A comparison judges it", async () => {
+    // Seen 2026-12-04: a rerun's speed finding (baseline: the commit's own earlier run) was refused
+    // by the A/B check ("same commit") and so stood "unconfirmed", failing `bench --confirm` on noise.
+    const db = getDb();
+    const { rid, runId } = seedRegression(c2, c2);
+    const finding = { caseKey: "pika-rover-dash/euler/6", problemId: "pika-rover-dash", kind: "speed", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.13, ratio: 1.3, pValue: 1e-4, ciLow: 1.1, ciHigh: 1.5, detail: "median 0.100 s → 0.130 s" } as const;
+    const detection = { baselineRunId: null, baselineCommit: c2, findings: [finding], inserted: [{ id: rid, finding }], newRegressions: 1, fixed: [], carried: [] };
+    const commit = { commitHash: c2, branch: "main", subject: "two", author: "T", date: new Date(), dirty: false };
+    const asked: { base: string; head: string }[] = [];
+    const out = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, alerts: false, confirmNow: async (p) => (asked.push(p), { ...verdict(1.01, 0.96, 1.06, "same"), base: c2 }) });
+    expect(asked.map((p) => [p.base, p.head])).toEqual([[c2, c2]]);
+    expect(out).toMatchObject({ standing: 0, unconfirmed: null, check: { state: "cleared" } });
+    expect(out.check!.note).toContain("interleaved A/A");
+    // Asked for by hand, a comparison still needs two commits.
+    expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo)).toMatchObject({ ok: false, field: "head" });
+    expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo, { sameCommit: "allow" })).toMatchObject({ ok: true });
+  });
+
   it("an interval too wide to clear is 'not decided': not cleared, not failing the run, mailed unconfirmed", async () => {
     // Seen in CI 2026-12-02: a planted ×1.5 slowdown of one case gave ×1.347 [0.986, 1.795] in 6
     // blocks and was reported "cleared". An interval that reaches ×1.8 clears nothing.
