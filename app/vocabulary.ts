@@ -147,7 +147,7 @@ export const REGRESSION_STATUSES = {
 
 /** An interleaved A/B check of a finding (app/models/ab-checks.server.ts). */
 export const AB_CHECK_STATUSES = {
-  awaiting: { label: "awaiting A/B", tone: "accent", definition: "An interleaved A/B job is queued or running; the e-mail about a speed finding waits for it." },
+  awaiting: { label: "awaiting A/B", tone: "accent", definition: "An interleaved A/B job is queued or running; the e-mail about a speed or drift finding waits for it." },
   confirmed: { label: "confirmed by A/B", tone: "bad", definition: "Run alternately with its baseline in one sitting, the later commit was slower: the paired ratio is above ×1.03 and its interval above 1." },
   cleared: { label: "cleared by A/B", tone: "good", definition: "Run alternately with its baseline in one sitting, the later commit was not slower: the paired interval lies inside the suite's speed floor (×1.1 by default), so the first flag came from timing noise or machine load." },
   unavailable: { label: "A/B could not decide", tone: "warn", definition: "The A/B job failed, was cancelled or timed nothing (the finding stands unconfirmed), or its interval was too wide to confirm or clear the slowdown: neither above 1 nor inside the suite's speed floor (the finding stays open, is e-mailed unconfirmed and does not fail a --confirm run)." },

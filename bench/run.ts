@@ -76,12 +76,12 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
     }
   }
   if (s.alerts) parts.push(`alerts: ${s.alerts.sent.length} sent${s.alerts.errors.length ? `, ${s.alerts.errors.length} failed` : ""}`);
-  const c = s.alerts?.check;
-  if (c && c.jobId === null && s.alerts) {
+  const run = (s.alerts?.checks ?? []).filter((c) => c.jobId === null);
+  if (run.length && s.alerts) {
     const screened = s.alerts.screened.length ? `, ${s.alerts.screened.length} of them found by screening (a scheme no rule flagged that the A/B found slower)` : "";
-    parts.push(c.note ?? `interleaved A/B: ${c.state}`, `${s.alerts.standing} new regression(s) stand after the A/B${screened}; a speed regression it cleared or could not decide on does not fail this run`);
+    parts.push(...run.map((c) => c.note ?? `interleaved A/B: ${c.state}`), `${s.alerts.standing} new regression(s) stand after the A/B${screened}; a speed or drift regression it cleared or could not decide on does not fail this run`);
   }
-  if (s.alerts?.abJobId) parts.push(`speed regression(s) await interleaved A/B job ${s.alerts.abJobId}: their e-mail goes out once it confirms them`);
+  if (s.alerts?.abJobIds.length) parts.push(`speed or drift regression(s) await interleaved A/B job${s.alerts.abJobIds.length > 1 ? "s" : ""} ${s.alerts.abJobIds.join(", ")}: their e-mail goes out once it confirms them`);
   else if (s.alerts?.unconfirmed) parts.push(`speed regression(s) e-mailed unconfirmed: ${s.alerts.unconfirmed}`);
   return parts.join("\n");
 }
@@ -281,6 +281,8 @@ export async function main(argv: string[] = process.argv.slice(2)): Promise<numb
         newRegressions: summary.detection?.newRegressions ?? 0,
         // `--confirm`: the A/B verdict on the speed regressions, and the new regressions that stand after it.
         confirmation: summary.alerts?.check && summary.alerts.check.jobId === null ? { state: summary.alerts.check.state, note: summary.alerts.check.note, result: summary.alerts.check.result } : null,
+        // Every A/B run at once: one per base commit (the baseline's, and each drift's before its change point).
+        confirmations: (summary.alerts?.checks ?? []).filter((c) => c.jobId === null).map((c) => ({ base: c.base, state: c.state, note: c.note })),
         standing: summary.alerts ? summary.alerts.standing : (summary.detection?.newRegressions ?? 0),
         alerts: summary.alerts,
         uploaded,

@@ -325,13 +325,26 @@ export function latestAbOf(db: Db, ids: readonly number[]): Map<number, Regressi
 }
 
 /**
- * The automatic A/B confirmation of a run's speed regressions (the latest check queued by its
- * detection), as `bench --upload --confirm` polls it through GET /api/runs/:id: its state and
- * which of its regressions stand (count), were cleared, or could not be decided.
+ * The automatic A/B confirmation of a run's speed and drift regressions (the checks queued by its
+ * detection, one per base commit, read as one), as `bench --upload --confirm` polls it through
+ * GET /api/runs/:id: its state and which of its regressions stand (count), were cleared, or could
+ * not be decided.
  */
 export function confirmationOfRun(db: Db, runId: string): { state: AbCheckState; jobId: number | null; note: string | null; regressionIds: number[]; standing: number[]; undecided: number[] } | null {
-  const r = db.select().from(abChecks).where(sql`${abChecks.runId} = ${runId} and ${abChecks.auto} = 1`).orderBy(desc(abChecks.id)).limit(1).get();
-  if (!r) return null;
-  const c = view(r);
-  return { state: c.state, jobId: c.jobId, note: c.note, regressionIds: c.regressionIds, standing: standingOfCheck(c), undecided: c.state === "awaiting" ? [] : undecidedOfCheck(c) };
+  // A run has one automatic check per base commit (its baseline; each drift's run before its change
+  // point): awaiting while any is, else confirmed if any is, else not decided if any is, else cleared.
+  const rows = db.select().from(abChecks).where(sql`${abChecks.runId} = ${runId} and ${abChecks.auto} = 1`).orderBy(abChecks.id).all();
+  if (!rows.length) return null;
+  const cs = rows.map(view);
+  const order: AbCheckState[] = ["awaiting", "confirmed", "unavailable", "cleared"];
+  const state = order.find((s) => cs.some((c) => c.state === s)) ?? cs[cs.length - 1]!.state;
+  const lead = cs.find((c) => c.state === state)!;
+  return {
+    state,
+    jobId: lead.jobId,
+    note: cs.length === 1 ? lead.note : cs.map((c) => c.note).filter(Boolean).join(" ") || null,
+    regressionIds: cs.flatMap((c) => c.regressionIds),
+    standing: cs.flatMap((c) => standingOfCheck(c)),
+    undecided: cs.flatMap((c) => (c.state === "awaiting" ? [] : undecidedOfCheck(c))),
+  };
 }

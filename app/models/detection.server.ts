@@ -270,7 +270,7 @@ export function detectRegressions(db: Db, runId: string, options: DetectOptions)
         .insert(regressions)
         .values({
           runId,
-          baselineRunId: baseline?.id ?? null,
+          baselineRunId: f.baselineRunId ?? baseline?.id ?? null,
           caseKey: f.caseKey,
           kind: f.kind,
           direction: f.direction,

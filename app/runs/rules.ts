@@ -26,7 +26,9 @@
  *  drift       PELT (app/engine/stats/change-point.ts) on ln(median) over the case's
  *              history on the same branch and machine; flagged when the latest segment starts
  *              within the history, contains the current run, shifted by ≥ driftMinShift, and no
- *              drift row already exists for a run of that segment.
+ *              drift row already exists for a run of that segment. Its baseline is its own: the last
+ *              run before the change point (`Finding.baselineRunId`), whose commit the confirming
+ *              A/B compares with the run's (app/services/ab-confirm.server.ts).
  *
  * A finding is "new" unless a row with the same case, kind, metric and direction already exists
  * for a run of the same commit (reruns of one commit do not re-alert). Each new row gets a first
@@ -58,6 +60,11 @@ export interface Finding {
   scope?: "case" | "scheme" | "problem" | "suite";
   /** A group finding's member cases with their own median ratios. */
   members?: { caseKey: string; problemId: string; ratio: number | null }[];
+  /**
+   * The run this finding compares against when it is not the run's pairwise baseline: a drift's
+   * last run before its change point (the A/B that confirms it compares that run's commit).
+   */
+  baselineRunId?: string;
 }
 
 /** Calibration seconds of a run: mean of the before/after measurements when both exist. */
@@ -260,6 +267,7 @@ export function driftFinding(caseKey: string, pts: DriftPoint[], t: Thresholds):
   return {
     segmentRuns: pts.slice(step.index).map((p) => p.runId),
     finding: {
+      baselineRunId: pts[step.index - 1]!.runId,
       caseKey,
       problemId: pts[0]!.problemId,
       kind: "drift",

@@ -92,48 +92,76 @@ export interface AlertOrConfirmInput {
 }
 
 export interface AlertOrConfirmResult extends AlertResult {
-  /** The A/B job queued to confirm the speed regressions (their e-mail waits for it). */
+  /** The first A/B job queued to confirm the speed and drift regressions (their e-mail waits for it). */
   abJobId: number | null;
-  /** Why the speed regressions were not put to an A/B, when there were some. */
+  /** Every such job: one per base commit (the run's baseline; each drift's last run before its change point). */
+  abJobIds: number[];
+  /** Why speed or drift regressions were not put to an A/B, when there were some. */
   unconfirmed: string | null;
-  /** The A/B check of the speed regressions (settled when run at once). */
+  /** The first A/B check run at once (the run's baseline's when there is one), settled. */
   check: AbCheckView | null;
+  /** Every A/B check run at once, one per base commit. */
+  checks: AbCheckView[];
   /** New regressions that stand: all of them, less the speed ones an A/B run at once cleared, plus screened ones it confirmed. */
   standing: number;
   /** Regressions found by screening (`--confirm`): schemes no rule flagged that the A/B found slower. */
   screened: { id: number; finding: Finding }[];
 }
 
-const isSpeed = (f: Finding) => f.direction === "regression" && f.kind === "speed";
+/**
+ * Timing findings wait for an interleaved A/B: a speed regression (against the run's baseline) and
+ * a drift regression (against its own last run before the change point). Drift was e-mailed and
+ * failed `bench --confirm` at once until 2026-12-04: twelve runs of unchanged code (empty commits,
+ * the e2e suite) flagged drift ×1.14–1.24 in runs 6, 7 and 8 and exited 3 each time, since PELT's σ
+ * from first differences of the medians (0.013–0.04 in ln units) misses how far whole runs move.
+ */
+const isTimed = (f: Finding) => f.direction === "regression" && (f.kind === "speed" || f.kind === "drift");
+
+/** The commit a run measured, or null. */
+function commitOfRun(db: Db, runId: string): string | null {
+  return db.select({ c: runs.commitHash }).from(runs).where(eq(runs.id, runId)).get()?.c ?? null;
+}
 
 export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promise<AlertOrConfirmResult> {
   const fresh = input.detection.inserted.filter((i) => i.finding.direction === "regression");
-  const speed = fresh.filter((i) => isSpeed(i.finding));
-  const rest = fresh.filter((i) => !isSpeed(i.finding));
+  const timed = fresh.filter((i) => isTimed(i.finding));
+  const rest = fresh.filter((i) => !isTimed(i.finding));
   // Screening: with an A/B run at once, schemes that moved past the pooled floor without a finding are put to it too.
   const suspects = input.confirmNow ? (input.detection.suspects ?? []) : [];
   const mail = input.alerts !== false;
-  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, unconfirmed: null, check: null, standing: fresh.length, screened: [] };
+  const out: AlertOrConfirmResult = { sent: [], errors: [], abJobId: null, abJobIds: [], unconfirmed: null, check: null, checks: [], standing: fresh.length, screened: [] };
   const send = async (items: typeof fresh, note?: string) => {
     if (!items.length || !mail) return;
     const r = await sendRegressionAlerts(db, { runId: input.runId, suiteName: input.suiteName, commit: input.commit, regressions: items, baseUrl: input.baseUrl, note });
     out.sent.push(...r.sent);
     out.errors.push(...r.errors);
   };
-  let confirmedNow: { items: typeof fresh; note: string } | null = null;
-  if (speed.length || suspects.length) {
+  // One A/B sitting per base commit: the run's baseline (speed findings and screening) and each
+  // drift's last run before its change point; the run's own commit is the head of all of them.
+  const runBase = input.detection.baselineCommit;
+  const sittings = new Map<string | null, typeof fresh>();
+  if (suspects.length) sittings.set(runBase, []);
+  for (const i of timed) {
+    const base = i.finding.kind === "drift" && i.finding.baselineRunId ? commitOfRun(db, i.finding.baselineRunId) : runBase;
+    const list = sittings.get(base);
+    if (list) list.push(i);
+    else sittings.set(base, [i]);
+  }
+  const confirmedNow: { items: typeof fresh; note: string }[] = [];
+  const whyNot: string[] = [];
+  const t = thresholdsOfRun(db, input.runId);
+  for (const [base, items] of sittings) {
+    const screen = base === runBase ? suspects : [];
     let why: string | null = null;
-    const base = input.detection.baselineCommit;
-    if (!thresholdsOfRun(db, input.runId).abConfirm) why = `A/B confirmation is off for suite ${input.suiteName}`;
+    if (!t.abConfirm) why = `A/B confirmation is off for suite ${input.suiteName}`;
     else if (!base) why = "there is no baseline commit";
     else if (input.commit.dirty) why = "the run measured uncommitted changes";
     else {
-      const ids = speed.map((s) => s.id);
-      const t = thresholdsOfRun(db, input.runId);
+      const ids = items.map((s) => s.id);
       // The verdicts the A/B is for, each against its own floor: it runs more blocks while one is unclear.
       const groups: AbGroup[] = [
-        ...speed.map((i) => ({ cases: affectedCases(db, [i.id]), clearBelow: i.finding.scope && i.finding.scope !== "case" ? t.pooledSpeedRatio : t.speedRatio })),
-        ...suspects.map((x) => ({ cases: x.members.map((m) => m.caseKey), clearBelow: t.pooledSpeedRatio })),
+        ...items.map((i) => ({ cases: affectedCases(db, [i.id]), clearBelow: i.finding.scope && i.finding.scope !== "case" ? t.pooledSpeedRatio : t.speedRatio })),
+        ...screen.map((x) => ({ cases: x.members.map((m) => m.caseKey), clearBelow: t.pooledSpeedRatio })),
       ].filter((g) => g.cases.length > 0);
       const cases = [...new Set(groups.flatMap((g) => g.cases))];
       const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, blocks: AB_CONFIRM_BLOCKS.blocks, maxBlocks: t.confirmMaxBlocks, groups }, input.root ?? repoRoot(), { sameCommit: "allow" });
@@ -146,36 +174,40 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
         } catch (err) {
           outcome = { error: (err as Error).message };
         }
-        out.check = settleAbCheck(db, check.id, outcome);
+        let settled = settleAbCheck(db, check.id, outcome);
         // Screened schemes the A/B found slower become group regressions of the run, judged in the same check.
-        if ("result" in outcome && suspects.length) {
-          const found = screenSuspects(db, check.id, input, suspects, outcome.result);
+        if ("result" in outcome && screen.length) {
+          const found = screenSuspects(db, check.id, input, screen, outcome.result);
           out.screened = found;
-          if (found.length) out.check = getAbCheck(db, check.id);
-          else if (!ids.length) out.check = closeScreening(db, check.id, suspects.length);
+          if (found.length) settled = getAbCheck(db, check.id);
+          else if (!ids.length) settled = closeScreening(db, check.id, screen.length);
           out.standing += found.length;
-          speed.push(...found);
+          items.push(...found);
         }
-        const stand = out.check ? standingOfCheck(out.check) : ids;
+        if (settled) out.checks.push(settled);
+        const stand = settled ? standingOfCheck(settled) : ids;
         out.standing -= ids.length - stand.filter((id) => ids.includes(id)).length;
         // Undecided ones do not fail the run but are still e-mailed, marked unconfirmed.
-        const mailed = out.check ? [...stand, ...undecidedOfCheck(out.check)] : ids;
-        if (mailed.length && out.check) confirmedNow = { items: speed.filter((i) => mailed.includes(i.id)), note: heldNote(out.check) };
+        const mailed = settled ? [...stand, ...undecidedOfCheck(settled)] : ids;
+        if (mailed.length && settled) confirmedNow.push({ items: items.filter((i) => mailed.includes(i.id)), note: heldNote(settled) });
       } else if (mail && ids.length) {
-        const own = groups.slice(0, speed.length);
+        const own = groups.slice(0, items.length);
         const { job } = queueAbJob(db, { ...checked.payload, cases: [...new Set(own.flatMap((g) => g.cases))], groups: own }, null, { regressionIds: ids, runId: input.runId, auto: true, alertsHeld: true });
-        out.abJobId = job.id;
+        out.abJobIds.push(job.id);
       }
     }
-    if (why && speed.length) {
-      out.unconfirmed = why;
-      rest.push(...speed);
+    if (why && items.length) {
+      whyNot.push(why);
+      rest.push(...items);
     }
   }
+  out.check = out.checks[0] ?? null;
+  out.abJobId = out.abJobIds[0] ?? null;
+  out.unconfirmed = whyNot.length ? [...new Set(whyNot)].join("; ") : null;
   // Sorted as found: the e-mail lists groups first by itself.
   rest.sort((a, b) => a.id - b.id);
   await send(rest, out.unconfirmed ? `Speed findings are unconfirmed: interleaved A/B could not run (${out.unconfirmed}).` : undefined);
-  if (confirmedNow) await send(confirmedNow.items, confirmedNow.note);
+  for (const c of confirmedNow) await send(c.items, c.note);
   return out;
 }
 

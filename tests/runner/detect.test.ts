@@ -135,18 +135,28 @@ describe("baselines, drift and de-duplication in the database", () => {
     let m = 0.1;
     for (let k = 0; k < 6; k++) ids.push(addRun(`flat${k}`, 0.1, "main", 100 + k));
     const drifts: number[] = [];
+    const found: { detail: string }[] = [];
     for (let k = 0; k < 6; k++) {
       m *= 1.04;
       const id = addRun(`creep${k}`, m, "main", 200 + k);
+      ids.push(id);
       const d = detectRegressions(db, id, { thresholds: suite.thresholds });
       expect(d.findings.filter((f) => f.kind === "speed")).toEqual([]);
       drifts.push(d.inserted.filter((i) => i.finding.kind === "drift").length);
+      found.push(...d.inserted.filter((i) => i.finding.kind === "drift").map((i) => i.finding));
     }
     // Exactly one drift row over the creep, none afterwards.
     expect(drifts.reduce((a, b) => a + b, 0)).toBe(1);
     const rows = db.select().from(regressions).where(eq(regressions.kind, "drift")).all();
     expect(rows).toHaveLength(1);
     expect(rows[0].ratio).toBeGreaterThan(1.1);
+    // Its baseline is its own: the last run before the change point (its A/B compares that commit),
+    // a run of the flat stretch or of the creep before the step, never the flagged run itself.
+    // The last segment holds K ≥ 2 runs (PELT's shortest segment), so the pairwise baseline, the
+    // run just before, is a run of the segment itself.
+    const k = Number(/change point (\d+) run\(s\) ago/.exec(found[0]!.detail)![1]);
+    expect(k).toBeGreaterThanOrEqual(2);
+    expect(rows[0].baselineRunId).toBe(ids[ids.indexOf(rows[0].runId) - k]);
   });
 
   it("a rerun of the same commit does not re-insert a known regression", () => {

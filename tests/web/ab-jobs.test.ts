@@ -16,7 +16,7 @@ const { outbox, regressionEvents, regressions, runs, subscriptions, suites, user
 const { enqueueJobInput } = await import("~/models/jobs.server");
 const { checkAbJob, queueAbJob, afterAbJob, alertOrConfirm } = await import("~/services/ab-confirm.server");
 const { listRegressions } = await import("~/models/regressions.server");
-const { abChecksOfRegression } = await import("~/models/ab-checks.server");
+const { abChecksOfRegression, confirmationOfRun } = await import("~/models/ab-checks.server");
 const { thresholdsOfRun } = await import("~/models/detection.server");
 const { parseDiff } = await import("~/services/diff-view.server");
 const { stopStandin } = await import("~/services/mail.server");
@@ -260,6 +260,38 @@ describe("settling a check", () => {
     // Asked for by hand, a comparison still needs two commits.
     expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo)).toMatchObject({ ok: false, field: "head" });
     expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo, { sameCommit: "allow" })).toMatchObject({ ok: true });
+  });
+
+  it("--confirm puts a drift regression to an A/B of its own: its last run before the change point against the run", async () => {
+    // Seen 2026-12-04: twelve runs of unchanged code (empty commits) raised drift ×1.14–1.24 in runs
+    // 6, 7 and 8, each e-mailed at once and failing `bench --confirm` with exit 3.
+    const db = getDb();
+    const before = db.select().from(outbox).all().length;
+    const { rid, runId } = seedRegression(c2, c2);
+    const run = db.select().from(runs).where(eq(runs.id, runId)).get()!;
+    const earlier = `d-${randomBytes(4).toString("hex")}`;
+    db.insert(runs).values({ id: earlier, suiteId: run.suiteId, commitHash: c1, branch: "main", machineJson: {}, machineKey: "m", startedAt: new Date(), status: "complete" }).run();
+    const drift = { caseKey: "pika-rover-dash/euler/6", problemId: "pika-rover-dash", kind: "drift", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.12, ratio: 1.2, pValue: null, ciLow: null, ciHigh: null, detail: "change point 2 run(s) ago in 8 runs: time ×1.200", baselineRunId: earlier } as const;
+    const did = db.insert(regressions).values({ runId, baselineRunId: earlier, caseKey: drift.caseKey, kind: "drift", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.12, ratio: 1.2 }).returning({ id: regressions.id }).get().id;
+    const speed = { caseKey: "pika-rover-dash/euler/6", problemId: "pika-rover-dash", kind: "speed", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.13, ratio: 1.3, pValue: 1e-4, ciLow: 1.1, ciHigh: 1.5, detail: "median 0.100 s → 0.130 s" } as const;
+    const detection = { baselineRunId: null, baselineCommit: c2, findings: [speed, drift], inserted: [{ id: rid, finding: speed }, { id: did, finding: drift }], newRegressions: 2, fixed: [], carried: [] };
+    const commit = { commitHash: c2, branch: "main", subject: "two", author: "T", date: new Date(), dirty: false };
+    const asked: { base: string; head: string; cases: string[] }[] = [];
+    const out = await alertOrConfirm(db, { runId, suiteName: "duo", commit, detection, root: repo, confirmNow: async (p) => (asked.push(p), { ...verdict(1.0, 0.95, 1.05, "same"), base: p.base }) });
+    // One sitting per base: the run's baseline for the speed finding, the drift's own run before its step.
+    expect(asked.map((p) => [p.base, p.head])).toEqual([[c2, c2], [c1, c2]]);
+    expect(out.checks.map((c) => [c.base, c.state, c.regressionIds])).toEqual([[c2, "cleared", [rid]], [c1, "cleared", [did]]]);
+    expect(out).toMatchObject({ standing: 0, unconfirmed: null });
+    expect(db.select().from(outbox).all()).toHaveLength(before);
+    // GET /api/runs/:id reads both checks as one: cleared only when both are.
+    expect(confirmationOfRun(db, runId)).toMatchObject({ state: "cleared", regressionIds: [rid, did], standing: [] });
+    // A drift the A/B confirms stands and fails the run; the other sitting's verdict is its own.
+    const again = seedRegression(c2, c2);
+    const did2 = db.insert(regressions).values({ runId: again.runId, baselineRunId: earlier, caseKey: drift.caseKey, kind: "drift", direction: "regression", metric: "median_seconds", before: 0.1, after: 0.12, ratio: 1.2 }).returning({ id: regressions.id }).get().id;
+    const out2 = await alertOrConfirm(db, { runId: again.runId, suiteName: "duo", commit, detection: { ...detection, inserted: [{ id: again.rid, finding: speed }, { id: did2, finding: drift }] }, root: repo, alerts: false, confirmNow: async (p) => (p.base === c1 ? { ...verdict(1.25, 1.15, 1.36, "slower"), base: c1 } : { ...verdict(1.0, 0.95, 1.05, "same"), base: c2 }) });
+    expect(out2.checks.map((c) => c.state)).toEqual(["cleared", "confirmed"]);
+    expect(out2.standing).toBe(1);
+    expect(confirmationOfRun(db, again.runId)).toMatchObject({ state: "confirmed", standing: [did2] });
   });
 
   it("an interval too wide to clear is 'not decided': not cleared, not failing the run, mailed unconfirmed", async () => {
