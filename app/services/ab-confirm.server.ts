@@ -149,8 +149,9 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
   }
   const confirmedNow: { items: typeof fresh; note: string }[] = [];
   const whyNot: string[] = [];
-  const t = thresholdsOfRun(db, input.runId);
+  const t = sittings.size ? thresholdsOfRun(db, input.runId) : null;
   for (const [base, items] of sittings) {
+    if (!t) break;
     const screen = base === runBase ? suspects : [];
     let why: string | null = null;
     if (!t.abConfirm) why = `A/B confirmation is off for suite ${input.suiteName}`;
