@@ -137,8 +137,13 @@ export function commitsOfRegression(db: Db, id: number): { base: string | null; 
     .where(eq(regressions.id, id))
     .get();
   if (!r) return null;
-  const base = r.baselineRunId ? (db.select({ c: runs.commitHash }).from(runs).where(eq(runs.id, r.baselineRunId)).get()?.c ?? null) : null;
+  const base = r.baselineRunId ? commitOfRun(db, r.baselineRunId) : null;
   return { base, head: r.head, suiteName: r.suiteName };
+}
+
+/** The commit a run measured, or null when there is no such run. */
+export function commitOfRun(db: Db, runId: string): string | null {
+  return db.select({ c: runs.commitHash }).from(runs).where(eq(runs.id, runId)).get()?.c ?? null;
 }
 
 /**

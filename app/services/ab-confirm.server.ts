@@ -20,7 +20,7 @@ import fs from "node:fs";
 import type { Db } from "~/db/client.server";
 import { eq } from "drizzle-orm";
 import { runs } from "~/db/schema";
-import { abCheckOfJob, addJudged, closeScreening, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, undecidedOfCheck, type AbCheckView } from "~/models/ab-checks.server";
+import { abCheckOfJob, addJudged, closeScreening, commitOfRun, getAbCheck, insertAbCheck, affectedCases, regressionsAsFindings, settleAbCheck, standingOfCheck, undecidedOfCheck, type AbCheckView } from "~/models/ab-checks.server";
 import { insertScreenedRegression, thresholdsOfRun, type Detection } from "~/models/detection.server";
 import { enqueueJob, type JobSummary } from "~/models/jobs.server";
 import { problemLibraryFor } from "~/models/library.server";
@@ -116,11 +116,6 @@ export interface AlertOrConfirmResult extends AlertResult {
  * from first differences of the medians (0.013–0.04 in ln units) misses how far whole runs move.
  */
 const isTimed = (f: Finding) => f.direction === "regression" && (f.kind === "speed" || f.kind === "drift");
-
-/** The commit a run measured, or null. */
-function commitOfRun(db: Db, runId: string): string | null {
-  return db.select({ c: runs.commitHash }).from(runs).where(eq(runs.id, runId)).get()?.c ?? null;
-}
 
 export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promise<AlertOrConfirmResult> {
   const fresh = input.detection.inserted.filter((i) => i.finding.direction === "regression");
