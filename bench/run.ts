@@ -82,7 +82,7 @@ function summaryText(s: RunSummary, t: ReturnType<typeof tally>): string {
     parts.push(...run.map((c) => c.note ?? `interleaved A/B: ${c.state}`), `${s.alerts.standing} new regression(s) stand after the A/B${screened}; a speed or drift regression it cleared or could not decide on does not fail this run`);
   }
   if (s.alerts?.abJobIds.length) parts.push(`speed or drift regression(s) await interleaved A/B job${s.alerts.abJobIds.length > 1 ? "s" : ""} ${s.alerts.abJobIds.join(", ")}: their e-mail goes out once it confirms them`);
-  else if (s.alerts?.unconfirmed) parts.push(`speed regression(s) e-mailed unconfirmed: ${s.alerts.unconfirmed}`);
+  else if (s.alerts?.unconfirmed) parts.push(`speed or drift regression(s) e-mailed unconfirmed: ${s.alerts.unconfirmed}`);
   return parts.join("\n");
 }
 

@@ -37,19 +37,19 @@ export type AbJobCheck = { ok: true; payload: AbJobPayload & { cases: string[] }
 /**
  * Resolves both commits to full hashes and the cases against the checkout's suite.
  *
- * `sameCommit: "allow"` is for judging a regression whose baseline run was of the same commit (a
+ * `allowSameCommit` is for judging a regression whose baseline run was of the same commit (a
  * rerun: the baseline is the nearest run on the branch, the commit's own earlier run included).
  * Identical code on both sides is then an A/A comparison: two worker processes of the one commit,
  * interleaved, whose interval says how far this machine moves the case on its own. Without it a
  * rerun's speed finding could never be judged and, under `bench --confirm`, failed the build as
  * "unconfirmed" (seen 2026-12-04). A comparison asked for by hand still needs two commits.
  */
-export async function checkAbJob(db: Db, payload: AbJobPayload, root = repoRoot(), opts: { sameCommit?: "allow" | "refuse" } = {}): Promise<AbJobCheck> {
+export async function checkAbJob(db: Db, payload: AbJobPayload, root = repoRoot(), opts: { allowSameCommit?: boolean } = {}): Promise<AbJobCheck> {
   const base = await resolveRef(payload.base, root);
   if (!base) return { ok: false, field: "base", message: `${payload.base} is not a commit in the repository (${root}).` };
   const head = await resolveRef(payload.head, root);
   if (!head) return { ok: false, field: "head", message: `${payload.head} is not a commit in the repository (${root}).` };
-  if (base === head && opts.sameCommit !== "allow") return { ok: false, field: "head", message: "Base and head are the same commit: there is nothing to compare." };
+  if (base === head && !opts.allowSameCommit) return { ok: false, field: "head", message: "Base and head are the same commit: there is nothing to compare." };
   const file = suitePath(payload.suite, root);
   if (!fs.existsSync(file)) return { ok: false, field: "suite", message: `The checkout has no suite "${payload.suite}" (bench/suites/${payload.suite}.json).` };
   let keys: string[];
@@ -144,9 +144,8 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
   }
   const confirmedNow: { items: typeof fresh; note: string }[] = [];
   const whyNot: string[] = [];
-  const t = sittings.size ? thresholdsOfRun(db, input.runId) : null;
+  const t = thresholdsOfRun(db, input.runId);
   for (const [base, items] of sittings) {
-    if (!t) break;
     const screen = base === runBase ? suspects : [];
     let why: string | null = null;
     if (!t.abConfirm) why = `A/B confirmation is off for suite ${input.suiteName}`;
@@ -160,7 +159,7 @@ export async function alertOrConfirm(db: Db, input: AlertOrConfirmInput): Promis
         ...screen.map((x) => ({ cases: x.members.map((m) => m.caseKey), clearBelow: t.pooledSpeedRatio })),
       ].filter((g) => g.cases.length > 0);
       const cases = [...new Set(groups.flatMap((g) => g.cases))];
-      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, blocks: AB_CONFIRM_BLOCKS.blocks, maxBlocks: t.confirmMaxBlocks, groups }, input.root ?? repoRoot(), { sameCommit: "allow" });
+      const checked = await checkAbJob(db, { base, head: input.commit.commitHash, suite: input.suiteName, cases, blocks: AB_CONFIRM_BLOCKS.blocks, maxBlocks: t.confirmMaxBlocks, groups }, input.root ?? repoRoot(), { allowSameCommit: true });
       if (!checked.ok) why = checked.message;
       else if (input.confirmNow) {
         const check = insertAbCheck(db, { jobId: null, suiteName: checked.payload.suite, base: checked.payload.base, head: checked.payload.head, cases: checked.payload.cases, regressionIds: ids, runId: input.runId, auto: true, alertsHeld: mail });

@@ -259,7 +259,7 @@ describe("settling a check", () => {
     expect(out.check!.note).toContain("interleaved A/A");
     // Asked for by hand, a comparison still needs two commits.
     expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo)).toMatchObject({ ok: false, field: "head" });
-    expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo, { sameCommit: "allow" })).toMatchObject({ ok: true });
+    expect(await checkAbJob(db, { base: c2, head: c2, suite: "duo" }, repo, { allowSameCommit: true })).toMatchObject({ ok: true });
   });
 
   it("--confirm puts a drift regression to an A/B of its own: its last run before the change point against the run", async () => {

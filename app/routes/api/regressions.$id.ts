@@ -61,7 +61,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     const at = commitsOfRegression(db, id);
     if (!at) return Response.json({ error: "No such regression." }, { status: 404 });
     if (!at.base) return Response.json({ intent, errors: { form: "This regression has no baseline run (it was removed), so there is no earlier commit to compare with." } }, { status: 400 });
-    const checked = await checkAbJob(db, { base: at.base, head: at.head, suite: at.suiteName, cases: affectedCases(db, [id]) }, undefined, { sameCommit: "allow" });
+    const checked = await checkAbJob(db, { base: at.base, head: at.head, suite: at.suiteName, cases: affectedCases(db, [id]) }, undefined, { allowSameCommit: true });
     if (!checked.ok) return Response.json({ intent, errors: { form: checked.message } }, { status: 400 });
     const { job } = queueAbJob(db, checked.payload, user.id > 0 ? user.id : null, { regressionIds: [id] });
     return Response.json({ ok: true, intent, job }, { status: 201 });
