@@ -246,7 +246,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error (below 0.1: the discretisation's doing).</p>
+          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error; the gap bounds the solver's part from above, so below 0.1 the pattern is the discretisation's doing, and above it the solver is possible, not proven.</p>
         </section>
       ) : (
         <section className="card space-y-2 overflow-x-auto p-4" data-testid="orders-by-problem">
@@ -278,7 +278,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
                       <td key={c.scheme} className={`num pr-4 text-right ${v?.kind === "not-monotone" ? "text-warn" : ""}`} data-verdict={v?.kind ?? ""} title={v?.note || undefined}>
                         {shown}
                         {v?.kind === "pre-asymptotic" ? <span className="block text-xs text-muted">from N = {v.fromIntervals}</span> : null}
-                        {v?.kind === "not-monotone" && v.cause ? <span className="block text-xs text-muted">{v.cause}</span> : null}
+                        {v?.kind === "not-monotone" && v.cause ? <span className="block text-xs text-muted">{v.cause === "solver" ? "solver possible" : v.cause}</span> : null}
                       </td>
                     );
                   })}
@@ -286,7 +286,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions. &ldquo;from N = …&rdquo;: the coarser meshes are pre-asymptotic (the error did not fall there) and the order is fitted from that mesh on; &ldquo;not monotone&rdquo;: the finest mesh&rsquo;s error did not fall, no order, with its cause (discretisation or solver, from the solver&rsquo;s duality gap); &ldquo;at floor&rdquo;: every error ≤ 1e-10. Hover a cell for the full note.</p>
+          <p className="text-xs text-muted">Low orders on bang–bang or state-constrained problems are expected: the theoretical orders hold for smooth solutions. &ldquo;from N = …&rdquo;: the coarser meshes are pre-asymptotic (the error did not fall there) and the order is fitted from that mesh on; &ldquo;not monotone&rdquo;: the finest mesh&rsquo;s error did not fall, no order, with its cause (discretisation, or solver possible when the solver&rsquo;s duality gap is 0.1 of the error or more: the gap is an upper bound); &ldquo;at floor&rdquo;: every error ≤ 1e-10. Hover a cell for the full note.</p>
         </section>
       )}
       <details className="card p-4" data-testid="points-table">
