@@ -27,6 +27,7 @@ import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers"
 import { Filter } from "./filter";
 import { acceptTrial, backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
 import { leastSquaresMultipliers } from "./initial-point";
+import { estimateMultipliers, type MultiplierEstimateWork } from "./multiplier-estimate";
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
 import {
@@ -170,6 +171,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   // Final steps after the KKT test is met (gap.ts): the best converged point so far.
   const polish = {
     active: false, steps: 0, err: Infinity,
+    /** The best converged point's multipliers are an estimate for its primal point (multiplier-estimate.ts), not the iteration's. */
+    estimated: false,
     /** Gap at the last progress of the final steps, and final steps since then. */
     ref: Infinity, stale: 0, infPr: NaN, infDu: NaN,
     w: new Float64Array(phase === "regular" ? N : 0), lambda: new Float64Array(phase === "regular" ? m : 0),
@@ -177,7 +180,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     /** wL, wU, relaxL, relaxU before the bounds were tightened. */
     bounds: null as Float64Array[] | null,
     save(w: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array, err: number, pr: number, du: number) {
-      this.w.set(w); this.lambda.set(l); this.zL.set(a); this.zU.set(b); this.err = err; this.infPr = pr; this.infDu = du;
+      this.w.set(w); this.lambda.set(l); this.zL.set(a); this.zU.set(b); this.err = err; this.infPr = pr; this.infDu = du; this.estimated = false;
     },
     /** Back to the best converged point (and the bounds it was converged for). */
     restore(w: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array) {
@@ -188,6 +191,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       }
     },
   };
+
+  let est: { lambda: Float64Array; zL: Float64Array; zU: Float64Array; work: MultiplierEstimateWork } | null = null;
 
   for (;;) {
     // ---- A-2: optimality error of the original problem (μ = 0) and log line.
@@ -220,9 +225,38 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       const how = polish.steps > 0 ? ` after ${polish.steps} final step${polish.steps > 1 ? "s" : ""}` : "";
       return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)}${o.gapTol === 0 ? " (gap test off)" : ` ≤ ${gapTarget.toExponential(2)}`}${how}`, infPr, infDu, solverError: solverErr };
     }
+    // A final-step point that is primal feasible but not converged with the iteration's multipliers:
+    // multipliers estimated for the point itself may make it a converged point with a smaller gap.
+    let estimatedProgress = false;
+    if (polish.active && polish.steps > 0 && !converged && E0.primal <= o.tol && infPr <= o.constrViolTol && Number.isFinite(E0.E)) {
+      if (!est) est = {
+        lambda: new Float64Array(m), zL: new Float64Array(N), zU: new Float64Array(N),
+        work: { ones, rhs: new Float64Array(K), sol: new Float64Array(K), jtl: new Float64Array(N), gradL: new Float64Array(N) },
+      };
+      if (estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, zL, zU, C.estimateAbsorbFraction * o.tol, est.lambda, est.zL, est.zU, est.work)) {
+        const e = kktError(est.work.gradL, cv, sL, sU, hasL, hasU, est.lambda, est.zL, est.zU, 0);
+        const eOk = e.E <= o.tol && e.dual * P.dualUnscale <= o.dualInfTol && e.compl * P.dualUnscale <= o.complInfTol;
+        const eGap = eOk ? solverGap(N, sL, sU, hasL, hasU, est.zL, est.zU, m, est.lambda, cv, P.relaxL, P.relaxU).total * P.dualUnscale : Infinity;
+        if (eOk && eGap < polish.err) {
+          if (eGap < 0.5 * polish.ref) { polish.ref = eGap; estimatedProgress = true; }
+          polish.save(w, est.lambda, est.zL, est.zU, eGap, infPr, e.dual);
+          polish.estimated = true;
+          if (eGap <= gapTarget) {
+            polish.restore(w, lambda, zL, zU);
+            st.w = w;
+            return {
+              status: "optimal",
+              message: `optimal: scaled KKT error ${e.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${eGap.toExponential(2)} ≤ ${gapTarget.toExponential(2)} after ${polish.steps} final step${polish.steps > 1 ? "s" : ""} (multipliers estimated for the point)`,
+              infPr, infDu: e.dual, solverError: eGap,
+            };
+          }
+        }
+      }
+    }
     if (polish.active && polish.steps > 0) {
       // Progress of the final steps: the gap halved since the last progress, or a better converged point.
-      if (solverErr < 0.5 * polish.ref || (converged && solverErr < polish.err)) { polish.ref = Math.min(polish.ref, solverErr); polish.stale = 0; }
+      if (estimatedProgress) polish.stale = 0;
+      else if (solverErr < 0.5 * polish.ref || (converged && solverErr < polish.err)) { polish.ref = Math.min(polish.ref, solverErr); polish.stale = 0; }
       else polish.stale++;
     }
     if (polish.active && (polish.steps >= C.maxFinalSteps || polish.stale >= C.finalStallSteps || !Number.isFinite(E0.E) || !Number.isFinite(solverErr))) {
@@ -232,7 +266,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       st.w = w;
       return {
         status: "optimal",
-        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps${polish.stale >= C.finalStallSteps ? ` (no progress in the last ${polish.stale})` : ""}`,
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps${polish.stale >= C.finalStallSteps ? ` (no progress in the last ${polish.stale})` : ""}${polish.estimated ? "; multipliers estimated for the returned point" : ""}`,
         infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
       };
     }
@@ -448,7 +482,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       st.w = w;
       return {
         status: "optimal",
-        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} (final step failed)`,
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} (final step failed)${polish.estimated ? "; multipliers estimated for the returned point" : ""}`,
         infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
       };
     }

@@ -1,0 +1,80 @@
+/**
+ * Multipliers for a given primal point, for the final steps (ipm.ts).
+ *
+ * The KKT conditions are a property of the point w and of some multipliers (λ, z_L, z_U ≥ 0); the
+ * iteration's own multipliers are only one candidate. Near a degenerate active bound (slack and
+ * multiplier going to zero together, the coast arc of COPS Goddard at Hermite–Simpson N ≥ 250)
+ * the final steps reach primal points whose objective is right to 1e-8 while the iteration's λ
+ * lags: dual infeasibility 2e-5, so the point did not count as converged and the solve went back
+ * to an earlier converged point with a duality gap 1,000 times larger (DEVELOPERS.md, 2026-12-04).
+ *
+ * The estimate keeps the primal point and z, and
+ *  1. takes λ by least squares, as for the starting point (W&B 2006 eq. (36)):
+ *       [ I  Jᵀ ] [ v ]     [ ∇f − z_L + z_U ]
+ *       [ J  0  ] [ λ ] = − [ 0              ];
+ *  2. lets z take up what is left of the stationarity residual r = ∇f + Jᵀλ − z_L + z_U where it
+ *     exceeds `absorbAbove` and a bound allows it (z_L += r for r > 0, z_U −= r for r < 0; the
+ *     other multiplier is lowered instead only while it stays ≥ 0). Each such change adds s·|r| to
+ *     the complementarity, so only the components that keep the point from the tolerance are
+ *     moved: absorbing every component put Σ s z at 1.6e-6 (N = 1,600), absorbing those above
+ *     tol/2 at 5e-9.
+ * The caller judges the result with the same KKT error and duality gap as any other point.
+ */
+import { CONSTANTS as C } from "./options";
+import type { KktSystem } from "./kkt";
+import { jacTransposeTimes, lagrangianGradient } from "./vectors";
+
+export interface MultiplierEstimateWork {
+  /** N entries, all 1. */
+  ones: Float64Array;
+  /** N + m each. */
+  rhs: Float64Array;
+  sol: Float64Array;
+  /** N: Jᵀλ, then the stationarity residual. */
+  jtl: Float64Array;
+  gradL: Float64Array;
+}
+
+/**
+ * Writes λ (m), z_L, z_U (N) for the point whose gradient is `grad` and Jacobian values `jv`;
+ * gradL (in `work`) is the stationarity residual of the result. Returns false when the system
+ * could not be factorised with the right inertia or the estimate is not finite.
+ */
+export function estimateMultipliers(
+  kkt: KktSystem, grad: Float64Array, jv: Float64Array, jRows: Int32Array, jCols: Int32Array,
+  hasL: Uint8Array, hasU: Uint8Array, zLIn: Float64Array, zUIn: Float64Array, absorbAbove: number,
+  lambda: Float64Array, zL: Float64Array, zU: Float64Array, work: MultiplierEstimateWork,
+): boolean {
+  const N = kkt.N, m = kkt.m;
+  const { ones, rhs, sol, jtl, gradL } = work;
+  const good = (r: { ok: boolean; zero: number; regularized?: number; positive: number; negative: number }) =>
+    r.ok && r.zero === 0 && !r.regularized && r.positive === N && r.negative === m;
+  if (m > 0) {
+    if (!good(kkt.factor(null, ones, 0, jv, 0)) && !good(kkt.factor(null, ones, 0, jv, C.deltaCBar))) return false;
+    for (let i = 0; i < N; i++) rhs[i] = -(grad[i] - zLIn[i] + zUIn[i]);
+    rhs.fill(0, N, N + m);
+    kkt.solve(rhs, sol);
+    for (let j = 0; j < m; j++) {
+      const v = sol[N + j];
+      if (!Number.isFinite(v)) return false;
+      lambda[j] = v;
+    }
+  }
+  jacTransposeTimes(jRows.length, jRows, jCols, jv, lambda, jtl);
+  zL.set(zLIn);
+  zU.set(zUIn);
+  lagrangianGradient(N, grad, jtl, zL, zU, gradL);
+  for (let i = 0; i < N; i++) {
+    const r = gradL[i];
+    if (!(Math.abs(r) > absorbAbove)) continue;
+    if (r > 0) {
+      if (hasL[i]) zL[i] += r;
+      else if (hasU[i] && zU[i] >= r) zU[i] -= r;
+    } else {
+      if (hasU[i]) zU[i] -= r;
+      else if (hasL[i] && zL[i] >= -r) zL[i] += r;
+    }
+  }
+  lagrangianGradient(N, grad, jtl, zL, zU, gradL);
+  return true;
+}
