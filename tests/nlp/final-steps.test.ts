@@ -8,6 +8,15 @@
  * (63 iterations, measured 2026-12-02); now it stops after 5 without progress and returns the
  * same converged point. Iteration counts are regression guards (common practice, no source).
  *
+ * From N ≈ 600 on the final steps reach primal points whose objective is right to 1e-8 while the
+ * iteration's multipliers lag (dual infeasibility ~2e-5): multipliers estimated for the point
+ * itself (multiplier-estimate.ts) make it a converged point, which is returned instead of the
+ * first converged one. Reference for N = 1,600: h(t_f) = 1.01283692, the reference program
+ * (../shared/peers/goddard_ipopt.cpp with Debian's coinor-libipopt 3.11.9, the same Hermite–Simpson
+ * transcription and start) at tol 1e-11, printed to 8 decimals, run through
+ * bench/side-by-side.bench.ts on 2026-12-04; before the estimate Arcwatch returned 1.0128324834
+ * there (4.4e-6 short), at the same 35 iterations.
+ *
  * Objective: h(t_f) = 1.01283 (Dolan, Moré and Munson, Benchmarking Optimization Software with
  * COPS 3.0, ANL/MCS-TM-273, 2004; the trapezoidal figure at 400 intervals, which the
  * Hermite–Simpson discrete optimum agrees with to its 6 digits).
@@ -24,6 +33,27 @@ describe("final steps that stop helping", () => {
     expect(r.status, r.message).toBe("optimal");
     expect(r.message).toMatch(/no progress in the last 5/);
     expect(r.iterations).toBeLessThanOrEqual(56); // 53 measured; 63 with all 20 final steps
+    expect(Math.abs(tr.recover(r).objective - 1.01283)).toBeLessThan(1e-5);
+  });
+
+  it("COPS Goddard HS N = 1,600: the final-step point with multipliers estimated for it is returned, within 2e-8 of the reference program", { timeout: 60_000 }, () => {
+    const tr = getScheme("hermite-simpson").transcribe(copsGoddardFromCopsStart(), { intervals: 1600 });
+    const r = solveNlp(tr.nlp, { tol: 1e-8 });
+    expect(r.status, r.message).toBe("optimal");
+    expect(r.message).toMatch(/multipliers estimated for the returned point/);
+    expect(r.iterations).toBeLessThanOrEqual(38); // 35 measured, as before the estimate
+    // The returned point's own certificate: a duality gap below 1e-8 (1.9e-5 before).
+    expect(r.solverErrorEstimate).toBeLessThan(1e-8);
+    // 1.0128369058 measured; the reference's 8 printed decimals leave ±5e-9.
+    expect(Math.abs(tr.recover(r).objective - 1.01283692)).toBeLessThan(2e-8);
+  });
+
+  it("COPS Goddard HS N = 600: an estimated point meets the gap target and ends the final steps", { timeout: 60_000 }, () => {
+    const tr = getScheme("hermite-simpson").transcribe(copsGoddardFromCopsStart(), { intervals: 600 });
+    const r = solveNlp(tr.nlp, { tol: 1e-8 });
+    expect(r.status, r.message).toBe("optimal");
+    expect(r.message).toMatch(/duality gap \S+ ≤ \S+ after \d+ final steps? \(multipliers estimated for the point\)/);
+    expect(r.iterations).toBeLessThanOrEqual(48); // 45 measured; 48 before, returning a point with a gap of 1.8e-5
     expect(Math.abs(tr.recover(r).objective - 1.01283)).toBeLessThan(1e-5);
   });
 
