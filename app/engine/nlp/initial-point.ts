@@ -45,11 +45,7 @@ export function leastSquaresMultipliers(
   const N = kkt.N, m = kkt.m;
   lambda.fill(0);
   if (m === 0) return true;
-  // δ_c = 0 first (with the KKT pivot signs the ordering keeps the (2,2) block factorisable),
-  // then δ̄_c when the Jacobian is rank deficient; the regularised estimate differs by O(δ̄_c).
-  const good = (r: { ok: boolean; zero: number; regularized?: number; positive: number; negative: number }) =>
-    r.ok && r.zero === 0 && !r.regularized && r.positive === N && r.negative === m;
-  if (!good(kkt.factor(null, ones, 0, jv, 0)) && !good(kkt.factor(null, ones, 0, jv, C.deltaCBar))) return false;
+  if (!factorLeastSquares(kkt, ones, jv)) return false;
   for (let i = 0; i < N; i++) rhs[i] = -(grad[i] - zL[i] + zU[i]);
   rhs.fill(0, N, N + m);
   kkt.solve(rhs, sol);
@@ -58,4 +54,17 @@ export function leastSquaresMultipliers(
   if (!(big <= C.lambdaMax)) return false;
   for (let j = 0; j < m; j++) lambda[j] = sol[N + j];
   return true;
+}
+
+/**
+ * Factors the least-squares matrix [I Jᵀ; J 0] of eq. (36) in the KKT system: δ_c = 0 first (with
+ * the KKT pivot signs the ordering keeps the (2,2) block factorisable), then δ̄_c when the Jacobian
+ * is rank deficient (the regularised estimate differs by O(δ̄_c)). False when neither has the
+ * inertia (N, m, 0).
+ */
+export function factorLeastSquares(kkt: KktSystem, ones: Float64Array, jv: Float64Array): boolean {
+  const N = kkt.N, m = kkt.m;
+  const good = (r: { ok: boolean; zero: number; regularized?: number; positive: number; negative: number }) =>
+    r.ok && r.zero === 0 && !r.regularized && r.positive === N && r.negative === m;
+  return good(kkt.factor(null, ones, 0, jv, 0)) || good(kkt.factor(null, ones, 0, jv, C.deltaCBar));
 }

@@ -20,8 +20,8 @@
  *     tol/2 at 5e-9.
  * The caller judges the result with the same KKT error and duality gap as any other point.
  */
-import { CONSTANTS as C } from "./options";
 import type { KktSystem } from "./kkt";
+import { factorLeastSquares } from "./initial-point";
 import { jacTransposeTimes, lagrangianGradient } from "./vectors";
 
 export interface MultiplierEstimateWork {
@@ -47,10 +47,8 @@ export function estimateMultipliers(
 ): boolean {
   const N = kkt.N, m = kkt.m;
   const { ones, rhs, sol, jtl, gradL } = work;
-  const good = (r: { ok: boolean; zero: number; regularized?: number; positive: number; negative: number }) =>
-    r.ok && r.zero === 0 && !r.regularized && r.positive === N && r.negative === m;
   if (m > 0) {
-    if (!good(kkt.factor(null, ones, 0, jv, 0)) && !good(kkt.factor(null, ones, 0, jv, C.deltaCBar))) return false;
+    if (!factorLeastSquares(kkt, ones, jv)) return false;
     for (let i = 0; i < N; i++) rhs[i] = -(grad[i] - zLIn[i] + zUIn[i]);
     rhs.fill(0, N, N + m);
     kkt.solve(rhs, sol);
