@@ -29,14 +29,17 @@ describe("multipliers estimated for a primal point", () => {
   it("by hand: λ by least squares, and the lagging z_L takes up the residual above the threshold", () => {
     const lambda = new Float64Array(m), zL = new Float64Array(N), zU = new Float64Array(N), w = work(N, m);
     // The iteration's z_L₂ lags at 1.5: the residual 0.5 on x₂ is above 1e-3, so z_L₂ becomes 2.
-    expect(estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, Float64Array.from([0, 1.5]), new Float64Array(N), 1e-3, lambda, zL, zU, w)).toBe(true);
+    expect(estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, Float64Array.from([1, 0]), new Float64Array(N), Float64Array.from([0, 1.5]), new Float64Array(N), 1e-3, 1e-3, lambda, zL, zU, w)).toBe(true);
     expect(lambda[0]).toBeCloseTo(-1, 12);
     expect(zL[1]).toBeCloseTo(2, 12);
     expect(Math.max(...w.gradL.map(Math.abs))).toBeLessThan(1e-12);
     // Above the threshold only: with 1 the residual 0.5 stays, z_L₂ stays 1.5.
-    expect(estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, Float64Array.from([0, 1.5]), new Float64Array(N), 1, lambda, zL, zU, w)).toBe(true);
+    expect(estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, Float64Array.from([1, 0]), new Float64Array(N), Float64Array.from([0, 1.5]), new Float64Array(N), 1, 1e-3, lambda, zL, zU, w)).toBe(true);
     expect(zL[1]).toBe(1.5);
     expect(w.gradL[1]).toBeCloseTo(0.5, 12);
+    // Nor when raising z_L₂ would put s·z above the cap: at a slack of 1, 1 · 2 > 1e-3.
+    expect(estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, Float64Array.from([1, 1]), new Float64Array(N), Float64Array.from([0, 1.5]), new Float64Array(N), 1e-3, 1e-3, lambda, zL, zU, w)).toBe(true);
+    expect(zL[1]).toBe(1.5);
   });
 
   it("random dense data: λ is the least-squares solution of Jᵀλ = −(∇f − z_L + z_U)", () => {
@@ -52,7 +55,7 @@ describe("multipliers estimated for a primal point", () => {
     const bL = new Uint8Array(N2).fill(1), bU = new Uint8Array(N2);
     const lambda = new Float64Array(m2), zL = new Float64Array(N2), zU = new Float64Array(N2), w = work(N2, m2);
     // Threshold above every residual: z is kept, only λ is estimated.
-    expect(estimateMultipliers(k2, g, Float64Array.from(vals), Int32Array.from(rows), Int32Array.from(cols), bL, bU, zLi, zUi, 1e9, lambda, zL, zU, w)).toBe(true);
+    expect(estimateMultipliers(k2, g, Float64Array.from(vals), Int32Array.from(rows), Int32Array.from(cols), bL, bU, new Float64Array(N2).fill(1), new Float64Array(N2), zLi, zUi, 1e9, 1e-3, lambda, zL, zU, w)).toBe(true);
     const Jt = Matrix.zeros(N2, m2);
     for (let k = 0; k < rows.length; k++) Jt.set(cols[k]!, rows[k]!, Jt.get(cols[k]!, rows[k]!) + vals[k]!);
     const rhs = Matrix.columnVector(Array.from(g, (gi, i) => -(gi - zLi[i]! + zUi[i]!)));

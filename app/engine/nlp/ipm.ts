@@ -233,7 +233,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
         lambda: new Float64Array(m), zL: new Float64Array(N), zU: new Float64Array(N),
         work: { ones, rhs: new Float64Array(K), sol: new Float64Array(K), jtl: new Float64Array(N), gradL: new Float64Array(N) },
       };
-      if (estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, zL, zU, C.estimateAbsorbFraction * o.tol, est.lambda, est.zL, est.zU, est.work)) {
+      if (estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, sL, sU, zL, zU, C.estimateAbsorbFraction * o.tol, C.estimateAbsorbFraction * o.tol, est.lambda, est.zL, est.zU, est.work)) {
         const e = kktError(est.work.gradL, cv, sL, sU, hasL, hasU, est.lambda, est.zL, est.zU, 0);
         const eOk = e.E <= o.tol && e.dual * P.dualUnscale <= o.dualInfTol && e.compl * P.dualUnscale <= o.complInfTol;
         const eGap = eOk ? solverGap(N, sL, sU, hasL, hasU, est.zL, est.zU, m, est.lambda, cv, P.relaxL, P.relaxU).total * P.dualUnscale : Infinity;
