@@ -246,7 +246,7 @@ export function CompareViews({ view, singleProblem, metricLabel }: { view: Compa
               ))}
             </tbody>
           </table>
-          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error; the gap bounds the solver's part from above, so below 0.1 the pattern is the discretisation's doing, and above it the solver is possible, not proven.</p>
+          <p className="text-xs text-muted">Fitted order: minus the least-squares slope of log error against log N over the solved meshes (errors below 1e-13, round-off, left out); solid line: that fit, e = Ĉ N^(−p̂); dashed: the theoretical slope from the coarsest point. Where the error does not fall between the coarsest meshes, those are named pre-asymptotic and the fit starts after them; where the finest mesh's error does not fall, no order is given. Solver share: the solver's duality gap ÷ the error; the gap bounds the solver's part from above, so below 0.1 the error is the discretisation's doing, and above it the solver is possible, not proven.</p>
         </section>
       ) : (
         <section className="card space-y-2 overflow-x-auto p-4" data-testid="orders-by-problem">
