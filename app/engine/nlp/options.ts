@@ -120,9 +120,11 @@ export const CONSTANTS = {
   finalStallSteps: 5,
   /**
    * Multipliers estimated for a final-step point (multiplier-estimate.ts) move z only where the
-   * stationarity residual exceeds this fraction of tol (common practice, no source; measured
-   * 2026-12-04, COPS Goddard Hermite–Simpson N = 1,600: every component moved gave Σ s z = 1.6e-6,
-   * those above tol/2 gave 5e-9 with the scaled KKT error still ≤ tol).
+   * stationarity residual exceeds this fraction of tol, and raise one only while its s·z stays
+   * within the same fraction of tol (common practice, no source; measured 2026-12-04, COPS Goddard
+   * Hermite–Simpson: at N = 1,600 every component moved gave Σ s z = 1.6e-6, those above tol/2 gave
+   * 5e-9 with the scaled KKT error still ≤ tol; at N = 250 the cap on s·z is what brought the
+   * complementarity from 1.4e-8 … 1.6e-8 to within tol).
    */
   estimateAbsorbFraction: 0.5,
   /** Smallest slack the final steps leave, in units of ε_mach · max(1, |bound|) (common practice, no source). */
