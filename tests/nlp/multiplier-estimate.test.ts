@@ -6,13 +6,17 @@
  *   ∇f = (1, 2), J = [1 0]; stationarity ∇f + Jᵀλ − z_L = 0 gives λ = −1, z_L = (0, 2)
  *   (Nocedal and Wright, Numerical Optimization, 2nd ed., 2006, Theorem 12.1, the KKT conditions);
  * - random dense data: λ must be the least-squares solution of Jᵀλ = −(∇f − z_L + z_U), computed
- *   by ml-matrix's QR-based solve of the normal equations' equivalent, min ‖Jᵀλ + r‖₂.
+ *   by ml-matrix's QR-based solve of the normal equations' equivalent, min ‖Jᵀλ + r‖₂;
+ * - the feasibility correction on the same data: d must be the least-norm solution of J d = −c,
+ *   d = −Jᵀ(JJᵀ)⁻¹c (Golub and Van Loan, Matrix Computations, 4th ed., 2013, §5.6, underdetermined
+ *   systems; section recalled from memory), computed densely with ml-matrix, and α the largest step
+ *   that keeps each slack above (1 − τ) of itself.
  */
 import { describe, it, expect } from "vitest";
 import { Matrix, solve as denseSolve } from "ml-matrix";
 import { SymmetricSolver } from "~/engine/sparse";
 import { KktSystem } from "~/engine/nlp/kkt";
-import { estimateMultipliers } from "~/engine/nlp/multiplier-estimate";
+import { estimateMultipliers, feasibilityCorrection } from "~/engine/nlp/multiplier-estimate";
 
 // The solver's own factory (app/engine/nlp/index.ts): KKT pivot signs and 2×2 pairs, so the
 // least-squares system factors without the δ̄_c regularisation (which would move λ by O(1e-8)).
@@ -62,5 +66,30 @@ describe("multipliers estimated for a primal point", () => {
     const ref = denseSolve(Jt, rhs); // least squares for a tall matrix (QR)
     for (let j = 0; j < m2; j++) expect(lambda[j]).toBeCloseTo(ref.get(j, 0), 9);
     expect(Array.from(zL)).toEqual(Array.from(zLi));
+  });
+
+  it("random dense data: the correction is the least-norm solution of J d = −c, cut at the fraction τ of each slack", () => {
+    let s = 11;
+    const rnd = () => ((s = (1664525 * s + 1013904223) >>> 0) / 2 ** 32) * 2 - 1;
+    const N2 = 9, m2 = 4;
+    const rows: number[] = [], cols: number[] = [], vals: number[] = [];
+    for (let j = 0; j < m2; j++) for (const c of [j, j + 3, (2 * j + 5) % N2]) { rows.push(j); cols.push(c); vals.push(1 + rnd()); }
+    const k2 = new KktSystem(N2, m2, new Int32Array(0), new Int32Array(0), Int32Array.from(rows), Int32Array.from(cols), factory);
+    const c = Float64Array.from({ length: m2 }, rnd);
+    const J = Matrix.zeros(m2, N2);
+    for (let k = 0; k < rows.length; k++) J.set(rows[k]!, cols[k]!, J.get(rows[k]!, cols[k]!) + vals[k]!);
+    const ref = J.transpose().mmul(denseSolve(J.mmul(J.transpose()), Matrix.columnVector(Array.from(c, (v) => -v))));
+    const ones = new Float64Array(N2).fill(1), rhs = new Float64Array(N2 + m2), sol = new Float64Array(N2 + m2), d = new Float64Array(N2);
+    const bL = new Uint8Array(N2).fill(1), bU = new Uint8Array(N2).fill(1);
+    // Slacks far larger than d: the full step.
+    const big = new Float64Array(N2).fill(1e3);
+    expect(feasibilityCorrection(k2, ones, Float64Array.from(vals), c, bL, bU, big, big, 0.99, rhs, sol, d)).toBe(1);
+    for (let i = 0; i < N2; i++) expect(d[i]).toBeCloseTo(ref.get(i, 0), 10);
+    // Each slack at |d_i|: the step stops at τ of the way to the nearer bound it moves toward.
+    const sL = Float64Array.from(d, (v) => (v < 0 ? -v : 1e3)), sU = Float64Array.from(d, (v) => (v > 0 ? v : 1e3));
+    expect(feasibilityCorrection(k2, ones, Float64Array.from(vals), c, bL, bU, sL, sU, 0.99, rhs, sol, d)).toBeCloseTo(0.99, 12);
+    // No constraints: nothing to correct.
+    const k0 = new KktSystem(2, 0, new Int32Array(0), new Int32Array(0), new Int32Array(0), new Int32Array(0), factory);
+    expect(feasibilityCorrection(k0, new Float64Array(2).fill(1), new Float64Array(0), new Float64Array(0), new Uint8Array(2), new Uint8Array(2), new Float64Array(2), new Float64Array(2), 0.99, new Float64Array(2), new Float64Array(2), new Float64Array(2))).toBe(0);
   });
 });

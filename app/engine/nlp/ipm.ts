@@ -27,7 +27,7 @@ import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers"
 import { Filter } from "./filter";
 import { acceptTrial, backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
 import { leastSquaresMultipliers } from "./initial-point";
-import { estimateMultipliers, type MultiplierEstimateWork } from "./multiplier-estimate";
+import { estimateMultipliers, feasibilityCorrection, type MultiplierEstimateWork } from "./multiplier-estimate";
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
 import {
@@ -173,6 +173,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     active: false, steps: 0, err: Infinity,
     /** The best converged point's multipliers are an estimate for its primal point (multiplier-estimate.ts), not the iteration's. */
     estimated: false,
+    /** …and its primal point is the least-norm correction onto c = 0 of a final-step point. */
+    corrected: false,
     /** Gap at the last progress of the final steps, and final steps since then. */
     ref: Infinity, stale: 0, infPr: NaN, infDu: NaN,
     w: new Float64Array(phase === "regular" ? N : 0), lambda: new Float64Array(phase === "regular" ? m : 0),
@@ -180,7 +182,11 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     /** wL, wU, relaxL, relaxU before the bounds were tightened. */
     bounds: null as Float64Array[] | null,
     save(w: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array, err: number, pr: number, du: number) {
-      this.w.set(w); this.lambda.set(l); this.zL.set(a); this.zU.set(b); this.err = err; this.infPr = pr; this.infDu = du; this.estimated = false;
+      this.w.set(w); this.lambda.set(l); this.zL.set(a); this.zU.set(b); this.err = err; this.infPr = pr; this.infDu = du; this.estimated = false; this.corrected = false;
+    },
+    /** Message suffix for a returned best point whose multipliers were estimated. */
+    note(): string {
+      return this.estimated ? `; ${this.corrected ? "returned point moved onto c = 0 and multipliers estimated for it" : "multipliers estimated for the returned point"}` : "";
     },
     /** Back to the best converged point (and the bounds it was converged for). */
     restore(w: Float64Array, l: Float64Array, a: Float64Array, b: Float64Array) {
@@ -192,7 +198,11 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     },
   };
 
-  let est: { lambda: Float64Array; zL: Float64Array; zU: Float64Array; work: MultiplierEstimateWork } | null = null;
+  let est: {
+    lambda: Float64Array; zL: Float64Array; zU: Float64Array; work: MultiplierEstimateWork;
+    /** The corrected point, its gradient, constraints, Jacobian values, slacks; the correction. */
+    w: Float64Array; grad: Float64Array; c: Float64Array; jv: Float64Array; sL: Float64Array; sU: Float64Array; d: Float64Array;
+  } | null = null;
 
   for (;;) {
     // ---- A-2: optimality error of the original problem (μ = 0) and log line.
@@ -225,29 +235,51 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       const how = polish.steps > 0 ? ` after ${polish.steps} final step${polish.steps > 1 ? "s" : ""}` : "";
       return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)}${o.gapTol === 0 ? " (gap test off)" : ` ≤ ${gapTarget.toExponential(2)}`}${how}`, infPr, infDu, solverError: solverErr };
     }
-    // A final-step point that is primal feasible but not converged with the iteration's multipliers:
-    // multipliers estimated for the point itself may make it a converged point with a smaller gap.
+    // A final-step point that is not converged with the iteration's multipliers: multipliers
+    // estimated for the point itself (after a least-norm correction onto c = 0 when ‖c‖∞ > tol)
+    // may make it a converged point with a smaller gap.
     let estimatedProgress = false;
-    if (polish.active && polish.steps > 0 && !converged && E0.primal <= o.tol && infPr <= o.constrViolTol && Number.isFinite(E0.E)) {
+    if (polish.active && polish.steps > 0 && !converged && infPr <= o.constrViolTol && Number.isFinite(E0.E)) {
       if (!est) est = {
         lambda: new Float64Array(m), zL: new Float64Array(N), zU: new Float64Array(N),
         work: { ones, rhs: new Float64Array(K), sol: new Float64Array(K), jtl: new Float64Array(N), gradL: new Float64Array(N) },
+        w: new Float64Array(N), grad: new Float64Array(N), c: new Float64Array(m), jv: new Float64Array(nnzJ),
+        sL: new Float64Array(N), sU: new Float64Array(N), d: new Float64Array(N),
       };
-      if (estimateMultipliers(kkt, grad, jv, jR, jC, hasL, hasU, sL, sU, zL, zU, C.estimateAbsorbFraction * o.tol, C.estimateAbsorbFraction * o.tol, est.lambda, est.zL, est.zU, est.work)) {
-        const e = kktError(est.work.gradL, cv, sL, sU, hasL, hasU, est.lambda, est.zL, est.zU, 0);
+      let pw: Float64Array = w, pgrad: Float64Array = grad, pc: Float64Array = cv, pjv: Float64Array = jv, psL: Float64Array = sL, psU: Float64Array = sU, pInfPr = infPr, corrected = false;
+      if (E0.primal > o.tol) {
+        const a = feasibilityCorrection(kkt, ones, jv, cv, hasL, hasU, sL, sU, tau, est.work.rhs, est.work.sol, est.d);
+        if (a > 0) {
+          for (let i = 0; i < N; i++) est.w[i] = w[i] + a * est.d[i];
+          try {
+            P.gradF(est.w, est.grad);
+            P.c(est.w, est.c);
+            P.jac(est.w, est.jv);
+            boundSlacks(N, est.w, wLv, wUv, hasL, hasU, est.sL, est.sU);
+            pw = est.w; pgrad = est.grad; pc = est.c; pjv = est.jv; psL = est.sL; psU = est.sU; pInfPr = P.reportInfPr(est.w, est.c);
+            corrected = true;
+          } catch (e) {
+            if (!(e instanceof ModelError)) throw e;
+          }
+        }
+      }
+      if ((corrected || E0.primal <= o.tol) && pInfPr <= o.constrViolTol &&
+        estimateMultipliers(kkt, pgrad, pjv, jR, jC, hasL, hasU, psL, psU, zL, zU, C.estimateAbsorbFraction * o.tol, C.estimateAbsorbFraction * o.tol, est.lambda, est.zL, est.zU, est.work)) {
+        const e = kktError(est.work.gradL, pc, psL, psU, hasL, hasU, est.lambda, est.zL, est.zU, 0);
         const eOk = e.E <= o.tol && e.dual * P.dualUnscale <= o.dualInfTol && e.compl * P.dualUnscale <= o.complInfTol;
-        const eGap = eOk ? solverGap(N, sL, sU, hasL, hasU, est.zL, est.zU, m, est.lambda, cv, P.relaxL, P.relaxU).total * P.dualUnscale : Infinity;
+        const eGap = eOk ? solverGap(N, psL, psU, hasL, hasU, est.zL, est.zU, m, est.lambda, pc, P.relaxL, P.relaxU).total * P.dualUnscale : Infinity;
         if (eOk && eGap < polish.err) {
           if (eGap < 0.5 * polish.ref) { polish.ref = eGap; estimatedProgress = true; }
-          polish.save(w, est.lambda, est.zL, est.zU, eGap, infPr, e.dual);
+          polish.save(pw, est.lambda, est.zL, est.zU, eGap, pInfPr, e.dual);
           polish.estimated = true;
+          polish.corrected = corrected;
           if (eGap <= gapTarget) {
             polish.restore(w, lambda, zL, zU);
             st.w = w;
             return {
               status: "optimal",
-              message: `optimal: scaled KKT error ${e.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${eGap.toExponential(2)} ≤ ${gapTarget.toExponential(2)} after ${polish.steps} final step${polish.steps > 1 ? "s" : ""} (multipliers estimated for the point)`,
-              infPr, infDu: e.dual, solverError: eGap,
+              message: `optimal: scaled KKT error ${e.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${eGap.toExponential(2)} ≤ ${gapTarget.toExponential(2)} after ${polish.steps} final step${polish.steps > 1 ? "s" : ""} (${corrected ? "point moved onto c = 0, " : ""}multipliers estimated for the point)`,
+              infPr: pInfPr, infDu: e.dual, solverError: eGap,
             };
           }
         }
@@ -266,7 +298,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       st.w = w;
       return {
         status: "optimal",
-        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps${polish.stale >= C.finalStallSteps ? ` (no progress in the last ${polish.stale})` : ""}${polish.estimated ? "; multipliers estimated for the returned point" : ""}`,
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} after ${polish.steps} final steps${polish.stale >= C.finalStallSteps ? ` (no progress in the last ${polish.stale})` : ""}${polish.note()}`,
         infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
       };
     }
@@ -482,7 +514,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       st.w = w;
       return {
         status: "optimal",
-        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} (final step failed)${polish.estimated ? "; multipliers estimated for the returned point" : ""}`,
+        message: `optimal: scaled KKT error ≤ tol ${o.tol}; duality gap ${polish.err.toExponential(2)} above ${gapTarget.toExponential(2)} (final step failed)${polish.note()}`,
         infPr: polish.infPr, infDu: polish.infDu, solverError: polish.err,
       };
     }
