@@ -235,11 +235,13 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       const how = polish.steps > 0 ? ` after ${polish.steps} final step${polish.steps > 1 ? "s" : ""}` : "";
       return { status: "optimal", message: `optimal: scaled KKT error ${E0.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${solverErr.toExponential(2)}${o.gapTol === 0 ? " (gap test off)" : ` ≤ ${gapTarget.toExponential(2)}`}${how}`, infPr, infDu, solverError: solverErr };
     }
-    // A final-step point that is not converged with the iteration's multipliers: multipliers
-    // estimated for the point itself (after a least-norm correction onto c = 0 when ‖c‖∞ > tol)
-    // may make it a converged point with a smaller gap.
+    // A final-step point that is not converged with the iteration's multipliers and did not halve
+    // the gap itself: multipliers estimated for the point (after a least-norm correction onto
+    // c = 0 when ‖c‖∞ > tol) may make it a converged point with a smaller gap. Where the steps
+    // halve the gap on their own (trapezoidal) the estimate is not tried: one factorisation and one
+    // evaluation fewer per step (COPS Goddard trapezoidal N = 3,200: 45 → 33 factorisations).
     let estimatedProgress = false;
-    if (polish.active && polish.steps > 0 && !converged && infPr <= o.constrViolTol && Number.isFinite(E0.E)) {
+    if (polish.active && polish.steps > 0 && !converged && !(solverErr < 0.5 * polish.ref) && infPr <= o.constrViolTol && Number.isFinite(E0.E)) {
       if (!est) est = {
         lambda: new Float64Array(m), zL: new Float64Array(N), zU: new Float64Array(N),
         work: { ones, rhs: new Float64Array(K), sol: new Float64Array(K), jtl: new Float64Array(N), gradL: new Float64Array(N) },
