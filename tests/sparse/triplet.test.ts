@@ -5,7 +5,7 @@
 import fc from "fast-check";
 import { Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, tripletsToUpperCsc } from "~/engine/sparse";
+import { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualRowSums, tripletsToUpperCsc } from "~/engine/sparse";
 import type { CscPattern } from "~/engine/sparse/csc";
 import { randomDominant, rng } from "./helpers";
 
@@ -81,6 +81,14 @@ describe("CSC operations", () => {
     const b = Float64Array.from(ref, (v) => v + 1);
     const res = new Float64Array(50);
     expect(symmetricResidual(A, Ax, x, b, res)).toBeCloseTo(1, 12);
+    // The fused variant: the same residual to the bit, and the absolute row sums of the dense matrix.
+    const res2 = new Float64Array(50), rowAbs = new Float64Array(50);
+    expect(symmetricResidualRowSums(A, Ax, x, b, res2, rowAbs)).toBe(symmetricResidual(A, Ax, x, b, res));
+    expect(Array.from(res2)).toEqual(Array.from(res));
+    for (let i = 0; i < 50; i++) {
+      const dense = M.dense.getRow(i).reduce((t, v) => t + Math.abs(v), 0);
+      expect(Math.abs(rowAbs[i] - dense)).toBeLessThan(1e-12 * dense);
+    }
   });
 
   it("symmetricPermute gives P A Pᵀ (checked densely) with its slot map", () => {

@@ -21,7 +21,7 @@
  * factor and solve allocate nothing except the small Inertia object returned by factor.
  */
 import { amdOrder, type AmdInfo } from "./amd";
-import { symmetricAdjacency, symmetricNormInf, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
+import { symmetricAdjacency, symmetricPermute, symmetricResidual, symmetricResidualRowSums, type CscPattern } from "./csc";
 import { eliminationTree } from "./etree";
 import { matchConstrained, preferPartners } from "./matching";
 import { pairedAmdOrder } from "./pairs";
@@ -42,7 +42,7 @@ import type { Inertia, SymmetricSolverLike } from "./types";
 export type { Inertia, SymmetricSolverLike } from "./types";
 export { amdOrder } from "./amd";
 export { tripletsToUpperCsc, validateTriplets } from "./triplet";
-export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, type CscPattern } from "./csc";
+export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualRowSums, type CscPattern } from "./csc";
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
 export { pairedAmdOrder } from "./pairs";
@@ -341,8 +341,14 @@ export class SymmetricSolver implements SymmetricSolverLike {
     for (let k = 0; k < n; k++) bp[k] = b[perm[k]];
     xp.set(bp);
     ldlSolveInPlace(sym, fac, xp);
-    let res = symmetricResidual(C, Cx, xp, bp, r);
-    if (this.normA < 0) this.normA = symmetricNormInf(C, Cx, xt);
+    let res: number;
+    if (this.normA < 0) {
+      // First solve after a factorisation: ‖A‖∞ from the residual's own pass over A.
+      res = symmetricResidualRowSums(C, Cx, xp, bp, r, xt);
+      let normA = 0;
+      for (let k = 0; k < n; k++) if (xt[k] > normA) normA = xt[k];
+      this.normA = normA;
+    } else res = symmetricResidual(C, Cx, xp, bp, r);
     let normB = 0;
     for (let k = 0; k < n; k++) normB = Math.max(normB, Math.abs(bp[k]));
     let accepted = 0;
