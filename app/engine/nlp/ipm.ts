@@ -134,6 +134,23 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       throw e;
     }
   };
+  /** Objective at the last trial point (trialAt), whose constraints are left in cT. */
+  let fTrial = NaN;
+  /**
+   * The accepted trial point's derivatives: f and c were evaluated there by the trial (the
+   * accepted point is always the last trial evaluated), so only ∇f and J are new.
+   */
+  const evalAcceptedTrial = (): string | null => {
+    try {
+      fval = fTrial;
+      P.gradF(w, grad);
+      P.jac(w, jv);
+      return null;
+    } catch (e) {
+      if (e instanceof ModelError) return e.message;
+      throw e;
+    }
+  };
   const fail = (status: NlpStatus, message: string, infPr = NaN, infDu = NaN): IpmOutcome => ({ status, message, infPr, infDu });
 
   // ---- A-1: initialisation (the caller supplies w inside the bounds, λ, z, μ).
@@ -421,7 +438,9 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
           axpyInto(N, wT, w, alpha, d);
           try {
             const fT = P.f(wT);
+            fTrial = NaN;
             P.c(wT, cT);
+            fTrial = fT;
             return { theta: theta1(cT), phi: barrierValue(fT, wT, P.wL, P.wU, hasL, hasU, mu) };
           } catch (e) {
             if (e instanceof ModelError) return null;
@@ -560,7 +579,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     const wOld = w; w = wT; wT = wOld;
     const cOld = cv; cv = cT; cT = cOld;
     st.w = w;
-    const err = evalPoint();
+    const err = evalAcceptedTrial();
     if (err) {
       // Accepted trial was evaluated (f, c) but its derivatives are not finite.
       return fail("numerical_trouble", `at iteration ${ctx.iter + 1}: ${err}`, infPr, infDu);
