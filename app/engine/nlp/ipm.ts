@@ -27,7 +27,7 @@ import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers"
 import { Filter } from "./filter";
 import { acceptTrial, backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
 import { leastSquaresMultipliers } from "./initial-point";
-import { estimateMultipliers, feasibilityCorrection, type MultiplierEstimateWork } from "./multiplier-estimate";
+import { finalPointWork, judgeFinalPoint, type FinalPointWork } from "./final-point";
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
 import {
@@ -215,11 +215,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     },
   };
 
-  let est: {
-    lambda: Float64Array; zL: Float64Array; zU: Float64Array; work: MultiplierEstimateWork;
-    /** The corrected point, its gradient, constraints, Jacobian values, slacks; the correction. */
-    w: Float64Array; grad: Float64Array; c: Float64Array; jv: Float64Array; sL: Float64Array; sU: Float64Array; d: Float64Array;
-  } | null = null;
+  let est: FinalPointWork | null = null;
 
   for (;;) {
     // ---- A-2: optimality error of the original problem (μ = 0) and log line.
@@ -259,48 +255,21 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     // evaluation fewer per step (COPS Goddard trapezoidal N = 3,200: 45 → 33 factorisations).
     let estimatedProgress = false;
     if (polish.active && polish.steps > 0 && !converged && !(solverErr < 0.5 * polish.ref) && infPr <= o.constrViolTol && Number.isFinite(E0.E)) {
-      if (!est) est = {
-        lambda: new Float64Array(m), zL: new Float64Array(N), zU: new Float64Array(N),
-        work: { ones, rhs: new Float64Array(K), sol: new Float64Array(K), jtl: new Float64Array(N), gradL: new Float64Array(N) },
-        w: new Float64Array(N), grad: new Float64Array(N), c: new Float64Array(m), jv: new Float64Array(nnzJ),
-        sL: new Float64Array(N), sU: new Float64Array(N), d: new Float64Array(N),
-      };
-      let pw: Float64Array = w, pgrad: Float64Array = grad, pc: Float64Array = cv, pjv: Float64Array = jv, psL: Float64Array = sL, psU: Float64Array = sU, pInfPr = infPr, corrected = false;
-      if (E0.primal > o.tol) {
-        const a = feasibilityCorrection(kkt, ones, jv, cv, hasL, hasU, sL, sU, tau, est.work.rhs, est.work.sol, est.d);
-        if (a > 0) {
-          for (let i = 0; i < N; i++) est.w[i] = w[i] + a * est.d[i];
-          try {
-            P.gradF(est.w, est.grad);
-            P.c(est.w, est.c);
-            P.jac(est.w, est.jv);
-            boundSlacks(N, est.w, wLv, wUv, hasL, hasU, est.sL, est.sU);
-            pw = est.w; pgrad = est.grad; pc = est.c; pjv = est.jv; psL = est.sL; psU = est.sU; pInfPr = P.reportInfPr(est.w, est.c);
-            corrected = true;
-          } catch (e) {
-            if (!(e instanceof ModelError)) throw e;
-          }
-        }
-      }
-      if ((corrected || E0.primal <= o.tol) && pInfPr <= o.constrViolTol &&
-        estimateMultipliers(kkt, pgrad, pjv, jR, jC, hasL, hasU, psL, psU, zL, zU, C.estimateAbsorbFraction * o.tol, C.estimateAbsorbFraction * o.tol, est.lambda, est.zL, est.zU, est.work)) {
-        const e = kktError(est.work.gradL, pc, psL, psU, hasL, hasU, est.lambda, est.zL, est.zU, 0);
-        const eOk = e.E <= o.tol && e.dual * P.dualUnscale <= o.dualInfTol && e.compl * P.dualUnscale <= o.complInfTol;
-        const eGap = eOk ? solverGap(N, psL, psU, hasL, hasU, est.zL, est.zU, m, est.lambda, pc, P.relaxL, P.relaxU).total * P.dualUnscale : Infinity;
-        if (eOk && eGap < polish.err) {
-          if (eGap < 0.5 * polish.ref) { polish.ref = eGap; estimatedProgress = true; }
-          polish.save(pw, est.lambda, est.zL, est.zU, eGap, pInfPr, e.dual);
-          polish.estimated = true;
-          polish.corrected = corrected;
-          if (eGap <= gapTarget) {
-            polish.restore(w, lambda, zL, zU);
-            st.w = w;
-            return {
-              status: "optimal",
-              message: `optimal: scaled KKT error ${e.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${eGap.toExponential(2)} ≤ ${gapTarget.toExponential(2)} after ${polish.steps} final step${polish.steps > 1 ? "s" : ""} (${corrected ? "point moved onto c = 0, " : ""}multipliers estimated for the point)`,
-              infPr: pInfPr, infDu: e.dual, solverError: eGap,
-            };
-          }
+      est ??= finalPointWork(N, m, nnzJ, ones);
+      const r = judgeFinalPoint(P, kkt, { w, grad, c: cv, jv, sL, sU, primal: E0.primal, infPr }, zL, zU, hasL, hasU, tau, o, est);
+      if (r && r.gap < polish.err) {
+        if (r.gap < 0.5 * polish.ref) { polish.ref = r.gap; estimatedProgress = true; }
+        polish.save(r.w, est.lambda, est.zL, est.zU, r.gap, r.infPr, r.dual);
+        polish.estimated = true;
+        polish.corrected = r.corrected;
+        if (r.gap <= gapTarget) {
+          polish.restore(w, lambda, zL, zU);
+          st.w = w;
+          return {
+            status: "optimal",
+            message: `optimal: scaled KKT error ${r.E.toExponential(2)} ≤ tol ${o.tol}, duality gap ${r.gap.toExponential(2)} ≤ ${gapTarget.toExponential(2)} after ${polish.steps} final step${polish.steps > 1 ? "s" : ""} (${r.corrected ? "point moved onto c = 0, " : ""}multipliers estimated for the point)`,
+            infPr: r.infPr, infDu: r.dual, solverError: r.gap,
+          };
         }
       }
     }
