@@ -122,28 +122,18 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   const slacks = (v: Float64Array) => boundSlacks(N, v, wLv, wUv, hasL, hasU, sL, sU);
   const theta1 = (c: Float64Array) => norm1(m, c);
   const jtTimes = (lam: Float64Array, out: Float64Array) => jacTransposeTimes(nnzJ, jR, jC, jv, lam, out);
-  const evalPoint = (): string | null => {
-    try {
-      fval = P.f(w);
-      P.gradF(w, grad);
-      P.c(w, cv);
-      P.jac(w, jv);
-      return null;
-    } catch (e) {
-      if (e instanceof ModelError) return e.message;
-      throw e;
-    }
-  };
   /** Objective at the last trial point (trialAt), whose constraints are left in cT. */
   let fTrial = NaN;
   /**
-   * The accepted trial point's derivatives: f and c were evaluated there by the trial (the
-   * accepted point is always the last trial evaluated), so only ∇f and J are new.
+   * f, ∇f, c and J at w. After an accepted trial, `fAtW` is the trial's objective and cv already
+   * holds its constraints (the accepted point is always the last trial evaluated): only ∇f and J
+   * are new.
    */
-  const evalAcceptedTrial = (): string | null => {
+  const evalPoint = (fAtW?: number): string | null => {
     try {
-      fval = fTrial;
+      fval = fAtW ?? P.f(w);
       P.gradF(w, grad);
+      if (fAtW === undefined) P.c(w, cv);
       P.jac(w, jv);
       return null;
     } catch (e) {
@@ -548,7 +538,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     const wOld = w; w = wT; wT = wOld;
     const cOld = cv; cv = cT; cT = cOld;
     st.w = w;
-    const err = evalAcceptedTrial();
+    const err = evalPoint(fTrial);
     if (err) {
       // Accepted trial was evaluated (f, c) but its derivatives are not finite.
       return fail("numerical_trouble", `at iteration ${ctx.iter + 1}: ${err}`, infPr, infDu);

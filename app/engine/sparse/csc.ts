@@ -54,9 +54,14 @@ export function symmetricResidual(
   r: Float64Array,
 ): number {
   symmetricMatVec(A, values, x, r);
+  return subtractFromRhs(A.n, b, r);
+}
+
+/** r ← b − r (r holding A x) and returns ‖r‖∞, NaN if an entry is not a number. */
+function subtractFromRhs(n: number, b: Float64Array, r: Float64Array): number {
   let norm = 0;
   let finite = true;
-  for (let i = 0; i < A.n; i++) {
+  for (let i = 0; i < n; i++) {
     const ri = b[i] - r[i];
     r[i] = ri;
     const a = Math.abs(ri);
@@ -94,16 +99,7 @@ export function symmetricResidualRowSums(
     r[j] += yj;
     rowAbs[j] += sj;
   }
-  let norm = 0;
-  let finite = true;
-  for (let i = 0; i < n; i++) {
-    const ri = b[i] - r[i];
-    r[i] = ri;
-    const a = Math.abs(ri);
-    if (a > norm) norm = a;
-    else if (!(a === a)) finite = false;
-  }
-  return finite ? norm : NaN;
+  return subtractFromRhs(n, b, r);
 }
 
 /**
