@@ -70,12 +70,14 @@ describe("final steps that stop helping", () => {
     expect(Math.abs(tr.recover(r).objective - 1.01283692)).toBeLessThan(2e-8);
   });
 
-  it("COPS Goddard HS N = 600: an estimated point meets the gap target and ends the final steps", { timeout: 60_000 }, () => {
-    const tr = getScheme("hermite-simpson").transcribe(copsGoddardFromCopsStart(), { intervals: 600 });
+  it("COPS Goddard HS N = 800: an estimated point meets the gap target and ends the final steps", { timeout: 60_000 }, () => {
+    const tr = getScheme("hermite-simpson").transcribe(copsGoddardFromCopsStart(), { intervals: 800 });
     const r = solveNlp(tr.nlp, { tol: 1e-8 });
     expect(r.status, r.message).toBe("optimal");
     expect(r.message).toMatch(/duality gap \S+ ≤ \S+ after \d+ final steps? \(multipliers estimated for the point\)/);
-    expect(r.iterations).toBeLessThanOrEqual(48); // 45 measured; 48 before, returning a point with a gap of 1.8e-5
+    // 50 measured, gap 1.95e-11. Before the final dual step (bound-multipliers.ts) 55, ending with a
+    // gap of 2.4e-11 above the target; N = 600, this case until then, now ends 2.6e-11 above it.
+    expect(r.iterations).toBeLessThanOrEqual(53);
     expect(Math.abs(tr.recover(r).objective - 1.01283)).toBeLessThan(1e-5);
   });
 
@@ -111,11 +113,24 @@ describe("final steps that stop helping", () => {
     let r;
     try { r = solveNlp(tr.nlp, { tol: 1e-8 }); } finally { Object.assign(proto, originals); }
     expect(r.status, r.message).toBe("optimal");
-    // Steps that halve the gap are left to the iteration: no estimate there. 27 iterations and 29
-    // factorisations measured (the starting multipliers' and the first step's first try); 37 when
-    // each of the 9 final steps also estimated multipliers for its point.
+    // Steps that halve the gap are left to the iteration: no estimate there. 26 iterations and 28
+    // factorisations measured (the starting multipliers' and the first step's first try); 37 at 27
+    // iterations when each of the then 9 final steps also estimated multipliers for its point.
     expect(factorisations).toBeLessThanOrEqual(r.iterations + 3);
     expect(r.message).toMatch(/duality gap \S+ ≤ \S+ after \d+ final steps/);
     expect(Math.abs(tr.recover(r).objective - 1.01283)).toBeLessThan(1e-5);
+  });
+
+  it("COPS Goddard trapezoidal N = 1,600: a multiplier that barely crosses zero no longer shortens every final dual step", { timeout: 60_000 }, () => {
+    const tr = getScheme("trapezoidal").transcribe(copsGoddardFromCopsStart(), { intervals: 1600 });
+    const r = solveNlp(tr.nlp, { tol: 1e-8 });
+    expect(r.status, r.message).toBe("optimal");
+    expect(r.message).toMatch(/duality gap \S+ ≤ \S+ after \d+ final steps/);
+    // 29 iterations (6 final steps) measured; 31 (8) when multipliers of 1e-11 on inactive bounds held
+    // the common dual step to 0.70, 0.74, 0.67, 0.88 of its length.
+    expect(r.iterations).toBeLessThanOrEqual(29);
+    // The reference program at tol 1e-11 (trapezoidal, N = 1,600, run 2026-12-04): 1.01283690,
+    // printed to 8 decimals; 1.0128368992 measured, as before the change.
+    expect(Math.abs(tr.recover(r).objective - 1.0128369)).toBeLessThan(6e-9);
   });
 });

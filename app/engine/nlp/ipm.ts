@@ -23,7 +23,7 @@ import { kktError } from "./convergence";
 import { nextMu, tauOf, muMin } from "./barrier";
 import { solverGap } from "./gap";
 import { barrierValue, barrierGradient } from "./barrier-function";
-import { boundMultiplierStep, resetBoundMultipliers } from "./bound-multipliers";
+import { applyFinalDualStep, boundMultiplierStep, finalDualStepLength, resetBoundMultipliers } from "./bound-multipliers";
 import { Filter } from "./filter";
 import { acceptTrial, backtrack, fractionToBoundary, type LineSearchHost, type TrialValues } from "./line-search";
 import { leastSquaresMultipliers } from "./initial-point";
@@ -521,8 +521,10 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     const dL = lsSoc ? dlamSoc : dlam;
     if (lsSoc) events.push("second-order-correction");
     boundMultiplierStep(mu, dW, sL, sU, hasL, hasU, zL, zU, dzL, dzU);
-    let alphaZ = fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
-    alphaZ = fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
+    // In the final steps a multiplier that would barely cross zero is cut alone (bound-multipliers.ts).
+    const clip = polish.active ? C.finalDualClip * o.tol : -1;
+    let alphaZ = polish.active ? finalDualStepLength(tau, clip, zL, dzL, hasL, 1) : fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
+    alphaZ = polish.active ? finalDualStepLength(tau, clip, zU, dzU, hasU, alphaZ) : fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
     if (lsAugment) filter.add((1 - C.gammaTheta) * thetaFrom, phiFrom - C.gammaPhi * thetaFrom); // (22)
     const normD = normInfScaled(N, lsAlpha, dW);
     if (qn) {
@@ -533,8 +535,13 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     } else {
       addScaled(m, lambda, lsAlpha, dL);
     }
-    addScaled(N, zL, alphaZ, dzL);
-    addScaled(N, zU, alphaZ, dzU);
+    if (polish.active) {
+      applyFinalDualStep(alphaZ, tau, zL, dzL, hasL);
+      applyFinalDualStep(alphaZ, tau, zU, dzU, hasU);
+    } else {
+      addScaled(N, zL, alphaZ, dzL);
+      addScaled(N, zU, alphaZ, dzU);
+    }
     const wOld = w; w = wT; wT = wOld;
     const cOld = cv; cv = cT; cT = cOld;
     st.w = w;
