@@ -34,7 +34,7 @@ export function resetBoundMultipliers(mu: number, sL: Float64Array, sU: Float64A
  * multiplier of every inactive bound to about μ_f / s ≈ 0, and where the slack grows in the same
  * step the linearised update crosses zero, by a little: z + d_z = −(z / s) d_w. Under one common
  * fraction-to-the-boundary step such a multiplier of 1e-11 held every other multiplier to 70 % of
- * its step, step after step (COPS Goddard, trapezoidal, N = 1,600: α_z = 0.70, 0.74, 0.67, 0.88…).
+ * its step, step after step (COPS Goddard, trapezoidal, N = 1,600: α_z = 0.85, 0.70, 0.74, 0.67, 0.88…).
  * A component whose full update crosses zero by at most `clip` is left out of α_z and is instead
  * cut at the fraction (1 − τ) of itself: the dual residual this leaves is at most `clip` in that
  * component (clip = 1e-3 · tol, so a thousand times below what the KKT test checks), and the gap

@@ -522,9 +522,10 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     if (lsSoc) events.push("second-order-correction");
     boundMultiplierStep(mu, dW, sL, sU, hasL, hasU, zL, zU, dzL, dzU);
     // In the final steps a multiplier that would barely cross zero is cut alone (bound-multipliers.ts).
-    const clip = polish.active ? C.finalDualClip * o.tol : -1;
-    let alphaZ = polish.active ? finalDualStepLength(tau, clip, zL, dzL, hasL, 1) : fractionToBoundary(tau, zL, dzL, 1, hasL, 1);
-    alphaZ = polish.active ? finalDualStepLength(tau, clip, zU, dzU, hasU, alphaZ) : fractionToBoundary(tau, zU, dzU, 1, hasU, alphaZ);
+    const clip = C.finalDualClip * o.tol;
+    const alphaZ = polish.active
+      ? finalDualStepLength(tau, clip, zU, dzU, hasU, finalDualStepLength(tau, clip, zL, dzL, hasL, 1))
+      : fractionToBoundary(tau, zU, dzU, 1, hasU, fractionToBoundary(tau, zL, dzL, 1, hasL, 1));
     if (lsAugment) filter.add((1 - C.gammaTheta) * thetaFrom, phiFrom - C.gammaPhi * thetaFrom); // (22)
     const normD = normInfScaled(N, lsAlpha, dW);
     if (qn) {
