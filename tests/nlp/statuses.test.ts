@@ -168,6 +168,29 @@ describe("NaN and Inf from the model", () => {
     expect(r.message).toContain("thrust at node 0");
   });
 
+  it("NaN in the Jacobian during the solve: numerical_trouble naming the entry", () => {
+    // Kept entries are checked in the pass that scales them (reformulation.ts jac); HS71's
+    // dense pattern: entry 5 is dg[1]/dx[1].
+    const p = named(makeProblem(hs("HS71")));
+    let calls = 0;
+    const r = solveNlp({ ...p, jacValues: (x, o) => { p.jacValues(x, o); if (++calls === 4) o[5] = NaN; } });
+    expect(r.status).toBe("numerical_trouble");
+    expect(r.message).toContain("jacValues: entry 5, dg[1] (defect 1)/dx[1] (thrust at node 1) is NaN");
+  });
+
+  it("Inf in a Jacobian entry of a fixed variable during the solve is reported as well", () => {
+    // x[0] fixed by its bounds leaves the iteration with its column (entries 0 and 4 of the dense
+    // pattern); those entries are still checked on every evaluation.
+    const p = named(makeProblem(hs("HS71")));
+    p.xL[0] = 1;
+    p.xU[0] = 1;
+    p.x0[0] = 1;
+    let calls = 0;
+    const r = solveNlp({ ...p, jacValues: (x, o) => { p.jacValues(x, o); if (++calls === 4) o[4] = Infinity; } });
+    expect(r.status).toBe("numerical_trouble");
+    expect(r.message).toContain("jacValues: entry 4, dg[1] (defect 1)/dx[0] (thrust at node 0) is Infinity");
+  });
+
   it("NaN outside the domain during the line search cuts the step", () => {
     // f = √(1 + (x−1)²): Newton from x₀ = 3 jumps to x = 3 − 2·5 = −7, where f is NaN
     // (domain x > −2 by construction); the line search must back off and still reach x* = 1.

@@ -53,6 +53,10 @@ export class NlpReformulation implements InternalProblem {
   private readonly hUser: Float64Array;
   private readonly lamUser: Float64Array;
   private readonly jKeep: Int32Array;
+  /** d_j of each kept Jacobian entry's row (jKeep order). */
+  private readonly jScale: Float64Array;
+  /** User Jacobian entries left out of the iteration (fixed column or row not kept). */
+  private readonly jDrop: Int32Array;
   private readonly hKeep: Int32Array;
 
   constructor(readonly p: NlpProblem, relax: number, gMax: number, presolve = true) {
@@ -158,6 +162,10 @@ export class NlpReformulation implements InternalProblem {
       t++;
     }
     for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = rowPos[j]; this.jCols[t] = this.slackOf[j]; t++; }
+    this.jScale = new Float64Array(nKeep);
+    for (let k = 0; k < nKeep; k++) this.jScale[k] = this.dc[jRowsU[this.jKeep[k]]];
+    this.jDrop = new Int32Array(nnzJU - nKeep);
+    for (let k = 0, d = 0; k < nnzJU; k++) if (posFree[jColsU[k]] < 0 || rowPos[jRowsU[k]] < 0) this.jDrop[d++] = k;
 
     // Hessian pattern: entries between free variables, lower triangle.
     const nnzHU = p.hessRows.length, hRowsU = p.hessRows, hColsU = p.hessCols;
@@ -216,9 +224,13 @@ export class NlpReformulation implements InternalProblem {
   userJac(x: Float64Array): Float64Array {
     const out = this.jUser;
     this.call("jacValues", () => this.p.jacValues(x, out));
+    this.checkJac(out);
+    return out;
+  }
+  /** Throws the ModelError naming the first Jacobian entry that is not finite. */
+  private checkJac(out: Float64Array): void {
     for (let k = 0; k < out.length; k++)
       if (!Number.isFinite(out[k])) throw new ModelError(`jacValues: entry ${k}, d${this.cName(this.p.jacRows[k])}/d${this.vName(this.p.jacCols[k])} is ${out[k]}`);
-    return out;
   }
   userF(x: Float64Array): number {
     let v = NaN;
@@ -244,12 +256,21 @@ export class NlpReformulation implements InternalProblem {
     }
   }
   jac(w: Float64Array, out: Float64Array): void {
-    const ju = this.userJac(this.scatter(w));
-    const jk = this.jKeep;
-    const rows = this.jRows;
-    const rowMap = this.rowMap, dc = this.dc;
-    for (let t = 0; t < jk.length; t++) out[t] = dc[rowMap[rows[t]]] * ju[jk[t]];
-    for (let t = jk.length; t < rows.length; t++) out[t] = -1;
+    const x = this.scatter(w);
+    const ju = this.jUser;
+    this.call("jacValues", () => this.p.jacValues(x, ju));
+    // One pass over the kept entries scales and checks them, a second checks the few others
+    // (fixed columns, rows outside the iteration): the checks of userJac without its own pass.
+    const jk = this.jKeep, sc = this.jScale, drop = this.jDrop;
+    let finite = true;
+    for (let t = 0; t < jk.length; t++) {
+      const v = ju[jk[t]];
+      if (v - v !== 0) finite = false;
+      out[t] = sc[t] * v;
+    }
+    for (let t = 0; t < drop.length; t++) if (ju[drop[t]] - ju[drop[t]] !== 0) finite = false;
+    if (!finite) this.checkJac(ju);
+    for (let t = jk.length; t < this.jRows.length; t++) out[t] = -1;
   }
   hess(w: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array): void {
     const x = this.scatter(w);

@@ -338,8 +338,15 @@ export class SymmetricSolver implements SymmetricSolverLike {
     const { perm, bp, r, C, Cx, sym, fac } = this;
     let xp = this.xp;
     let xt = this.xt;
-    for (let k = 0; k < n; k++) bp[k] = b[perm[k]];
-    xp.set(bp);
+    let normB = 0;
+    for (let k = 0; k < n; k++) {
+      const v = b[perm[k]];
+      bp[k] = v;
+      xp[k] = v;
+      const a = Math.abs(v);
+      if (a > normB) normB = a;
+      else if (a !== a) normB = NaN; // a NaN right-hand side: no refinement, NaN residuals (as Math.max)
+    }
     ldlSolveInPlace(sym, fac, xp);
     let res: number;
     if (this.normA < 0) {
@@ -349,10 +356,9 @@ export class SymmetricSolver implements SymmetricSolverLike {
       for (let k = 0; k < n; k++) if (xt[k] > normA) normA = xt[k];
       this.normA = normA;
     } else res = symmetricResidual(C, Cx, xp, bp, r);
-    let normB = 0;
-    for (let k = 0; k < n; k++) normB = Math.max(normB, Math.abs(bp[k]));
     let accepted = 0;
-    for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * this.backwardScale(xp, normB); step++) {
+    let scale = this.backwardScale(xp, normB);
+    for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * scale; step++) {
       ldlSolveInPlace(sym, fac, r); // r ← correction
       for (let k = 0; k < n; k++) xt[k] = xp[k] + r[k];
       const resTrial = symmetricResidual(C, Cx, xt, bp, r);
@@ -362,11 +368,11 @@ export class SymmetricSolver implements SymmetricSolverLike {
       xp = xt;
       xt = swap;
       accepted++;
+      scale = this.backwardScale(xp, normB);
     }
     for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
     this.lastResidual = res;
-    const denom = this.backwardScale(xp, normB);
-    this.lastRelativeResidual = denom > 0 ? res / denom : res;
+    this.lastRelativeResidual = scale > 0 ? res / scale : res;
     this.lastRefinementSteps = accepted;
   }
 
