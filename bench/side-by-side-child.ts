@@ -42,10 +42,13 @@ interface Measured { iterations: number; status: string; message?: string; secon
  * emptying the analysis cache: the engine once V8 has compiled its hot code with full type feedback,
  * which is where a solver-pool or bench worker runs after its first few solves (the cold and
  * third-solve figures still carry tier-up and compilation; see DEVELOPERS.md, "cold, warm and
- * steady"). ARCWATCH_STEADY_SOLVES sets STEADY_TO (default 8; 3 or less skips it).
+ * steady"). ARCWATCH_STEADY_SOLVES sets STEADY_TO (default 14; 3 or less skips it). Up to solve 8
+ * (the default until 2026-12-04) the solves still carried V8's compilation on the second core: CPU
+ * 1.1–1.5× wall at trapezoidal N = 1,600 and 3,200, CPU ≈ wall from about the 10th solve on
+ * (DEVELOPERS.md, "The steady figure reached past the tier-up tail").
  */
 const STEADY_FROM = 4;
-const STEADY_TO = Number(process.env.ARCWATCH_STEADY_SOLVES ?? 8);
+const STEADY_TO = Number(process.env.ARCWATCH_STEADY_SOLVES ?? 14);
 if (!Number.isInteger(STEADY_TO)) throw new Error(`side-by-side child: ARCWATCH_STEADY_SOLVES must be an integer, got ${process.env.ARCWATCH_STEADY_SOLVES}`);
 
 const profileFile = process.env.ARCWATCH_PROFILE ?? "";

@@ -30,8 +30,9 @@
  *    has compiled it for this size, as in a bench worker after its warm-up solves (measured in a
  *    process of its own, so that the memory columns stay those of the cold solve;
  *    ARCWATCH_COLD_ONLY=1 skips it). "steady": in that same process, the best CPU seconds of solves
- *    4 to 8, each with the cache emptied: the engine once V8 has compiled its hot loops with full
- *    type feedback, as in a solver-pool or bench worker that has run a few solves. Cold, warm and
+ *    4 to 14 (4 to 8 until 2026-12-04: those still carried compilation), each with the cache emptied:
+ *    the engine once V8 has compiled its hot loops with full type feedback, as in a solver-pool or
+ *    bench worker that has run a dozen solves. Cold, warm and
  *    steady differ by V8's tier-up alone (same code, same iterates): at trapezoidal N = 1,600,
  *    0.77–0.92, 0.68–0.70 and 0.23–0.25 s of CPU over three runs (2026-12-03; DEVELOPERS.md);
  *  - peak memory: the reference's maximum resident set (GNU time), and Arcwatch's maximum resident
@@ -70,7 +71,7 @@ interface Run {
   cpuSeconds: number;
   /** Arcwatch only: CPU seconds of a warm solve of the same N (see the header), or null. */
   warmCpuSeconds?: number | null;
-  /** Arcwatch only: the best CPU seconds of solves 4–8 of the same N in one process (see the header), or null. */
+  /** Arcwatch only: the best CPU seconds of solves 4–14 of the same N in one process (see the header), or null. */
   steadyCpuSeconds?: number | null;
   objective: number | null;
   rssKb: number | null;
@@ -235,7 +236,7 @@ function matchedAccuracy(binary: string, N: number, scheme: string, ref8: Run, o
 }
 
 for (const scheme of schemes) {
-  console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best CPU of ${reps}; reference and Arcwatch alternate)`);
+  console.log(`\n${scheme}, COPS Goddard, COPS start, tol 1e-8 (best CPU of ${reps}; reference and Arcwatch alternate; steady = Arcwatch's best of solves 4–${process.env.ARCWATCH_STEADY_SOLVES ?? 14} in one process)`);
   console.log("     N  | ref iters  status     cpu s  wall s   MB | Arcwatch iters  status     cpu s  warm s steady s  wall s MB>empty MB>loaded | iter ratio  cpu ratio  warm ratio  steady ratio  steady/iter ratio  wall ratio  mem ratio (>empty, >loaded) | h(tf) ref / ours");
   const perIter: [number, number][] = [];
   const matchedRows: string[] = [];
