@@ -31,8 +31,8 @@ import { finalPointWork, judgeFinalPoint, type FinalPointWork } from "./final-po
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
 import {
-  addScaled, allFinite, axpyInto, boundSlacks, dot, jacTransposeTimes, kktRightHandSide, lagrangianGradient,
-  norm1, normInfScaled, primalDualSigma, relativeStep, splitSolution,
+  addScaled, allFinite, axpyInto, boundSlacks, dot, finalStepLength, jacTransposeTimes, kktRightHandSide, lagrangianGradient,
+  maxAbs, norm1, normInfScaled, primalDualSigma, relativeStep, shrinkRelaxation, splitSolution,
 } from "./vectors";
 
 /** printLevel ≥ 1: the terminal log printer of each solve (keyed by its log array). */
@@ -290,19 +290,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
         // objective offset Σ z δ of its own); an active variable keeps 1 % of its slack.
         polish.bounds = [Float64Array.from(wLv), Float64Array.from(wUv), Float64Array.from(P.relaxL ?? []), Float64Array.from(P.relaxU ?? [])];
         if (P.relaxL && P.relaxU) {
-          const rL = P.relaxL, rU = P.relaxU;
-          for (let i = 0; i < N; i++) {
-            if (hasL[i] && rL[i] > 0) {
-              const shift = rL[i] * (1 - C.finalRelaxShrink), sOld = w[i] - wLv[i];
-              wLv[i] += shift; rL[i] -= shift;
-              if (w[i] - wLv[i] < 1e-2 * sOld) w[i] = wLv[i] + 1e-2 * sOld;
-            }
-            if (hasU[i] && rU[i] > 0) {
-              const shift = rU[i] * (1 - C.finalRelaxShrink), sOld = wUv[i] - w[i];
-              wUv[i] -= shift; rU[i] -= shift;
-              if (wUv[i] - w[i] < 1e-2 * sOld) w[i] = wUv[i] - 1e-2 * sOld;
-            }
-          }
+          shrinkRelaxation(N, 1 - C.finalRelaxShrink, w, wLv, wUv, P.relaxL, P.relaxU, hasL, hasU);
           const err = evalPoint();
           if (err) {
             polish.restore(w, lambda, zL, zU);
@@ -332,8 +320,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
       return done({ status: "acceptable", message: `acceptable: scaled KKT error ≤ ${o.acceptableTol} for ${acceptableAny} iterations, objective still changing by ${objChange.toExponential(1)} of |f| per iteration`, infPr, infDu });
     if (ctx.iter >= o.maxIter) return done({ status: "iteration_limit", message: `iteration limit ${o.maxIter} reached`, infPr, infDu });
     if ((performance.now() - ctx.t0) / 1000 > o.maxSeconds) return { status: "time_limit", message: `time limit ${o.maxSeconds} s reached`, infPr, infDu };
-    let wMax = 0;
-    for (let i = 0; i < P.nX; i++) wMax = Math.max(wMax, Math.abs(w[i]));
+    const wMax = maxAbs(P.nX, w);
     if (wMax > o.divergingIterates) return { status: "diverging", message: `iterates diverge: max|x| = ${wMax.toExponential(2)} > ${o.divergingIterates}`, infPr, infDu };
     if (phase === "regular" && fUser < o.unboundedObjective && infPr <= o.constrViolTol)
       return { status: "unbounded", message: `objective ${fUser.toExponential(2)} below ${o.unboundedObjective} at a feasible point`, infPr, infDu };
@@ -428,16 +415,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
           // the region of fast local convergence; a step that spoils the KKT test is undone above).
           // Each slack keeps a few hundred ulps of its bound: τ_final = 1 − 1e-6 would otherwise
           // round w onto a bound (s = 0, z = μ/s = ∞) once s is within 1e-6 of an ulp.
-          for (let i = 0; i < N; i++) {
-            if (hasL[i] && dw[i] < 0) {
-              const floor = C.finalSlackUlps * EPS * Math.max(1, Math.abs(wLv[i]));
-              if (sL[i] + alphaMax * dw[i] < floor) alphaMax = Math.max(0, (floor - sL[i]) / dw[i]);
-            }
-            if (hasU[i] && dw[i] > 0) {
-              const floor = C.finalSlackUlps * EPS * Math.max(1, Math.abs(wUv[i]));
-              if (sU[i] - alphaMax * dw[i] < floor) alphaMax = Math.max(0, (sU[i] - floor) / dw[i]);
-            }
-          }
+          alphaMax = finalStepLength(N, alphaMax, dw, sL, sU, wLv, wUv, hasL, hasU, C.finalSlackUlps * EPS);
           const t = host.trial(alphaMax);
           if (t) { lsAccepted = true; lsAlpha = alphaMax; lsTrials = 1; lsAugment = false; events.push("final-step"); polish.steps++; }
         } else if (rel < 10 * EPS) {

@@ -83,3 +83,57 @@ export function splitSolution(N: number, m: number, sol: Float64Array, dw: Float
   for (let i = 0; i < N; i++) dw[i] = sol[i];
   for (let j = 0; j < m; j++) dlam[j] = sol[N + j];
 }
+
+/** max_i |x_i| (n), NaN if an entry is NaN (as a fold of Math.max). */
+export function maxAbs(n: number, x: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) {
+    const v = Math.abs(x[i]);
+    if (v > s) s = v;
+    else if (v !== v) return NaN;
+  }
+  return s;
+}
+
+/**
+ * The final steps' step length: the largest α ≤ alphaMax along dw that leaves each bound's slack at
+ * least floorUlps·max(1, |bound|) (floorUlps = a few hundred ulps, see ipm.ts) (N).
+ */
+export function finalStepLength(
+  N: number, alphaMax: number, dw: Float64Array, sL: Float64Array, sU: Float64Array,
+  wL: Float64Array, wU: Float64Array, hasL: Uint8Array, hasU: Uint8Array, floorUlps: number,
+): number {
+  for (let i = 0; i < N; i++) {
+    if (hasL[i] && dw[i] < 0) {
+      const floor = floorUlps * Math.max(1, Math.abs(wL[i]));
+      if (sL[i] + alphaMax * dw[i] < floor) alphaMax = Math.max(0, (floor - sL[i]) / dw[i]);
+    }
+    if (hasU[i] && dw[i] > 0) {
+      const floor = floorUlps * Math.max(1, Math.abs(wU[i]));
+      if (sU[i] - alphaMax * dw[i] < floor) alphaMax = Math.max(0, (sU[i] - floor) / dw[i]);
+    }
+  }
+  return alphaMax;
+}
+
+/**
+ * Bound relaxations r shrunk to keep·r, the bounds moved with them, and w kept at least 1 % of its
+ * old slack inside each moved bound (N).
+ */
+export function shrinkRelaxation(
+  N: number, keep: number, w: Float64Array, wL: Float64Array, wU: Float64Array,
+  rL: Float64Array, rU: Float64Array, hasL: Uint8Array, hasU: Uint8Array,
+): void {
+  for (let i = 0; i < N; i++) {
+    if (hasL[i] && rL[i] > 0) {
+      const shift = rL[i] * keep, sOld = w[i] - wL[i];
+      wL[i] += shift; rL[i] -= shift;
+      if (w[i] - wL[i] < 1e-2 * sOld) w[i] = wL[i] + 1e-2 * sOld;
+    }
+    if (hasU[i] && rU[i] > 0) {
+      const shift = rU[i] * keep, sOld = wU[i] - w[i];
+      wU[i] -= shift; rU[i] -= shift;
+      if (wU[i] - w[i] < 1e-2 * sOld) w[i] = wU[i] - 1e-2 * sOld;
+    }
+  }
+}
