@@ -87,9 +87,13 @@ function equalKeys(a: AnalysisKey, b: AnalysisKey): boolean {
 }
 
 /** The stored analysis for exactly this key, or null. */
-export function findAnalysis(key: AnalysisKey): StoredAnalysis | null {
+/** The key's hash, to hand to findAnalysis and storeAnalysis (one pass over the pattern for both). */
+export function analysisHash(key: AnalysisKey): number {
+  return hashKey(key);
+}
+
+export function findAnalysis(key: AnalysisKey, h = hashKey(key)): StoredAnalysis | null {
   if (key.rows.length > MAX_ENTRIES) return null;
-  const h = hashKey(key);
   for (let i = 0; i < entries.length; i++) {
     const e = entries[i];
     if (e.hash === h && equalKeys(e.key, key)) {
@@ -104,13 +108,13 @@ export function findAnalysis(key: AnalysisKey): StoredAnalysis | null {
 }
 
 /** Stores an analysis under a private copy of its key (rows and cols as given when the key says they never change). */
-export function storeAnalysis(key: AnalysisKey, value: StoredAnalysis): void {
+export function storeAnalysis(key: AnalysisKey, value: StoredAnalysis, h = hashKey(key)): void {
   if (key.rows.length > MAX_ENTRIES) return;
   const copy: AnalysisKey = {
     n: key.n, mode: key.mode, rows: key.owned ? key.rows : key.rows.slice(), cols: key.owned ? key.cols : key.cols.slice(),
     signs: key.signs ? key.signs.slice() : null, partner: key.partner ? key.partner.slice() : null,
   };
-  entries.unshift({ key: copy, hash: hashKey(copy), value });
+  entries.unshift({ key: copy, hash: h, value }); // the copy has the key's values, so its hash
   if (entries.length > CAPACITY) entries.length = CAPACITY;
 }
 

@@ -36,7 +36,7 @@ import {
   type LdlWorkspace,
 } from "./ldl";
 import { tripletsToUpperCsc } from "./triplet";
-import { findAnalysis, storeAnalysis, type AnalysisKey } from "./analysis-cache";
+import { analysisHash, findAnalysis, storeAnalysis, type AnalysisKey } from "./analysis-cache";
 import type { Inertia, SymmetricSolverLike } from "./types";
 
 export type { Inertia, SymmetricSolverLike } from "./types";
@@ -235,7 +235,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
       partner = matchConstrained(preferPartners(A, Ax, G!, constrained!), constrained!);
     }
     const key: AnalysisKey = { n, mode, rows: this.rows, cols: this.cols, signs, partner, owned: options.patternUnchanging === true };
-    let stored = findAnalysis(key);
+    const hash = analysisHash(key);
+    let stored = findAnalysis(key, hash);
     const reused = stored !== null;
     if (stored === null) {
       const info: AmdInfo = { denseRows: 0, compressions: 0, releases: 0 };
@@ -270,7 +271,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
       eliminationTree(C, parent, Lnz, flag);
       const sym = ldlSymbolic(C, parent, Lnz, kind);
       stored = { perm, pinv, kind, signsPermuted, C, slot, sym, orderingMs, denseRows: info.denseRows };
-      storeAnalysis(key, stored);
+      storeAnalysis(key, stored, hash);
     }
     this.permutation = stored.perm;
     this.inverse = stored.pinv;
