@@ -297,19 +297,25 @@ export class NlpReformulation implements InternalProblem {
    * g_j = (c_r + s)/d_j, and the constant violation of the rows outside the iteration.
    */
   reportInfPr(w: Float64Array, cw: Float64Array): number {
-    // The fold starts from 0, not from the field: V8 (Node 20) gave the loop's running maximum the
-    // field's tagged representation and boxed each new value (2 MB a solve at trapezoidal N = 1,600).
-    // removedViolation ≥ 0, so max(removedViolation, max(0, …)) is the same value.
+    // The running maximum starts from 0, not from the field, and changes only on a new maximum (or a
+    // NaN, which it keeps, as Math.max would): V8 (Node 20) boxed it on every row when it was
+    // `v = Math.max(v, …)` from the field (2 MB a solve at trapezoidal N = 1,600). removedViolation
+    // ≥ 0, so max(removedViolation, max(0, …)) is the same value.
     const { rowMap, slackOf, dc } = this;
     const gL = this.p.gL, gU = this.p.gU;
     let v = 0;
     for (let r = 0; r < this.m; r++) {
       const j = rowMap[r], s = slackOf[j];
-      if (s < 0) v = Math.max(v, Math.abs(cw[r]) / dc[j]);
-      else {
+      if (s < 0) {
+        const a = Math.abs(cw[r]) / dc[j];
+        if (a > v || a !== a) v = a;
+      } else {
         const g = (cw[r] + w[s]) / dc[j];
-        v = Math.max(v, gL[j] - g, g - gU[j]);
+        const a = gL[j] - g, b = g - gU[j];
+        if (a > v || a !== a) v = a;
+        if (b > v || b !== b) v = b;
       }
+      if (v !== v) break; // NaN: the maximum stays NaN
     }
     return Math.max(this.removedViolation, v);
   }
