@@ -12,9 +12,9 @@
  * allocated on average, including the objects that minor and major GCs have already collected), over
  * six solves after six untimed ones, each with its own transcription (all made before the sampled
  * window) and the analysis cache emptied as in the side-by-side bench. Figures are per solve.
- * They vary between runs: a function that V8 deoptimises runs in baseline code, which boxes every
- * double, until it is optimised again (run it twice; a figure that comes and goes is that, one that
- * stays is the code's own).
+ * They vary between runs of the same code: a kernel can allocate nothing in one run and 10 MB a
+ * solve in the next, depending on how V8 compiled it that time (DEVELOPERS.md, Decisions, Engine,
+ * "No boxed doubles…", "Open"). Run it more than once before reading a figure as the code's own.
  */
 import { Session } from "node:inspector/promises";
 import { copsGoddardFromCopsStart } from "./side-by-side-problem";
@@ -31,6 +31,7 @@ const scheme = arg("scheme", "trapezoidal");
 if (!isSchemeId(scheme)) throw new Error(`allocation.bench: --scheme ${scheme} is not a scheme`);
 const N = Number(arg("n", "1600"));
 const top = Number(arg("top", "12"));
+if (!Number.isInteger(top) || top < 1) throw new Error(`allocation.bench: --top must be an integer ≥ 1, got ${arg("top", "")}`);
 if (!Number.isInteger(N) || N < 2) throw new Error(`allocation.bench: --n must be an integer ≥ 2, got ${arg("n", "")}`);
 
 const WARM = 6, TIMED = 6;
@@ -52,7 +53,8 @@ for (let k = 0; k < WARM; k++) {
 interface SamplingNode { callFrame: { functionName: string; url: string; lineNumber: number }; selfSize: number; children: SamplingNode[] }
 const session = new Session();
 session.connect();
-// The two include… flags are newer than Node 20's inspector typings; V8 12 honours them.
+// The two include… flags are missing from Node 20's inspector typings; its V8 honours them (without
+// them the profile keeps only what is still alive when sampling stops).
 await session.post("HeapProfiler.startSampling", {
   samplingInterval: 4096,
   includeObjectsCollectedByMajorGC: true,

@@ -475,7 +475,7 @@ export class Assembly {
     om.fill(0);
     // Two stores, not one store of `r >= 0 ? lambda[r] : sigma`: V8 (Node 20) gives that
     // conditional a tagged representation and boxes every λ it loads, a heap number per term
-    // (150 KB of garbage and 40 % of this function's time at trapezoidal N = 1,600).
+    // (150 KB of garbage per call and 40 % of this function's time at trapezoidal N = 1,600).
     const { termOut, termRow, termW } = this;
     for (let k = 0; k < termOut.length; k++) {
       const r = termRow[k];

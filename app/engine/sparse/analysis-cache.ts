@@ -86,12 +86,12 @@ function equalKeys(a: AnalysisKey, b: AnalysisKey): boolean {
   return a.n === b.n && a.mode === b.mode && same(a.rows, b.rows) && same(a.cols, b.cols) && same(a.signs, b.signs) && same(a.partner, b.partner);
 }
 
-/** The stored analysis for exactly this key, or null. */
 /** The key's hash, to hand to findAnalysis and storeAnalysis (one pass over the pattern for both). */
 export function analysisHash(key: AnalysisKey): number {
   return hashKey(key);
 }
 
+/** The stored analysis for exactly this key (h: its analysisHash), or null. */
 export function findAnalysis(key: AnalysisKey, h = hashKey(key)): StoredAnalysis | null {
   if (key.rows.length > MAX_ENTRIES) return null;
   for (let i = 0; i < entries.length; i++) {
@@ -107,14 +107,17 @@ export function findAnalysis(key: AnalysisKey, h = hashKey(key)): StoredAnalysis
   return null;
 }
 
-/** Stores an analysis under a private copy of its key (rows and cols as given when the key says they never change). */
+/**
+ * Stores an analysis under a private copy of its key (rows and cols as given when the key says they
+ * never change); h: the key's analysisHash, which is the copy's too.
+ */
 export function storeAnalysis(key: AnalysisKey, value: StoredAnalysis, h = hashKey(key)): void {
   if (key.rows.length > MAX_ENTRIES) return;
   const copy: AnalysisKey = {
     n: key.n, mode: key.mode, rows: key.owned ? key.rows : key.rows.slice(), cols: key.owned ? key.cols : key.cols.slice(),
     signs: key.signs ? key.signs.slice() : null, partner: key.partner ? key.partner.slice() : null,
   };
-  entries.unshift({ key: copy, hash: h, value }); // the copy has the key's values, so its hash
+  entries.unshift({ key: copy, hash: h, value });
   if (entries.length > CAPACITY) entries.length = CAPACITY;
 }
 
