@@ -11,6 +11,7 @@
  * meaningful where hasL/hasU), multipliers.
  */
 import { CONSTANTS as C } from "./options";
+import { LOOP_BLOCK } from "./vectors";
 
 export interface KktError {
   dual: number;
@@ -27,21 +28,43 @@ export function kktError(
   gradL: Float64Array, c: Float64Array, sL: Float64Array, sU: Float64Array,
   hasL: Uint8Array, hasU: Uint8Array, lambda: Float64Array, zL: Float64Array, zU: Float64Array, mu: number,
 ): KktError {
-  let dual = 0, primal = 0, compl = 0, zSum = 0, lamSum = 0, nz = 0;
+  // In blocks (LOOP_BLOCK in vectors.ts): the running values go from block to block through `run`,
+  // so the operations are those of one loop, in the same order.
+  const run = RUN;
+  run.fill(0);
   const N = gradL.length;
-  for (let i = 0; i < N; i++) {
+  for (let i0 = 0; i0 < N; i0 += LOOP_BLOCK) boundBlock(i0, Math.min(N, i0 + LOOP_BLOCK), gradL, sL, sU, hasL, hasU, zL, zU, mu, run);
+  for (let j0 = 0; j0 < c.length; j0 += LOOP_BLOCK) rowBlock(j0, Math.min(c.length, j0 + LOOP_BLOCK), c, lambda, run);
+  const dual = run[0], compl = run[1], zSum = run[2], nz = run[3], primal = run[4], lamSum = run[5];
+  const cnt = c.length + nz;
+  const sd = cnt > 0 ? Math.max(C.sMax, (lamSum + zSum) / cnt) / C.sMax : 1;
+  const sc = nz > 0 ? Math.max(C.sMax, zSum / nz) / C.sMax : 1;
+  return { dual, primal, compl, sd, sc, E: Math.max(dual / sd, primal, compl / sc) };
+}
+
+/** kktError's running values: max |∇L|, max |s z − μ|, Σ|z|, n_z, max |c|, Σ|λ|. */
+const RUN = new Float64Array(6);
+
+function boundBlock(
+  i0: number, i1: number, gradL: Float64Array, sL: Float64Array, sU: Float64Array, hasL: Uint8Array, hasU: Uint8Array,
+  zL: Float64Array, zU: Float64Array, mu: number, run: Float64Array,
+): void {
+  let dual = run[0], compl = run[1], zSum = run[2], nz = run[3];
+  for (let i = i0; i < i1; i++) {
     const a = Math.abs(gradL[i]);
     if (a > dual) dual = a;
     if (hasL[i]) { nz++; zSum += Math.abs(zL[i]); const e = Math.abs(sL[i] * zL[i] - mu); if (e > compl) compl = e; }
     if (hasU[i]) { nz++; zSum += Math.abs(zU[i]); const e = Math.abs(sU[i] * zU[i] - mu); if (e > compl) compl = e; }
   }
-  for (let j = 0; j < c.length; j++) {
+  run[0] = dual; run[1] = compl; run[2] = zSum; run[3] = nz;
+}
+
+function rowBlock(j0: number, j1: number, c: Float64Array, lambda: Float64Array, run: Float64Array): void {
+  let primal = run[4], lamSum = run[5];
+  for (let j = j0; j < j1; j++) {
     const a = Math.abs(c[j]);
     if (a > primal) primal = a;
     lamSum += Math.abs(lambda[j]);
   }
-  const cnt = c.length + nz;
-  const sd = cnt > 0 ? Math.max(C.sMax, (lamSum + zSum) / cnt) / C.sMax : 1;
-  const sc = nz > 0 ? Math.max(C.sMax, zSum / nz) / C.sMax : 1;
-  return { dual, primal, compl, sd, sc, E: Math.max(dual / sd, primal, compl / sc) };
+  run[4] = primal; run[5] = lamSum;
 }

@@ -17,6 +17,8 @@
  * gap ≤ gapTol (1 + |f|) at "optimal", the relative duality-gap test of primal–dual
  * interior-point codes (S. J. Wright, Primal–Dual Interior-Point Methods, SIAM 1997, ch. 6).
  */
+import { LOOP_BLOCK } from "./vectors";
+
 export interface SolverGap {
   /** Σ s z over the finite bounds (≥ 0 in the interior). */
   complementarity: number;
@@ -38,11 +40,31 @@ export function solverGap(
   zL: Float64Array, zU: Float64Array, m: number, lambda: Float64Array, c: Float64Array,
   relaxL?: Float64Array, relaxU?: Float64Array,
 ): SolverGap {
-  let comp = 0, nz = 0, lc = 0, rel = 0;
-  for (let i = 0; i < N; i++) {
+  // In blocks (LOOP_BLOCK in vectors.ts), the running sums passed from block to block.
+  const run = RUN;
+  run.fill(0);
+  for (let i0 = 0; i0 < N; i0 += LOOP_BLOCK) gapBlock(i0, Math.min(N, i0 + LOOP_BLOCK), sL, sU, hasL, hasU, zL, zU, relaxL, relaxU, run);
+  for (let j0 = 0; j0 < m; j0 += LOOP_BLOCK) run[3] = dotBlock(j0, Math.min(m, j0 + LOOP_BLOCK), lambda, c, run[3]);
+  const comp = run[0], nz = run[1], rel = run[2], lc = run[3];
+  return { complementarity: comp, constraintTerm: lc, relaxation: rel, total: Math.abs(comp) + Math.abs(lc) + Math.abs(rel), nz };
+}
+
+/** solverGap's running values: Σ s z, n_z, Σ z δ, λᵀc. */
+const RUN = new Float64Array(4);
+
+function gapBlock(
+  i0: number, i1: number, sL: Float64Array, sU: Float64Array, hasL: Uint8Array, hasU: Uint8Array,
+  zL: Float64Array, zU: Float64Array, relaxL: Float64Array | undefined, relaxU: Float64Array | undefined, run: Float64Array,
+): void {
+  let comp = run[0], nz = run[1], rel = run[2];
+  for (let i = i0; i < i1; i++) {
     if (hasL[i]) { comp += sL[i] * zL[i]; nz++; if (relaxL) rel += zL[i] * relaxL[i]; }
     if (hasU[i]) { comp += sU[i] * zU[i]; nz++; if (relaxU) rel += zU[i] * relaxU[i]; }
   }
-  for (let j = 0; j < m; j++) lc += lambda[j] * c[j];
-  return { complementarity: comp, constraintTerm: lc, relaxation: rel, total: Math.abs(comp) + Math.abs(lc) + Math.abs(rel), nz };
+  run[0] = comp; run[1] = nz; run[2] = rel;
+}
+
+function dotBlock(j0: number, j1: number, x: Float64Array, y: Float64Array, sum: number): number {
+  for (let j = j0; j < j1; j++) sum += x[j] * y[j];
+  return sum;
 }

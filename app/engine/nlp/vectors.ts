@@ -4,6 +4,17 @@
  * n is the loop length.
  */
 
+/**
+ * Loops over all variables or rows that carry a running sum or product (kktError, solverGap,
+ * barrierValue) run in blocks of LOOP_BLOCK entries through a kernel that takes and returns the
+ * running values, instead of as one long loop. Such a loop, called a few dozen times per solve,
+ * was compiled in some runs with its running values boxed, a heap number per element (10–12 MB a
+ * solve at trapezoidal N = 1,600 in kktError or barrierValue, bench/allocation.bench.ts); a kernel
+ * called for every block is an ordinary hot function. The values pass from block to block, so the
+ * operations and their order are those of the single loop.
+ */
+export const LOOP_BLOCK = 1024;
+
 /** out = x + a·d (n). */
 export function axpyInto(n: number, out: Float64Array, x: Float64Array, a: number, d: Float64Array): void {
   for (let i = 0; i < n; i++) out[i] = x[i] + a * d[i];
