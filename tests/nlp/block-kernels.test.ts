@@ -9,13 +9,14 @@
  *   the duality gap Σ s_L z_L + Σ s_U z_U − λᵀc (Nocedal and Wright, Numerical Optimization, 2nd ed.,
  *   2006, §14.1, (14.7)) and the relaxation term Σ z δ (gap.ts);
  *   φ_μ of W&B 2006 eq. (3) with the damping term of §3.7 (κ_d = 1e-5).
+ *   ‖x‖₁ and xᵀy (norm1, dot).
  * The sums are compared with toBe: the same additions in the same order give the same bits.
  */
 import { describe, expect, it } from "vitest";
 import { kktError } from "~/engine/nlp/convergence";
 import { solverGap } from "~/engine/nlp/gap";
 import { barrierValue } from "~/engine/nlp/barrier-function";
-import { LOOP_BLOCK } from "~/engine/nlp/vectors";
+import { LOOP_BLOCK, dot, norm1 } from "~/engine/nlp/vectors";
 
 function rng(seed: number) {
   let s = seed >>> 0;
@@ -93,5 +94,16 @@ describe("block kernels give what one loop gives", () => {
     wBad[k] = wL[k]! - 1e-9;
     expect(hasL[k]).toBe(1);
     expect(barrierValue(f, wBad, wL, wU, hasL, hasU, mu)).toBe(Infinity);
+  });
+
+  it("‖x‖₁ and xᵀy over blocks, and over the first n entries only", () => {
+    let n1 = 0, xy = 0;
+    for (let i = 0; i < N; i++) { n1 += Math.abs(gradL[i]!); xy += gradL[i]! * sL[i]!; }
+    expect(norm1(N, gradL)).toBe(n1);
+    expect(dot(N, gradL, sL)).toBe(xy);
+    let part = 0;
+    for (let i = 0; i < LOOP_BLOCK + 1; i++) part += Math.abs(gradL[i]!);
+    expect(norm1(LOOP_BLOCK + 1, gradL)).toBe(part);
+    expect(dot(0, gradL, sL)).toBe(0);
   });
 });

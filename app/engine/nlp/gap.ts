@@ -17,7 +17,7 @@
  * gap ≤ gapTol (1 + |f|) at "optimal", the relative duality-gap test of primal–dual
  * interior-point codes (S. J. Wright, Primal–Dual Interior-Point Methods, SIAM 1997, ch. 6).
  */
-import { LOOP_BLOCK } from "./vectors";
+import { LOOP_BLOCK, dotRange } from "./vectors";
 
 export interface SolverGap {
   /** Σ s z over the finite bounds (≥ 0 in the interior). */
@@ -44,7 +44,7 @@ export function solverGap(
   const run = RUN;
   run.fill(0);
   for (let i0 = 0; i0 < N; i0 += LOOP_BLOCK) gapBlock(i0, Math.min(N, i0 + LOOP_BLOCK), sL, sU, hasL, hasU, zL, zU, relaxL, relaxU, run);
-  for (let j0 = 0; j0 < m; j0 += LOOP_BLOCK) run[3] = dotBlock(j0, Math.min(m, j0 + LOOP_BLOCK), lambda, c, run[3]);
+  for (let j0 = 0; j0 < m; j0 += LOOP_BLOCK) run[3] = dotRange(j0, Math.min(m, j0 + LOOP_BLOCK), lambda, c, run[3]);
   const comp = run[0], nz = run[1], rel = run[2], lc = run[3];
   return { complementarity: comp, constraintTerm: lc, relaxation: rel, total: Math.abs(comp) + Math.abs(lc) + Math.abs(rel), nz };
 }
@@ -62,9 +62,4 @@ function gapBlock(
     if (hasU[i]) { comp += sU[i] * zU[i]; nz++; if (relaxU) rel += zU[i] * relaxU[i]; }
   }
   run[0] = comp; run[1] = nz; run[2] = rel;
-}
-
-function dotBlock(j0: number, j1: number, x: Float64Array, y: Float64Array, sum: number): number {
-  for (let j = j0; j < j1; j++) sum += x[j] * y[j];
-  return sum;
 }

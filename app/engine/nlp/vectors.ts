@@ -6,12 +6,12 @@
 
 /**
  * Loops over all variables or rows that carry a running sum or product (kktError, solverGap,
- * barrierValue) run in blocks of LOOP_BLOCK entries through a kernel that takes and returns the
- * running values, instead of as one long loop. Such a loop, called a few dozen times per solve,
- * was compiled in some runs with its running values boxed, a heap number per element (10–12 MB a
- * solve at trapezoidal N = 1,600 in kktError or barrierValue, bench/allocation.bench.ts); a kernel
- * called for every block is an ordinary hot function. The values pass from block to block, so the
- * operations and their order are those of the single loop.
+ * barrierValue, norm1, dot) run in blocks of LOOP_BLOCK entries through a kernel that takes and
+ * returns the running values, instead of as one long loop. Such a loop, called a few dozen times
+ * per solve, was compiled in some runs with its running values boxed, a heap number per element
+ * (10–12 MB a solve at trapezoidal N = 1,600 in kktError or barrierValue, bench/allocation.bench.ts);
+ * a kernel called for every block is an ordinary hot function. The values pass from block to block,
+ * so the operations and their order are those of the single loop.
  */
 export const LOOP_BLOCK = 1024;
 
@@ -25,11 +25,17 @@ export function addScaled(n: number, y: Float64Array, a: number, x: Float64Array
   for (let i = 0; i < n; i++) y[i] += a * x[i];
 }
 
-/** Σ_i |x_i| (n). */
+/** Σ_i |x_i| (n), in blocks (LOOP_BLOCK). */
 export function norm1(n: number, x: Float64Array): number {
   let s = 0;
-  for (let i = 0; i < n; i++) s += Math.abs(x[i]);
+  for (let i0 = 0; i0 < n; i0 += LOOP_BLOCK) s = absSumRange(i0, Math.min(n, i0 + LOOP_BLOCK), x, s);
   return s;
+}
+
+/** sum + Σ_{i0 ≤ i < i1} |x_i|, added in order: one block of norm1. */
+function absSumRange(i0: number, i1: number, x: Float64Array, sum: number): number {
+  for (let i = i0; i < i1; i++) sum += Math.abs(x[i]);
+  return sum;
 }
 
 /** max_i |a·x_i| (n). */
@@ -39,11 +45,17 @@ export function normInfScaled(n: number, a: number, x: Float64Array): number {
   return s;
 }
 
-/** Σ_i x_i y_i (n). */
+/** Σ_i x_i y_i (n), in blocks (LOOP_BLOCK). */
 export function dot(n: number, x: Float64Array, y: Float64Array): number {
   let s = 0;
-  for (let i = 0; i < n; i++) s += x[i] * y[i];
+  for (let i0 = 0; i0 < n; i0 += LOOP_BLOCK) s = dotRange(i0, Math.min(n, i0 + LOOP_BLOCK), x, y, s);
   return s;
+}
+
+/** sum + Σ_{i0 ≤ i < i1} x_i y_i, added in order: one block of dot (and of solverGap's λᵀc). */
+export function dotRange(i0: number, i1: number, x: Float64Array, y: Float64Array, sum: number): number {
+  for (let i = i0; i < i1; i++) sum += x[i] * y[i];
+  return sum;
 }
 
 /** max_i |d_i| / (1 + |w_i|) (n): relative size of a step. */
