@@ -408,8 +408,35 @@ export function ldlSolveInPlace(sym: LdlSymbolic, fac: LdlFactor, x: Float64Arra
     }
   }
   for (let j = n - 1; j >= 0; j--) {
-    let s = x[j];
-    for (let p = Lp[j]; p < Lp[j + 1]; p++) s -= Lx[p] * x[Li[p]];
-    x[j] = s;
+    if (kind !== null && kind[j] === 2) {
+      // The pair (j−1, j) in one pass over its shared pattern: two independent sums, each in
+      // the order of the column-at-a-time loop, so each waits only on its own latency (the
+      // single sum of a column is bound by the latency of its subtractions).
+      const j1 = j - 1;
+      const p1 = Lp[j1]; // row j of column j−1: the pair's explicit 0 (ldlNumeric)
+      const shift = p1 + 1 - Lp[j];
+      let s1 = x[j1];
+      let s2 = x[j];
+      for (let p = Lp[j]; p < Lp[j + 1]; p++) {
+        const xi = x[Li[p]];
+        s2 -= Lx[p] * xi;
+        s1 -= Lx[p + shift] * xi;
+      }
+      x[j] = s2;
+      // Column j−1 subtracts L[j][j−1]·x_j first. That term is an exact 0·x_j, which changes no
+      // nonzero sum; a zero sum (sign of zero) or a non-finite x_j takes the column's own order.
+      if (s1 === 0 || s2 - s2 !== 0 || Lx[p1] !== 0) s1 = backwardColumn(Lp, Li, Lx, x, j1);
+      x[j1] = s1;
+      j--;
+      continue;
+    }
+    x[j] = backwardColumn(Lp, Li, Lx, x, j);
   }
+}
+
+/** x_j − Σ_p L[Li[p]][j] · x[Li[p]] over column j of L, in storage order (the backward solve's row j). */
+function backwardColumn(Lp: Int32Array, Li: Int32Array, Lx: Float64Array, x: Float64Array, j: number): number {
+  let s = x[j];
+  for (let p = Lp[j]; p < Lp[j + 1]; p++) s -= Lx[p] * x[Li[p]];
+  return s;
 }
