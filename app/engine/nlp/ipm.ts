@@ -31,7 +31,7 @@ import { finalPointWork, judgeFinalPoint, type FinalPointWork } from "./final-po
 import { LimitedMemoryHessian } from "./lbfgs";
 import { runRestoration } from "./restoration";
 import {
-  addScaled, allFinite, axpyInto, boundSlacks, dot, finalStepLength, jacTransposeTimes, kktRightHandSide, lagrangianGradient,
+  addScaled, allFinite, axpyInto, boundSlacks, columnOrder, dot, finalStepLength, jacTransposeGather, kktRightHandSide, lagrangianGradient,
   maxAbs, norm1, normInfScaled, primalDualSigma, relativeStep, shrinkRelaxation, splitSolution,
 } from "./vectors";
 
@@ -121,7 +121,8 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
   const wLv = P.wL, wUv = P.wU, jR = P.jRows, jC = P.jCols;
   const slacks = (v: Float64Array) => boundSlacks(N, v, wLv, wUv, hasL, hasU, sL, sU);
   const theta1 = (c: Float64Array) => norm1(m, c);
-  const jtTimes = (lam: Float64Array, out: Float64Array) => jacTransposeTimes(nnzJ, jR, jC, jv, lam, out);
+  const byColumn = columnOrder(N, nnzJ, jR, jC);
+  const jtTimes = (lam: Float64Array, out: Float64Array) => jacTransposeGather(N, byColumn, jv, lam, out);
   /** Objective at the last trial point (trialAt), whose constraints are left in cT. */
   let fTrial = NaN;
   /**

@@ -58,6 +58,8 @@ export class NlpReformulation implements InternalProblem {
   /** User Jacobian entries left out of the iteration (fixed column or row not kept). */
   private readonly jDrop: Int32Array;
   private readonly hKeep: Int32Array;
+  /** Every row's d_j is 1 (the usual case: the transcription scales its rows itself), so jac() copies. */
+  private readonly unitRows: boolean;
 
   constructor(readonly p: NlpProblem, relax: number, gMax: number, presolve = true) {
     const { n, m } = p;
@@ -164,6 +166,7 @@ export class NlpReformulation implements InternalProblem {
     for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = rowPos[j]; this.jCols[t] = this.slackOf[j]; t++; }
     this.jScale = new Float64Array(nKeep);
     for (let k = 0; k < nKeep; k++) this.jScale[k] = this.dc[jRowsU[this.jKeep[k]]];
+    this.unitRows = this.dc.every((d) => d === 1);
     this.jDrop = new Int32Array(nnzJU - nKeep);
     for (let k = 0, d = 0; k < nnzJU; k++) if (posFree[jColsU[k]] < 0 || rowPos[jRowsU[k]] < 0) this.jDrop[d++] = k;
 
@@ -263,10 +266,19 @@ export class NlpReformulation implements InternalProblem {
     // (fixed columns, rows outside the iteration): the checks of userJac without its own pass.
     const jk = this.jKeep, sc = this.jScale, drop = this.jDrop;
     let finite = true;
-    for (let t = 0; t < jk.length; t++) {
-      const v = ju[jk[t]];
-      if (v - v !== 0) finite = false;
-      out[t] = sc[t] * v;
+    if (this.unitRows) {
+      // 1 · v is v to the bit (NaN, ±0 and ±∞ included): the copy without the multiply
+      for (let t = 0; t < jk.length; t++) {
+        const v = ju[jk[t]];
+        if (v - v !== 0) finite = false;
+        out[t] = v;
+      }
+    } else {
+      for (let t = 0; t < jk.length; t++) {
+        const v = ju[jk[t]];
+        if (v - v !== 0) finite = false;
+        out[t] = sc[t] * v;
+      }
     }
     for (let t = 0; t < drop.length; t++) if (ju[drop[t]] - ju[drop[t]] !== 0) finite = false;
     if (!finite) this.checkJac(ju);

@@ -85,6 +85,44 @@ export function jacTransposeTimes(nnz: number, jR: Int32Array, jC: Int32Array, j
   for (let k = 0; k < nnz; k++) out[jC[k]] += jv[k] * lam[jR[k]];
 }
 
+/**
+ * The triplets of J grouped by column for Jᵀλ as a gather (jacTransposeGather): colPtr (N + 1),
+ * the triplet index of each entry and its row, stably ordered by column, so that each column's
+ * terms keep the triplet order of jacTransposeTimes. O(nnz + N), once per solve.
+ */
+export interface ColumnOrder {
+  colPtr: Int32Array;
+  entry: Int32Array;
+  row: Int32Array;
+}
+export function columnOrder(N: number, nnz: number, jR: Int32Array, jC: Int32Array): ColumnOrder {
+  const colPtr = new Int32Array(N + 1);
+  for (let k = 0; k < nnz; k++) colPtr[jC[k] + 1]++;
+  for (let j = 0; j < N; j++) colPtr[j + 1] += colPtr[j];
+  const next = colPtr.slice(0, N);
+  const entry = new Int32Array(nnz), row = new Int32Array(nnz);
+  for (let k = 0; k < nnz; k++) {
+    const q = next[jC[k]]++;
+    entry[q] = k;
+    row[q] = jR[k];
+  }
+  return { colPtr, entry, row };
+}
+
+/**
+ * out = Jᵀλ by columns: each out_j summed from 0 over column j's terms in triplet order, the same
+ * sums in the same order as jacTransposeTimes (the same numbers to the bit), without its fill and
+ * its scattered read–modify–write of out.
+ */
+export function jacTransposeGather(N: number, order: ColumnOrder, jv: Float64Array, lam: Float64Array, out: Float64Array): void {
+  const { colPtr, entry, row } = order;
+  for (let j = 0; j < N; j++) {
+    let s = 0;
+    for (let q = colPtr[j]; q < colPtr[j + 1]; q++) s += jv[entry[q]] * lam[row[q]];
+    out[j] = s;
+  }
+}
+
 /** gradL = ∇f + Jᵀλ − z_L + z_U (N). */
 export function lagrangianGradient(N: number, grad: Float64Array, JtL: Float64Array, zL: Float64Array, zU: Float64Array, gradL: Float64Array): void {
   for (let i = 0; i < N; i++) gradL[i] = grad[i] + JtL[i] - zL[i] + zU[i];

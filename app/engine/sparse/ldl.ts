@@ -8,8 +8,9 @@
  * (Davis, "Algorithm 849: A concise sparse Cholesky factorization package", ACM TOMS 31(4), 2005;
  *  the row-by-row variant with column fill pointers of QDLDL, Stellato et al., "OSQP: an operator
  *  splitting solver for quadratic programs", Math. Program. Comput. 12, 2020). Unlike QDLDL the
- *  row patterns are computed once in the symbolic phase (ldlSymbolic), since the interior-point
- *  method refactors the same pattern every iteration.
+ *  row patterns, and the slot of each of their entries in column storage (where QDLDL keeps a fill
+ *  pointer per column), are computed once in the symbolic phase (ldlSymbolic), since the
+ *  interior-point method refactors the same pattern every iteration.
  *
  * Inertia: by Sylvester's law of inertia the signs of d_k are the signs of the eigenvalues of A
  * (valid whenever every d_k ≠ 0). A pivot with |d_k| ≤ pivotTolerance (or NaN, ±∞) is counted as zero and
@@ -59,6 +60,12 @@ export interface LdlSymbolic {
   /** Row k of L has its nonzeros in columns rowCols[rowPtr[k] .. rowPtr[k+1]−1], increasing. */
   rowPtr: Int32Array;
   rowCols: Int32Array;
+  /**
+   * rowSlot[q]: where the entry (k, rowCols[q]) of row k sits in column storage (Li/Lx). Columns
+   * fill top-down as the rows are factored, so it is the column's next free slot when row k
+   * reaches it; found here once, the numeric phase neither loads nor advances such pointers.
+   */
+  rowSlot: Int32Array;
   /** 2×2 pivot pairs: kind[k] = 1 and kind[k+1] = 2 for a pair; 0 for a 1×1 pivot; null if none. */
   kind: Uint8Array | null;
 }
@@ -77,12 +84,10 @@ export interface LdlFactor {
   Einv: Float64Array;
 }
 
-/** Workspace of the numeric phase, allocated once per pattern (all length n). */
+/** Workspace of the numeric phase, allocated once per pattern (length n). */
 export interface LdlWorkspace {
   /** Dense values of the current row (zero between rows). */
   yVals: Float64Array;
-  /** Next free slot of each column of L during the factorisation. */
-  LNextSpaceInCol: Int32Array;
 }
 
 /**
@@ -115,20 +120,25 @@ export function ldlSymbolic(A: CscPattern, parent: Int32Array, Lnz: Int32Array, 
   const Li = new Int32Array(nnzL);
   const rowPtr = new Int32Array(n + 1);
   const rowCols = new Int32Array(nnzL);
+  const rowSlot = new Int32Array(nnzL);
   const next = Lp.slice(0, n);
   let count = 0;
   for (let k = 0; k < n; k++) {
     const start = count;
     count = rowReach(Ap, Ai, parent, kind, flag, k, rowCols, start);
     sortRange(rowCols, start, count);
-    for (let q = start; q < count; q++) Li[next[rowCols[q]]++] = k;
+    for (let q = start; q < count; q++) {
+      const slot = next[rowCols[q]]++;
+      Li[slot] = k;
+      rowSlot[q] = slot;
+    }
     rowPtr[k + 1] = count;
   }
   if (count !== nnzL) throw new Error(`sparse/ldl: pattern has ${count} entries, column counts say ${nnzL}`);
   for (let j = 0; j < n; j++) {
     if (next[j] !== Lp[j + 1]) throw new Error(`sparse/ldl: column ${j} has ${next[j] - Lp[j]} entries, its count says ${colCount[j]}`);
   }
-  return { n, parent, Lnz: colCount, Lp, Li, rowPtr, rowCols, kind };
+  return { n, parent, Lnz: colCount, Lp, Li, rowPtr, rowCols, rowSlot, kind };
 }
 
 /**
@@ -176,7 +186,7 @@ export function allocateLdlFactor(sym: LdlSymbolic): LdlFactor {
 }
 
 export function allocateLdlWorkspace(n: number): LdlWorkspace {
-  return { yVals: new Float64Array(n), LNextSpaceInCol: new Int32Array(n) };
+  return { yVals: new Float64Array(n) };
 }
 
 /**
@@ -195,19 +205,16 @@ export function ldlNumeric(
   regularization = 0,
 ): Inertia {
   const { n, colPtr: Ap, rowIdx: Ai } = A;
-  const { Lp, Li, rowPtr, rowCols, kind } = sym;
+  const { Lp, Li, rowPtr, rowCols, rowSlot, kind } = sym;
   const { Lx, D, Dinv, E, Einv } = fac;
-  const { yVals, LNextSpaceInCol } = ws;
+  const { yVals } = ws;
   let positive = 0;
   let negative = 0;
   let zero = 0;
   let regularized = 0;
   let regularizedNegative = 0;
 
-  for (let i = 0; i < n; i++) {
-    yVals[i] = 0;
-    LNextSpaceInCol[i] = Lp[i];
-  }
+  yVals.fill(0, 0, n);
 
   for (let k = 0; k < n; k++) {
     // Scatter column k of A (rows ≤ k) into y.
@@ -218,11 +225,12 @@ export function ldlNumeric(
       else yVals[i] += Ax[p];
     }
     // Sparse triangular solve for row k over its precomputed pattern, in increasing
-    // (topological) order: y_c is final when column c is reached.
+    // (topological) order: y_c is final when column c is reached. Column c holds rows < k in
+    // Lp[c] .. end − 1, and row k's entry goes to end.
     const qEnd = rowPtr[k + 1];
     for (let q = rowPtr[k]; q < qEnd; q++) {
       const c = rowCols[q];
-      const end = LNextSpaceInCol[c];
+      const end = rowSlot[q];
       const yc = yVals[c];
       if (kind !== null && kind[c] === 1 && c + 1 !== k) {
         // A 2×2 pair (c, c+1) met in a later row: its two columns share one pattern (column c has
@@ -230,7 +238,7 @@ export function ldlNumeric(
         // supernode of width 2. The same operations in the same order as column c then column c+1
         // one at a time: bit-identical values, half the index loads and loop overhead.
         const c2 = c + 1;
-        const end2 = LNextSpaceInCol[c2];
+        const end2 = rowSlot[q + 1]; // column c+1 is the next entry of the row's pattern
         const p1 = Lp[c];
         const y2 = yVals[c2] - Lx[p1] * yc; // L[c+1][c] = 0: column c's update of row c+1
         const shift = p1 + 1 - Lp[c2];
@@ -238,8 +246,6 @@ export function ldlNumeric(
           const i = Li[p];
           yVals[i] = yVals[i] - Lx[p + shift] * yc - Lx[p] * y2;
         }
-        LNextSpaceInCol[c] = end + 1;
-        LNextSpaceInCol[c2] = end2 + 1;
         yVals[c] = 0;
         yVals[c2] = 0;
         // [l_{k,c}, l_{k,c+1}] = B⁻¹ [y_c, y_{c+1}]
@@ -248,11 +254,10 @@ export function ldlNumeric(
         Lx[end] = l1;
         Lx[end2] = l2;
         dk -= yc * l1 + y2 * l2;
-        q++; // column c+1 is the next entry of the row's pattern
+        q++;
         continue;
       }
       for (let p = Lp[c]; p < end; p++) yVals[Li[p]] -= Lx[p] * yc;
-      LNextSpaceInCol[c] = end + 1;
       yVals[c] = 0;
       const kc = kind === null ? 0 : kind[c];
       if (kc === 0) {
@@ -268,7 +273,8 @@ export function ldlNumeric(
         }
       } else {
         // second column of the pair (c−1, c): [l_{k,c−1}, l_{k,c}] = B⁻¹ [y_{c−1}, y_c]
-        const s1 = LNextSpaceInCol[c - 1] - 1;
+        // (y_{c−1} was kept at row k's slot of column c−1, the previous entry of the row)
+        const s1 = rowSlot[q - 1];
         const y1 = Lx[s1];
         const l1 = Dinv[c - 1] * y1 + Einv[c - 1] * yc;
         const l2 = Einv[c - 1] * y1 + Dinv[c] * yc;
