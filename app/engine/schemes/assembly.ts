@@ -92,7 +92,8 @@ export class Assembly {
 
   // Jacobian contributions
   /** Jacobian slot of each linear entry (their coefficients are summed in entry order, from 0). */
-  private readonly linSlot: Int32Array;
+  /** J's constant part, from the linear terms: where jacobianPhys starts (no fill, no pass over them). */
+  private readonly jacLinear: Float64Array;
   private readonly jacFromJ: Contrib; // · T when scaled: separate arrays
   private readonly jacFromJScaled: Contrib;
   private readonly jacFromF: Contrib; // tf product terms
@@ -292,8 +293,11 @@ export class Assembly {
     this.gradFromJScaled = contribOf(gbS, gbSrc, gbC);
     this.gradFromF = contribOf(gcS, gcSrc, gcC);
     const nnzJ = jac.n;
-    this.linSlot = new Int32Array(this.linRow.length);
-    for (let k = 0; k < this.linRow.length; k++) this.linSlot[k] = jac.find(this.linRow[k], this.linVar[k]);
+    const linSlot = new Int32Array(this.linRow.length);
+    for (let k = 0; k < this.linRow.length; k++) linSlot[k] = jac.find(this.linRow[k], this.linVar[k]);
+    // the linear terms' part of J, summed from 0 in the order jacobianPhys used to add them
+    this.jacLinear = new Float64Array(nnzJ);
+    for (let k = 0; k < linSlot.length; k++) this.jacLinear[linSlot[k]] += this.linCoef[k];
     this.jacRows = jac.a.done();
     this.jacCols = jac.b.done();
 
@@ -462,9 +466,7 @@ export class Assembly {
   jacobianPhys(X: Float64Array, out: Float64Array): void {
     this.evalSites(X, true);
     const T = this.span(X);
-    out.fill(0);
-    const { linSlot, linCoef } = this;
-    for (let k = 0; k < linSlot.length; k++) out[linSlot[k]] += linCoef[k];
+    out.set(this.jacLinear);
     addContrib(out, this.jacFromJ, this.J, 1);
     addContrib(out, this.jacFromJScaled, this.J, T);
     addContrib(out, this.jacFromF, this.F, 1);
