@@ -10,6 +10,7 @@
  *   2006, §14.1, (14.7)) and the relaxation term Σ z δ (gap.ts);
  *   φ_μ of W&B 2006 eq. (3) with the damping term of §3.7 (κ_d = 1e-5).
  *   ‖x‖₁ and xᵀy (norm1, dot).
+ * E₀ and E_μ of one pass (kktError with muAlso) against two calls.
  * The sums are compared with toBe: the same additions in the same order give the same bits.
  */
 import { describe, expect, it } from "vitest";
@@ -57,6 +58,17 @@ describe("block kernels give what one loop gives", () => {
     expect(e.E).toBe(Math.max(dual / sd, primal, compl / sc));
     expect(sd).toBeGreaterThan(1); // the sums matter here: s_d and s_c are not clipped at s_max
     expect(sc).toBeGreaterThan(1);
+  });
+
+  it("E₀ with E_μ from the same pass (muAlso) gives what two separate calls give", () => {
+    const mu = 3.7e-4;
+    const both = kktError(gradL, c, sL, sU, hasL, hasU, lambda, zL, zU, 0, mu);
+    const e0 = kktError(gradL, c, sL, sU, hasL, hasU, lambda, zL, zU, 0);
+    const emu = kktError(gradL, c, sL, sU, hasL, hasU, lambda, zL, zU, mu);
+    expect({ ...both, EAlso: 0 }).toEqual({ ...e0, EAlso: 0 });
+    expect(both.EAlso).toBe(emu.E);
+    expect(both.EAlso).not.toBe(both.E); // the two μ give different errors here
+    expect(e0.EAlso).toBeNaN();
   });
 
   it("the duality gap and the relaxation term of gap.ts", () => {

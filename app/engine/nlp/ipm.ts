@@ -213,7 +213,9 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
     slacks(w);
     jtTimes(lambda, JtL);
     lagrangianGradient(N, grad, JtL, zL, zU, gradL);
-    const E0 = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, 0);
+    // E₀ and, from the same pass, E_μ at the current μ for the barrier update below
+    const E0 = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, 0, mu);
+    const muOfE0 = mu;
     infPr = P.reportInfPr(w, cv);
     infDu = E0.dual;
     const fUser = P.reportF(w, fval);
@@ -328,7 +330,7 @@ export function runIpm(P: InternalProblem, st: IpmState, ctx: IpmContext, hooks:
 
     // ---- barrier parameter update, eq. (7)-(8); repeated while the subproblem is solved.
     for (;;) {
-      const Emu = kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, mu).E;
+      const Emu = mu === muOfE0 ? E0.EAlso : kktError(gradL, cv, sL, sU, hasL, hasU, lambda, zL, zU, mu).E;
       if (!(mu > mMin && (Emu <= C.kappaEpsilon * mu || forceMuUpdate))) break;
       forceMuUpdate = false;
       mu = Math.max(mMin, nextMu(mu, 0));
