@@ -5,7 +5,7 @@
 import fc from "fast-check";
 import { Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
-import { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualRowSums, tripletsToUpperCsc } from "~/engine/sparse";
+import { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, symmetricResidualRowSums, tripletsToUpperCsc, upperRows } from "~/engine/sparse";
 import type { CscPattern } from "~/engine/sparse/csc";
 import { randomDominant, rng } from "./helpers";
 
@@ -88,6 +88,32 @@ describe("CSC operations", () => {
     for (let i = 0; i < 50; i++) {
       const dense = M.dense.getRow(i).reduce((t, v) => t + Math.abs(v), 0);
       expect(Math.abs(rowAbs[i] - dense)).toBeLessThan(1e-12 * dense);
+    }
+  });
+
+  it("symmetricResidualByRows gives the column-wise residual and row sums to the bit, NaN included", () => {
+    for (const seed of [3, 4, 5]) {
+      const n = 60;
+      const M = randomDominant(n, 5, seed);
+      const { A, slot } = tripletsToUpperCsc(n, M.rows, M.cols);
+      const Ax = assemble(slot, A.colPtr[n], M.values);
+      const r = rng(seed);
+      const x = Float64Array.from({ length: n }, (_, i) => (i % 9 === 4 ? -0 : r() - 0.5));
+      const b = Float64Array.from({ length: n }, () => r() - 0.5);
+      const upper = upperRows(A);
+      const ref = new Float64Array(n), rowAbs = new Float64Array(n), ours = new Float64Array(n), norm = new Float64Array(1);
+      const resRef = symmetricResidualRowSums(A, Ax, x, b, ref, rowAbs);
+      expect(symmetricResidualByRows(A, Ax, upper, x, b, ours, norm)).toBe(resRef);
+      for (let i = 0; i < n; i++) if (!Object.is(ours[i], ref[i])) expect([i, ours[i]]).toEqual([i, ref[i]]);
+      expect(norm[0]).toBe(rowAbs.reduce((m, v) => (v > m ? v : m), 0));
+      // ‖A‖∞ of the dense matrix (ml-matrix rows), to rounding
+      let dense = 0;
+      for (let i = 0; i < n; i++) dense = Math.max(dense, M.dense.getRow(i).reduce((t, v) => t + Math.abs(v), 0));
+      expect(Math.abs(norm[0] - dense)).toBeLessThan(1e-12 * dense);
+      x[7] = NaN;
+      expect(symmetricResidualByRows(A, Ax, upper, x, b, ours, norm)).toBeNaN();
+      expect(symmetricResidualRowSums(A, Ax, x, b, ref, rowAbs)).toBeNaN();
+      for (let i = 0; i < n; i++) expect(Object.is(ours[i], ref[i])).toBe(true);
     }
   });
 

@@ -21,7 +21,7 @@
  * factor and solve allocate nothing except the small Inertia object returned by factor.
  */
 import { amdOrder, type AmdInfo } from "./amd";
-import { symmetricAdjacency, symmetricPermute, symmetricResidual, symmetricResidualRowSums, type CscPattern } from "./csc";
+import { symmetricAdjacency, symmetricPermute, symmetricResidual, symmetricResidualByRows, upperRows, type CscPattern, type UpperRows } from "./csc";
 import { eliminationTree } from "./etree";
 import { matchConstrained, preferPartners } from "./matching";
 import { pairedAmdOrder } from "./pairs";
@@ -42,7 +42,7 @@ import type { Inertia, SymmetricSolverLike } from "./types";
 export type { Inertia, SymmetricSolverLike } from "./types";
 export { amdOrder } from "./amd";
 export { tripletsToUpperCsc, validateTriplets } from "./triplet";
-export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualRowSums, type CscPattern } from "./csc";
+export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, symmetricResidualRowSums, upperRows, type CscPattern, type UpperRows } from "./csc";
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
 export { pairedAmdOrder } from "./pairs";
@@ -141,6 +141,9 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private signsPermuted: Int8Array | null = null;
   /** ‖A‖∞ of the last factored matrix (−1 until a solve needs it). */
   private normA = -1;
+  /** Row-wise upper triangle of C for the residual (made by the first solve). */
+  private upper: UpperRows | null = null;
+  private readonly normOut = new Float64Array(1);
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
   private factored = false;
   private assembled: { slots: Int32Array; values: Float64Array } | null = null;
@@ -351,11 +354,10 @@ export class SymmetricSolver implements SymmetricSolverLike {
     ldlSolveInPlace(sym, fac, xp);
     let res: number;
     if (this.normA < 0) {
-      // First solve after a factorisation: ‖A‖∞ from the residual's own pass over A.
-      res = symmetricResidualRowSums(C, Cx, xp, bp, r, xt);
-      let normA = 0;
-      for (let k = 0; k < n; k++) if (xt[k] > normA) normA = xt[k];
-      this.normA = normA;
+      // First solve after a factorisation: ‖A‖∞ from the residual's own pass over A, by rows.
+      this.upper ??= upperRows(C);
+      res = symmetricResidualByRows(C, Cx, this.upper, xp, bp, r, this.normOut);
+      this.normA = this.normOut[0];
     } else res = symmetricResidual(C, Cx, xp, bp, r);
     let accepted = 0;
     let scale = this.backwardScale(xp, normB);
