@@ -101,11 +101,12 @@ describe("CSC operations", () => {
       const x = Float64Array.from({ length: n }, (_, i) => (i % 9 === 4 ? -0 : r() - 0.5));
       const b = Float64Array.from({ length: n }, () => r() - 0.5);
       const upper = upperRows(A);
-      const ref = new Float64Array(n), rowAbs = new Float64Array(n), ours = new Float64Array(n), norm = new Float64Array(1);
+      const ref = new Float64Array(n), rowAbs = new Float64Array(n), ours = new Float64Array(n), norm = new Float64Array(2);
       const resRef = symmetricResidualRowSums(A, Ax, x, b, ref, rowAbs);
       expect(symmetricResidualByRows(A, Ax, upper, x, b, ours, norm)).toBe(resRef);
       for (let i = 0; i < n; i++) if (!Object.is(ours[i], ref[i])) expect([i, ours[i]]).toEqual([i, ref[i]]);
       expect(norm[0]).toBe(rowAbs.reduce((m, v) => (v > m ? v : m), 0));
+      expect(norm[1]).toBe(x.reduce((m, v) => (Math.abs(v) > m ? Math.abs(v) : m), 0));
       // ‖A‖∞ of the dense matrix (ml-matrix rows), to rounding
       let dense = 0;
       for (let i = 0; i < n; i++) dense = Math.max(dense, M.dense.getRow(i).reduce((t, v) => t + Math.abs(v), 0));

@@ -135,7 +135,8 @@ export function upperRows(A: CscPattern): UpperRows {
 /**
  * symmetricResidualRowSums row by row, for an upper-stored A whose columns each end with their
  * diagonal: r = b − A x, returns ‖r‖∞ (NaN if an entry is not a number), and ‖A‖∞ (the largest
- * absolute row sum, NaN rows ignored as there) in normOut[0]. Each row's sums take the terms in
+ * absolute row sum, NaN rows ignored as there) in normOut[0] and ‖x‖∞ (NaN entries ignored) in
+ * normOut[1], for the backward error's scale without another pass. Each row's sums take the terms in
  * the order symmetricResidualRowSums adds them (the diagonal's, then the row's entries left of it
  * as one partial sum, then those right of it by increasing column), so the numbers are the same to
  * the bit; but nothing is scattered: each row is summed in registers, where the column-wise pass
@@ -149,7 +150,11 @@ export function symmetricResidualByRows(
   let norm = 0;
   let finite = true;
   let normA = 0;
+  let normX = 0;
   for (let i = 0; i < n; i++) {
+    const xi = x[i];
+    const ax = Math.abs(xi);
+    if (ax > normX) normX = ax;
     const c0 = colPtr[i];
     const c1 = colPtr[i + 1];
     const hasDiag = c1 > c0 && rowIdx[c1 - 1] === i;
@@ -163,7 +168,7 @@ export function symmetricResidualByRows(
     let s = 0, sa = 0;
     if (hasDiag) {
       const a = values[c1 - 1];
-      s += a * x[i];
+      s += a * xi;
       sa += Math.abs(a);
     }
     s += y;
@@ -181,6 +186,7 @@ export function symmetricResidualByRows(
     if (sa > normA) normA = sa;
   }
   normOut[0] = normA;
+  normOut[1] = normX;
   return finite ? norm : NaN;
 }
 

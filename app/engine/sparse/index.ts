@@ -143,7 +143,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private normA = -1;
   /** Row-wise upper triangle of C for the residual (made by the first solve). */
   private upper: UpperRows | null = null;
-  private readonly normOut = new Float64Array(1);
+  private readonly normOut = new Float64Array(2);
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
   private factored = false;
   private assembled: { slots: Int32Array; values: Float64Array } | null = null;
@@ -353,14 +353,18 @@ export class SymmetricSolver implements SymmetricSolverLike {
     }
     ldlSolveInPlace(sym, fac, xp);
     let res: number;
+    let scale: number;
     if (this.normA < 0) {
-      // First solve after a factorisation: ‖A‖∞ from the residual's own pass over A, by rows.
+      // First solve after a factorisation: ‖A‖∞ and ‖x‖∞ from the residual's own pass, by rows.
       this.upper ??= upperRows(C);
       res = symmetricResidualByRows(C, Cx, this.upper, xp, bp, r, this.normOut);
       this.normA = this.normOut[0];
-    } else res = symmetricResidual(C, Cx, xp, bp, r);
+      scale = this.normA * this.normOut[1] + normB;
+    } else {
+      res = symmetricResidual(C, Cx, xp, bp, r);
+      scale = this.backwardScale(xp, normB);
+    }
     let accepted = 0;
-    let scale = this.backwardScale(xp, normB);
     for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * scale; step++) {
       ldlSolveInPlace(sym, fac, r); // r ← correction
       for (let k = 0; k < n; k++) xt[k] = xp[k] + r[k];
