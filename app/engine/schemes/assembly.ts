@@ -117,9 +117,7 @@ export class Assembly {
   private haveJ = false;
   /** this.X equals lastX entry by entry (!==), so evalSites(this.X) needs no comparison pass. */
   private ownMatchesCache = false;
-  private readonly gPhys: Float64Array;
   private readonly lamPhys: Float64Array;
-  private readonly gradPhys: Float64Array;
 
   constructor(spec: AssemblySpec) {
     const { tables: T, ...header } = spec;
@@ -344,9 +342,7 @@ export class Assembly {
     // workspaces
     this.X = new Float64Array(n);
     this.lastX = new Float64Array(n);
-    this.gPhys = new Float64Array(m);
     this.lamPhys = new Float64Array(m);
-    this.gradPhys = new Float64Array(n);
 
     // ---- scaling
     const d = spec.varScale;
@@ -479,9 +475,8 @@ export class Assembly {
     const T = this.span(X);
     const om = this.omega;
     om.fill(0);
-    // Two stores, not one store of `r >= 0 ? lambda[r] : sigma`: V8 (Node 20) gives that
-    // conditional a tagged representation and boxes every λ it loads, a heap number per term
-    // (150 KB of garbage per call and 40 % of this function's time at trapezoidal N = 1,600).
+    // Two stores, not one of `r >= 0 ? lambda[r] : sigma`: V8 (Node 20) boxes every λ such a
+    // conditional loads (150 KB of garbage a call, 40 % of this function at trapezoidal N = 1,600).
     const { termOut, termRow, termW } = this;
     for (let k = 0; k < termOut.length; k++) {
       const r = termRow[k];
@@ -526,9 +521,8 @@ export class Assembly {
   }
 
   /**
-   * toPhysical into this.X, noting whether any entry changed: the IPM asks for ∇f, J and the
-   * Hessian at the point whose f and c it has just had, and then the site cache is known valid
-   * without evalSites comparing all n entries again (2 ms a solve at trapezoidal N = 1,600).
+   * toPhysical into this.X, noting a change: ∇f, J and the Hessian at the point whose f and c were
+   * just evaluated then skip evalSites' comparison of all n entries (2 ms a solve, trapezoidal 1,600).
    */
   private loadOwn(y: Float64Array): void {
     const d = this.spec.varScale, X = this.X;
