@@ -91,7 +91,6 @@ export class Assembly {
   private readonly fTerms: { out: Int32Array; w: Float64Array; scaled: Uint8Array };
 
   // Jacobian contributions
-  /** Jacobian slot of each linear entry (their coefficients are summed in entry order, from 0). */
   /** J's constant part, from the linear terms: where jacobianPhys starts (no fill, no pass over them). */
   private readonly jacLinear: Float64Array;
   private readonly jacFromJ: Contrib; // · T when scaled: separate arrays

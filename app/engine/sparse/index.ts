@@ -42,7 +42,7 @@ import type { Inertia, SymmetricSolverLike } from "./types";
 export type { Inertia, SymmetricSolverLike } from "./types";
 export { amdOrder } from "./amd";
 export { tripletsToUpperCsc, validateTriplets } from "./triplet";
-export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, symmetricResidualRowSums, upperRows, type CscPattern, type UpperRows } from "./csc";
+export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, upperRows, type CscPattern, type UpperRows } from "./csc";
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
 export { pairedAmdOrder } from "./pairs";
