@@ -37,10 +37,8 @@ export function kktError(
   run.fill(0);
   const N = gradL.length;
   const two = muAlso === muAlso;
-  for (let i0 = 0; i0 < N; i0 += LOOP_BLOCK) {
-    if (two) boundBlock2(i0, Math.min(N, i0 + LOOP_BLOCK), gradL, sL, sU, hasL, hasU, zL, zU, mu, muAlso, run);
-    else boundBlock(i0, Math.min(N, i0 + LOOP_BLOCK), gradL, sL, sU, hasL, hasU, zL, zU, mu, run);
-  }
+  const mu2 = two ? muAlso : mu; // without a second μ the second maximum is the first's, unused
+  for (let i0 = 0; i0 < N; i0 += LOOP_BLOCK) boundBlock(i0, Math.min(N, i0 + LOOP_BLOCK), gradL, sL, sU, hasL, hasU, zL, zU, mu, mu2, run);
   for (let j0 = 0; j0 < c.length; j0 += LOOP_BLOCK) rowBlock(j0, Math.min(c.length, j0 + LOOP_BLOCK), c, lambda, run);
   const dual = run[0], compl = run[1], zSum = run[2], nz = run[3], primal = run[4], lamSum = run[5];
   const cnt = c.length + nz;
@@ -53,25 +51,11 @@ export function kktError(
 /** kktError's running values: max |∇L|, max |s z − μ|, Σ|z|, n_z, max |c|, Σ|λ|, max |s z − μ₂|. */
 const RUN = new Float64Array(7);
 
-function boundBlock(
-  i0: number, i1: number, gradL: Float64Array, sL: Float64Array, sU: Float64Array, hasL: Uint8Array, hasU: Uint8Array,
-  zL: Float64Array, zU: Float64Array, mu: number, run: Float64Array,
-): void {
-  let dual = run[0], compl = run[1], zSum = run[2], nz = run[3];
-  for (let i = i0; i < i1; i++) {
-    const a = Math.abs(gradL[i]);
-    if (a > dual) dual = a;
-    if (hasL[i]) { nz++; zSum += Math.abs(zL[i]); const e = Math.abs(sL[i] * zL[i] - mu); if (e > compl) compl = e; }
-    if (hasU[i]) { nz++; zSum += Math.abs(zU[i]); const e = Math.abs(sU[i] * zU[i] - mu); if (e > compl) compl = e; }
-  }
-  run[0] = dual; run[1] = compl; run[2] = zSum; run[3] = nz;
-}
-
 /**
- * boundBlock with the complementarity at a second μ as well (run[6]): the interior-point method
- * wants E₀ and E_μ of the same iterate, and the product s z is the same for both.
+ * One block of the bound terms, with the complementarity at a second μ as well (run[6]): the
+ * interior-point method wants E₀ and E_μ of the same iterate, and s z is the same for both.
  */
-function boundBlock2(
+function boundBlock(
   i0: number, i1: number, gradL: Float64Array, sL: Float64Array, sU: Float64Array, hasL: Uint8Array, hasU: Uint8Array,
   zL: Float64Array, zU: Float64Array, mu: number, mu2: number, run: Float64Array,
 ): void {
