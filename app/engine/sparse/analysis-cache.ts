@@ -27,6 +27,8 @@ export interface StoredAnalysis {
   sym: LdlSymbolic;
   orderingMs: number;
   denseRows: number;
+  /** With pairs: the ordering kept (pairs.ts cheapestPairedOrder). */
+  pairedOrdering?: "amd" | "natural";
 }
 
 interface Entry {

@@ -43,3 +43,35 @@ export function eliminationTree(A: CscPattern, parent: Int32Array, Lnz: Int32Arr
   if (nnzL > 0x7fffffff) throw new Error(`sparse/etree: the factor would have ${nnzL} nonzeros, more than an Int32Array can index`);
   return nnzL;
 }
+
+/**
+ * eliminationTree of the permuted matrix C = P A Pᵀ (pivot k is node perm[k]) without forming C:
+ * row k of C's upper part is {pinv[i] < k : i a neighbour of perm[k] in G}, G the full adjacency
+ * of A without diagonal. The same parent and Lnz as eliminationTree(C) (the tree and the counts
+ * do not depend on the order in which a row's entries are walked). Returns nnz(L).
+ */
+export function permutedEliminationTree(G: CscPattern, perm: Int32Array, pinv: Int32Array, parent: Int32Array, Lnz: Int32Array, flag: Int32Array): number {
+  const { n, colPtr, rowIdx } = G;
+  let nnzL = 0;
+  for (let k = 0; k < n; k++) {
+    parent[k] = -1;
+    Lnz[k] = 0;
+  }
+  for (let k = 0; k < n; k++) {
+    flag[k] = k;
+    const node = perm[k];
+    for (let p = colPtr[node]; p < colPtr[node + 1]; p++) {
+      let i = pinv[rowIdx[p]];
+      if (i > k) continue;
+      while (flag[i] !== k) {
+        if (parent[i] === -1) parent[i] = k;
+        Lnz[i]++;
+        nnzL++;
+        flag[i] = k;
+        i = parent[i];
+      }
+    }
+  }
+  if (nnzL > 0x7fffffff) throw new Error(`sparse/etree: the factor would have ${nnzL} nonzeros, more than an Int32Array can index`);
+  return nnzL;
+}

@@ -24,7 +24,7 @@ import { amdOrder, type AmdInfo } from "./amd";
 import { symmetricAdjacency, symmetricPermute, symmetricResidual, symmetricResidualByRows, upperRows, type CscPattern, type UpperRows } from "./csc";
 import { eliminationTree } from "./etree";
 import { matchConstrained, preferPartners } from "./matching";
-import { pairedAmdOrder } from "./pairs";
+import { cheapestPairedOrder } from "./pairs";
 import {
   allocateLdlFactor,
   allocateLdlWorkspace,
@@ -45,7 +45,7 @@ export { tripletsToUpperCsc, validateTriplets } from "./triplet";
 export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, upperRows, type CscPattern, type UpperRows } from "./csc";
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
-export { pairedAmdOrder } from "./pairs";
+export { cheapestPairedOrder, pairedAmdOrder } from "./pairs";
 export { analysisCacheStats, clearAnalysisCache } from "./analysis-cache";
 
 export interface SymmetricSolverOptions {
@@ -70,7 +70,9 @@ export interface SymmetricSolverOptions {
    * (pairs.ts, ldl.ts), so that a zero row of W with δw = δc = 0 needs no regularisation. The
    * pairing prefers variables with a small diagonal against the coupling, judged on the values of
    * the FIRST factor() call, where the ordering and symbolic analysis then run (matching.ts
-   * preferPartners). Default false (1×1 pivots with the matched precedence ordering). AMD only.
+   * preferPartners). The paired graph is ordered by AMD and by index, and the order with the
+   * cheaper factor is kept (pairs.ts cheapestPairedOrder; symbolicStats.pairedOrdering says which).
+   * Default false (1×1 pivots with the matched precedence ordering). Needs ordering "amd".
    */
   pairs?: boolean;
   /**
@@ -98,6 +100,8 @@ export interface SymbolicStats {
   denseRows: number;
   /** The analysis was that of an earlier solver of the same inputs (analysis-cache.ts). */
   reused?: boolean;
+  /** With pairs: the ordering kept, AMD's or the natural one, whichever factor is cheaper (pairs.ts). */
+  pairedOrdering?: "amd" | "natural";
 }
 
 /** Default pivot tolerance: common practice, no source (about 1e3·ε for a matrix scaled to O(1) entries). */
@@ -245,15 +249,20 @@ export class SymmetricSolver implements SymmetricSolverLike {
       const info: AmdInfo = { denseRows: 0, compressions: 0, releases: 0 };
       let perm: Int32Array;
       let kind: Uint8Array | null = null;
+      let tree: { parent: Int32Array; Lnz: Int32Array } | null = null;
+      let pairedOrdering: "amd" | "natural" | undefined;
       if (mode === "natural") {
         perm = new Int32Array(n);
         for (let k = 0; k < n; k++) perm[k] = k;
       } else if (mode === "amd") {
         perm = amdOrder(G!, {}, info);
       } else if (mode === "amd-pairs") {
-        const paired = pairedAmdOrder(G!, partner!, info);
+        const paired = cheapestPairedOrder(G!, partner!);
         perm = paired.perm;
         kind = paired.kind;
+        tree = paired;
+        info.denseRows = paired.denseRows;
+        pairedOrdering = paired.chosen;
       } else {
         perm = amdOrder(G!, { constrained: constrained!, partner: matchConstrained(G!, constrained!) }, info);
       }
@@ -268,12 +277,12 @@ export class SymmetricSolver implements SymmetricSolverLike {
       const { C, slotMap } = symmetricPermute(A, pinv);
       const slot = new Int32Array(this.nT);
       for (let t = 0; t < this.nT; t++) slot[t] = slotMap[slotA[t]];
-      const parent = new Int32Array(n);
-      const Lnz = new Int32Array(n);
-      const flag = new Int32Array(n);
-      eliminationTree(C, parent, Lnz, flag);
-      const sym = ldlSymbolic(C, parent, Lnz, kind);
-      stored = { perm, pinv, kind, signsPermuted, C, slot, sym, orderingMs, denseRows: info.denseRows };
+      if (tree === null) {
+        tree = { parent: new Int32Array(n), Lnz: new Int32Array(n) };
+        eliminationTree(C, tree.parent, tree.Lnz, new Int32Array(n));
+      }
+      const sym = ldlSymbolic(C, tree.parent, tree.Lnz, kind);
+      stored = { perm, pinv, kind, signsPermuted, C, slot, sym, orderingMs, denseRows: info.denseRows, pairedOrdering };
       storeAnalysis(key, stored, hash);
     }
     this.permutation = stored.perm;
@@ -288,6 +297,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     this.A = null;
     this.slotA = null;
     this.stats = { orderingMs: reused ? 0 : stored.orderingMs, totalMs: performance.now() - this.t0, nnzA: stored.C.colPtr[n], denseRows: stored.denseRows, reused };
+    if (stored.pairedOrdering !== undefined) this.stats.pairedOrdering = stored.pairedOrdering;
     this.analysed = true;
   }
 
