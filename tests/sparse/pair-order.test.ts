@@ -155,6 +155,10 @@ describe("permutedEliminationTree", () => {
         expect(Array.from(parent)).toEqual(ref.parent);
         expect(Array.from(Lnz)).toEqual(ref.Lnz);
         expect(nnzL).toBe(ref.Lnz.reduce((a, b) => a + b, 0));
+        // a limit below nnz(L) stops the walk; one at nnz(L) does not
+        const ws = [new Int32Array(n), new Int32Array(n), new Int32Array(n)] as const;
+        expect(permutedEliminationTree(symmetricAdjacency(A), perm, pinv, ...ws, nnzL)).toBe(nnzL);
+        if (nnzL > 0) expect(permutedEliminationTree(symmetricAdjacency(A), perm, pinv, ...ws, nnzL - 1)).toBe(-1);
         const formed = { parent: new Int32Array(n), Lnz: new Int32Array(n) };
         eliminationTree(symmetricPermute(A, pinv).C, formed.parent, formed.Lnz, new Int32Array(n));
         expect(parent).toEqual(formed.parent);

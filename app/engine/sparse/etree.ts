@@ -48,9 +48,13 @@ export function eliminationTree(A: CscPattern, parent: Int32Array, Lnz: Int32Arr
  * eliminationTree of the permuted matrix C = P A Pᵀ (pivot k is node perm[k]) without forming C:
  * row k of C's upper part is {pinv[i] < k : i a neighbour of perm[k] in G}, G the full adjacency
  * of A without diagonal. The same parent and Lnz as eliminationTree(C) (the tree and the counts
- * do not depend on the order in which a row's entries are walked). Returns nnz(L).
+ * do not depend on the order in which a row's entries are walked). Returns nnz(L), or −1 as soon
+ * as it exceeds `limit` (parent and Lnz are then incomplete): the cost of the walk is O(nnz(L)), so
+ * a caller comparing orderings bounds it by what the best one so far would allow.
  */
-export function permutedEliminationTree(G: CscPattern, perm: Int32Array, pinv: Int32Array, parent: Int32Array, Lnz: Int32Array, flag: Int32Array): number {
+export function permutedEliminationTree(
+  G: CscPattern, perm: Int32Array, pinv: Int32Array, parent: Int32Array, Lnz: Int32Array, flag: Int32Array, limit = Infinity,
+): number {
   const { n, colPtr, rowIdx } = G;
   let nnzL = 0;
   for (let k = 0; k < n; k++) {
@@ -71,6 +75,7 @@ export function permutedEliminationTree(G: CscPattern, perm: Int32Array, pinv: I
         i = parent[i];
       }
     }
+    if (nnzL > limit) return -1;
   }
   if (nnzL > 0x7fffffff) throw new Error(`sparse/etree: the factor would have ${nnzL} nonzeros, more than an Int32Array can index`);
   return nnzL;

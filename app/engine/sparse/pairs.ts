@@ -175,7 +175,10 @@ export function cheapestPairedOrder(G: CscPattern, partner: Int32Array): PairedO
     for (let k = 0; k < n; k++) pinv[perm[k]] = k;
     const parent = new Int32Array(n);
     const Lnz = new Int32Array(n);
-    permutedEliminationTree(G, perm, pinv, parent, Lnz, flag);
+    // Σ|L_j|² ≥ nnz(L)²/n (Cauchy–Schwarz): past √(n·best work) nonzeros this order cannot win, so
+    // the walk stops there (an order that fills badly would otherwise cost O(nnz(L)) to count).
+    const limit = best === null ? Infinity : Math.sqrt(n * best.work);
+    if (permutedEliminationTree(G, perm, pinv, parent, Lnz, flag, limit) < 0) continue;
     let work = 0;
     for (let j = 0; j < n; j++) {
       const count = kind[j] === 1 ? Lnz[j + 1] + 1 : Lnz[j];
