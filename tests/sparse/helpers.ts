@@ -146,6 +146,52 @@ export function denseSymbolicNnzL(n: number, rows: Int32Array, cols: Int32Array,
   return count;
 }
 
+/** m random pattern entries of an n×n symmetric matrix as lower triplets (row ≥ col), drawn from r. */
+export function randomLowerPattern(n: number, m: number, r: () => number): { rows: Int32Array; cols: Int32Array } {
+  const rows = new Int32Array(n > 0 ? m : 0);
+  const cols = new Int32Array(n > 0 ? m : 0);
+  for (let t = 0; t < rows.length; t++) {
+    const a = Math.floor(r() * n);
+    const b = Math.floor(r() * n);
+    rows[t] = Math.max(a, b);
+    cols[t] = Math.min(a, b);
+  }
+  return { rows, cols };
+}
+
+/** A uniformly random permutation of 0..n−1 (Fisher–Yates) drawn from r. */
+export function randomPermutation(n: number, r: () => number): Int32Array {
+  const perm = Int32Array.from({ length: n }, (_, i) => i);
+  for (let i = n - 1; i > 0; i--) {
+    const j = Math.floor(r() * (i + 1));
+    [perm[i], perm[j]] = [perm[j], perm[i]];
+  }
+  return perm;
+}
+
+/**
+ * Elimination tree and column counts of the factor of P A Pᵀ (identity P without perm) by dense
+ * symbolic elimination: parent(j) = min{ i > j : l_ij ≠ 0 }, Lnz[j] = #{ i > j : l_ij ≠ 0 } (Liu,
+ * "The role of elimination trees in sparse factorization", SIAM J. Matrix Anal. Appl. 11(1), 1990),
+ * eliminating k joining its later neighbours (Parter's rule). O(n³): small n only.
+ */
+export function denseEliminationTree(n: number, rows: Int32Array, cols: Int32Array, perm?: Int32Array): { parent: Int32Array; Lnz: Int32Array } {
+  const pinv = new Int32Array(n);
+  for (let k = 0; k < n; k++) pinv[perm ? perm[k] : k] = k;
+  const S = Array.from({ length: n }, () => new Uint8Array(n));
+  for (let t = 0; t < rows.length; t++) S[pinv[rows[t]]][pinv[cols[t]]] = S[pinv[cols[t]]][pinv[rows[t]]] = 1;
+  const parent = new Int32Array(n).fill(-1);
+  const Lnz = new Int32Array(n);
+  for (let k = 0; k < n; k++) {
+    const below: number[] = [];
+    for (let i = k + 1; i < n; i++) if (S[i][k]) below.push(i);
+    Lnz[k] = below.length;
+    if (below.length) parent[k] = below[0];
+    for (const a of below) for (const b of below) S[a][b] = 1;
+  }
+  return { parent, Lnz };
+}
+
 export function maxAbs(v: ArrayLike<number>): number {
   let m = 0;
   for (let i = 0; i < v.length; i++) m = Math.max(m, Math.abs(v[i]));

@@ -31,29 +31,11 @@ import { solveNlp } from "~/engine/nlp";
 import { getScheme } from "~/engine/schemes";
 import { copsGoddardFromCopsStart } from "../../bench/side-by-side-problem";
 import { pairedNaturalOrder } from "~/engine/sparse/pairs";
-import { fromEntries, maxAbs, rng, trolleyKkt, type SymTriplets } from "./helpers";
-
-/** parent and column counts of P A Pᵀ by dense symbolic elimination (perm[k] = original node of pivot k). */
-function denseTree(n: number, rows: Int32Array, cols: Int32Array, perm: Int32Array): { parent: number[]; Lnz: number[] } {
-  const pinv = new Int32Array(n);
-  for (let k = 0; k < n; k++) pinv[perm[k]] = k;
-  const S = Array.from({ length: n }, () => new Uint8Array(n));
-  for (let t = 0; t < rows.length; t++) S[pinv[rows[t]]][pinv[cols[t]]] = S[pinv[cols[t]]][pinv[rows[t]]] = 1;
-  const parent: number[] = new Array(n).fill(-1);
-  const Lnz: number[] = new Array(n).fill(0);
-  for (let k = 0; k < n; k++) {
-    const below: number[] = [];
-    for (let i = k + 1; i < n; i++) if (S[i][k]) below.push(i);
-    Lnz[k] = below.length;
-    if (below.length) parent[k] = below[0];
-    for (const a of below) for (const b of below) S[a][b] = 1;
-  }
-  return { parent, Lnz };
-}
+import { denseEliminationTree, fromEntries, randomLowerPattern, maxAbs, randomPermutation, rng, trolleyKkt, type SymTriplets } from "./helpers";
 
 /** Σ_j |L_j|² of the paired factor in the order perm, from the dense counts. */
 function denseWork(M: SymTriplets, perm: Int32Array, kind: Uint8Array): number {
-  const { Lnz } = denseTree(M.n, M.rows, M.cols, perm);
+  const { Lnz } = denseEliminationTree(M.n, M.rows, M.cols, perm);
   let work = 0;
   for (let j = 0; j < M.n; j++) {
     const c = kind[j] === 1 ? Lnz[j + 1] + 1 : Lnz[j];
@@ -94,16 +76,8 @@ function goddardKkt(N: number): SymTriplets & { nVar: number; nCon: number } {
 /** The same matrix with its variables and rows renumbered at random (the time order lost). */
 function scrambled(M: SymTriplets & { nVar: number; nCon: number }, seed: number): SymTriplets & { nVar: number; nCon: number } {
   const r = rng(seed);
-  const shuffle = (k: number) => {
-    const p = Array.from({ length: k }, (_, i) => i);
-    for (let i = k - 1; i > 0; i--) {
-      const j = Math.floor(r() * (i + 1));
-      [p[i], p[j]] = [p[j], p[i]];
-    }
-    return p;
-  };
-  const pv = shuffle(M.nVar);
-  const pc = shuffle(M.nCon);
+  const pv = randomPermutation(M.nVar, r);
+  const pc = randomPermutation(M.nCon, r);
   const map = (i: number) => (i < M.nVar ? pv[i] : M.nVar + pc[i - M.nVar]);
   const e: Array<[number, number, number]> = [];
   for (let t = 0; t < M.rows.length; t++) {
@@ -130,30 +104,17 @@ describe("permutedEliminationTree", () => {
     fc.assert(
       fc.property(fc.integer({ min: 1, max: 40 }), fc.integer({ min: 0, max: 120 }), fc.integer({ min: 0, max: 2 ** 31 - 1 }), (n, m, seed) => {
         const r = rng(seed);
-        const R: number[] = [];
-        const C: number[] = [];
-        for (let t = 0; t < m; t++) {
-          const a = Math.floor(r() * n);
-          const b = Math.floor(r() * n);
-          R.push(Math.max(a, b));
-          C.push(Math.min(a, b));
-        }
-        const rows = Int32Array.from(R);
-        const cols = Int32Array.from(C);
+        const { rows, cols } = randomLowerPattern(n, m, r);
         const { A } = tripletsToUpperCsc(n, rows, cols);
-        const perm = Int32Array.from({ length: n }, (_, i) => i);
-        for (let i = n - 1; i > 0; i--) {
-          const j = Math.floor(r() * (i + 1));
-          [perm[i], perm[j]] = [perm[j], perm[i]];
-        }
+        const perm = randomPermutation(n, r);
         const pinv = new Int32Array(n);
         for (let k = 0; k < n; k++) pinv[perm[k]] = k;
         const parent = new Int32Array(n);
         const Lnz = new Int32Array(n);
         const nnzL = permutedEliminationTree(symmetricAdjacency(A), perm, pinv, parent, Lnz, new Int32Array(n));
-        const ref = denseTree(n, rows, cols, perm);
-        expect(Array.from(parent)).toEqual(ref.parent);
-        expect(Array.from(Lnz)).toEqual(ref.Lnz);
+        const ref = denseEliminationTree(n, rows, cols, perm);
+        expect(parent).toEqual(ref.parent);
+        expect(Lnz).toEqual(ref.Lnz);
         expect(nnzL).toBe(ref.Lnz.reduce((a, b) => a + b, 0));
         // a limit below nnz(L) stops the walk; one at nnz(L) does not
         const ws = [new Int32Array(n), new Int32Array(n), new Int32Array(n)] as const;
@@ -216,9 +177,9 @@ describe("cheapestPairedOrder", () => {
     expect(best.work).toBe(Math.min(workAmd, workNatural));
     expect(best.work).toBe(expected === "amd" ? workAmd : workNatural);
     expect(Array.from(best.perm)).toEqual(Array.from(expected === "amd" ? amd.perm : natural.perm));
-    const ref = denseTree(M.n, M.rows, M.cols, best.perm);
-    expect(Array.from(best.parent)).toEqual(ref.parent);
-    expect(Array.from(best.Lnz)).toEqual(ref.Lnz);
+    const ref = denseEliminationTree(M.n, M.rows, M.cols, best.perm);
+    expect(best.parent).toEqual(ref.parent);
+    expect(best.Lnz).toEqual(ref.Lnz);
   });
 
   it("the KKT solver reports the ordering it kept, and either order solves as the dense LU does", () => {

@@ -7,7 +7,7 @@ import { Matrix } from "ml-matrix";
 import { describe, expect, it } from "vitest";
 import { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, tripletsToUpperCsc, upperRows } from "~/engine/sparse";
 import type { CscPattern } from "~/engine/sparse/csc";
-import { randomDominant, rng } from "./helpers";
+import { randomDominant, randomPermutation, rng } from "./helpers";
 
 function toDense(A: CscPattern, values: Float64Array): Matrix {
   const M = Matrix.zeros(A.n, A.n);
@@ -141,12 +141,7 @@ describe("CSC operations", () => {
     const M = randomDominant(n, 3, 8);
     const { A, slot } = tripletsToUpperCsc(n, M.rows, M.cols);
     const Ax = assemble(slot, A.colPtr[n], M.values);
-    const r = rng(9);
-    const perm = Int32Array.from({ length: n }, (_, i) => i);
-    for (let i = n - 1; i > 0; i--) {
-      const j = Math.floor(r() * (i + 1));
-      [perm[i], perm[j]] = [perm[j], perm[i]];
-    }
+    const perm = randomPermutation(n, rng(9));
     const pinv = new Int32Array(n);
     for (let k = 0; k < n; k++) pinv[perm[k]] = k;
     const { C, slotMap } = symmetricPermute(A, pinv);

@@ -20,28 +20,7 @@
 import type { CscPattern } from "./csc";
 
 export function eliminationTree(A: CscPattern, parent: Int32Array, Lnz: Int32Array, flag: Int32Array): number {
-  const { n, colPtr, rowIdx } = A;
-  let nnzL = 0;
-  for (let k = 0; k < n; k++) {
-    parent[k] = -1;
-    Lnz[k] = 0;
-  }
-  for (let k = 0; k < n; k++) {
-    flag[k] = k;
-    for (let p = colPtr[k]; p < colPtr[k + 1]; p++) {
-      let i = rowIdx[p];
-      if (i > k) throw new Error(`sparse/etree: entry (${i}, ${k}) lies below the diagonal; the matrix must be upper-stored`);
-      while (flag[i] !== k) {
-        if (parent[i] === -1) parent[i] = k;
-        Lnz[i]++;
-        nnzL++;
-        flag[i] = k;
-        i = parent[i];
-      }
-    }
-  }
-  if (nnzL > 0x7fffffff) throw new Error(`sparse/etree: the factor would have ${nnzL} nonzeros, more than an Int32Array can index`);
-  return nnzL;
+  return walkTree(A, null, null, parent, Lnz, flag, Infinity);
 }
 
 /**
@@ -55,7 +34,12 @@ export function eliminationTree(A: CscPattern, parent: Int32Array, Lnz: Int32Arr
 export function permutedEliminationTree(
   G: CscPattern, perm: Int32Array, pinv: Int32Array, parent: Int32Array, Lnz: Int32Array, flag: Int32Array, limit = Infinity,
 ): number {
-  const { n, colPtr, rowIdx } = G;
+  return walkTree(G, perm, pinv, parent, Lnz, flag, limit);
+}
+
+/** Both of the above: without perm, A is upper-stored and an entry below the diagonal is an error; with it, such entries are the other half of the full G. */
+function walkTree(A: CscPattern, perm: Int32Array | null, pinv: Int32Array | null, parent: Int32Array, Lnz: Int32Array, flag: Int32Array, limit: number): number {
+  const { n, colPtr, rowIdx } = A;
   let nnzL = 0;
   for (let k = 0; k < n; k++) {
     parent[k] = -1;
@@ -63,10 +47,13 @@ export function permutedEliminationTree(
   }
   for (let k = 0; k < n; k++) {
     flag[k] = k;
-    const node = perm[k];
+    const node = perm === null ? k : perm[k];
     for (let p = colPtr[node]; p < colPtr[node + 1]; p++) {
-      let i = pinv[rowIdx[p]];
-      if (i > k) continue;
+      let i = pinv === null ? rowIdx[p] : pinv[rowIdx[p]];
+      if (i > k) {
+        if (perm === null) throw new Error(`sparse/etree: entry (${i}, ${k}) lies below the diagonal; the matrix must be upper-stored`);
+        continue;
+      }
       while (flag[i] !== k) {
         if (parent[i] === -1) parent[i] = k;
         Lnz[i]++;

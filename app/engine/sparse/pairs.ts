@@ -22,17 +22,10 @@ import { permutedEliminationTree } from "./etree";
 
 export function pairedAmdOrder(G: CscPattern, partner: Int32Array, info?: AmdInfo): { perm: Int32Array; kind: Uint8Array } {
   const { n, colPtr, rowIdx } = G;
+  const pairedWith = pairedWithOf(partner);
   // representative of each node: the variable of its pair, or itself
   const rep = new Int32Array(n);
-  for (let i = 0; i < n; i++) rep[i] = i;
-  const pairedWith = new Int32Array(n).fill(-1); // variable v → its constraint row c
-  for (let c = 0; c < n; c++) {
-    const v = partner[c];
-    if (v < 0) continue;
-    if (pairedWith[v] !== -1 || partner[v] >= 0) throw new Error(`sparse/pairs: partner[${c}] = ${v} is not a distinct unpaired node`);
-    rep[c] = v;
-    pairedWith[v] = c;
-  }
+  for (let i = 0; i < n; i++) rep[i] = partner[i] >= 0 ? partner[i] : i;
   // compressed node ids
   const sid = new Int32Array(n).fill(-1);
   const members = new Int32Array(n); // compressed id → representative
@@ -84,12 +77,32 @@ export function pairedAmdOrder(G: CscPattern, partner: Int32Array, info?: AmdInf
     }
   }
   const permC = amdOrder({ n: nc, colPtr: count, rowIdx: adj }, {}, info);
-  // expand: a pair becomes (v, c) at consecutive positions
+  const order = new Int32Array(nc);
+  for (let q = 0; q < nc; q++) order[q] = members[permC[q]];
+  return expandPairs(order, pairedWith);
+}
+
+/** pairedWith[v] = the constraint row paired with variable v, −1 if none; checks that the pairs are disjoint. */
+function pairedWithOf(partner: Int32Array): Int32Array {
+  const n = partner.length;
+  const pairedWith = new Int32Array(n).fill(-1);
+  for (let c = 0; c < n; c++) {
+    const v = partner[c];
+    if (v < 0) continue;
+    if (pairedWith[v] !== -1 || partner[v] >= 0) throw new Error(`sparse/pairs: partner[${c}] = ${v} is not a distinct unpaired node`);
+    pairedWith[v] = c;
+  }
+  return pairedWith;
+}
+
+/** The pivot order from an order of the representatives: a pair becomes (v, c) at consecutive positions. */
+function expandPairs(order: Int32Array, pairedWith: Int32Array): { perm: Int32Array; kind: Uint8Array } {
+  const n = pairedWith.length;
   const perm = new Int32Array(n);
   const kind = new Uint8Array(n);
   let k = 0;
-  for (let q = 0; q < nc; q++) {
-    const v = members[permC[q]];
+  for (let q = 0; q < order.length; q++) {
+    const v = order[q];
     perm[k++] = v;
     const c = pairedWith[v];
     if (c >= 0) {
@@ -109,35 +122,19 @@ export function pairedAmdOrder(G: CscPattern, partner: Int32Array, info?: AmdInf
  */
 export function pairedNaturalOrder(G: CscPattern, partner: Int32Array): { perm: Int32Array; kind: Uint8Array } {
   const { n, colPtr } = G;
-  const pairedWith = new Int32Array(n).fill(-1);
-  let nc = n;
-  for (let c = 0; c < n; c++) {
-    const v = partner[c];
-    if (v < 0) continue;
-    if (pairedWith[v] !== -1 || partner[v] >= 0) throw new Error(`sparse/pairs: partner[${c}] = ${v} is not a distinct unpaired node`);
-    pairedWith[v] = c;
-    nc--;
-  }
+  const pairedWith = pairedWithOf(partner);
+  let nc = 0;
+  for (let i = 0; i < n; i++) if (partner[i] < 0) nc++;
   const threshold = Math.max(16, Math.floor(10 * Math.sqrt(nc)));
-  const perm = new Int32Array(n);
-  const kind = new Uint8Array(n);
-  let k = 0;
-  const place = (v: number): void => {
-    perm[k++] = v;
-    const c = pairedWith[v];
-    if (c >= 0) {
-      kind[k - 1] = 1;
-      kind[k] = 2;
-      perm[k++] = c;
-    }
-  };
   const degree = (v: number): number => {
     const c = pairedWith[v];
     return colPtr[v + 1] - colPtr[v] + (c >= 0 ? colPtr[c + 1] - colPtr[c] : 0);
   };
-  for (let v = 0; v < n; v++) if (partner[v] < 0 && degree(v) <= threshold) place(v);
-  for (let v = 0; v < n; v++) if (partner[v] < 0 && degree(v) > threshold) place(v);
-  return { perm, kind };
+  const order = new Int32Array(nc);
+  let q = 0;
+  for (let v = 0; v < n; v++) if (partner[v] < 0 && degree(v) <= threshold) order[q++] = v;
+  for (let v = 0; v < n; v++) if (partner[v] < 0 && degree(v) > threshold) order[q++] = v;
+  return expandPairs(order, pairedWith);
 }
 
 /** A paired ordering with its elimination tree, column counts and factorisation work. */
