@@ -58,7 +58,7 @@ export class NlpReformulation implements InternalProblem {
   /** User Jacobian entries left out of the iteration (fixed column or row not kept). */
   private readonly jDrop: Int32Array;
   private readonly hKeep: Int32Array;
-  /** Every row's d_j is 1 (the usual case: the transcription scales its rows itself), so jac() copies. */
+  /** Every kept entry's row scale d_j is 1 (the usual case: the transcription scales its rows itself), so jac() copies. */
   private readonly unitRows: boolean;
 
   constructor(readonly p: NlpProblem, relax: number, gMax: number, presolve = true) {
@@ -166,7 +166,7 @@ export class NlpReformulation implements InternalProblem {
     for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = rowPos[j]; this.jCols[t] = this.slackOf[j]; t++; }
     this.jScale = new Float64Array(nKeep);
     for (let k = 0; k < nKeep; k++) this.jScale[k] = this.dc[jRowsU[this.jKeep[k]]];
-    this.unitRows = this.dc.every((d) => d === 1);
+    this.unitRows = this.jScale.every((d) => d === 1);
     this.jDrop = new Int32Array(nnzJU - nKeep);
     for (let k = 0, d = 0; k < nnzJU; k++) if (posFree[jColsU[k]] < 0 || rowPos[jRowsU[k]] < 0) this.jDrop[d++] = k;
 
