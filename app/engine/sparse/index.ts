@@ -21,7 +21,7 @@
  * factor and solve allocate nothing except the small Inertia object returned by factor.
  */
 import { amdOrder, type AmdInfo } from "./amd";
-import { symmetricAdjacency, symmetricPermute, symmetricResidual, symmetricResidualByRows, upperRows, type CscPattern, type UpperRows } from "./csc";
+import { symmetricAdjacency, symmetricInfNorm, symmetricPermute, symmetricResidual, symmetricResidualBounds, type CscPattern } from "./csc";
 import { eliminationTree } from "./etree";
 import { matchConstrained, preferPartners } from "./matching";
 import { cheapestPairedOrder } from "./pairs";
@@ -42,7 +42,7 @@ import type { Inertia, SymmetricSolverLike } from "./types";
 export type { Inertia, SymmetricSolverLike } from "./types";
 export { amdOrder } from "./amd";
 export { tripletsToUpperCsc, validateTriplets } from "./triplet";
-export { symmetricAdjacency, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualByRows, upperRows, type CscPattern, type UpperRows } from "./csc";
+export { symmetricAdjacency, symmetricInfNorm, symmetricMatVec, symmetricPermute, symmetricResidual, symmetricResidualBounds, type CscPattern } from "./csc";
 export { eliminationTree } from "./etree";
 export { matchConstrained } from "./matching";
 export { cheapestPairedOrder, pairedAmdOrder } from "./pairs";
@@ -115,8 +115,22 @@ export class SymmetricSolver implements SymmetricSolverLike {
   readonly n: number;
   /** ‖b − A x‖∞ after the last solve (NaN before any solve). */
   lastResidual = NaN;
-  /** ‖b − A x‖∞ / (‖A‖∞ ‖x‖∞ + ‖b‖∞) after the last solve: the normwise backward error. */
-  lastRelativeResidual = NaN;
+  /**
+   * ‖b − A x‖∞ / (‖A‖∞ ‖x‖∞ + ‖b‖∞) after the last solve: the normwise backward error. NaN before
+   * any solve. A solve that needed no refinement leaves ‖A‖∞ to be computed here, from the matrix
+   * it solved with: read after the matrix has been factored again, such a value is NaN.
+   */
+  get lastRelativeResidual(): number {
+    const p = this.pendingScale;
+    if (p.epoch >= 0) {
+      if (p.epoch !== this.epoch) return NaN;
+      if (this.normA < 0) this.normA = symmetricInfNorm(this.C, this.Cx, this.r);
+      const scale = this.normA * p.normX + p.normB;
+      this.relativeResidual = scale > 0 ? this.lastResidual / scale : this.lastResidual;
+      p.epoch = -1;
+    }
+    return this.relativeResidual;
+  }
   /** Refinement steps accepted in the last solve. */
   lastRefinementSteps = 0;
 
@@ -145,8 +159,11 @@ export class SymmetricSolver implements SymmetricSolverLike {
   private signsPermuted: Int8Array | null = null;
   /** ‖A‖∞ of the last factored matrix (−1 until a solve needs it). */
   private normA = -1;
-  /** Row-wise upper triangle of C for the residual (made by the first solve). */
-  private upper: UpperRows | null = null;
+  /** Factorisations so far: tells lastRelativeResidual whether its matrix is still the factored one. */
+  private epoch = 0;
+  private relativeResidual = NaN;
+  /** The last solve's ‖x‖∞ and ‖b‖∞ while its relative residual waits for ‖A‖∞ (epoch −1: none waits). */
+  private readonly pendingScale = { epoch: -1, normX: 0, normB: 0 };
   private readonly normOut = new Float64Array(2);
   private readonly inertiaWork: Inertia = { ok: false, positive: 0, negative: 0, zero: 0 };
   private factored = false;
@@ -335,6 +352,7 @@ export class SymmetricSolver implements SymmetricSolverLike {
     if (!this.analysed) throw new Error("sparse/SymmetricSolver.factorAssembled: no analysis yet; call factor(values) first");
     ldlNumeric(this.C, this.Cx, this.sym, this.fac, this.ws, this.pivotTolerance, this.inertiaWork, this.signsPermuted, this.regularization);
     this.normA = -1; // computed by the first solve that needs it
+    this.epoch++;
     this.factored = true;
     const { ok, positive, negative, zero, regularized, regularizedNegative } = this.inertiaWork;
     return this.signsPermuted === null ? { ok, positive, negative, zero } : { ok, positive, negative, zero, regularized, regularizedNegative };
@@ -365,11 +383,23 @@ export class SymmetricSolver implements SymmetricSolverLike {
     let res: number;
     let scale: number;
     if (this.normA < 0) {
-      // First solve after a factorisation: ‖A‖∞ and ‖x‖∞ from the residual's own pass, by rows.
-      this.upper ??= upperRows(C);
-      res = symmetricResidualByRows(C, Cx, this.upper, xp, bp, r, this.normOut);
-      this.normA = this.normOut[0];
-      scale = this.normA * this.normOut[1] + normB;
+      // ‖A‖∞ not yet known for this factor: the residual's pass gives a lower bound (the largest
+      // |a_ii|) and ‖x‖∞; where the stopping test already holds with the bound it holds with ‖A‖∞,
+      // no refinement step is taken, and the norm's own pass is left to lastRelativeResidual.
+      res = symmetricResidualBounds(C, Cx, xp, bp, r, this.normOut);
+      const normX = this.normOut[1];
+      if (res <= REFINEMENT_STOP * (this.normOut[0] * normX + normB)) {
+        this.lastResidual = res;
+        const p = this.pendingScale;
+        p.epoch = this.epoch;
+        p.normX = normX;
+        p.normB = normB;
+        this.lastRefinementSteps = 0;
+        for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
+        return;
+      }
+      this.normA = symmetricInfNorm(C, Cx, xt);
+      scale = this.normA * normX + normB;
     } else {
       res = symmetricResidual(C, Cx, xp, bp, r);
       scale = this.backwardScale(xp, normB);
@@ -389,7 +419,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     }
     for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
     this.lastResidual = res;
-    this.lastRelativeResidual = scale > 0 ? res / scale : res;
+    this.pendingScale.epoch = -1;
+    this.relativeResidual = scale > 0 ? res / scale : res;
     this.lastRefinementSteps = accepted;
   }
 
