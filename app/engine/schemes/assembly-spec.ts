@@ -216,6 +216,25 @@ export function addContrib(out: Float64Array, c: Contrib, src: Float64Array, fac
   else for (let k = 0; k < slot.length; k++) out[slot[k]] += factor * coef[k] * src[idx[k]];
 }
 
+/** The Jacobian's tables: its constant part from the linear terms (where a call starts: no fill), and the site contributions. */
+export interface JacTables {
+  linear: Float64Array;
+  fromJ: Contrib;
+  /** · T when scaled: separate arrays */
+  fromJScaled: Contrib;
+  /** tf product terms */
+  fromF: Contrib;
+}
+/** The Hessian's tables: site contributions, and the free final time's cross terms value[slot] += coef · ω[out] · J[src]. */
+export interface HessTables {
+  fromH: Contrib;
+  cross: { slot: Int32Array; src: Int32Array; out: Int32Array; coef: Float64Array };
+}
+/** c with each coefficient times the scale of the slot it adds to. */
+export function scaledContrib(c: Contrib, scale: Float64Array): Contrib {
+  return { slot: c.slot, src: c.src, coef: c.coef.map((v, k) => v * scale[c.slot[k]]) };
+}
+
 /**
  * Slots of distinct integer pairs (a, b) in order of first appearance: the sparsity patterns of
  * the Jacobian (row, variable) and of the Hessian (p ≥ q). An open-addressing hash table in an

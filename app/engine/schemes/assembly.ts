@@ -28,7 +28,7 @@
  */
 import type { PointFunction } from "../problem/types";
 import type { NlpProblem } from "../nlp/types";
-import { addContrib, contribOf, IntList, NumList, PairSlots, type AssemblySpec, type Contrib } from "./assembly-spec";
+import { addContrib, contribOf, IntList, NumList, PairSlots, scaledContrib, type AssemblySpec, type Contrib, type HessTables, type JacTables } from "./assembly-spec";
 
 export { AssemblyTables, type AffineInput, type AssemblySpec } from "./assembly-spec";
 
@@ -90,24 +90,16 @@ export class Assembly {
   private readonly gTerms: { out: Int32Array; row: Int32Array; w: Float64Array; scaled: Uint8Array };
   private readonly fTerms: { out: Int32Array; w: Float64Array; scaled: Uint8Array };
 
-  // Jacobian contributions
-  /** J's constant part, from the linear terms: where jacobianPhys starts (no fill, no pass over them). */
-  private readonly jacLinear: Float64Array;
-  private readonly jacFromJ: Contrib; // · T when scaled: separate arrays
-  private readonly jacFromJScaled: Contrib;
-  private readonly jacFromF: Contrib; // tf product terms
+  /** The Jacobian's contributions with the NLP's slot scales folded into their coefficients. */
+  private readonly jacNlp: JacTables;
   private readonly gradFromJ: Contrib;
   private readonly gradFromJScaled: Contrib;
   private readonly gradFromF: Contrib;
   private readonly linRow: Int32Array;
   private readonly linVar: Int32Array;
   private readonly linCoef: Float64Array;
-  private readonly jacSlotScale: Float64Array;
-  // Hessian contributions
-  private readonly hessFromH: Contrib;
-  /** Cross terms: value[slot] += coef · ω[srcOut] · J[src]. */
-  private readonly hessCross: { slot: Int32Array; src: Int32Array; out: Int32Array; coef: Float64Array };
-  private readonly hessSlotScale: Float64Array;
+  /** The Hessian's contributions, likewise. */
+  private readonly hessNlp: HessTables;
 
   // workspaces
   private readonly X: Float64Array;
@@ -283,18 +275,19 @@ export class Assembly {
         }
       }
     }
-    this.jacFromJ = contribOf(aS, aSrc, aC);
-    this.jacFromJScaled = contribOf(bS, bSrc, bC);
-    this.jacFromF = contribOf(cS, cSrc, cC);
+    const jacFromJ = contribOf(aS, aSrc, aC);
+    const jacFromJScaled = contribOf(bS, bSrc, bC);
+    const jacFromF = contribOf(cS, cSrc, cC);
     this.gradFromJ = contribOf(gaS, gaSrc, gaC);
     this.gradFromJScaled = contribOf(gbS, gbSrc, gbC);
     this.gradFromF = contribOf(gcS, gcSrc, gcC);
     const nnzJ = jac.n;
     const linSlot = new Int32Array(this.linRow.length);
     for (let k = 0; k < this.linRow.length; k++) linSlot[k] = jac.find(this.linRow[k], this.linVar[k]);
-    // the linear terms' part of J, summed from 0 in the order jacobianPhys used to add them
-    this.jacLinear = new Float64Array(nnzJ);
-    for (let k = 0; k < linSlot.length; k++) this.jacLinear[linSlot[k]] += this.linCoef[k];
+    // the linear terms' part of J, summed from 0 in the order jacobianFrom used to add them
+    const jacLinear = new Float64Array(nnzJ);
+    for (let k = 0; k < linSlot.length; k++) jacLinear[linSlot[k]] += this.linCoef[k];
+    const jp: JacTables = { linear: jacLinear, fromJ: jacFromJ, fromJScaled: jacFromJScaled, fromF: jacFromF };
     this.jacRows = jac.a.done();
     this.jacCols = jac.b.done();
 
@@ -332,8 +325,7 @@ export class Assembly {
         }
       }
     }
-    this.hessFromH = contribOf(hS, hSrc, hC);
-    this.hessCross = { slot: xS.done(), src: xSrc.done(), out: xOut.done(), coef: xC.done() };
+    const hp: HessTables = { fromH: contribOf(hS, hSrc, hC), cross: { slot: xS.done(), src: xSrc.done(), out: xOut.done(), coef: xC.done() } };
     this.hessRows = hess.a.done();
     this.hessCols = hess.b.done();
     T.release();
@@ -350,7 +342,7 @@ export class Assembly {
     let autoScale: Float64Array | null = null;
     if (needAuto) {
       const J0 = new Float64Array(nnzJ);
-      this.jacobianPhys(spec.x0, J0);
+      this.jacobianFrom(spec.x0, J0, jp);
       autoScale = new Float64Array(m);
       for (let k = 0; k < nnzJ; k++) {
         const v = Math.abs(J0[k] * d[this.jacCols[k]]);
@@ -365,10 +357,19 @@ export class Assembly {
         this.rowScale[r] = a > 0 && Number.isFinite(a) ? Math.min(1e6, Math.max(1e-6, a)) : 1;
       }
     }
-    this.jacSlotScale = new Float64Array(nnzJ);
-    for (let k = 0; k < nnzJ; k++) this.jacSlotScale[k] = d[this.jacCols[k]] / this.rowScale[this.jacRows[k]];
-    this.hessSlotScale = new Float64Array(this.hessRows.length);
-    for (let k = 0; k < this.hessRows.length; k++) this.hessSlotScale[k] = d[this.hessRows[k]] * d[this.hessCols[k]];
+    // The NLP's entries are the physical ones times a slot scale (J: d_col / ρ_row, H: d_p d_q),
+    // folded into each contribution's coefficient here instead of a pass over J and H per call
+    // (2026-12-05): the same sums to rounding (a product's order differs), to the bit where every
+    // scale is 1.
+    const jacScale = new Float64Array(nnzJ);
+    for (let k = 0; k < nnzJ; k++) jacScale[k] = d[this.jacCols[k]] / this.rowScale[this.jacRows[k]];
+    const hessScale = new Float64Array(this.hessRows.length);
+    for (let k = 0; k < this.hessRows.length; k++) hessScale[k] = d[this.hessRows[k]] * d[this.hessCols[k]];
+    this.jacNlp = {
+      linear: jp.linear.map((v, k) => v * jacScale[k]),
+      fromJ: scaledContrib(jp.fromJ, jacScale), fromJScaled: scaledContrib(jp.fromJScaled, jacScale), fromF: scaledContrib(jp.fromF, jacScale),
+    };
+    this.hessNlp = { fromH: scaledContrib(hp.fromH, hessScale), cross: { ...hp.cross, coef: hp.cross.coef.map((c, k) => c * hessScale[hp.cross.slot[k]]) } };
   }
 
   /** T = tf − t0 at X. */
@@ -458,18 +459,19 @@ export class Assembly {
     addContrib(out, this.gradFromF, this.F, 1);
   }
 
-  jacobianPhys(X: Float64Array, out: Float64Array): void {
+  /** J at physical X from tables t (physical, or the NLP's scaled ones). */
+  private jacobianFrom(X: Float64Array, out: Float64Array, t: JacTables): void {
     this.evalSites(X, true);
     const T = this.span(X);
-    out.set(this.jacLinear);
-    addContrib(out, this.jacFromJ, this.J, 1);
-    addContrib(out, this.jacFromJScaled, this.J, T);
-    addContrib(out, this.jacFromF, this.F, 1);
+    out.set(t.linear);
+    addContrib(out, t.fromJ, this.J, 1);
+    addContrib(out, t.fromJScaled, this.J, T);
+    addContrib(out, t.fromF, this.F, 1);
   }
 
-  /** ∇²(σ f + Σ λ g) in physical variables, λ physical (per unscaled row). */
-  hessianPhys(X: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array): void {
-    const needCross = this.spec.tfVar >= 0 && this.hessCross.slot.length > 0;
+  /** ∇²(σ f + Σ λ g) at physical X, λ physical (per unscaled row), from tables t (here the NLP's scaled ones). */
+  private hessianFrom(X: Float64Array, sigma: number, lambda: Float64Array, out: Float64Array, t: HessTables): void {
+    const needCross = this.spec.tfVar >= 0 && t.cross.slot.length > 0;
     this.evalSites(X, needCross);
     const T = this.span(X);
     const om = this.omega;
@@ -505,9 +507,9 @@ export class Assembly {
       } else for (let i = this.hOff[s]; i < this.hOff[s + 1]; i++) this.H[i] = 0;
     }
     out.fill(0);
-    addContrib(out, this.hessFromH, this.H, 1);
+    addContrib(out, t.fromH, this.H, 1);
     if (needCross) {
-      const { slot, src, out: o, coef } = this.hessCross;
+      const { slot, src, out: o, coef } = t.cross;
       const J = this.J;
       for (let k = 0; k < slot.length; k++) out[slot[k]] += coef[k] * om[o[k]] * J[src[k]];
     }
@@ -577,16 +579,12 @@ export class Assembly {
       },
       jacValues(y, out) {
         self.loadOwn(y);
-        self.jacobianPhys(X, out);
-        const sc = self.jacSlotScale;
-        for (let k = 0; k < out.length; k++) out[k] *= sc[k];
+        self.jacobianFrom(X, out, self.jacNlp);
       },
       hessValues(y, sigma, lambda, out) {
         self.loadOwn(y);
         self.multipliersPhys(lambda, self.lamPhys);
-        self.hessianPhys(X, sigma, self.lamPhys, out);
-        const sc = self.hessSlotScale;
-        for (let k = 0; k < out.length; k++) out[k] *= sc[k];
+        self.hessianFrom(X, sigma, self.lamPhys, out, self.hessNlp);
       },
     };
     if (spec.variableName) problem.variableName = spec.variableName;
