@@ -92,9 +92,10 @@ export class Assembly {
 
   /** The Jacobian's contributions with the NLP's slot scales folded into their coefficients. */
   private readonly jacNlp: JacTables;
-  private readonly gradFromJ: Contrib;
-  private readonly gradFromJScaled: Contrib;
-  private readonly gradFromF: Contrib;
+  // ∇f's contributions and the rows' linear terms, with the NLP's scales (d_i, 1/ρ_row) in them
+  private gradFromJ: Contrib;
+  private gradFromJScaled: Contrib;
+  private gradFromF: Contrib;
   private readonly linRow: Int32Array;
   private readonly linVar: Int32Array;
   private readonly linCoef: Float64Array;
@@ -357,10 +358,8 @@ export class Assembly {
         this.rowScale[r] = a > 0 && Number.isFinite(a) ? Math.min(1e6, Math.max(1e-6, a)) : 1;
       }
     }
-    // The NLP's entries are the physical ones times a slot scale (J: d_col / ρ_row, H: d_p d_q),
-    // folded into each contribution's coefficient here instead of a pass over J and H per call
-    // (2026-12-05): the same sums to rounding (a product's order differs), to the bit where every
-    // scale is 1.
+    // The NLP's scales (∇f: d_i, g: ÷ ρ_row, J: d_col / ρ_row, H: d_p d_q) go into the coefficients
+    // once, not a pass per call (2026-12-05): the same sums to rounding, to the bit where all are 1.
     const jacScale = new Float64Array(nnzJ);
     for (let k = 0; k < nnzJ; k++) jacScale[k] = d[this.jacCols[k]] / this.rowScale[this.jacRows[k]];
     const hessScale = new Float64Array(this.hessRows.length);
@@ -370,6 +369,12 @@ export class Assembly {
       fromJ: scaledContrib(jp.fromJ, jacScale), fromJScaled: scaledContrib(jp.fromJScaled, jacScale), fromF: scaledContrib(jp.fromF, jacScale),
     };
     this.hessNlp = { fromH: scaledContrib(hp.fromH, hessScale), cross: { ...hp.cross, coef: hp.cross.coef.map((c, k) => c * hessScale[hp.cross.slot[k]]) } };
+    this.gradFromJ = scaledContrib(this.gradFromJ, d);
+    this.gradFromJScaled = scaledContrib(this.gradFromJScaled, d);
+    this.gradFromF = scaledContrib(this.gradFromF, d);
+    for (let k = 0; k < this.linRow.length; k++) this.linCoef[k] /= this.rowScale[this.linRow[k]];
+    const gt = this.gTerms;
+    for (let k = 0; k < gt.row.length; k++) gt.w[k] /= this.rowScale[gt.row[k]];
   }
 
   /** T = tf − t0 at X. */
@@ -439,8 +444,8 @@ export class Assembly {
     return f;
   }
 
-  /** Physical constraints g(X) (unscaled rows). */
-  constraintsPhys(X: Float64Array, out: Float64Array): void {
+  /** The NLP's rows g(X)/ρ at physical X (the scales are in the terms' coefficients). */
+  constraintsScaled(X: Float64Array, out: Float64Array): void {
     this.evalSites(X, false);
     const T = this.span(X);
     out.fill(0);
@@ -450,7 +455,8 @@ export class Assembly {
     for (let k = 0; k < o.length; k++) out[row[k]] += w[k] * (scaled[k] ? T : 1) * F[o[k]];
   }
 
-  gradientPhys(X: Float64Array, out: Float64Array): void {
+  /** The NLP's gradient d ∇f(X) at physical X (the scales are in the contributions' coefficients). */
+  gradientScaled(X: Float64Array, out: Float64Array): void {
     this.evalSites(X, true);
     const T = this.span(X);
     out.fill(0);
@@ -569,13 +575,11 @@ export class Assembly {
       },
       gradF(y, out) {
         self.loadOwn(y);
-        self.gradientPhys(X, out);
-        for (let i = 0; i < n; i++) out[i] *= d[i];
+        self.gradientScaled(X, out);
       },
       g(y, out) {
         self.loadOwn(y);
-        self.constraintsPhys(X, out);
-        for (let r = 0; r < m; r++) out[r] /= rs[r];
+        self.constraintsScaled(X, out);
       },
       jacValues(y, out) {
         self.loadOwn(y);
