@@ -100,6 +100,37 @@ describe("KKT system and inertia correction (Algorithm IC, §3.1)", () => {
     }
   });
 
+  it("refactor (a retry with other shifts) gives the matrix factor gives, to the bit, W's duplicated diagonal entries included", () => {
+    const N = 30, m = 12;
+    const d = randomKkt(N, m, 21);
+    // a second triplet on three diagonal entries of W: the slot sums both before Σ + δ_w
+    const hR = Int32Array.from([...d.hR, 4, 9, 17]), hC = Int32Array.from([...d.hC, 4, 9, 17]), hV = Float64Array.from([...d.hV, 0.25, -1.5, 2]);
+    const dd = { ...d, hR, hC, hV };
+    const pairsFactory = (n: number, r: Int32Array, c: Int32Array, signs?: Int8Array) => new SymmetricSolver(n, r, c, { pivotTolerance: 1e-20, signs, pairs: true });
+    const rr = rng(22);
+    const diag = Float64Array.from({ length: N }, () => 0.5 + Math.abs(rr()));
+    const b = Float64Array.from({ length: N + m }, () => rr());
+    const retried = new KktSystem(N, m, hR, hC, d.jR, d.jC, pairsFactory);
+    retried.factor(hV, diag, 0, d.jV, 0); // analysis on these values, triplet path
+    retried.factor(hV, diag, 0.3, d.jV, 0); // direct assembly from here on
+    for (const [dw, dc] of [[1e-4, 0], [7, 1e-3], [0, 0.25], [2.5, 0]] as const) {
+      const a = retried.refactor(dw, dc);
+      const x = new Float64Array(N + m);
+      retried.solve(b, x);
+      const fresh = new KktSystem(N, m, hR, hC, d.jR, d.jC, pairsFactory);
+      fresh.factor(hV, diag, 0, d.jV, 0);
+      const f = fresh.factor(hV, diag, dw, d.jV, dc);
+      const y = new Float64Array(N + m);
+      fresh.solve(b, y);
+      expect(a).toEqual(f);
+      expect(Array.from(x)).toEqual(Array.from(y));
+      // and the dense matrix with these shifts (ml-matrix LU)
+      const xd = denseSolve(denseKkt(N, m, dd, diag, dw, dc), Matrix.columnVector(Array.from(b))).to1DArray();
+      for (let i = 0; i < N + m; i++) expect(Math.abs(x[i] - xd[i])).toBeLessThan(1e-8 * Math.max(1, Math.abs(xd[i])));
+    }
+    expect(() => new KktSystem(N, m, hR, hC, d.jR, d.jC, factory).refactor(0, 0)).toThrow("no factor() before");
+  });
+
   it("positive definite Hessian needs no δ_w", () => {
     const N = 10, m = 4;
     const d = randomKkt(N, m, 9);

@@ -38,8 +38,8 @@ export class InertiaCorrection {
     const N = kkt.N, m = kkt.m;
     let count = 0;
     const right = (dw: number, dc: number) => {
-      count++;
-      const r = kkt.factor(hVals, diag, dw, jVals, dc);
+      // a retry changes the shifts alone: the diagonal is rewritten, nothing else (kkt.ts)
+      const r = count++ === 0 ? kkt.factor(hVals, diag, dw, jVals, dc) : kkt.refactor(dw, dc);
       // A pivot replaced by the solver's signed regularisation (r.regularized) hides a zero
       // eigenvalue: it counts as singular here, so that δ_c / δ_w are chosen by Algorithm IC.
       const reg = r.regularized ?? 0;

@@ -16,7 +16,10 @@
  * Duplicated triplets are summed by the symmetric solver. Once the solver has analysed the
  * pattern and offers direct assembly (sparse SymmetricSolver.assembly), the values are summed
  * straight into its permuted storage through its triplet → slot map instead (no copy, no second
- * pass; same sums in the same order).
+ * pass; same sums in the same order). A retry with other shifts only (refactor(), for the inertia
+ * correction) rewrites the diagonal slots alone: each (1,1) diagonal slot is W's part, kept from the
+ * last full assembly, plus Σ_i + δ_w, as factor() sums it, and nothing else lands there (J's entries
+ * are off the diagonal); each (2,2) diagonal slot holds −δ_c alone.
  */
 import type { Inertia, SymmetricSolverLike } from "../sparse/types";
 
@@ -33,6 +36,10 @@ export class KktSystem {
   private readonly hEnd: number;
   private readonly dEnd: number;
   private readonly jEnd: number;
+  /** W's part of each (1,1) diagonal slot at the last full direct assembly (refactor()). */
+  private wDiag: Float64Array | null = null;
+  /** The last factor()'s arrays, for refactor(). */
+  private last: { hVals: Float64Array | null; diag: Float64Array; jVals: Float64Array; direct: boolean } | null = null;
 
   constructor(N: number, m: number, hRows: Int32Array, hCols: Int32Array, jRows: Int32Array, jCols: Int32Array, factory: SolverFactory) {
     this.N = N;
@@ -70,9 +77,12 @@ export class KktSystem {
       Cx.fill(0);
       const { hEnd, dEnd, jEnd, N, m } = this;
       if (hVals) for (let k = 0; k < hEnd; k++) Cx[slots[k]] += hVals[k];
+      const wDiag = (this.wDiag ??= new Float64Array(N));
+      for (let i = 0; i < N; i++) wDiag[i] = Cx[slots[hEnd + i]];
       for (let i = 0; i < N; i++) Cx[slots[hEnd + i]] += diag[i] + deltaW;
       for (let k = dEnd; k < jEnd; k++) Cx[slots[k]] += jVals[k - dEnd];
       for (let j = 0; j < m; j++) Cx[slots[jEnd + j]] += -deltaC;
+      this.last = { hVals, diag, jVals, direct: true };
       return this.solver.factorAssembled!();
     }
     const v = (this.tripletValues ??= new Float64Array(this.nT));
@@ -82,10 +92,28 @@ export class KktSystem {
     v.set(jVals, this.dEnd);
     v.fill(-deltaC, this.jEnd, this.jEnd + this.m);
     const inertia = this.solver.factor(v);
+    this.last = { hVals, diag, jVals, direct: false };
     // A solver that analyses on its first values offers direct assembly from then on: let go of
     // the triplet values (nT doubles, 2 MB at Hermite–Simpson N = 3,200) while they are young.
     if (this.solver.factorAssembled && this.solver.assembly?.()) this.tripletValues = null;
     return inertia;
+  }
+
+  /**
+   * factor() again with the last call's values, unchanged since, and other shifts δ_w, δ_c: the same
+   * matrix to the bit, written into the diagonal slots only where the values were assembled directly.
+   */
+  refactor(deltaW: number, deltaC: number): Inertia {
+    const last = this.last;
+    if (!last) throw new Error("nlp/KktSystem.refactor: no factor() before");
+    const direct = last.direct ? this.solver.assembly?.() : null;
+    if (!direct || !this.wDiag) return this.factor(last.hVals, last.diag, deltaW, last.jVals, deltaC);
+    const { slots, values: Cx } = direct;
+    const { hEnd, jEnd, N, m } = this;
+    const wDiag = this.wDiag, diag = last.diag;
+    for (let i = 0; i < N; i++) Cx[slots[hEnd + i]] = wDiag[i] + (diag[i] + deltaW);
+    for (let j = 0; j < m; j++) Cx[slots[jEnd + j]] = 0 + -deltaC;
+    return this.solver.factorAssembled!();
   }
 
   /** x = K⁻¹ b with the last factorisation (b, x of length N + m). */
