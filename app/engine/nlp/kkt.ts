@@ -38,8 +38,11 @@ export class KktSystem {
   private readonly jEnd: number;
   /** W's part of each (1,1) diagonal slot at the last full direct assembly (refactor()). */
   private wDiag: Float64Array | null = null;
-  /** The last factor()'s arrays, for refactor(). */
-  private last: { hVals: Float64Array | null; diag: Float64Array; jVals: Float64Array; direct: boolean } | null = null;
+  /** The last factor()'s arrays and whether it assembled directly, for refactor() (fields, not an object per call). */
+  private lastH: Float64Array | null = null;
+  private lastDiag: Float64Array | null = null;
+  private lastJ: Float64Array | null = null;
+  private lastDirect = false;
 
   constructor(N: number, m: number, hRows: Int32Array, hCols: Int32Array, jRows: Int32Array, jCols: Int32Array, factory: SolverFactory) {
     this.N = N;
@@ -82,7 +85,7 @@ export class KktSystem {
       for (let i = 0; i < N; i++) Cx[slots[hEnd + i]] += diag[i] + deltaW;
       for (let k = dEnd; k < jEnd; k++) Cx[slots[k]] += jVals[k - dEnd];
       for (let j = 0; j < m; j++) Cx[slots[jEnd + j]] += -deltaC;
-      this.last = { hVals, diag, jVals, direct: true };
+      this.remember(hVals, diag, jVals, true);
       return this.solver.factorAssembled!();
     }
     const v = (this.tripletValues ??= new Float64Array(this.nT));
@@ -92,7 +95,7 @@ export class KktSystem {
     v.set(jVals, this.dEnd);
     v.fill(-deltaC, this.jEnd, this.jEnd + this.m);
     const inertia = this.solver.factor(v);
-    this.last = { hVals, diag, jVals, direct: false };
+    this.remember(hVals, diag, jVals, false);
     // A solver that analyses on its first values offers direct assembly from then on: let go of
     // the triplet values (nT doubles, 2 MB at Hermite–Simpson N = 3,200) while they are young.
     if (this.solver.factorAssembled && this.solver.assembly?.()) this.tripletValues = null;
@@ -104,16 +107,23 @@ export class KktSystem {
    * matrix to the bit, written into the diagonal slots only where the values were assembled directly.
    */
   refactor(deltaW: number, deltaC: number): Inertia {
-    const last = this.last;
-    if (!last) throw new Error("nlp/KktSystem.refactor: no factor() before");
-    const direct = last.direct ? this.solver.assembly?.() : null;
-    if (!direct || !this.wDiag) return this.factor(last.hVals, last.diag, deltaW, last.jVals, deltaC);
+    const diag = this.lastDiag, jVals = this.lastJ;
+    if (diag === null || jVals === null) throw new Error("nlp/KktSystem.refactor: no factor() before");
+    const direct = this.lastDirect ? this.solver.assembly?.() : null;
+    if (!direct || !this.wDiag) return this.factor(this.lastH, diag, deltaW, jVals, deltaC);
     const { slots, values: Cx } = direct;
     const { hEnd, jEnd, N, m } = this;
-    const wDiag = this.wDiag, diag = last.diag;
+    const wDiag = this.wDiag;
     for (let i = 0; i < N; i++) Cx[slots[hEnd + i]] = wDiag[i] + (diag[i] + deltaW);
     for (let j = 0; j < m; j++) Cx[slots[jEnd + j]] = 0 + -deltaC;
     return this.solver.factorAssembled!();
+  }
+
+  private remember(hVals: Float64Array | null, diag: Float64Array, jVals: Float64Array, direct: boolean): void {
+    this.lastH = hVals;
+    this.lastDiag = diag;
+    this.lastJ = jVals;
+    this.lastDirect = direct;
   }
 
   /** x = K⁻¹ b with the last factorisation (b, x of length N + m). */
