@@ -381,31 +381,29 @@ export class SymmetricSolver implements SymmetricSolverLike {
     }
     ldlSolveInPlace(sym, fac, xp);
     let res: number;
-    let scale: number;
+    let scale = NaN;
+    /** The stopping test held with ‖A‖∞'s lower bound: no refinement, ‖A‖∞ left to lastRelativeResidual. */
+    let pending = false;
     if (this.normA < 0) {
       // ‖A‖∞ not yet known for this factor: the residual's pass gives a lower bound (the largest
-      // |a_ii|) and ‖x‖∞; where the stopping test already holds with the bound it holds with ‖A‖∞,
-      // no refinement step is taken, and the norm's own pass is left to lastRelativeResidual.
+      // |a_ii|) and ‖x‖∞; where the stopping test already holds with the bound it holds with ‖A‖∞.
       res = symmetricResidualBounds(C, Cx, xp, bp, r, this.normOut);
       const normX = this.normOut[1];
-      if (res <= REFINEMENT_STOP * (this.normOut[0] * normX + normB)) {
-        this.lastResidual = res;
+      pending = res <= REFINEMENT_STOP * (this.normOut[0] * normX + normB);
+      if (pending) {
         const p = this.pendingScale;
-        p.epoch = this.epoch;
         p.normX = normX;
         p.normB = normB;
-        this.lastRefinementSteps = 0;
-        for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
-        return;
+      } else {
+        this.normA = symmetricInfNorm(C, Cx, xt);
+        scale = this.normA * normX + normB;
       }
-      this.normA = symmetricInfNorm(C, Cx, xt);
-      scale = this.normA * normX + normB;
     } else {
       res = symmetricResidual(C, Cx, xp, bp, r);
       scale = this.backwardScale(xp, normB);
     }
     let accepted = 0;
-    for (let step = 0; step < refinementSteps && res > REFINEMENT_STOP * scale; step++) {
+    for (let step = 0; !pending && step < refinementSteps && res > REFINEMENT_STOP * scale; step++) {
       ldlSolveInPlace(sym, fac, r); // r ← correction
       for (let k = 0; k < n; k++) xt[k] = xp[k] + r[k];
       const resTrial = symmetricResidual(C, Cx, xt, bp, r);
@@ -419,8 +417,8 @@ export class SymmetricSolver implements SymmetricSolverLike {
     }
     for (let k = 0; k < n; k++) x[perm[k]] = xp[k];
     this.lastResidual = res;
-    this.pendingScale.epoch = -1;
-    this.relativeResidual = scale > 0 ? res / scale : res;
+    this.pendingScale.epoch = pending ? this.epoch : -1;
+    if (!pending) this.relativeResidual = scale > 0 ? res / scale : res;
     this.lastRefinementSteps = accepted;
   }
 
