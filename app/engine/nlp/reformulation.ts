@@ -63,14 +63,7 @@ export class NlpReformulation implements InternalProblem {
 
   constructor(readonly p: NlpProblem, relax: number, gMax: number, presolve = true) {
     const { n, m } = p;
-    this.xFull = new Float64Array(n);
-    for (let i = 0; i < n; i++) {
-      const lo = p.xL[i], hi = p.xU[i];
-      let v = p.x0[i];
-      if (v < lo) v = lo;
-      if (v > hi) v = hi;
-      this.xFull[i] = lo === hi ? lo : v;
-    }
+    this.xFull = clippedStart(p);
     this.gradUser = new Float64Array(n);
     this.gUser = new Float64Array(m);
     this.jUser = new Float64Array(p.jacRows.length);
@@ -82,26 +75,17 @@ export class NlpReformulation implements InternalProblem {
     this.singletonCoef = new Float64Array(m);
     if (presolve) this.presolveSingletons(fixed);
 
-    this.posFree = new Int32Array(n).fill(-1);
-    let nF = 0;
-    for (let i = 0; i < n; i++) if (!fixed[i]) this.posFree[i] = nF++;
-    this.free = new Int32Array(nF);
-    for (let i = 0; i < n; i++) if (this.posFree[i] >= 0) this.free[this.posFree[i]] = i;
-    const free = this.free;
+    const { posFree, free } = freeIndex(fixed);
+    this.posFree = posFree;
+    this.free = free;
+    const nF = free.length;
     this.nX = nF;
-
-    // Rows kept in the iteration: not presolved, and with at least one free column.
-    const hasFree = new Uint8Array(m);
-    for (let k = 0; k < p.jacRows.length; k++) if (this.posFree[p.jacCols[k]] >= 0) hasFree[p.jacRows[k]] = 1;
-    this.rowPos = new Int32Array(m).fill(-1);
-    let mK = 0;
-    for (let j = 0; j < m; j++) if (hasFree[j] && this.singletonOf[j] < 0) this.rowPos[j] = mK++;
-    this.m = mK;
-    this.rowMap = new Int32Array(mK);
-    for (let j = 0; j < m; j++) if (this.rowPos[j] >= 0) this.rowMap[this.rowPos[j]] = j;
-    this.slackOf = new Int32Array(m).fill(-1);
-    let mI = 0;
-    for (let j = 0; j < m; j++) if (this.rowPos[j] >= 0 && p.gL[j] !== p.gU[j]) this.slackOf[j] = nF + mI++;
+    const rows = keptRows(p, posFree, this.singletonOf, nF);
+    this.rowPos = rows.rowPos;
+    this.rowMap = rows.rowMap;
+    this.slackOf = rows.slackOf;
+    this.m = rows.rowMap.length;
+    const mI = rows.inequalities;
     this.N = nF + mI;
 
     // Scaling at the (clipped, presolved) starting point, W&B §3.8.
@@ -110,82 +94,28 @@ export class NlpReformulation implements InternalProblem {
     this.dc = new Float64Array(m);
     this.df = gradientScaling(gMax, this.gradUser, p.jacRows, p.jacCols, this.jUser, this.posFree, this.dc);
     // Rows that left the iteration depend on fixed variables only: their violation is a constant.
-    const g0 = this.userG(this.xFull);
-    let viol = 0, worst = -1;
-    for (let j = 0; j < m; j++) {
-      if (this.rowPos[j] >= 0) continue;
-      const v = Math.max(0, p.gL[j] - g0[j], g0[j] - p.gU[j]);
-      if (v > viol) { viol = v; worst = j; }
-    }
-    this.removedViolation = viol;
-    this.worstRemovedRow = worst;
+    const removed = worstRemovedRow(p, this.userG(this.xFull), this.rowPos);
+    this.removedViolation = removed.violation;
+    this.worstRemovedRow = removed.row;
 
     this.dualUnscale = 1 / this.df;
-    // Bounds (relaxed).
-    const rl = (b: number) => b - relax * Math.max(1, Math.abs(b));
-    const ru = (b: number) => b + relax * Math.max(1, Math.abs(b));
-    this.wL = new Float64Array(this.N);
-    this.wU = new Float64Array(this.N);
-    this.relaxL = new Float64Array(this.N);
-    this.relaxU = new Float64Array(this.N);
-    const by = (b: number) => relax * Math.max(1, Math.abs(b));
-    for (let k = 0; k < nF; k++) {
-      const i = free[k];
-      this.wL[k] = Number.isFinite(p.xL[i]) ? rl(p.xL[i]) : -Infinity;
-      this.wU[k] = Number.isFinite(p.xU[i]) ? ru(p.xU[i]) : Infinity;
-      if (Number.isFinite(p.xL[i])) this.relaxL[k] = by(p.xL[i]);
-      if (Number.isFinite(p.xU[i])) this.relaxU[k] = by(p.xU[i]);
-    }
-    for (let j = 0; j < m; j++) {
-      const s = this.slackOf[j];
-      if (s < 0) continue;
-      const lo = this.dc[j] * p.gL[j], hi = this.dc[j] * p.gU[j];
-      this.wL[s] = Number.isFinite(lo) ? rl(lo) : -Infinity;
-      this.wU[s] = Number.isFinite(hi) ? ru(hi) : Infinity;
-      if (Number.isFinite(lo)) this.relaxL[s] = by(lo);
-      if (Number.isFinite(hi)) this.relaxU[s] = by(hi);
-    }
+    const bounds = relaxedBounds(p, relax, free, this.slackOf, this.dc, this.N);
+    this.wL = bounds.wL;
+    this.wU = bounds.wU;
+    this.relaxL = bounds.relaxL;
+    this.relaxU = bounds.relaxU;
 
-    // Jacobian pattern: kept user entries, then −1 per slack (two passes, typed arrays).
-    const nnzJU = p.jacRows.length, jRowsU = p.jacRows, jColsU = p.jacCols, posFree = this.posFree;
-    let nKeep = 0;
-    const rowPos = this.rowPos;
-    for (let k = 0; k < nnzJU; k++) if (posFree[jColsU[k]] >= 0 && rowPos[jRowsU[k]] >= 0) nKeep++;
-    this.jKeep = new Int32Array(nKeep);
-    this.jRows = new Int32Array(nKeep + mI);
-    this.jCols = new Int32Array(nKeep + mI);
-    let t = 0;
-    for (let k = 0; k < nnzJU; k++) {
-      const col = posFree[jColsU[k]];
-      if (col < 0 || rowPos[jRowsU[k]] < 0) continue;
-      this.jKeep[t] = k;
-      this.jRows[t] = rowPos[jRowsU[k]];
-      this.jCols[t] = col;
-      t++;
-    }
-    for (let j = 0; j < m; j++) if (this.slackOf[j] >= 0) { this.jRows[t] = rowPos[j]; this.jCols[t] = this.slackOf[j]; t++; }
-    this.jScale = new Float64Array(nKeep);
-    for (let k = 0; k < nKeep; k++) this.jScale[k] = this.dc[jRowsU[this.jKeep[k]]];
-    this.unitRows = this.jScale.every((d) => d === 1);
-    this.jDrop = new Int32Array(nnzJU - nKeep);
-    for (let k = 0, d = 0; k < nnzJU; k++) if (posFree[jColsU[k]] < 0 || rowPos[jRowsU[k]] < 0) this.jDrop[d++] = k;
-
-    // Hessian pattern: entries between free variables, lower triangle.
-    const nnzHU = p.hessRows.length, hRowsU = p.hessRows, hColsU = p.hessCols;
-    let hKeep = 0;
-    for (let k = 0; k < nnzHU; k++) if (posFree[hRowsU[k]] >= 0 && posFree[hColsU[k]] >= 0) hKeep++;
-    this.hKeep = new Int32Array(hKeep);
-    this.hRows = new Int32Array(hKeep);
-    this.hCols = new Int32Array(hKeep);
-    t = 0;
-    for (let k = 0; k < nnzHU; k++) {
-      const a = posFree[hRowsU[k]], b = posFree[hColsU[k]];
-      if (a < 0 || b < 0) continue;
-      this.hKeep[t] = k;
-      this.hRows[t] = a > b ? a : b;
-      this.hCols[t] = a > b ? b : a;
-      t++;
-    }
+    const jac = keptJacobian(p, posFree, this.rowPos, this.slackOf, this.dc, mI);
+    this.jKeep = jac.keep;
+    this.jRows = jac.rows;
+    this.jCols = jac.cols;
+    this.jScale = jac.scale;
+    this.jDrop = jac.drop;
+    this.unitRows = jac.scale.every((d) => d === 1);
+    const hess = keptHessian(p, posFree);
+    this.hKeep = hess.keep;
+    this.hRows = hess.rows;
+    this.hCols = hess.cols;
   }
 
   private vName(i: number): string {
@@ -388,35 +318,13 @@ export class NlpReformulation implements InternalProblem {
   private presolveSingletons(fixed: Uint8Array): void {
     const p = this.p;
     const { n, m } = p;
-    const nnz = p.jacRows.length;
-    // Triplets grouped by row (CSR offsets).
-    const start = new Int32Array(m + 1);
-    for (let k = 0; k < nnz; k++) start[p.jacRows[k] + 1]++;
-    for (let j = 0; j < m; j++) start[j + 1] += start[j];
-    const byRow = new Int32Array(nnz), fill = start.slice(0, m);
-    for (let k = 0; k < nnz; k++) byRow[fill[p.jacRows[k]]++] = k;
+    const { start, byRow } = rowGroups(p.jacRows, m);
     try {
       const x0 = this.xFull;
       const J0 = Float64Array.from(this.userJac(x0));
       const g0 = Float64Array.from(this.userG(x0));
-      // Candidates: equality rows whose Jacobian at x₀ has exactly one nonzero, on a free column.
-      const cand: number[] = [], colOf = new Int32Array(m).fill(-1), kOf = new Int32Array(m).fill(-1);
-      const taken = new Uint8Array(n);
-      for (let j = 0; j < m; j++) {
-        if (p.gL[j] !== p.gU[j]) continue;
-        let nzK = -1, count = 0;
-        for (let t = start[j]; t < start[j + 1]; t++) if (J0[byRow[t]] !== 0) { count++; nzK = byRow[t]; }
-        if (count !== 1) continue;
-        const i = p.jacCols[nzK];
-        // Duplicated triplets of the same entry are summed by contract: require a single one.
-        let dup = 0;
-        for (let t = start[j]; t < start[j + 1]; t++) if (p.jacCols[byRow[t]] === i) dup++;
-        if (dup !== 1 || fixed[i] || taken[i]) continue;
-        taken[i] = 1;
-        cand.push(j);
-        colOf[j] = i;
-        kOf[j] = nzK;
-      }
+      const colOf = new Int32Array(m).fill(-1), kOf = new Int32Array(m).fill(-1);
+      const cand = singletonCandidates(p, start, byRow, J0, fixed, colOf, kOf);
       if (cand.length === 0) return;
       const x1 = Float64Array.from(x0);
       const delta = new Float64Array(n);
@@ -435,8 +343,7 @@ export class NlpReformulation implements InternalProblem {
       for (const j of cand) lam[j] = 1;
       const H = this.hUser;
       this.call("hessValues", () => p.hessValues(x0, 0, lam, H));
-      const touched = new Uint8Array(n);
-      for (let k = 0; k < H.length; k++) if (H[k] !== 0) { touched[p.hessRows[k]] = 1; touched[p.hessCols[k]] = 1; }
+      const touched = touchedColumns(H, p.hessRows, p.hessCols, n);
       for (const j of cand) {
         const k = kOf[j], i = colOf[j], a = J0[k];
         let linear = true;
@@ -460,4 +367,175 @@ export class NlpReformulation implements InternalProblem {
       // A model that cannot be evaluated at the probe point is simply not presolved.
     }
   }
+}
+
+// The presolve's loops, each in a small function of its own: V8 compiles a loop that runs hot on its
+// own, not presolveSingletons whole with the model's evaluation calls inlined into it (30 ms of
+// optimising compilation in a first trapezoidal N = 1,600 solve; DEVELOPERS.md, "The one-shot code
+// in small functions").
+
+/** The triplets (rows[k], ·) grouped by row: row j's entries are byRow[start[j] … start[j+1]). */
+function rowGroups(rows: Int32Array, m: number): { start: Int32Array; byRow: Int32Array } {
+  const nnz = rows.length;
+  const start = new Int32Array(m + 1);
+  for (let k = 0; k < nnz; k++) start[rows[k] + 1]++;
+  for (let j = 0; j < m; j++) start[j + 1] += start[j];
+  const byRow = new Int32Array(nnz), fill = start.slice(0, m);
+  for (let k = 0; k < nnz; k++) byRow[fill[rows[k]]++] = k;
+  return { start, byRow };
+}
+
+/**
+ * Equality rows whose Jacobian at x₀ has exactly one nonzero, on a free column no other candidate
+ * has taken; sets colOf[j] (the column) and kOf[j] (the triplet) of each.
+ */
+function singletonCandidates(
+  p: NlpProblem, start: Int32Array, byRow: Int32Array, J0: Float64Array, fixed: Uint8Array, colOf: Int32Array, kOf: Int32Array,
+): number[] {
+  const cand: number[] = [];
+  const taken = new Uint8Array(p.n);
+  for (let j = 0; j < p.m; j++) {
+    if (p.gL[j] !== p.gU[j]) continue;
+    let nzK = -1, count = 0;
+    for (let t = start[j]; t < start[j + 1]; t++) if (J0[byRow[t]] !== 0) { count++; nzK = byRow[t]; }
+    if (count !== 1) continue;
+    const i = p.jacCols[nzK];
+    // Duplicated triplets of the same entry are summed by contract: require a single one.
+    let dup = 0;
+    for (let t = start[j]; t < start[j + 1]; t++) if (p.jacCols[byRow[t]] === i) dup++;
+    if (dup !== 1 || fixed[i] || taken[i]) continue;
+    taken[i] = 1;
+    cand.push(j);
+    colOf[j] = i;
+    kOf[j] = nzK;
+  }
+  return cand;
+}
+
+/** touched[i] = 1 where a nonzero Hessian entry lies in row or column i. */
+function touchedColumns(H: Float64Array, rows: Int32Array, cols: Int32Array, n: number): Uint8Array {
+  const touched = new Uint8Array(n);
+  for (let k = 0; k < H.length; k++) if (H[k] !== 0) { touched[rows[k]] = 1; touched[cols[k]] = 1; }
+  return touched;
+}
+
+// The constructor's passes over variables, rows and triplets, each in a function of its own (the
+// same reason as the presolve's above).
+
+/** The user's x₀ clipped into its bounds, a fixed variable at its value. */
+function clippedStart(p: NlpProblem): Float64Array {
+  const x = new Float64Array(p.n);
+  for (let i = 0; i < p.n; i++) {
+    const lo = p.xL[i], hi = p.xU[i];
+    let v = p.x0[i];
+    if (v < lo) v = lo;
+    if (v > hi) v = hi;
+    x[i] = lo === hi ? lo : v;
+  }
+  return x;
+}
+
+/** posFree[i] = internal index of user variable i, or −1 when fixed; free[k] = user index of k. */
+function freeIndex(fixed: Uint8Array): { posFree: Int32Array; free: Int32Array } {
+  const n = fixed.length;
+  const posFree = new Int32Array(n).fill(-1);
+  let nF = 0;
+  for (let i = 0; i < n; i++) if (!fixed[i]) posFree[i] = nF++;
+  const free = new Int32Array(nF);
+  for (let i = 0; i < n; i++) if (posFree[i] >= 0) free[posFree[i]] = i;
+  return { posFree, free };
+}
+
+/**
+ * Rows kept in the iteration (not presolved, and with at least one free column): rowPos/rowMap
+ * between user and internal rows, and each kept inequality's slack index (nF, nF + 1, …).
+ */
+function keptRows(
+  p: NlpProblem, posFree: Int32Array, singletonOf: Int32Array, nF: number,
+): { rowPos: Int32Array; rowMap: Int32Array; slackOf: Int32Array; inequalities: number } {
+  const m = p.m;
+  const hasFree = new Uint8Array(m);
+  for (let k = 0; k < p.jacRows.length; k++) if (posFree[p.jacCols[k]] >= 0) hasFree[p.jacRows[k]] = 1;
+  const rowPos = new Int32Array(m).fill(-1);
+  let mK = 0;
+  for (let j = 0; j < m; j++) if (hasFree[j] && singletonOf[j] < 0) rowPos[j] = mK++;
+  const rowMap = new Int32Array(mK);
+  for (let j = 0; j < m; j++) if (rowPos[j] >= 0) rowMap[rowPos[j]] = j;
+  const slackOf = new Int32Array(m).fill(-1);
+  let mI = 0;
+  for (let j = 0; j < m; j++) if (rowPos[j] >= 0 && p.gL[j] !== p.gU[j]) slackOf[j] = nF + mI++;
+  return { rowPos, rowMap, slackOf, inequalities: mI };
+}
+
+/** The largest violation among the rows outside the iteration, and its row (−1 if none). */
+function worstRemovedRow(p: NlpProblem, g0: Float64Array, rowPos: Int32Array): { violation: number; row: number } {
+  let violation = 0, row = -1;
+  for (let j = 0; j < p.m; j++) {
+    if (rowPos[j] >= 0) continue;
+    const v = Math.max(0, p.gL[j] - g0[j], g0[j] - p.gU[j]);
+    if (v > violation) { violation = v; row = j; }
+  }
+  return { violation, row };
+}
+
+/** Bounds of the internal variables (free x, then slacks in scaled units), relaxed by ε max(1, |b|). */
+function relaxedBounds(
+  p: NlpProblem, relax: number, free: Int32Array, slackOf: Int32Array, dc: Float64Array, N: number,
+): { wL: Float64Array; wU: Float64Array; relaxL: Float64Array; relaxU: Float64Array } {
+  const wL = new Float64Array(N), wU = new Float64Array(N);
+  const relaxL = new Float64Array(N), relaxU = new Float64Array(N);
+  const by = (b: number) => relax * Math.max(1, Math.abs(b));
+  const set = (k: number, lo: number, hi: number) => {
+    wL[k] = Number.isFinite(lo) ? lo - by(lo) : -Infinity;
+    wU[k] = Number.isFinite(hi) ? hi + by(hi) : Infinity;
+    if (Number.isFinite(lo)) relaxL[k] = by(lo);
+    if (Number.isFinite(hi)) relaxU[k] = by(hi);
+  };
+  for (let k = 0; k < free.length; k++) set(k, p.xL[free[k]], p.xU[free[k]]);
+  for (let j = 0; j < p.m; j++) if (slackOf[j] >= 0) set(slackOf[j], dc[j] * p.gL[j], dc[j] * p.gU[j]);
+  return { wL, wU, relaxL, relaxU };
+}
+
+/**
+ * The internal Jacobian's pattern: the kept user entries (keep[t] = user triplet, scale[t] = its
+ * row's d_j), then −1 per slack; drop lists the user entries left out (fixed column or row not kept).
+ */
+function keptJacobian(
+  p: NlpProblem, posFree: Int32Array, rowPos: Int32Array, slackOf: Int32Array, dc: Float64Array, mI: number,
+): { keep: Int32Array; rows: Int32Array; cols: Int32Array; scale: Float64Array; drop: Int32Array } {
+  const nnz = p.jacRows.length, jRows = p.jacRows, jCols = p.jacCols;
+  let nKeep = 0;
+  for (let k = 0; k < nnz; k++) if (posFree[jCols[k]] >= 0 && rowPos[jRows[k]] >= 0) nKeep++;
+  const keep = new Int32Array(nKeep), rows = new Int32Array(nKeep + mI), cols = new Int32Array(nKeep + mI);
+  const scale = new Float64Array(nKeep), drop = new Int32Array(nnz - nKeep);
+  let t = 0, d = 0;
+  for (let k = 0; k < nnz; k++) {
+    const col = posFree[jCols[k]], row = rowPos[jRows[k]];
+    if (col < 0 || row < 0) { drop[d++] = k; continue; }
+    keep[t] = k;
+    rows[t] = row;
+    cols[t] = col;
+    scale[t] = dc[jRows[k]];
+    t++;
+  }
+  for (let j = 0; j < p.m; j++) if (slackOf[j] >= 0) { rows[t] = rowPos[j]; cols[t] = slackOf[j]; t++; }
+  return { keep, rows, cols, scale, drop };
+}
+
+/** The internal Hessian's pattern: the user entries between free variables, lower triangle. */
+function keptHessian(p: NlpProblem, posFree: Int32Array): { keep: Int32Array; rows: Int32Array; cols: Int32Array } {
+  const nnz = p.hessRows.length, hRows = p.hessRows, hCols = p.hessCols;
+  let nKeep = 0;
+  for (let k = 0; k < nnz; k++) if (posFree[hRows[k]] >= 0 && posFree[hCols[k]] >= 0) nKeep++;
+  const keep = new Int32Array(nKeep), rows = new Int32Array(nKeep), cols = new Int32Array(nKeep);
+  let t = 0;
+  for (let k = 0; k < nnz; k++) {
+    const a = posFree[hRows[k]], b = posFree[hCols[k]];
+    if (a < 0 || b < 0) continue;
+    keep[t] = k;
+    rows[t] = a > b ? a : b;
+    cols[t] = a > b ? b : a;
+    t++;
+  }
+  return { keep, rows, cols };
 }

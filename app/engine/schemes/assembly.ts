@@ -20,7 +20,7 @@
  *   ∇²(Σ_r λ_r g_r + σ_f f) = Σ_s A_sᵀ (Σ_i T^σ ω_s,i ∇²F_s,i) A_s
  *                           + Σ_(σ_s = 1) (e_tf ⊗ (Σ_i ω_s,i ∇F_s,i A_s) + transpose)
  *   with ω_s,i = Σ_(terms (s,i,r,w)) w · λ_r  (objective terms use σ_f).
- * All index maps (triplet → slot) are computed once in the constructor; evaluation is a few flat
+ * All index maps (triplet → slot) are computed once in the constructor (assembly-build.ts); evaluation is a few flat
  * loops over Float64Array workspaces.
  *
  * Scaling: the NLP variable is y = X / d (d = variable scale hints) and row r is divided by
@@ -28,7 +28,8 @@
  */
 import type { PointFunction } from "../problem/types";
 import type { NlpProblem } from "../nlp/types";
-import { addContrib, contribOf, IntList, NumList, PairSlots, scaledContrib, type AssemblySpec, type Contrib, type HessTables, type JacTables } from "./assembly-spec";
+import { addContrib, type AssemblySpec, type Contrib, type HessTables, type JacTables } from "./assembly-spec";
+import { divideByRowScale, hessianTables, inputMap, jacobianTables, rowScales, scaledTables, scratchViews, siteLayout, termTables } from "./assembly-build";
 
 export { AssemblyTables, type AffineInput, type AssemblySpec } from "./assembly-spec";
 
@@ -119,216 +120,45 @@ export class Assembly {
     const fns = T.fns;
     this.siteFn = fns.slice();
     const nSite = (this.nSite = fns.length);
-    this.zOff = new Int32Array(nSite + 1);
-    this.fOff = new Int32Array(nSite + 1);
-    this.jOff = new Int32Array(nSite + 1);
-    this.hOff = new Int32Array(nSite + 1);
-    this.siteScaled = new Uint8Array(nSite);
-    const inputEnd = T.inputEnd.a;
-    if (T.inputEnd.n !== nSite) throw new Error(`assembly: ${nSite} sites opened, ${T.inputEnd.n} closed`);
-    for (let s = 0; s < nSite; s++) {
-      const fn = fns[s];
-      const nIn = inputEnd[s] - (s > 0 ? inputEnd[s - 1] : 0);
-      if (nIn !== fn.nIn) throw new Error(`assembly: site ${s} has ${nIn} inputs, function needs ${fn.nIn}`);
-      this.zOff[s + 1] = this.zOff[s] + fn.nIn;
-      this.fOff[s + 1] = this.fOff[s] + fn.nOut;
-      this.jOff[s + 1] = this.jOff[s] + fn.jacRows.length;
-      this.hOff[s + 1] = this.hOff[s] + fn.hessRows.length;
-      this.siteScaled[s] = T.scaled.a[s];
-    }
+    const layout = siteLayout(T);
+    this.zOff = layout.zOff;
+    this.fOff = layout.fOff;
+    this.jOff = layout.jOff;
+    this.hOff = layout.hOff;
+    this.siteScaled = layout.scaled;
     this.Z = new Float64Array(this.zOff[nSite]);
     this.F = new Float64Array(this.fOff[nSite]);
     this.J = new Float64Array(this.jOff[nSite]);
     this.H = new Float64Array(this.hOff[nSite]);
     this.omega = new Float64Array(this.fOff[nSite]);
-    let maxOut = 1;
-    for (let s = 0; s < nSite; s++) maxOut = Math.max(maxOut, fns[s].nOut);
-    this.wBuf = new Float64Array(maxOut);
-    // one scratch per role and length (a function reads z while it writes out, so roles never share)
-    const scratch = [new Map<number, Float64Array>(), new Map<number, Float64Array>(), new Map<number, Float64Array>(), new Map<number, Float64Array>()];
-    const shared = (role: number, len: number): Float64Array => {
-      let a = scratch[role].get(len);
-      if (!a) scratch[role].set(len, (a = new Float64Array(len)));
-      return a;
-    };
-    this.zS = [];
-    this.fS = [];
-    this.jS = [];
-    this.hS = [];
-    this.wView = [];
-    const wByOut = new Map<number, Float64Array>();
-    for (let s = 0; s < nSite; s++) {
-      const fn = fns[s];
-      const nOut = fn.nOut;
-      this.zS.push(shared(0, fn.nIn));
-      this.fS.push(shared(1, nOut));
-      this.jS.push(shared(2, fn.jacRows.length));
-      this.hS.push(shared(3, fn.hessRows.length));
-      if (!wByOut.has(nOut)) wByOut.set(nOut, this.wBuf.subarray(0, nOut));
-      this.wView.push(wByOut.get(nOut)!);
-    }
+    const scratch = scratchViews(fns);
+    this.wBuf = scratch.wBuf;
+    this.zS = scratch.z;
+    this.fS = scratch.f;
+    this.jS = scratch.j;
+    this.hS = scratch.h;
+    this.wView = scratch.w;
 
-    // flattened input maps (the tables' own layout)
-    const nInTot = this.zOff[nSite];
-    if (T.nInput !== nInTot) throw new Error(`assembly: ${T.nInput} inputs written, sites need ${nInTot}`);
-    this.inStart = new Int32Array(nInTot + 1);
-    this.inStart.set(T.varStart.a.subarray(0, nInTot));
-    this.inStart[nInTot] = T.inVar.n;
-    this.inConst = T.inConst.done();
-    this.inVar = T.inVar.done();
-    this.inCoef = T.inCoef.done();
-    for (let q = 0; q < this.inVar.length; q++) {
-      const v = this.inVar[q];
-      if (!(v >= 0 && v < n)) throw new Error(`assembly: input refers to variable ${v} outside 0..${n - 1}`);
-    }
-
-    const tfVar = spec.tfVar;
-    // terms
-    const nT = T.nTerm;
-    const tSite = T.tSite.a, tComp = T.tComp.a, tRowIn = T.tRow.a, tWIn = T.tW.a;
-    this.termOut = new Int32Array(nT);
-    this.termRow = new Int32Array(nT);
-    this.termW = new Float64Array(nT);
-    const gOut = new IntList(), gRow = new IntList(), gW = new NumList(), gSc = new IntList();
-    const fOut = new IntList(), fW = new NumList(), fSc = new IntList();
-    for (let k = 0; k < nT; k++) {
-      const site = tSite[k], comp = tComp[k], row = tRowIn[k], w = tWIn[k];
-      if (!(site >= 0 && site < nSite)) throw new Error(`assembly: term ${k} refers to site ${site} outside 0..${nSite - 1}`);
-      if (comp < 0 || comp >= fns[site].nOut) throw new Error(`assembly: term ${k} refers to output ${comp} of site ${site}`);
-      const out = this.fOff[site] + comp;
-      this.termOut[k] = out;
-      this.termRow[k] = row;
-      this.termW[k] = w;
-      if (row >= 0) {
-        gOut.push(out); gRow.push(row); gW.push(w); gSc.push(this.siteScaled[site]);
-      } else {
-        fOut.push(out); fW.push(w); fSc.push(this.siteScaled[site]);
-      }
-    }
-    this.gTerms = { out: gOut.done(), row: gRow.done(), w: gW.done(), scaled: Uint8Array.from(gSc.done()) };
-    this.fTerms = { out: fOut.done(), w: fW.done(), scaled: Uint8Array.from(fSc.done()) };
-
-    // per-site lists of terms (compressed: termsOfSite[termStart[s] … termStart[s + 1]) in term
-    // order), and per function the Jacobian entries of each output row
-    const termStart = new Int32Array(nSite + 1);
-    for (let k = 0; k < nT; k++) termStart[tSite[k] + 1]++;
-    for (let s = 0; s < nSite; s++) termStart[s + 1] += termStart[s];
-    const termsOfSite = new Int32Array(nT);
-    {
-      const fill = termStart.slice(0, nSite);
-      for (let k = 0; k < nT; k++) termsOfSite[fill[tSite[k]]++] = k;
-    }
-    const rowEntriesCache = new Map<PointFunction, number[][]>();
-    const rowEntries = (fn: PointFunction): number[][] => {
-      let r = rowEntriesCache.get(fn);
-      if (!r) {
-        r = Array.from({ length: fn.nOut }, () => []);
-        for (let e = 0; e < fn.jacRows.length; e++) r[fn.jacRows[e]].push(e);
-        rowEntriesCache.set(fn, r);
-      }
-      return r;
-    };
-
-    // ---- Jacobian pattern (slots in order of first appearance)
-    const jac = new PairSlots();
-    const nLin = T.nLinear;
-    const lRow = T.lRow.a, lVar = T.lVar.a;
-    for (let k = 0; k < nLin; k++) {
-      const row = lRow[k];
-      if (row < 0 || row >= m) throw new Error(`assembly: linear entry row ${row} outside 0..${m - 1}`);
-      const v = lVar[k];
-      if (!(v >= 0 && v < n)) throw new Error(`assembly: linear entry refers to variable ${v} outside 0..${n - 1}`);
-      jac.slot(row, v);
-    }
-    this.linRow = T.lRow.done(); this.linVar = T.lVar.done(); this.linCoef = T.lCoef.done();
-    const aS = new IntList(), aSrc = new IntList(), aC = new NumList();
-    const bS = new IntList(), bSrc = new IntList(), bC = new NumList();
-    const cS = new IntList(), cSrc = new IntList(), cC = new NumList();
-    const gaS = new IntList(), gaSrc = new IntList(), gaC = new NumList();
-    const gbS = new IntList(), gbSrc = new IntList(), gbC = new NumList();
-    const gcS = new IntList(), gcSrc = new IntList(), gcC = new NumList();
-    for (let s = 0; s < nSite; s++) {
-      const fn = fns[s];
-      const re = rowEntries(fn);
-      const scaled = this.siteScaled[s] === 1;
-      for (let a = termStart[s]; a < termStart[s + 1]; a++) {
-        const t = termsOfSite[a];
-        const comp = tComp[t], row = tRowIn[t], w = tWIn[t];
-        const entries = re[comp];
-        for (let b = 0; b < entries.length; b++) {
-          const e = entries[b];
-          const col = fn.jacCols[e];
-          const gin = this.zOff[s] + col;
-          for (let q = this.inStart[gin]; q < this.inStart[gin + 1]; q++) {
-            const v = this.inVar[q];
-            const coef = w * this.inCoef[q];
-            if (row >= 0) {
-              const sl = jac.slot(row, v);
-              if (scaled) { bS.push(sl); bSrc.push(this.jOff[s] + e); bC.push(coef); }
-              else { aS.push(sl); aSrc.push(this.jOff[s] + e); aC.push(coef); }
-            } else if (scaled) { gbS.push(v); gbSrc.push(this.jOff[s] + e); gbC.push(coef); }
-            else { gaS.push(v); gaSrc.push(this.jOff[s] + e); gaC.push(coef); }
-          }
-        }
-        if (scaled && tfVar >= 0) {
-          if (row >= 0) { cS.push(jac.slot(row, tfVar)); cSrc.push(this.fOff[s] + comp); cC.push(w); }
-          else { gcS.push(tfVar); gcSrc.push(this.fOff[s] + comp); gcC.push(w); }
-        }
-      }
-    }
-    const jacFromJ = contribOf(aS, aSrc, aC);
-    const jacFromJScaled = contribOf(bS, bSrc, bC);
-    const jacFromF = contribOf(cS, cSrc, cC);
-    this.gradFromJ = contribOf(gaS, gaSrc, gaC);
-    this.gradFromJScaled = contribOf(gbS, gbSrc, gbC);
-    this.gradFromF = contribOf(gcS, gcSrc, gcC);
-    const nnzJ = jac.n;
-    const linSlot = new Int32Array(this.linRow.length);
-    for (let k = 0; k < this.linRow.length; k++) linSlot[k] = jac.find(this.linRow[k], this.linVar[k]);
-    // the linear terms' part of J, summed from 0 in the order jacobianFrom used to add them
-    const jacLinear = new Float64Array(nnzJ);
-    for (let k = 0; k < linSlot.length; k++) jacLinear[linSlot[k]] += this.linCoef[k];
-    const jp: JacTables = { linear: jacLinear, fromJ: jacFromJ, fromJScaled: jacFromJScaled, fromF: jacFromF };
-    this.jacRows = jac.a.done();
-    this.jacCols = jac.b.done();
-
-    // ---- Hessian pattern
-    const hess = new PairSlots();
-    const hslot = (p: number, q: number): number => (p < q ? hess.slot(q, p) : hess.slot(p, q));
-    const sitesUsed = new Uint8Array(nSite);
-    for (let k = 0; k < nT; k++) sitesUsed[tSite[k]] = 1;
-    const hS = new IntList(), hSrc = new IntList(), hC = new NumList();
-    const xS = new IntList(), xSrc = new IntList(), xOut = new IntList(), xC = new NumList();
-    for (let s = 0; s < nSite; s++) {
-      if (!sitesUsed[s]) continue;
-      const fn = fns[s];
-      for (let e = 0; e < fn.hessRows.length; e++) {
-        const r = fn.hessRows[e], c = fn.hessCols[e];
-        const gr = this.zOff[s] + r, gc = this.zOff[s] + c;
-        for (let q1 = this.inStart[gr]; q1 < this.inStart[gr + 1]; q1++)
-          for (let q2 = this.inStart[gc]; q2 < this.inStart[gc + 1]; q2++) {
-            const j1 = this.inVar[q1], j2 = this.inVar[q2];
-            let coef = this.inCoef[q1] * this.inCoef[q2];
-            if (r === c) {
-              if (j1 < j2) continue;
-            } else if (j1 === j2) coef *= 2;
-            hS.push(hslot(j1, j2)); hSrc.push(this.hOff[s] + e); hC.push(coef);
-          }
-      }
-      if (this.siteScaled[s] && tfVar >= 0) {
-        for (let e = 0; e < fn.jacRows.length; e++) {
-          const gin = this.zOff[s] + fn.jacCols[e];
-          for (let q = this.inStart[gin]; q < this.inStart[gin + 1]; q++) {
-            const v = this.inVar[q];
-            xS.push(hslot(tfVar, v)); xSrc.push(this.jOff[s] + e); xOut.push(this.fOff[s] + fn.jacRows[e]);
-            xC.push(this.inCoef[q] * (v === tfVar ? 2 : 1));
-          }
-        }
-      }
-    }
-    const hp: HessTables = { fromH: contribOf(hS, hSrc, hC), cross: { slot: xS.done(), src: xSrc.done(), out: xOut.done(), coef: xC.done() } };
-    this.hessRows = hess.a.done();
-    this.hessCols = hess.b.done();
+    const inputs = inputMap(T, this.zOff[nSite], n);
+    this.inStart = inputs.inStart;
+    this.inVar = inputs.inVar;
+    this.inCoef = inputs.inCoef;
+    this.inConst = inputs.inConst;
+    const terms = termTables(T, layout);
+    this.termOut = terms.out;
+    this.termRow = terms.row;
+    this.termW = terms.w;
+    this.gTerms = terms.rows;
+    this.fTerms = terms.objective;
+    const jac = jacobianTables(T, layout, inputs, terms, n, m, spec.tfVar);
+    this.jacRows = jac.rows;
+    this.jacCols = jac.cols;
+    this.linRow = jac.linRow;
+    this.linVar = jac.linVar;
+    this.linCoef = jac.linCoef;
+    const hess = hessianTables(T, layout, inputs, spec.tfVar);
+    this.hessRows = hess.rows;
+    this.hessCols = hess.cols;
     T.release();
 
     // workspaces
@@ -336,45 +166,23 @@ export class Assembly {
     this.lastX = new Float64Array(n);
     this.lamPhys = new Float64Array(m);
 
-    // ---- scaling
+    // ---- scaling: the physical Jacobian at x₀ where a row's scale is to be chosen, then every
+    // scale folded into the tables the NLP's calls use (the physical tables are not kept)
     const d = spec.varScale;
-    this.rowScale = new Float64Array(m);
-    const needAuto = spec.rowScale.some((v) => !(v > 0));
-    let autoScale: Float64Array | null = null;
-    if (needAuto) {
-      const J0 = new Float64Array(nnzJ);
-      this.jacobianFrom(spec.x0, J0, jp);
-      autoScale = new Float64Array(m);
-      for (let k = 0; k < nnzJ; k++) {
-        const v = Math.abs(J0[k] * d[this.jacCols[k]]);
-        if (v > autoScale[this.jacRows[k]]) autoScale[this.jacRows[k]] = v;
-      }
+    let J0: Float64Array | null = null;
+    if (spec.rowScale.some((v) => !(v > 0))) {
+      J0 = new Float64Array(jac.rows.length);
+      this.jacobianFrom(spec.x0, J0, jac.tables);
     }
-    for (let r = 0; r < m; r++) {
-      const given = spec.rowScale[r];
-      if (given > 0) this.rowScale[r] = given;
-      else {
-        const a = autoScale![r];
-        this.rowScale[r] = a > 0 && Number.isFinite(a) ? Math.min(1e6, Math.max(1e-6, a)) : 1;
-      }
-    }
-    // The NLP's scales (∇f: d_i, g: ÷ ρ_row, J: d_col / ρ_row, H: d_p d_q) go into the coefficients
-    // once, not a pass per call (2026-12-05): the same sums to rounding, to the bit where all are 1.
-    const jacScale = new Float64Array(nnzJ);
-    for (let k = 0; k < nnzJ; k++) jacScale[k] = d[this.jacCols[k]] / this.rowScale[this.jacRows[k]];
-    const hessScale = new Float64Array(this.hessRows.length);
-    for (let k = 0; k < this.hessRows.length; k++) hessScale[k] = d[this.hessRows[k]] * d[this.hessCols[k]];
-    this.jacNlp = {
-      linear: jp.linear.map((v, k) => v * jacScale[k]),
-      fromJ: scaledContrib(jp.fromJ, jacScale), fromJScaled: scaledContrib(jp.fromJScaled, jacScale), fromF: scaledContrib(jp.fromF, jacScale),
-    };
-    this.hessNlp = { fromH: scaledContrib(hp.fromH, hessScale), cross: { ...hp.cross, coef: hp.cross.coef.map((c, k) => c * hessScale[hp.cross.slot[k]]) } };
-    this.gradFromJ = scaledContrib(this.gradFromJ, d);
-    this.gradFromJScaled = scaledContrib(this.gradFromJScaled, d);
-    this.gradFromF = scaledContrib(this.gradFromF, d);
-    for (let k = 0; k < this.linRow.length; k++) this.linCoef[k] /= this.rowScale[this.linRow[k]];
-    const gt = this.gTerms;
-    for (let k = 0; k < gt.row.length; k++) gt.w[k] /= this.rowScale[gt.row[k]];
+    this.rowScale = rowScales(spec.rowScale, J0, d, jac.rows, jac.cols);
+    const nlp = scaledTables(jac, hess, d, this.rowScale);
+    this.jacNlp = nlp.jacNlp;
+    this.hessNlp = nlp.hessNlp;
+    this.gradFromJ = nlp.gradFromJ;
+    this.gradFromJScaled = nlp.gradFromJScaled;
+    this.gradFromF = nlp.gradFromF;
+    divideByRowScale(this.linCoef, this.linRow, this.rowScale);
+    divideByRowScale(this.gTerms.w, this.gTerms.row, this.rowScale);
   }
 
   /** T = tf − t0 at X. */
