@@ -20,8 +20,8 @@
  *   ∇²(Σ_r λ_r g_r + σ_f f) = Σ_s A_sᵀ (Σ_i T^σ ω_s,i ∇²F_s,i) A_s
  *                           + Σ_(σ_s = 1) (e_tf ⊗ (Σ_i ω_s,i ∇F_s,i A_s) + transpose)
  *   with ω_s,i = Σ_(terms (s,i,r,w)) w · λ_r  (objective terms use σ_f).
- * All index maps (triplet → slot) are computed once in the constructor (assembly-build.ts); evaluation is a few flat
- * loops over Float64Array workspaces.
+ * All index maps (triplet → slot) are computed once in the constructor (the passes are in
+ * assembly-build.ts); evaluation is a few flat loops over Float64Array workspaces.
  *
  * Scaling: the NLP variable is y = X / d (d = variable scale hints) and row r is divided by
  * ρ_r, so the NLP sees g̃ = g/ρ, J̃_rj = J_rj d_j / ρ_r, H̃_pq = H_pq d_p d_q with λ_r = λ̃_r / ρ_r.
